@@ -1,0 +1,329 @@
+package recipe
+
+import (
+	"fmt"
+	"math"
+	"sort"
+
+	"github.com/foilrun/foilrun/recipe/gas"
+)
+
+// Check thresholds that are choices, not physics. Each is common practice
+// in CVD labs unless it says otherwise.
+const (
+	// HotTemperature: above this a carbon source or an opened tube is
+	// treated as "hot" (the tube glows and copper oxidises fast in air).
+	HotTemperature = 473.15 // K (200 °C)
+	// VentTemperature: venting above this is a warning.
+	VentTemperature = 373.15 // K (100 °C)
+	// CarbonMinTemperature: a carbon source below this is a warning (no
+	// graphitic growth on copper is expected, only amorphous deposits).
+	CarbonMinTemperature = 973.15 // K (700 °C)
+	// CopperLossWarn and CopperLossError: vacuum evaporation upper bound per
+	// face as a share of the foil thickness.
+	CopperLossWarn  = 0.10
+	CopperLossError = 0.50
+	// HoldMismatch: a hold step whose temperature differs from where the
+	// furnace is by more than this has a missing ramp.
+	HoldMismatch = 5.0 // K
+)
+
+type checker struct {
+	p  *Plan
+	f  *Furnace
+	fs []Finding
+}
+
+func (c *checker) add(sev Severity, sp *StepPlan, rule string, pos Pos, hint, format string, args ...any) {
+	fd := Finding{Severity: sev, Rule: rule, Message: fmt.Sprintf(format, args...), Hint: hint, Pos: pos, Line: pos.Line}
+	if sp != nil {
+		fd.Step, fd.StepName = sp.Index+1, sp.Label
+		if pos.Line == 0 {
+			fd.Pos, fd.Line = sp.Step.Pos, sp.Step.Pos.Line
+		}
+	}
+	c.fs = append(c.fs, fd)
+}
+
+// Check runs every limit and sequence check of a plan against its furnace
+// and returns the findings, most serious first, then by step.
+func Check(p *Plan) []Finding {
+	c := &checker{p: p, f: p.Furnace}
+	for i := range p.Steps {
+		sp := &p.Steps[i]
+		c.temperature(sp)
+		c.flows(sp)
+		c.pressure(sp)
+		c.copper(sp)
+		c.growth(sp)
+	}
+	c.sequence()
+	sort.SliceStable(c.fs, func(i, j int) bool {
+		if c.fs[i].Severity != c.fs[j].Severity {
+			return c.fs[i].Severity > c.fs[j].Severity
+		}
+		return c.fs[i].Step < c.fs[j].Step
+	})
+	return c.fs
+}
+
+func c2(k float64) string { return fmt.Sprintf("%.1f °C", k-273.15) }
+
+func (c *checker) temperature(sp *StepPlan) {
+	h, tube := c.f.Heater, c.f.Tube
+	margin := DefaultThermocoupleMargin
+	if !h.ThermocoupleMargin.IsZero() {
+		margin = h.ThermocoupleMargin.SI
+	}
+	Tmax := sp.MaxTemperature()
+	pos := sp.Step.Temperature.Pos
+	if pos.Line == 0 {
+		pos = sp.Step.To.Pos
+	}
+	melt := gas.CopperMeltingPoint
+	switch {
+	case Tmax+margin >= melt:
+		c.add(Error, sp, "temperature.copper-melting", pos,
+			"stay well below copper's melting point; most recipes grow at 1000–1060 °C",
+			"set temperature %s plus thermocouple margin %.0f K reaches copper's melting point %s (ITS-90 freezing point of copper)", c2(Tmax), margin, c2(melt))
+	case Tmax+3*margin >= melt:
+		c.add(Warning, sp, "temperature.copper-melting", pos,
+			"check the thermocouple's offset against a reference; foil near its melting point sags, roughens and evaporates",
+			"set temperature %s is within %.0f K of copper's melting point %s", c2(Tmax), melt-Tmax, c2(melt))
+	}
+	if Tmax > h.MaxTemperature.SI {
+		c.add(Error, sp, "temperature.heater-max", pos, "lower the temperature or use a furnace rated for it",
+			"set temperature %s is above the heater's maximum %s", c2(Tmax), c2(h.MaxTemperature.SI))
+	}
+	if Tmax > tube.ServiceLimit.SI {
+		c.add(Error, sp, "temperature.tube-limit", pos, "lower the temperature or use a tube rated for it",
+			"set temperature %s is above the %s tube's continuous-service limit %s", c2(Tmax), tube.Material, c2(tube.ServiceLimit.SI))
+	}
+	if sp.Step.Kind == KindRamp || sp.Step.Kind == KindCool {
+		rate := sp.Step.Rate.SI
+		up := sp.T1 > sp.T0
+		if up && rate > h.MaxRampUp.SI {
+			c.add(Error, sp, "ramp.heater-max", sp.Step.Rate.Pos, fmt.Sprintf("use at most %.1f C/min", h.MaxRampUp.SI*60),
+				"ramp rate %.1f C/min is above the heater's maximum ramp-up %.1f C/min", rate*60, h.MaxRampUp.SI*60)
+		}
+		if !up && rate > h.MaxRampDown.SI {
+			c.add(Error, sp, "ramp.heater-max-down", sp.Step.Rate.Pos, fmt.Sprintf("use at most %.1f C/min, or let it cool naturally", h.MaxRampDown.SI*60),
+				"cooling rate %.1f C/min is above the furnace's maximum ramp-down %.1f C/min", rate*60, h.MaxRampDown.SI*60)
+		}
+		if sp.Step.Kind == KindRamp && !up && sp.T1 != sp.T0 {
+			c.add(Note, sp, "ramp.direction", sp.Step.To.Pos, "use a cool step for cooling, so the log reads clearly", "ramp step goes down from %s to %s", c2(sp.T0), c2(sp.T1))
+		}
+		if sp.Step.Kind == KindCool && up {
+			c.add(Warning, sp, "ramp.direction", sp.Step.To.Pos, "use a ramp step to heat", "cool step goes up from %s to %s", c2(sp.T0), c2(sp.T1))
+		}
+	}
+	if (sp.Step.Kind == KindAnneal || sp.Step.Kind == KindGrow) && sp.Index > 0 {
+		prev := c.p.Steps[sp.Index-1].T1
+		if math.Abs(prev-sp.T0) > HoldMismatch {
+			c.add(Warning, sp, "sequence.missing-ramp", sp.Step.Temperature.Pos, "add a ramp step to the hold temperature",
+				"hold at %s but the furnace is at %s after the step before", c2(sp.T0), c2(prev))
+		}
+	}
+}
+
+// LineFor returns the furnace's gas line for a gas symbol, or nil.
+func (f *Furnace) LineFor(symbol string) *GasLine {
+	for i := range f.Lines {
+		if f.Lines[i].Gas == symbol {
+			return &f.Lines[i]
+		}
+	}
+	return nil
+}
+
+// Correction returns the factor that turns the MFC's reading into the flow
+// of the line's gas: the gas's tabulated factor divided by that of the gas
+// the MFC is calibrated for (1 when they are the same), or the line's own
+// correction_factor when the file gives one.
+func (l *GasLine) Correction() float64 {
+	if !l.CorrectionFactor.IsZero() {
+		return l.CorrectionFactor.SI
+	}
+	if l.CalibratedFor == "" || l.CalibratedFor == l.Gas {
+		return 1
+	}
+	g, err1 := gas.Lookup(l.Gas)
+	cal, err2 := gas.Lookup(l.CalibratedFor)
+	if err1 != nil || err2 != nil || cal.MFCFactor.V == 0 {
+		return 1
+	}
+	return g.MFCFactor.V / cal.MFCFactor.V
+}
+
+// FullScaleOfGas returns the line's full scale in mol/s of its own gas.
+func (l *GasLine) FullScaleOfGas() float64 { return l.FullScale.SI * l.Correction() }
+
+func (c *checker) flows(sp *StepPlan) {
+	for j, fl := range sp.Step.Flows {
+		if fl.Flow.SI == 0 {
+			continue
+		}
+		line := c.f.LineFor(fl.Gas)
+		if line == nil {
+			c.add(Error, sp, "flow.no-line", fl.Pos, "add a gas line for it to the furnace file, or use a gas the furnace has",
+				"no gas line for %s on furnace %q", fl.Gas, c.f.Name)
+			continue
+		}
+		fs := line.FullScaleOfGas()
+		share := fl.Flow.SI / fs
+		sccm := sp.Flows[j].SCCM
+		cf := line.Correction()
+		calib := ""
+		if cf != 1 {
+			calib = fmt.Sprintf(" (MFC calibrated for %s, correction factor %.3f; set-point %.1f %% of full scale)", line.CalibratedFor, cf, share*100)
+			if line.CalibratedFor == "" {
+				calib = fmt.Sprintf(" (correction factor %.3f; set-point %.1f %% of full scale)", cf, share*100)
+			}
+		}
+		if share > 1 {
+			c.add(Error, sp, "flow.full-scale", fl.Flow.Pos, "lower the flow or fit a larger MFC",
+				"%s flow %.4g sccm is above the line's full scale %.4g sccm of %s%s", fl.Gas, sccm, fs/molPerSCCMSecond, fl.Gas, calib)
+			continue
+		}
+		low := DefaultLowEnd
+		if !line.LowEnd.IsZero() {
+			low = line.LowEnd.SI
+		}
+		if share < low {
+			c.add(Warning, sp, "flow.low-end", fl.Flow.Pos, "use a smaller MFC, or a diluted source gas",
+				"%s flow %.4g sccm is %.2f %% of full scale, below the %.0f %% where a thermal MFC is accurate%s", fl.Gas, sccm, share*100, low*100, calib)
+			continue
+		}
+		if cf != 1 {
+			c.add(Note, sp, "flow.correction", fl.Flow.Pos, fmt.Sprintf("set the controller to %.4g sccm (%s-equivalent)", sccm/cf, line.CalibratedFor),
+				"%s flow %.4g sccm%s", fl.Gas, sccm, calib)
+		}
+	}
+}
+
+func torrOf(pa float64) string {
+	switch {
+	case pa >= 0.5*atmosphere:
+		return fmt.Sprintf("%.1f kPa", pa/1000)
+	case pa >= torr:
+		return fmt.Sprintf("%.3g Torr", pa/torr)
+	default:
+		return fmt.Sprintf("%.3g mTorr", pa/torr*1000)
+	}
+}
+
+func (c *checker) pressure(sp *StepPlan) {
+	v := c.f.Vacuum
+	s := sp.Step
+	if !sp.OpenToPump && s.Pressure.IsSet() && !s.Pressure.Pump && sp.TotalFlow > 0 && s.Pressure.Setpoint.SI < sp.PumpLimit*0.999 {
+		c.add(Error, sp, "pressure.pump-limit", s.Pressure.Pos, "lower the total flow, raise the set-point, or use a larger pump",
+			"set-point %s is below %s, the lowest pressure the pump (%.3g m3/h) can hold with %.4g sccm total throughput",
+			torrOf(s.Pressure.Setpoint.SI), torrOf(sp.PumpLimit), v.PumpSpeed.SI*3600, sp.TotalFlow/molPerSCCMSecond)
+	}
+	if s.Kind == KindVent || s.Kind == KindLeakCheck {
+		return
+	}
+	if sp.Pressure < v.GaugeMin.SI || sp.Pressure > v.GaugeMax.SI {
+		if sp.Pressure >= 0.5*atmosphere && s.Kind != KindGrow && s.Kind != KindAnneal {
+			return // near atmosphere during handling steps: the gauge is simply over range
+		}
+		c.add(Warning, sp, "pressure.gauge-range", s.Pressure.Pos, "use a gauge whose range covers the process pressure, or the reading cannot be trusted",
+			"process pressure %s is outside the %s's range %s to %s", torrOf(sp.Pressure), v.Gauge, torrOf(v.GaugeMin.SI), torrOf(v.GaugeMax.SI))
+	}
+	if s.Kind == KindPump && !s.Until.IsZero() && s.Until.SI < sp.PumpLimit {
+		c.add(Error, sp, "pressure.unreachable", s.Until.Pos, "raise the end pressure or check the pump and base pressure",
+			"pump-down target %s is below the lowest pressure the pump reaches, %s", torrOf(s.Until.SI), torrOf(sp.PumpLimit))
+	}
+}
+
+func (c *checker) copper(sp *StepPlan) {
+	th := c.p.Recipe.Substrate.Thickness.SI
+	if th <= 0 || sp.CopperLoss <= 0 || sp.Pressure > 1000 {
+		return // at a few Torr and above, diffusion through the gas caps the loss far below the vacuum bound
+	}
+	share := sp.CopperLoss / th
+	um := sp.CopperLoss * 1e6
+	switch {
+	case share >= CopperLossError:
+		c.add(Error, sp, "copper.evaporation", sp.Step.Duration.Pos, "shorten the step, lower the temperature, or raise the pressure with an inert gas",
+			"copper can evaporate up to %.2f um per face (Hertz–Knudsen vacuum bound), %.0f %% of the %.0f um foil", um, share*100, th*1e6)
+	case share >= CopperLossWarn:
+		c.add(Warning, sp, "copper.evaporation", sp.Step.Duration.Pos, "expect a thinner, rougher foil; an inert background gas slows the loss",
+			"copper can evaporate up to %.2f um per face (Hertz–Knudsen vacuum bound), %.0f %% of the %.0f um foil", um, share*100, th*1e6)
+	}
+}
+
+func (c *checker) growth(sp *StepPlan) {
+	s := sp.Step
+	if s.Kind == KindGrow && !sp.CarbonSource {
+		c.add(Warning, sp, "growth.no-carbon", s.Pos, "add a carbon source such as \"CH4: 5 sccm\" to the step's flows", "grow step has no carbon source")
+	}
+	if sp.CarbonSource && sp.MaxTemperature() < CarbonMinTemperature {
+		c.add(Warning, sp, "growth.carbon-cold", s.Pos, "admit the carbon source only at growth temperature",
+			"carbon source flows at %s, below %s where graphene grows on copper", c2(sp.MaxTemperature()), c2(CarbonMinTemperature))
+	}
+	if sp.PCH4 > 0 && sp.Supersaturation < 1 && s.Kind == KindGrow {
+		c.add(Warning, sp, "growth.etching", s.Pos, "raise the CH4:H2 ratio or lower the temperature; below equilibrium hydrogen etches graphite",
+			"CH4 partial pressure %.3g Pa is below the %.3g Pa in equilibrium with graphite (supersaturation %.2f): no growth, the step etches",
+			sp.PCH4, sp.PCH4/sp.Supersaturation, sp.Supersaturation)
+	}
+}
+
+func (c *checker) sequence() {
+	leak, purged := false, false
+	flammableInTube := false // flammable gas admitted and not yet purged out
+	for i := range c.p.Steps {
+		sp := &c.p.Steps[i]
+		s := sp.Step
+		switch s.Kind {
+		case KindLeakCheck:
+			leak = true
+		case KindPurge:
+			inertOnly := true
+			for _, fl := range sp.Flows {
+				if fl.Gas.Flammable && fl.Molar > 0 {
+					inertOnly = false
+				}
+			}
+			if !inertOnly {
+				c.add(Error, sp, "sequence.purge-gas", s.Pos, "purge with argon or nitrogen only", "purge step flows a flammable gas")
+			} else {
+				purged = true
+				flammableInTube = false
+			}
+		}
+		if sp.Flammable {
+			if !leak {
+				c.add(Error, sp, "sequence.leak-check", s.Pos, "add a leak-check step (valves closed, pressure rise below the pass figure) before any flammable gas",
+					"flammable gas flows before any leak check")
+				leak = true // report once
+			}
+			if !purged {
+				c.add(Error, sp, "sequence.inert-purge", s.Pos, "add an inert purge (or pump-and-backfill cycles) after the leak check and before any flammable gas",
+					"flammable gas flows before the tube was purged with inert gas")
+				purged = true
+			}
+			flammableInTube = true
+		}
+		if s.Kind == KindVent {
+			if sp.T0 > HotTemperature {
+				c.add(Error, sp, "sequence.vent-hot", s.Pos, fmt.Sprintf("cool below %s before venting", c2(VentTemperature)),
+					"vent at %s: air meets hot copper and any remaining hydrogen", c2(sp.T0))
+			} else if sp.T0 > VentTemperature {
+				c.add(Warning, sp, "sequence.vent-warm", s.Pos, fmt.Sprintf("cool below %s before venting to keep the copper from oxidising", c2(VentTemperature)),
+					"vent at %s", c2(sp.T0))
+			}
+			if flammableInTube {
+				c.add(Error, sp, "sequence.purge-before-vent", s.Pos, "add an inert purge after the last flammable gas and before the vent",
+					"vent while flammable gas from earlier steps is still in the tube")
+			}
+			if sp.Flammable {
+				c.add(Error, sp, "sequence.vent-gas", s.Pos, "vent with an inert gas", "vent step flows a flammable gas")
+			}
+		}
+	}
+	last := c.p.Steps[len(c.p.Steps)-1]
+	if last.T1 > HotTemperature {
+		c.add(Warning, &c.p.Steps[len(c.p.Steps)-1], "sequence.ends-hot", Pos{}, "end with a cool step", "recipe ends at %s", c2(last.T1))
+	}
+}

@@ -1,0 +1,260 @@
+package recipe
+
+import (
+	"math"
+
+	"github.com/foilrun/foilrun/recipe/gas"
+)
+
+// Defaults used where a file leaves a value out.
+const (
+	DefaultStartTemperature   = 298.15 // K (25 °C)
+	DefaultThermocoupleMargin = 10.0   // K
+	DefaultLowEnd             = 0.02   // of full scale: thermal MFCs are not accurate below about 2 % (common practice)
+	DefaultLineLength         = 1.0    // m
+	RoomTemperature           = 293.15 // K: where throughput Q = ṅRT is counted (at the pump)
+	atmosphere                = 101325.0
+)
+
+// FlowPlan is one gas of a step with its derived numbers.
+type FlowPlan struct {
+	Gas      gas.Gas
+	Molar    float64 // mol/s
+	SCCM     float64 // the same flow in sccm
+	Fraction float64 // mole fraction in the feed
+	Partial  float64 // partial pressure, Pa
+}
+
+// StepPlan is a step with everything derived from it and the furnace.
+type StepPlan struct {
+	Index    int
+	Step     *Step
+	Label    string  // "4 grow (main growth)"
+	Start    float64 // s from the start of the recipe
+	Duration float64 // s
+	T0, T1   float64 // K at the start and end (equal for holds)
+
+	OpenToPump bool    // valve open to the pump: the pressure follows the throughput
+	Pressure   float64 // total pressure during the step, Pa
+	PumpLimit  float64 // lowest pressure the pump can hold with this throughput, Pa
+	Throughput float64 // Pa·m³/s at RoomTemperature
+
+	Flows           []FlowPlan
+	TotalFlow       float64 // mol/s
+	PCH4, PH2       float64 // partial pressures, Pa
+	PCarbon         float64 // summed partial pressure of carbon sources, Pa
+	CH4H2Ratio      float64 // molar flow ratio CH4:H2; NaN without H2
+	VolumetricFlow  float64 // actual m³/s at the step's mean temperature and pressure
+	Velocity        float64 // mean gas velocity in the tube, m/s
+	Residence       float64 // time gas spends in the heated zone, s
+	Viscosity       float64 // mixture viscosity (Wilke), Pa·s
+	Reynolds        float64 // Re = ρ·v·d/η
+	Knudsen         float64 // Kn = λ/d
+	Supersaturation float64 // pCH4/pCH4,eq over graphite; NaN without CH4
+	CopperLoss      float64 // m per free face, Hertz–Knudsen vacuum upper bound
+
+	Flammable    bool // a flammable gas flows
+	CarbonSource bool // a carbon source flows
+}
+
+// MeanTemperature returns the mean of the start and end temperature, K.
+func (s StepPlan) MeanTemperature() float64 { return (s.T0 + s.T1) / 2 }
+
+// MaxTemperature returns the higher of the start and end temperature, K.
+func (s StepPlan) MaxTemperature() float64 { return math.Max(s.T0, s.T1) }
+
+// Plan is a recipe laid out in time on a furnace, with the derived
+// gas-phase numbers of each step.
+type Plan struct {
+	Recipe  *Recipe
+	Furnace *Furnace
+	Steps   []StepPlan
+	Total   float64 // s
+}
+
+// Derive lays the recipe out on the furnace: start times, durations,
+// temperatures, pressures and the gas-phase numbers of every step. It
+// does not judge them; Check does. The recipe and furnace must have been
+// loaded (validated) by this package.
+func Derive(r *Recipe, f *Furnace) *Plan {
+	p := &Plan{Recipe: r, Furnace: f, Steps: make([]StepPlan, len(r.Steps))}
+	T := DefaultStartTemperature
+	if !r.StartTemperature.IsZero() {
+		T = r.StartTemperature.SI
+	}
+	pressure, pump := atmosphere, false
+	t := 0.0
+	for i := range r.Steps {
+		s := &r.Steps[i]
+		sp := &p.Steps[i]
+		sp.Index, sp.Step, sp.Label, sp.Start = i, s, s.Label(i), t
+		sp.T0, sp.T1 = T, T
+		switch s.Kind {
+		case KindRamp, KindCool:
+			sp.T1 = s.To.SI
+			if s.Rate.SI > 0 {
+				sp.Duration = math.Abs(sp.T1-sp.T0) / s.Rate.SI
+			}
+		case KindAnneal, KindGrow:
+			sp.T0, sp.T1 = s.Temperature.SI, s.Temperature.SI
+		}
+		if s.Pressure.IsSet() {
+			pump = s.Pressure.Pump
+			if !pump {
+				pressure = s.Pressure.Setpoint.SI
+			}
+		}
+		switch s.Kind {
+		case KindPump:
+			pump = true
+		case KindVent:
+			pump = false
+			if !s.Pressure.IsSet() {
+				pressure = atmosphere
+			}
+		case KindLeakCheck:
+			pump = false
+		}
+		sp.OpenToPump = pump
+		derive(sp, f)
+		if pump {
+			sp.Pressure = sp.PumpLimit
+		} else if s.Kind == KindLeakCheck {
+			sp.Pressure = p.prevPressure(i)
+		} else {
+			sp.Pressure = pressure
+		}
+		if !s.Duration.IsZero() {
+			sp.Duration = s.Duration.SI
+		} else if s.Kind == KindPump {
+			sp.Duration = f.PumpDownTime(p.prevPressure(i), math.Max(s.Until.SI, sp.PumpLimit*1.05))
+		} else if s.Kind == KindPurge && s.Cycles > 0 {
+			sp.Duration = float64(s.Cycles) * f.cycleTime(s.Backfill.SI, sp.PumpLimit, sp.TotalFlow)
+		} else if s.Kind == KindVent && sp.TotalFlow > 0 {
+			sp.Duration = f.TubeVolume() * math.Max(0, atmosphere-p.prevPressure(i)) / (sp.TotalFlow * gas.R * RoomTemperature)
+		}
+		gasPhase(sp, f)
+		T = sp.T1
+		t += sp.Duration
+	}
+	p.Total = t
+	return p
+}
+
+func (p *Plan) prevPressure(i int) float64 {
+	if i == 0 {
+		return atmosphere
+	}
+	return p.Steps[i-1].Pressure
+}
+
+// derive fills the flows and the pump-limited pressure.
+func derive(sp *StepPlan, f *Furnace) {
+	for _, fl := range sp.Step.Flows {
+		g, err := gas.Lookup(fl.Gas)
+		if err != nil {
+			continue // validated at load; cannot happen for loaded recipes
+		}
+		sp.Flows = append(sp.Flows, FlowPlan{Gas: g, Molar: fl.Flow.SI, SCCM: fl.Flow.SI / molPerSCCMSecond})
+		sp.TotalFlow += fl.Flow.SI
+		if g.Flammable && fl.Flow.SI > 0 {
+			sp.Flammable = true
+		}
+		if g.Role == gas.CarbonSource && fl.Flow.SI > 0 {
+			sp.CarbonSource = true
+		}
+	}
+	sp.Throughput = sp.TotalFlow * gas.R * RoomTemperature
+	gs, xs := mixtureOf(sp.Flows)
+	sp.PumpLimit = f.PumpLimitedPressure(sp.Throughput, gs, xs)
+}
+
+// gasPhase fills the numbers that need the step's pressure.
+func gasPhase(sp *StepPlan, f *Furnace) {
+	P, T := sp.Pressure, sp.MeanTemperature()
+	var gs []gas.Gas
+	var xs []float64
+	var h2, ch4 float64
+	for i := range sp.Flows {
+		fl := &sp.Flows[i]
+		if sp.TotalFlow > 0 {
+			fl.Fraction = fl.Molar / sp.TotalFlow
+		}
+		fl.Partial = fl.Fraction * P
+		gs, xs = append(gs, fl.Gas), append(xs, fl.Fraction)
+		switch fl.Gas.Symbol {
+		case "H2":
+			sp.PH2, h2 = fl.Partial, fl.Molar
+		case "CH4":
+			sp.PCH4, ch4 = fl.Partial, fl.Molar
+		}
+		if fl.Gas.Role == gas.CarbonSource {
+			sp.PCarbon += fl.Partial
+		}
+	}
+	sp.CH4H2Ratio = math.NaN()
+	if h2 > 0 {
+		sp.CH4H2Ratio = ch4 / h2
+	}
+	sp.Supersaturation = math.NaN()
+	if sp.PCH4 > 0 {
+		sp.Supersaturation = gas.Supersaturation(T, sp.PCH4, sp.PH2)
+	}
+	d := f.Tube.InnerDiameter.SI
+	if sp.TotalFlow > 0 && P > 0 {
+		sp.VolumetricFlow = sp.TotalFlow * gas.R * T / P
+		area := math.Pi * d * d / 4
+		sp.Velocity = sp.VolumetricFlow / area
+		sp.Residence = f.Tube.HeatedLength.SI / sp.Velocity
+		sp.Viscosity = gas.MixtureViscosity(gs, xs, T)
+		mm := 0.0
+		for i, g := range gs {
+			mm += xs[i] * g.MolarMass.V
+		}
+		rho := P * mm / (gas.R * T)
+		sp.Reynolds = rho * sp.Velocity * d / sp.Viscosity
+		sp.Knudsen = gas.MeanFreePath(sp.Viscosity, T, P, mm) / d
+	}
+	sp.CopperLoss = copperLoss(sp.T0, sp.T1, sp.Duration)
+}
+
+// copperLoss integrates the Hertz–Knudsen evaporation of copper into vacuum
+// over the step (Simpson's rule over the linear temperature ramp) and
+// returns the thickness lost per free face in m. It is an upper bound: any
+// gas above the foil slows evaporation by diffusion.
+func copperLoss(T0, T1, dur float64) float64 {
+	if dur <= 0 {
+		return 0
+	}
+	rate := func(T float64) float64 { // m/s
+		J := gas.HertzKnudsenFlux(gas.CopperVapourPressure(T), 0, T, gas.CopperMolarMass)
+		return J * gas.CopperMolarMass / gas.CopperDensity
+	}
+	if T0 == T1 {
+		return rate(T0) * dur
+	}
+	const n = 16 // even
+	h := (T1 - T0) / n
+	sum := rate(T0) + rate(T1)
+	for k := 1; k < n; k++ {
+		w := 2.0
+		if k%2 == 1 {
+			w = 4
+		}
+		sum += w * rate(T0+float64(k)*h)
+	}
+	return sum / (3 * n) * dur
+}
+
+func mixtureOf(fs []FlowPlan) (gs []gas.Gas, xs []float64) {
+	total := 0.0
+	for _, f := range fs {
+		total += f.Molar
+	}
+	for _, f := range fs {
+		if total > 0 {
+			gs, xs = append(gs, f.Gas), append(xs, f.Molar/total)
+		}
+	}
+	return gs, xs
+}

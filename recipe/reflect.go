@@ -1,0 +1,5 @@
+package recipe
+
+import "reflect"
+
+func reflectValue(p any) reflect.Value { return reflect.ValueOf(p).Elem() }

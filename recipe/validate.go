@@ -1,0 +1,231 @@
+package recipe
+
+import (
+	"fmt"
+
+	"github.com/foilrun/foilrun/recipe/gas"
+)
+
+// Validation at load time: values that cannot be right whatever the
+// furnace (negative flows, unknown gases, a ramp without a rate). Limits
+// that depend on the furnace are checks (see Check), not load errors.
+
+type problems []Problem
+
+func (ps *problems) at(p Pos, field, msg, hint string) {
+	*ps = append(*ps, Problem{Pos: p, Field: field, Msg: msg, Hint: hint})
+}
+
+// positive requires q > 0 when set.
+func (ps *problems) positive(q Quantity, field string) {
+	if !q.IsZero() && !(q.SI > 0) {
+		ps.at(q.Pos, field, fmt.Sprintf("%s %q must be greater than zero", field, q.Text), "")
+	}
+}
+
+// nonNegative requires q ≥ 0 when set.
+func (ps *problems) nonNegative(q Quantity, field string) {
+	if !q.IsZero() && q.SI < 0 {
+		ps.at(q.Pos, field, fmt.Sprintf("%s %q must not be negative", field, q.Text), "")
+	}
+}
+
+// absolute requires a temperature above absolute zero.
+func (ps *problems) absolute(q Quantity, field string) {
+	if !q.IsZero() && q.SI <= 0 {
+		ps.at(q.Pos, field, fmt.Sprintf("%s %q is at or below absolute zero", field, q.Text), "")
+	}
+}
+
+// fraction requires 0 ≤ q ≤ 1 when set.
+func (ps *problems) fraction(q Quantity, field string) {
+	if !q.IsZero() && (q.SI < 0 || q.SI > 1) {
+		ps.at(q.Pos, field, fmt.Sprintf("%s %q must be between 0 %% and 100 %%", field, q.Text), "")
+	}
+}
+
+// gasName resolves a gas name to its canonical symbol.
+func (ps *problems) gasName(name string, p Pos, field string) string {
+	g, err := gas.Lookup(name)
+	if err != nil {
+		ps.at(p, field, err.Error(), "")
+		return name
+	}
+	return g.Symbol
+}
+
+func validateRecipe(r *Recipe) []Problem {
+	var ps problems
+	ps.positive(r.Substrate.Thickness, "thickness")
+	ps.fraction(r.Substrate.Purity, "purity")
+	ps.absolute(r.StartTemperature, "start_temperature")
+	if len(r.Steps) == 0 {
+		ps.at(r.Pos, "steps", "the recipe has no steps", "add at least a ramp, a grow and a cool step")
+	}
+	for i := range r.Steps {
+		s := &r.Steps[i]
+		label := s.Label(i)
+		need := func(q Quantity, field, example string) {
+			if q.IsZero() {
+				ps.at(s.Pos, field, fmt.Sprintf("step %s needs %q", label, field), fmt.Sprintf("add \"%s: %s\"", field, example))
+			}
+		}
+		forbid := func(q Quantity, field string) {
+			if !q.IsZero() {
+				ps.at(q.Pos, field, fmt.Sprintf("step %s: %q does not apply to a %s step", label, field, s.Kind), "")
+			}
+		}
+		ps.positive(s.Duration, "duration")
+		ps.positive(s.Until, "until")
+		ps.absolute(s.Temperature, "temperature")
+		ps.absolute(s.To, "to")
+		ps.positive(s.Rate, "rate")
+		ps.positive(s.Pressure.Setpoint, "pressure")
+		ps.positive(s.Backfill, "backfill")
+		ps.nonNegative(s.MaxRise, "max_rise")
+		if s.Cycles < 0 {
+			ps.at(s.Pos, "cycles", fmt.Sprintf("step %s: cycles %d must not be negative", label, s.Cycles), "")
+		}
+		for j := range s.Flows {
+			f := &s.Flows[j]
+			f.Gas = ps.gasName(f.Gas, f.Pos, "flows")
+			if f.Flow.SI < 0 {
+				ps.at(f.Flow.Pos, "flows", fmt.Sprintf("step %s: flow of %s %q must not be negative", label, f.Gas, f.Flow.Text), "write 0 sccm or leave the gas out")
+			}
+		}
+		switch s.Kind {
+		case KindPump:
+			if s.Duration.IsZero() && s.Until.IsZero() {
+				ps.at(s.Pos, "until", fmt.Sprintf("step %s needs \"until\" (a pressure) or \"duration\"", label), "add \"until: 20 mTorr\"")
+			}
+			forbid(s.To, "to")
+			forbid(s.Temperature, "temperature")
+		case KindLeakCheck:
+			need(s.Duration, "duration", "5 min")
+			need(s.MaxRise, "max_rise", "5 mTorr/min")
+			if len(s.Flows) > 0 {
+				ps.at(s.Flows[0].Pos, "flows", fmt.Sprintf("step %s: a leak check is done with the valves closed and no flow", label), "remove the flows")
+			}
+		case KindPurge:
+			if s.Duration.IsZero() && s.Cycles == 0 {
+				ps.at(s.Pos, "duration", fmt.Sprintf("step %s needs \"duration\" (flow-through purge) or \"cycles\" (pump and backfill)", label), "add \"duration: 10 min\"")
+			}
+			if s.Cycles > 0 && s.Backfill.IsZero() {
+				need(s.Backfill, "backfill", "1 atm")
+			}
+			if len(s.Flows) == 0 {
+				ps.at(s.Pos, "flows", fmt.Sprintf("step %s: a purge needs an inert gas flow", label), "add \"flows: {Ar: 500 sccm}\"")
+			}
+		case KindRamp, KindCool:
+			need(s.To, "to", "1000 C")
+			need(s.Rate, "rate", "15 C/min")
+			forbid(s.Temperature, "temperature")
+		case KindAnneal, KindGrow:
+			need(s.Temperature, "temperature", "1000 C")
+			need(s.Duration, "duration", "30 min")
+			forbid(s.To, "to")
+		case KindVent:
+			forbid(s.Temperature, "temperature")
+		}
+		if s.Kind != KindPurge {
+			if s.Cycles != 0 {
+				ps.at(s.Pos, "cycles", fmt.Sprintf("step %s: \"cycles\" applies only to a purge step", label), "")
+			}
+		}
+	}
+	return ps
+}
+
+func validateFurnace(f *Furnace) []Problem {
+	var ps problems
+	ps.positive(f.Tube.InnerDiameter, "inner_diameter")
+	ps.positive(f.Tube.HeatedLength, "heated_length")
+	ps.positive(f.Tube.Length, "length")
+	ps.absolute(f.Tube.ServiceLimit, "service_limit")
+	ps.absolute(f.Heater.MaxTemperature, "max_temperature")
+	ps.positive(f.Heater.MaxRampUp, "max_ramp_up")
+	ps.positive(f.Heater.MaxRampDown, "max_ramp_down")
+	ps.nonNegative(f.Heater.ThermocoupleMargin, "thermocouple_margin")
+	if !f.Tube.Length.IsZero() && !f.Tube.HeatedLength.IsZero() && f.Tube.Length.SI < f.Tube.HeatedLength.SI {
+		ps.at(f.Tube.Length.Pos, "length", fmt.Sprintf("tube length %q is shorter than its heated length %q", f.Tube.Length.Text, f.Tube.HeatedLength.Text), "")
+	}
+	if len(f.Lines) == 0 {
+		ps.at(f.Pos, "gas_lines", "the furnace has no gas lines", "add one line per gas: \"- {gas: H2, full_scale: 100 sccm}\"")
+	}
+	seen := map[string]bool{}
+	for i := range f.Lines {
+		l := &f.Lines[i]
+		l.Gas = ps.gasName(l.Gas, l.Pos, "gas")
+		if seen[l.Gas] {
+			ps.at(l.Pos, "gas", fmt.Sprintf("two gas lines for %s; foilrun needs one line per gas", l.Gas), "merge them or remove one")
+		}
+		seen[l.Gas] = true
+		if l.CalibratedFor != "" {
+			l.CalibratedFor = ps.gasName(l.CalibratedFor, l.Pos, "calibrated_for")
+		}
+		ps.positive(l.FullScale, "full_scale")
+		ps.fraction(l.LowEnd, "low_end")
+		ps.positive(l.CorrectionFactor, "correction_factor")
+	}
+	v := f.Vacuum
+	ps.positive(v.PumpSpeed, "pump_speed")
+	ps.positive(v.BasePressure, "base_pressure")
+	ps.positive(v.LineDiameter, "line_diameter")
+	ps.positive(v.LineLength, "line_length")
+	ps.positive(v.GaugeMin, "gauge_min")
+	ps.positive(v.GaugeMax, "gauge_max")
+	if v.GaugeMin.SI > 0 && v.GaugeMax.SI > 0 && v.GaugeMin.SI >= v.GaugeMax.SI {
+		ps.at(v.GaugeMax.Pos, "gauge_max", fmt.Sprintf("gauge_max %q must be above gauge_min %q", v.GaugeMax.Text, v.GaugeMin.Text), "")
+	}
+	ps.nonNegative(f.Exhaust.DilutionFlow, "dilution_flow")
+	if f.Exhaust.DilutionGas != "" {
+		f.Exhaust.DilutionGas = ps.gasName(f.Exhaust.DilutionGas, f.Exhaust.Pos, "dilution_gas")
+	}
+	if f.Log != nil {
+		checkColumn := func(c LogColumn, field string, want Dimension) {
+			d, ok := UnitDimension(c.Unit)
+			if !ok || (d != want && !(want == Temperature && d == Temperature)) {
+				ps.at(c.Pos, field, fmt.Sprintf("controller_log %s: unit %q is not a %s unit", field, c.Unit, want), "use one of: "+unitsOf[want])
+			}
+		}
+		checkColumn(f.Log.Time, "time", Duration)
+		checkColumn(f.Log.Temperature, "temperature", Temperature)
+		if f.Log.Pressure.Column != "" {
+			checkColumn(f.Log.Pressure, "pressure", Pressure)
+		}
+		canon := map[string]LogColumn{}
+		for g, c := range f.Log.Flows {
+			sym := ps.gasName(g, c.Pos, "flows")
+			checkColumn(c, "flows."+g, Flow)
+			canon[sym] = c
+		}
+		f.Log.Flows = canon
+	}
+	return ps
+}
+
+func validateSite(s *Site) []Problem {
+	var ps problems
+	if s.Room.Volume.IsZero() == false && !(s.Room.Volume.SI > 0) {
+		ps.at(s.Room.Volume.Pos, "volume", fmt.Sprintf("room volume %q must be greater than zero", s.Room.Volume.Text), "give the room's free air volume, e.g. \"60 m3\"")
+	}
+	if !s.Room.AirChanges.IsZero() && !(s.Room.AirChanges.SI > 0) {
+		ps.at(s.Room.AirChanges.Pos, "air_changes", fmt.Sprintf("air_changes %q must be greater than zero", s.Room.AirChanges.Text), "give the measured ventilation rate, e.g. \"6 /h\"; a room without ventilation needs a gas-safety review before any flammable gas is used")
+	}
+	ps.positive(s.Room.MaxRelease, "max_release")
+	for i := range s.Detectors {
+		d := &s.Detectors[i]
+		if d.Gas != "O2" {
+			d.Gas = ps.gasName(d.Gas, d.Pos, "gas")
+		}
+		if len(d.Alarms) == 0 {
+			ps.at(d.Pos, "alarms", fmt.Sprintf("detector for %s has no alarm points", d.Gas), "add \"alarms: [10 %, 20 %]\"")
+		}
+		for _, a := range d.Alarms {
+			if a.SI <= 0 || a.SI > 1 {
+				ps.at(a.Pos, "alarms", fmt.Sprintf("alarm point %q for %s must be above 0 %% and at most 100 %%", a.Text, d.Gas), "flammable-gas alarms are in % of LFL, e.g. 10 % and 20 %")
+			}
+		}
+	}
+	return ps
+}
