@@ -61,7 +61,7 @@ derived gas-phase numbers. Exit status 1 when any finding is an error.`,
 		},
 	}
 	opts.flags.register(cmd)
-	cmd.Flags().StringVarP(&opts.output, "output", "o", formatTable, "output format: table, csv or json")
+	cmd.Flags().StringVar(&opts.output, "output", formatTable, "output format: table, csv or json")
 	return cmd
 }
 
