@@ -40,7 +40,9 @@ type Source string
 
 // Value is a number together with its source.
 type Value struct {
-	V      float64
+	// V is the number, in SI units (or a fraction 0..1).
+	V float64
+	// Source is where V came from.
 	Source Source
 }
 
@@ -95,7 +97,8 @@ type Gas struct {
 	// Decomposes is true for gases that can decompose explosively without air
 	// (acetylene): above the UFL is still not safe.
 	Decomposes bool
-	// Viscosity model: see Gas.Viscosity.
+	// ViscosityData is the viscosity model with its handbook points; see
+	// Gas.Viscosity.
 	ViscosityData ViscosityData
 
 	// limits holds each compilation's flammability data, indexed by Compilation.
@@ -110,7 +113,7 @@ func Lookup(name string) (Gas, error) {
 	for _, g := range table {
 		for _, n := range g.names() {
 			if strings.ToLower(n) == key {
-				return g, nil
+				return g.clone(), nil
 			}
 		}
 	}
@@ -133,11 +136,16 @@ func Lookup(name string) (Gas, error) {
 // table: H2, CH4, Ar, N2, He, C2H4, C2H2, O2, air). The slice is a fresh copy.
 func Known() []Gas {
 	out := make([]Gas, len(table))
-	copy(out, table)
-	for i := range out {
-		out[i].Aliases = append([]string(nil), table[i].Aliases...)
+	for i, g := range table {
+		out[i] = g.clone()
 	}
 	return out
+}
+
+// clone returns a copy of g that shares no memory with it.
+func (g Gas) clone() Gas {
+	g.Aliases = append([]string(nil), g.Aliases...)
+	return g
 }
 
 // names returns every accepted name of g.

@@ -39,19 +39,30 @@ var (
 	}
 )
 
-// enthalpyEntropy returns H°(T) − H°(298.15 K) in J/mol and S°(T) in J/(mol·K).
+// shomateHS returns H°(T) − H°(298.15 K) in J/mol and S°(T) in J/(mol·K).
 func shomateHS(segs []shomate, T float64) (dh, s float64) {
-	p := segs[len(segs)-1]
-	for _, sg := range segs {
-		if T <= sg.tmax {
-			p = sg
-			break
-		}
-	}
+	p := segment(segs, T)
 	t := T / 1000
 	dh = p.a*t + p.b*t*t/2 + p.c*t*t*t/3 + p.d*t*t*t*t/4 - p.e/t + p.f - p.h
 	s = p.a*math.Log(t) + p.b*t + p.c*t*t/2 + p.d*t*t*t/3 - p.e/(2*t*t) + p.g
 	return dh * 1000, s
+}
+
+// upperT returns the upper end of the segment in K.
+func (p shomate) upperT() float64 { return p.tmax }
+
+// upperT returns the upper end of the segment in K.
+func (p nasa9) upperT() float64 { return p.tmax }
+
+// segment returns the first fit segment whose upper end is at or above T, or
+// the last one (extrapolated) above the whole range.
+func segment[S interface{ upperT() float64 }](segs []S, T float64) S {
+	for _, sg := range segs {
+		if T <= sg.upperT() {
+			return sg
+		}
+	}
+	return segs[len(segs)-1]
 }
 
 // nasa9 holds one NASA Glenn 9-coefficient segment (McBride, Zehe & Gordon,
@@ -82,13 +93,7 @@ var graphiteNASA = []nasa9{
 // nasaHS returns H°(T) (J/mol, zero at 298.15 K for graphite) and S°(T) in
 // J/(mol·K).
 func nasaHS(segs []nasa9, T float64) (h, s float64) {
-	p := segs[len(segs)-1]
-	for _, sg := range segs {
-		if T <= sg.tmax {
-			p = sg
-			break
-		}
-	}
+	p := segment(segs, T)
 	a := p.a
 	lnT := math.Log(T)
 	T2, T3, T4 := T*T, T*T*T, T*T*T*T
