@@ -332,6 +332,8 @@ func editDistance(a, b string) int {
 	return prev[len(rb)]
 }
 
+func reflectValue(p any) reflect.Value { return reflect.ValueOf(p).Elem() }
+
 // sortProblems orders problems by position.
 func sortProblems(ps []Problem) {
 	sort.SliceStable(ps, func(i, j int) bool {

@@ -226,10 +226,7 @@ func copperLoss(T0, T1, dur float64) float64 {
 	if dur <= 0 {
 		return 0
 	}
-	rate := func(T float64) float64 { // m/s
-		J := gas.HertzKnudsenFlux(gas.CopperVapourPressure(T), 0, T, gas.CopperMolarMass)
-		return J * gas.CopperMolarMass / gas.CopperDensity
-	}
+	rate := gas.CopperRecessionRate // m/s
 	if T0 == T1 {
 		return rate(T0) * dur
 	}

@@ -124,10 +124,16 @@ func (f *Furnace) EffectiveSpeed(p float64) float64 {
 // load, t = (V/S_eff)·ln(p0/p1), taking S_eff at p1 (the slowest point, so
 // the estimate is long rather than short). Zero when p1 ≥ p0.
 func (f *Furnace) PumpDownTime(p0, p1 float64) float64 {
+	return PumpDown(f.TubeVolume(), f.EffectiveSpeed(p1), p0, p1)
+}
+
+// PumpDown returns the time to pump a volume V (m³) with speed S (m³/s)
+// from p0 to p1 with no gas load: t = (V/S)·ln(p0/p1).
+func PumpDown(V, S, p0, p1 float64) float64 {
 	if p1 <= 0 || p1 >= p0 {
 		return 0
 	}
-	return f.TubeVolume() / f.EffectiveSpeed(p1) * math.Log(p0/p1)
+	return V / S * math.Log(p0/p1)
 }
 
 // cycleTime estimates one pump-and-backfill purge cycle: pump from the
