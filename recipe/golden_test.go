@@ -129,11 +129,15 @@ func TestTemplatesPassCheck(t *testing.T) {
 	}
 }
 
-func FuzzParseRecipe(f *testing.F) { fuzzLoader(f, "recipe", func(b []byte) error { _, err := ParseRecipe("f.yaml", b); return err }) }
+func FuzzParseRecipe(f *testing.F) {
+	fuzzLoader(f, "recipe", func(b []byte) error { _, err := ParseRecipe("f.yaml", b); return err })
+}
 func FuzzParseFurnace(f *testing.F) {
 	fuzzLoader(f, "furnace", func(b []byte) error { _, err := ParseFurnace("f.yaml", b); return err })
 }
-func FuzzParseSite(f *testing.F) { fuzzLoader(f, "site", func(b []byte) error { _, err := ParseSite("f.yaml", b); return err }) }
+func FuzzParseSite(f *testing.F) {
+	fuzzLoader(f, "site", func(b []byte) error { _, err := ParseSite("f.yaml", b); return err })
+}
 
 // fuzzLoader seeds from the templates and testdata/bad and requires that
 // a loader never panics, and that an accepted recipe derives and checks
