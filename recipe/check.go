@@ -252,7 +252,7 @@ func (c *checker) copper(sp *StepPlan) {
 	case sp.Pressure > VacuumBoundPressure:
 		// With gas above the foil, vapour must diffuse away and the real loss
 		// is far below the vacuum bound: report the bound, do not judge it.
-		if share >= CopperLossWarn {
+		if share >= CopperLossWarn && sp.Pressure < 1000 {
 			c.add(Note, sp, "copper.evaporation", sp.Step.Duration.Pos, "the gas above the foil slows evaporation well below this bound; weigh the foil before and after if it matters",
 				"%s at %s", msg, torrOf(sp.Pressure))
 		}

@@ -51,3 +51,14 @@ func HasErrors(fs []Finding) bool {
 	}
 	return false
 }
+
+// UnmarshalText reads a severity name.
+func (s *Severity) UnmarshalText(b []byte) error {
+	for _, v := range []Severity{Note, Warning, Error} {
+		if v.String() == string(b) {
+			*s = v
+			return nil
+		}
+	}
+	return fmt.Errorf("unknown severity %q, want note, warning or error", b)
+}
