@@ -88,6 +88,7 @@ hydrogen and methane hazards, logs every run and learns from the log.`,
 	root.AddCommand(
 		newCheckCmd(f),
 		newNewCmd(f),
+		newVersionCmd(f),
 	)
 	return root
 }
