@@ -1,0 +1,308 @@
+package store
+
+import (
+	"fmt"
+	"math"
+	"sort"
+)
+
+// Goal says which metric values count as good: at least Min and at most
+// Max (either may be missing).
+type Goal struct {
+	Min, Max Optional
+}
+
+// NoGoal is a Goal with neither bound.
+func NoGoal() Goal { return Goal{None(), None()} }
+
+// Set reports whether the goal has a bound.
+func (g Goal) Set() bool { return g.Min.Valid() || g.Max.Valid() }
+
+// Met reports whether v meets the goal.
+func (g Goal) Met(v float64) bool {
+	return (!g.Min.Valid() || v >= float64(g.Min)) && (!g.Max.Valid() || v <= float64(g.Max))
+}
+
+// String writes the goal as "≥ 0.9", "≤ 500" or "0.9 to 1".
+func (g Goal) String() string {
+	switch {
+	case g.Min.Valid() && g.Max.Valid():
+		return fmt.Sprintf("%g to %g", float64(g.Min), float64(g.Max))
+	case g.Min.Valid():
+		return fmt.Sprintf("≥ %g", float64(g.Min))
+	case g.Max.Valid():
+		return fmt.Sprintf("≤ %g", float64(g.Max))
+	}
+	return "none"
+}
+
+// Bin is one cell of a Best table: the parameter ranges it covers and the
+// statistics of the metric over its runs.
+type Bin struct {
+	Lo, Hi  []float64 // per parameter; the last bin includes its upper edge
+	Count   int
+	Mean    float64
+	Min     float64
+	Max     float64
+	Meeting int     // runs meeting the goal
+	Share   float64 // Meeting/Count; NaN without a goal
+}
+
+// BestTable is the metric binned by one or two parameters.
+type BestTable struct {
+	Metric  string
+	Params  []string
+	Goal    Goal
+	Bins    []Bin // non-empty cells, first parameter slowest
+	Runs    int   // runs counted
+	Missing int   // runs left out because they lack a parameter
+}
+
+// Best bins the samples by their parameters (the Params of each sample in
+// the order of params; one or two) into n equal-width bins over each
+// parameter's range and returns count, mean, min and max of the metric and
+// the share of runs meeting the goal in every non-empty cell. A parameter
+// with a single value gets one bin.
+func Best(samples []Sample, metric string, params []string, n int, goal Goal) BestTable {
+	if n < 1 {
+		n = 1
+	}
+	t := BestTable{Metric: metric, Params: params, Goal: goal}
+	lo := make([]float64, len(params))
+	hi := make([]float64, len(params))
+	for j := range params {
+		lo[j], hi[j] = math.Inf(1), math.Inf(-1)
+	}
+	use := samples[:0:0]
+	for _, s := range samples {
+		ok := len(s.Params) >= len(params)
+		for j := 0; ok && j < len(params); j++ {
+			ok = !math.IsNaN(s.Params[j])
+		}
+		if !ok {
+			t.Missing++
+			continue
+		}
+		use = append(use, s)
+		for j := range params {
+			lo[j], hi[j] = math.Min(lo[j], s.Params[j]), math.Max(hi[j], s.Params[j])
+		}
+	}
+	t.Runs = len(use)
+	if len(use) == 0 {
+		return t
+	}
+	nb := make([]int, len(params))
+	for j := range params {
+		nb[j] = n
+		if hi[j] == lo[j] {
+			nb[j] = 1
+		}
+	}
+	cells := 1
+	for _, k := range nb {
+		cells *= k
+	}
+	type acc struct {
+		n, meet  int
+		sum      float64
+		min, max float64
+	}
+	accs := make([]acc, cells)
+	for i := range accs {
+		accs[i].min, accs[i].max = math.Inf(1), math.Inf(-1)
+	}
+	for _, s := range use {
+		cell := 0
+		for j := range params {
+			k := 0
+			if nb[j] > 1 {
+				k = int(float64(nb[j]) * (s.Params[j] - lo[j]) / (hi[j] - lo[j]))
+				k = min(max(k, 0), nb[j]-1)
+			}
+			cell = cell*nb[j] + k
+		}
+		a := &accs[cell]
+		a.n++
+		a.sum += s.Metric
+		a.min, a.max = math.Min(a.min, s.Metric), math.Max(a.max, s.Metric)
+		if goal.Set() && goal.Met(s.Metric) {
+			a.meet++
+		}
+	}
+	for cell, a := range accs {
+		if a.n == 0 {
+			continue
+		}
+		b := Bin{Lo: make([]float64, len(params)), Hi: make([]float64, len(params)), Count: a.n,
+			Mean: a.sum / float64(a.n), Min: a.min, Max: a.max, Meeting: a.meet, Share: math.NaN()}
+		rest := cell
+		for j := len(params) - 1; j >= 0; j-- {
+			k := rest % nb[j]
+			rest /= nb[j]
+			w := (hi[j] - lo[j]) / float64(nb[j])
+			b.Lo[j], b.Hi[j] = lo[j]+float64(k)*w, lo[j]+float64(k+1)*w
+			if k == nb[j]-1 {
+				b.Hi[j] = hi[j]
+			}
+		}
+		if goal.Set() {
+			b.Share = float64(a.meet) / float64(a.n)
+		}
+		t.Bins = append(t.Bins, b)
+	}
+	return t
+}
+
+// RankRow is one parameter of a Rank result.
+type RankRow struct {
+	Param   string
+	Rho     float64 // Spearman rank correlation with the metric; NaN when the parameter is constant
+	N       int     // runs with both the parameter and the metric
+	Good    int     // of those, runs meeting the goal
+	GoodMin float64 // parameter range over the good runs (NaN when none)
+	GoodMax float64
+	RestMin float64 // parameter range over the other runs
+	RestMax float64
+}
+
+// RankResult ranks parameters by how strongly they go with the metric.
+type RankResult struct {
+	Metric string
+	Goal   Goal // the goal used; the best quartile when none was given
+	Rows   []RankRow
+}
+
+// Rank computes, for each parameter, Spearman's rank correlation between
+// it and the metric over the runs that have both (ties get average ranks),
+// and the parameter's range among the runs meeting the goal against the
+// rest. Without a goal the best quartile of the metric counts as good: the
+// top quartile (at least the 75th percentile), or the bottom one when lower
+// is better. Rows are sorted by |rho|, largest first; constant parameters
+// last.
+func Rank(samples []Sample, metric string, params []string, goal Goal, lowerBetter bool) RankResult {
+	if !goal.Set() && len(samples) > 0 {
+		ms := make([]float64, len(samples))
+		for i, s := range samples {
+			ms[i] = s.Metric
+		}
+		goal = NoGoal()
+		if lowerBetter {
+			goal.Max = Optional(Quantile(ms, 0.25))
+		} else {
+			goal.Min = Optional(Quantile(ms, 0.75))
+		}
+	}
+	res := RankResult{Metric: metric, Goal: goal}
+	for j, p := range params {
+		var xs, ys []float64
+		row := RankRow{Param: p, GoodMin: math.Inf(1), GoodMax: math.Inf(-1), RestMin: math.Inf(1), RestMax: math.Inf(-1)}
+		for _, s := range samples {
+			if j >= len(s.Params) || math.IsNaN(s.Params[j]) || math.IsNaN(s.Metric) {
+				continue
+			}
+			v := s.Params[j]
+			xs, ys = append(xs, v), append(ys, s.Metric)
+			if goal.Met(s.Metric) {
+				row.Good++
+				row.GoodMin, row.GoodMax = math.Min(row.GoodMin, v), math.Max(row.GoodMax, v)
+			} else {
+				row.RestMin, row.RestMax = math.Min(row.RestMin, v), math.Max(row.RestMax, v)
+			}
+		}
+		row.N = len(xs)
+		if row.N == 0 {
+			continue
+		}
+		if row.Good == 0 {
+			row.GoodMin, row.GoodMax = math.NaN(), math.NaN()
+		}
+		if row.Good == row.N {
+			row.RestMin, row.RestMax = math.NaN(), math.NaN()
+		}
+		row.Rho = Spearman(xs, ys)
+		res.Rows = append(res.Rows, row)
+	}
+	sort.SliceStable(res.Rows, func(a, b int) bool {
+		ra, rb := res.Rows[a].Rho, res.Rows[b].Rho
+		if math.IsNaN(ra) != math.IsNaN(rb) {
+			return !math.IsNaN(ra)
+		}
+		return math.Abs(ra) > math.Abs(rb)
+	})
+	return res
+}
+
+// Spearman returns Spearman's rank correlation coefficient of x and y: the
+// Pearson correlation of their ranks, where tied values share the average
+// of the ranks they span,
+//
+//	rho = Σ(rx−mean)(ry−mean) / sqrt(Σ(rx−mean)² · Σ(ry−mean)²).
+//
+// It is NaN when fewer than two pairs are given or either variable is
+// constant. It panics if len(x) != len(y).
+//
+// References:
+//
+//	C. Spearman, "The proof and measurement of association between two
+//	things", American Journal of Psychology 15 (1904) 72–101.
+func Spearman(x, y []float64) float64 {
+	if len(x) != len(y) {
+		panic("store: Spearman of slices of different lengths")
+	}
+	if len(x) < 2 {
+		return math.NaN()
+	}
+	rx, ry := ranks(x), ranks(y)
+	m := (float64(len(x)) + 1) / 2
+	var sxy, sxx, syy float64
+	for i := range rx {
+		dx, dy := rx[i]-m, ry[i]-m
+		sxy += dx * dy
+		sxx += dx * dx
+		syy += dy * dy
+	}
+	if sxx == 0 || syy == 0 {
+		return math.NaN()
+	}
+	return sxy / math.Sqrt(sxx*syy)
+}
+
+// ranks returns the 1-based ranks of v with ties averaged.
+func ranks(v []float64) []float64 {
+	idx := make([]int, len(v))
+	for i := range idx {
+		idx[i] = i
+	}
+	sort.SliceStable(idx, func(a, b int) bool { return v[idx[a]] < v[idx[b]] })
+	r := make([]float64, len(v))
+	for i := 0; i < len(idx); {
+		j := i + 1
+		for j < len(idx) && v[idx[j]] == v[idx[i]] {
+			j++
+		}
+		avg := float64(i+j+1) / 2 // mean of ranks i+1 … j
+		for k := i; k < j; k++ {
+			r[idx[k]] = avg
+		}
+		i = j
+	}
+	return r
+}
+
+// Quantile returns the q-quantile of v by linear interpolation between
+// order statistics (position (n−1)·q, the default of numpy.quantile and R's
+// type 7). v is not modified. It returns NaN for an empty v.
+func Quantile(v []float64, q float64) float64 {
+	if len(v) == 0 {
+		return math.NaN()
+	}
+	s := append([]float64(nil), v...)
+	sort.Float64s(s)
+	pos := q * float64(len(s)-1)
+	i := int(math.Floor(pos))
+	if i >= len(s)-1 {
+		return s[len(s)-1]
+	}
+	return s[i] + (pos-float64(i))*(s[i+1]-s[i])
+}

@@ -1,0 +1,97 @@
+package store
+
+import (
+	"context"
+	"errors"
+	"io"
+)
+
+// RunLog is the run log. Every back end (store/sqlite, later PostgreSQL)
+// implements it; every method takes a context and every write that touches
+// more than one row happens in one transaction, so it lands whole or not
+// at all.
+type RunLog interface {
+	// CreateRun logs a new run with everything in rec (params, notes,
+	// outcomes, actuals, …) and, when snap is not nil, stores the recipe
+	// snapshot (once per hash; the bytes are kept as given). An empty
+	// rec.Code gets a fresh code (see NextCode); an empty rec.Status
+	// becomes Running. It returns the run's code.
+	CreateRun(ctx context.Context, rec RunRecord, snap *Snapshot) (string, error)
+	// AddNote adds a timestamped note to a run.
+	AddNote(ctx context.Context, code string, n Note) error
+	// FinishRun ends a planned or running run: status, end time, actuals
+	// and deviations from the furnace log.
+	FinishRun(ctx context.Context, code string, f Finish) error
+	// AddOutcomes adds measured outcomes to a run, all or none.
+	AddOutcomes(ctx context.Context, code string, outcomes []Outcome) error
+	// AddAttachment records a file that belongs to a run.
+	AddAttachment(ctx context.Context, code string, a Attachment) error
+
+	// Record returns a run with everything logged about it; ErrNotFound
+	// (wrapped) for an unknown code.
+	Record(ctx context.Context, code string) (RunRecord, error)
+	// Snapshot returns the recipe snapshot with the given SHA-256.
+	Snapshot(ctx context.Context, sha256 string) (Snapshot, error)
+	// List returns the runs that pass the filter, oldest first.
+	List(ctx context.Context, f Filter) ([]Run, error)
+	// Names lists the parameter and metric names the log holds.
+	Names(ctx context.Context) ([]Name, error)
+	// Samples returns, for every run that passes the filter and has the
+	// metric, the metric (mean over the run's measurements) and the named
+	// parameters (NaN where a run lacks one). It feeds Best and Rank.
+	Samples(ctx context.Context, f Filter, metric string, params []string) ([]Sample, error)
+	// Export calls each for every run that passes the filter, oldest
+	// first, from one consistent read.
+	Export(ctx context.Context, f Filter, each func(RunRecord) error) error
+	// Import adds runs and snapshots in one transaction: all or none. Runs
+	// keep their codes; a code already in the log is an error. progress,
+	// when not nil, is called with the number of runs written so far.
+	Import(ctx context.Context, b Bundle, progress func(done int)) (int, error)
+
+	// SchemaVersion returns the database's schema version.
+	SchemaVersion(ctx context.Context) (int, error)
+	// Backup writes a consistent copy of the whole log to a new file at
+	// path while others may be writing.
+	Backup(ctx context.Context, path string) error
+	// Check runs the back end's integrity checks and returns the problems
+	// found (none: an empty slice).
+	Check(ctx context.Context) ([]string, error)
+
+	io.Closer
+}
+
+// Filter selects runs. Where holds expressions of the --where language
+// (store/query); a run passes when it passes all of them. Limit > 0 keeps
+// only the first Limit runs.
+type Filter struct {
+	Where []string
+	Limit int
+}
+
+// Sample is one run's metric and parameter values for Best and Rank.
+type Sample struct {
+	Code   string
+	Metric float64
+	Params []float64 // in the order asked for; NaN where missing
+}
+
+// Bundle is a set of runs with the snapshots they refer to, as exported and
+// imported.
+type Bundle struct {
+	Snapshots []Snapshot
+	Runs      []RunRecord
+}
+
+// Errors callers can branch on (with errors.Is).
+var (
+	// ErrNotFound: no run with that code, no snapshot with that hash.
+	ErrNotFound = errors.New("not found")
+	// ErrInvalid: the caller's data or expression is wrong; the log is
+	// unchanged.
+	ErrInvalid = errors.New("invalid input")
+	// ErrSchemaTooNew: the database was written by a newer foilrun.
+	ErrSchemaTooNew = errors.New("database schema is newer than this foilrun")
+	// ErrConflict: the write clashes with what is logged (a code already
+	// used, a run already finished).
+	ErrConflict = errors.New("conflict")
+)

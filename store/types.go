@@ -1,0 +1,203 @@
+package store
+
+import (
+	"crypto/sha256"
+	"encoding/hex"
+	"encoding/json"
+	"fmt"
+	"math"
+	"time"
+)
+
+// Status is where a run is in its life.
+type Status string
+
+// The run statuses.
+const (
+	Planned Status = "planned"
+	Running Status = "running"
+	Done    Status = "done"
+	Aborted Status = "aborted"
+)
+
+// Valid reports whether s is one of the four statuses.
+func (s Status) Valid() bool {
+	switch s {
+	case Planned, Running, Done, Aborted:
+		return true
+	}
+	return false
+}
+
+// Finished reports whether the run has ended (done or aborted).
+func (s Status) Finished() bool { return s == Done || s == Aborted }
+
+// Snapshot is a recipe file kept byte for byte, keyed by the SHA-256 of
+// its bytes, so a run always shows the exact recipe it ran.
+type Snapshot struct {
+	SHA256  string    `json:"sha256"`
+	Name    string    `json:"name"` // recipe name from the file
+	File    string    `json:"file"` // path it was read from, for people
+	Content []byte    `json:"content"`
+	Created time.Time `json:"created,omitzero"`
+}
+
+// NewSnapshot returns the snapshot of a recipe file's bytes.
+func NewSnapshot(name, file string, content []byte) Snapshot {
+	return Snapshot{SHA256: HashOf(content), Name: name, File: file, Content: content}
+}
+
+// HashOf returns the lowercase hex SHA-256 of data.
+func HashOf(data []byte) string {
+	h := sha256.Sum256(data)
+	return hex.EncodeToString(h[:])
+}
+
+// Verify checks that the content hashes to SHA256.
+func (s Snapshot) Verify() error {
+	if got := HashOf(s.Content); got != s.SHA256 {
+		return fmt.Errorf("recipe snapshot %q: content hashes to %s, want %s", s.Name, short(got), short(s.SHA256))
+	}
+	return nil
+}
+
+func short(h string) string {
+	if len(h) > 12 {
+		return h[:12]
+	}
+	return h
+}
+
+// Run is one furnace run.
+type Run struct {
+	Code       string    `json:"code"`
+	Status     Status    `json:"status"`
+	RecipeName string    `json:"recipe_name"`
+	RecipeHash string    `json:"recipe_sha256,omitempty"` // "" when logged without a recipe file (CSV import)
+	Furnace    string    `json:"furnace"`
+	Operator   string    `json:"operator"`
+	Lot        string    `json:"lot"` // foil lot
+	Started    time.Time `json:"started,omitzero"`
+	Ended      time.Time `json:"ended,omitzero"`
+	Created    time.Time `json:"created,omitzero"`
+}
+
+// Note is a timestamped remark on a run.
+type Note struct {
+	At   time.Time `json:"at"`
+	Text string    `json:"text"`
+}
+
+// Outcome is one measured result of a run. Value is in Unit, the metric's
+// canonical unit (see Metrics); Entered keeps what the user typed.
+type Outcome struct {
+	Metric   string    `json:"metric"`
+	Value    float64   `json:"value"`
+	Unit     string    `json:"unit"`
+	Entered  string    `json:"entered,omitempty"`
+	Method   string    `json:"method,omitempty"`
+	Measured time.Time `json:"measured,omitzero"`
+}
+
+// Actual is one quantity of one step as the furnace log saw it: mean,
+// minimum and maximum over the step's samples, in SI Unit, beside the
+// planned value (NaN when the plan has none). Quantities: "temperature"
+// (K), "pressure" (Pa), "flow:<gas>" (mol/s), "duration" and "start" (s;
+// Mean = Min = Max).
+type Actual struct {
+	Step     int     `json:"step"` // 1-based
+	Label    string  `json:"label"`
+	Quantity string  `json:"quantity"`
+	Unit     string  `json:"unit"`
+	Planned  Optional `json:"planned"`
+	Mean     float64 `json:"mean"`
+	Min      float64 `json:"min"`
+	Max      float64 `json:"max"`
+	Samples  int     `json:"samples"`
+}
+
+// Deviation is an actual value outside its tolerance around the plan.
+type Deviation struct {
+	Step      int     `json:"step"`
+	Label     string  `json:"label"`
+	Quantity  string  `json:"quantity"`
+	Unit      string  `json:"unit"`
+	Planned   float64 `json:"planned"`
+	Actual    float64 `json:"actual"`
+	Tolerance float64 `json:"tolerance"`
+	Message   string  `json:"message"`
+}
+
+// Attachment is a file that belongs to a run, such as a micrograph, by path
+// and content hash.
+type Attachment struct {
+	Path   string    `json:"path"`
+	SHA256 string    `json:"sha256"`
+	Kind   string    `json:"kind"` // e.g. "micrograph", "furnace-log", "raman"
+	Added  time.Time `json:"added,omitzero"`
+}
+
+// RunRecord is a run with everything logged about it.
+type RunRecord struct {
+	Run
+	Params      map[string]float64 `json:"params"`
+	Notes       []Note             `json:"notes,omitempty"`
+	Outcomes    []Outcome          `json:"outcomes,omitempty"`
+	Actuals     []Actual           `json:"actuals,omitempty"`
+	Deviations  []Deviation        `json:"deviations,omitempty"`
+	Attachments []Attachment       `json:"attachments,omitempty"`
+}
+
+// Finish is what `run finish` adds to a running run.
+type Finish struct {
+	Status     Status // Done or Aborted
+	Ended      time.Time
+	Actuals    []Actual
+	Deviations []Deviation
+	Note       string // optional closing note
+}
+
+// Name is a parameter or metric name known to the log, with its unit.
+type Name struct {
+	Name string
+	Kind string // NameParam or NameMetric
+	Unit string
+}
+
+// Kinds of Name.
+const (
+	NameParam  = "param"
+	NameMetric = "metric"
+)
+
+// Optional is a number that may be missing: NaN in Go, null in JSON, NULL
+// in SQL.
+type Optional float64
+
+// None is the missing Optional.
+func None() Optional { return Optional(math.NaN()) }
+
+// Valid reports whether the number is present.
+func (o Optional) Valid() bool { return !math.IsNaN(float64(o)) }
+
+// MarshalJSON writes null for a missing number.
+func (o Optional) MarshalJSON() ([]byte, error) {
+	if !o.Valid() || math.IsInf(float64(o), 0) {
+		return []byte("null"), nil
+	}
+	return json.Marshal(float64(o))
+}
+
+// UnmarshalJSON reads null as missing.
+func (o *Optional) UnmarshalJSON(b []byte) error {
+	if string(b) == "null" {
+		*o = None()
+		return nil
+	}
+	var v float64
+	if err := json.Unmarshal(b, &v); err != nil {
+		return err
+	}
+	*o = Optional(v)
+	return nil
+}
