@@ -1,0 +1,71 @@
+package micrograph
+
+import (
+	"image"
+	"runtime"
+	"sync"
+	"testing"
+)
+
+var (
+	benchOnce sync.Once
+	benchImg  *image.Gray
+)
+
+// benchImage is a 4096×4096 8-bit field with 64×64 separated domains
+// (about 17 % coverage), gradient, texture and noise as in the tests.
+func benchImage() *image.Gray {
+	benchOnce.Do(func() {
+		ds, _ := separated(4096, 4096, 64, 64, 71, true)
+		s := synth{w: 4096, h: 4096, domains: ds, bare: 150, contrast: 0.75, gradient: 0.5, texture: 0.04, noise: 4, seed: 72}
+		benchImg, _ = s.gray8()
+	})
+	return benchImg
+}
+
+// BenchmarkAnalyze4096 times Analyze on a decoded 4096×4096 8-bit image
+// and reports the bytes it allocates per pixel (all allocations, an upper
+// bound on what it holds at once).
+func BenchmarkAnalyze4096(b *testing.B) {
+	img := benchImage()
+	pixels := float64(img.Bounds().Dx() * img.Bounds().Dy())
+	s := Settings{PixelSize: testPixel}
+	b.ReportAllocs()
+	var before, after runtime.MemStats
+	runtime.GC()
+	runtime.ReadMemStats(&before)
+	b.ResetTimer()
+	for b.Loop() {
+		if _, err := Analyze(img, s); err != nil {
+			b.Fatal(err)
+		}
+	}
+	b.StopTimer()
+	runtime.ReadMemStats(&after)
+	b.ReportMetric(float64(after.TotalAlloc-before.TotalAlloc)/float64(b.N)/pixels, "bytes/pixel")
+}
+
+func BenchmarkSmooth4096(b *testing.B) {
+	p, _, _ := toPlane(benchImage(), nil)
+	for b.Loop() {
+		smooth(p, DefaultSmoothRadius)
+	}
+}
+
+// BenchmarkFlatten4096: fit of the illumination surface plus conversion
+// to the flattened 16-bit plane.
+func BenchmarkFlatten4096(b *testing.B) {
+	img := benchImage()
+	for b.Loop() {
+		toPlane(img, fitBackground(img, DefaultDegree))
+	}
+}
+
+func BenchmarkLabel4096(b *testing.B) {
+	p, _, _ := toPlane(benchImage(), nil)
+	t, _ := Otsu(histogram(p))
+	for b.Loop() {
+		runs, rowStart := runsOf(p, uint16(t), false)
+		labelRuns(runs, rowStart, p.h)
+	}
+}

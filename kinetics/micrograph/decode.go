@@ -1,0 +1,154 @@
+package micrograph
+
+import (
+	"bytes"
+	"fmt"
+	"image"
+	_ "image/jpeg" // register the JPEG decoder
+	_ "image/png"  // register the PNG decoder
+	"io"
+	"os"
+
+	_ "golang.org/x/image/tiff" // register the TIFF decoder
+)
+
+// Default decode limits.
+const (
+	DefaultMaxPixels = 256 << 20 // 268 435 456 pixels (256 Mpixel)
+	DefaultMaxBytes  = 1 << 30   // 1 GiB of file
+)
+
+// Limits bounds what Decode accepts. The zero value uses the defaults.
+type Limits struct {
+	// MaxPixels is the largest width×height accepted, checked against the
+	// image header before any pixel memory is allocated. 0 means
+	// DefaultMaxPixels.
+	MaxPixels int64
+	// MaxBytes is the largest number of bytes read from the input.
+	// 0 means DefaultMaxBytes.
+	MaxBytes int64
+}
+
+func (l Limits) withDefaults() Limits {
+	if l.MaxPixels <= 0 {
+		l.MaxPixels = DefaultMaxPixels
+	}
+	if l.MaxBytes <= 0 {
+		l.MaxBytes = DefaultMaxBytes
+	}
+	return l
+}
+
+// Info describes a decoded image.
+type Info struct {
+	Format        string // "png", "jpeg" or "tiff"
+	Width, Height int    // pixels
+	BitDepth      int    // 8 or 16: the depth of the gray levels Analyze reports
+}
+
+// Load opens and decodes the micrograph at path. See Decode.
+func Load(path string, lim Limits) (image.Image, Info, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, Info{}, fmt.Errorf("load micrograph: %w", err)
+	}
+	defer f.Close()
+	img, info, err := Decode(f, lim)
+	if err != nil {
+		return nil, info, fmt.Errorf("load micrograph %q: %w", path, err)
+	}
+	return img, info, nil
+}
+
+// Decode reads a PNG, JPEG or TIFF image (8- or 16-bit, gray or colour).
+// It reads the header first with image.DecodeConfig and refuses an image
+// larger than lim.MaxPixels with a *TooLargeError before allocating pixel
+// memory. A truncated or non-image input returns an error wrapping
+// ErrUnreadable. Decode never panics: a panic inside a decoder is turned
+// into an ErrUnreadable error.
+func Decode(r io.Reader, lim Limits) (img image.Image, info Info, err error) {
+	lim = lim.withDefaults()
+	lr := &limitedReader{r: r, left: lim.MaxBytes}
+	var head bytes.Buffer
+	cfg, format, err := decodeConfig(io.TeeReader(lr, &head))
+	if lr.over {
+		return nil, info, &TooLargeError{MaxBytes: lim.MaxBytes, MaxPixels: lim.MaxPixels, Bytes: true}
+	}
+	if err != nil {
+		return nil, info, fmt.Errorf("decode image header: %w: %w", ErrUnreadable, err)
+	}
+	info = Info{Format: format, Width: cfg.Width, Height: cfg.Height}
+	if cfg.Width <= 0 || cfg.Height <= 0 {
+		return nil, info, fmt.Errorf("decode image header: %w: size %d×%d", ErrUnreadable, cfg.Width, cfg.Height)
+	}
+	if int64(cfg.Width)*int64(cfg.Height) > lim.MaxPixels {
+		return nil, info, &TooLargeError{Width: cfg.Width, Height: cfg.Height, MaxPixels: lim.MaxPixels, MaxBytes: lim.MaxBytes}
+	}
+	img, format, err = decodeImage(io.MultiReader(&head, lr))
+	if lr.over {
+		return nil, info, &TooLargeError{MaxBytes: lim.MaxBytes, MaxPixels: lim.MaxPixels, Bytes: true}
+	}
+	if err != nil {
+		return nil, info, fmt.Errorf("decode %s image: %w: %w", format, ErrUnreadable, err)
+	}
+	b := img.Bounds()
+	if b.Dx() != cfg.Width || b.Dy() != cfg.Height {
+		return nil, info, fmt.Errorf("decode %s image: %w: header says %d×%d, pixels are %d×%d",
+			format, ErrUnreadable, cfg.Width, cfg.Height, b.Dx(), b.Dy())
+	}
+	info.BitDepth = bitDepth(img)
+	return img, info, nil
+}
+
+func decodeConfig(r io.Reader) (cfg image.Config, format string, err error) {
+	defer func() {
+		if p := recover(); p != nil {
+			err = fmt.Errorf("decoder failed: %v", p)
+		}
+	}()
+	return image.DecodeConfig(r)
+}
+
+func decodeImage(r io.Reader) (img image.Image, format string, err error) {
+	defer func() {
+		if p := recover(); p != nil {
+			img, err = nil, fmt.Errorf("decoder failed: %v", p)
+		}
+	}()
+	return image.Decode(r)
+}
+
+// limitedReader reads at most left bytes and records whether the input
+// had more.
+type limitedReader struct {
+	r    io.Reader
+	left int64
+	over bool
+}
+
+func (l *limitedReader) Read(p []byte) (int, error) {
+	if l.left <= 0 {
+		var one [1]byte
+		n, _ := l.r.Read(one[:])
+		if n > 0 {
+			l.over = true
+			return 0, ErrTooLarge
+		}
+		return 0, io.EOF
+	}
+	if int64(len(p)) > l.left {
+		p = p[:l.left]
+	}
+	n, err := l.r.Read(p)
+	l.left -= int64(n)
+	return n, err
+}
+
+// bitDepth is 16 for the image types that carry 16-bit samples, else 8.
+func bitDepth(img image.Image) int {
+	switch img.(type) {
+	case *image.Gray16, *image.RGBA64, *image.NRGBA64:
+		return 16
+	}
+	return 8
+}

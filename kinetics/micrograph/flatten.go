@@ -1,0 +1,273 @@
+package micrograph
+
+import (
+	"image"
+	"math"
+
+	"gonum.org/v1/gonum/mat"
+)
+
+// Flattening removes uneven illumination. Illumination multiplies the
+// reflectance, so the fit is done on log gray levels, where it adds:
+//
+//	ln(1 + I(x, y)) ≈ Q(u, v) + c·m(x, y)
+//
+// Q is a polynomial of total degree D in the normalised coordinates
+// u, v ∈ [−1, 1], m is 1 on pixels of the upper Otsu class and 0 on the
+// lower, and c is the log contrast between the two classes. Fitting the
+// class step together with the surface keeps the domains from pulling the
+// background estimate towards themselves. The fit alternates: least squares
+// for Q and c on a grid of about 192×192 sampled pixels, then Otsu's
+// threshold on the residuals ln(1+I) − Q for a new m (four rounds; the
+// first without c). Every pixel is then divided by the illumination:
+//
+//	I'(x, y) = I(x, y) · exp(Q̄ − Q(u, v))
+//
+// with Q̄ the mean of Q over the image, so levels keep their scale where
+// the illumination is at its mean. A low-order surface was chosen over a
+// large box blur because a blur follows dense clusters of domains and
+// fades their contrast, while a degree-2 surface cannot.
+
+const (
+	fitGrid    = 192 // sampled pixels per image side, about
+	fitRounds  = 4
+	knotStride = 32 // pixels between exact evaluations of the surface along a row
+)
+
+type background struct {
+	deg    int
+	w, h   int
+	coef   []float64
+	mean   float64
+	scaleU float64
+	scaleV float64
+
+	nkx, nky int       // knots along x and y
+	gain     []float32 // exp(Q̄ − Q) at the knots, row-major
+}
+
+func numTerms(deg int) int { return (deg + 1) * (deg + 2) / 2 }
+
+// basis writes the monomials u^i·v^j, i+j ≤ deg, into out.
+func basis(deg int, u, v float64, out []float64) {
+	var up, vp [9]float64
+	up[0], vp[0] = 1, 1
+	for i := 1; i <= deg; i++ {
+		up[i], vp[i] = up[i-1]*u, vp[i-1]*v
+	}
+	k := 0
+	for t := 0; t <= deg; t++ {
+		for i := t; i >= 0; i-- {
+			out[k] = up[i] * vp[t-i]
+			k++
+		}
+	}
+}
+
+func (bg *background) uv(x, y float64) (float64, float64) {
+	return x*bg.scaleU - 1, y*bg.scaleV - 1
+}
+
+func (bg *background) eval(x, y float64, tmp []float64) float64 {
+	u, v := bg.uv(x, y)
+	basis(bg.deg, u, v, tmp)
+	s := 0.0
+	for i, c := range bg.coef {
+		s += c * tmp[i]
+	}
+	return s
+}
+
+// fitBackground fits the surface of total degree deg (1..MaxDegree) to
+// the luma of img, sampled on a grid. It returns nil when the normal
+// equations are singular.
+func fitBackground(img image.Image, deg int) *background {
+	b := img.Bounds()
+	w, h := b.Dx(), b.Dy()
+	bg := &background{deg: deg, w: w, h: h}
+	if w > 1 {
+		bg.scaleU = 2 / float64(w-1)
+	}
+	if h > 1 {
+		bg.scaleV = 2 / float64(h-1)
+	}
+	stepX := max(1, w/fitGrid)
+	stepY := max(1, h/fitGrid)
+	var xs, ys, zs []float64
+	row := make([]uint16, w)
+	for y := stepY / 2; y < h; y += stepY {
+		convertRow(img, b.Min.X, b.Min.Y+y, row)
+		for x := stepX / 2; x < w; x += stepX {
+			xs = append(xs, float64(x))
+			ys = append(ys, float64(y))
+			zs = append(zs, math.Log1p(float64(row[x])))
+		}
+	}
+	n := len(zs)
+	nt := numTerms(deg)
+	rows := make([][]float64, n)
+	flat := make([]float64, n*nt)
+	for i := range rows {
+		rows[i] = flat[i*nt : (i+1)*nt]
+		u, v := bg.uv(xs[i], ys[i])
+		basis(deg, u, v, rows[i])
+	}
+	m := make([]bool, n)
+	resid := make([]float64, n)
+	var coef []float64
+	for round := range fitRounds {
+		withStep := round > 0
+		if withStep {
+			ones := 0
+			for _, b := range m {
+				if b {
+					ones++
+				}
+			}
+			withStep = ones > nt && n-ones > nt
+		}
+		c := solveLeastSquares(rows, zs, m, withStep)
+		if c == nil {
+			return nil
+		}
+		coef = c[:nt]
+		for i := range zs {
+			s := 0.0
+			for k, ck := range coef {
+				s += ck * rows[i][k]
+			}
+			resid[i] = zs[i] - s
+		}
+		splitResiduals(resid, m)
+	}
+	bg.coef = coef
+	// Mean of Q over the sample grid, which covers the image evenly.
+	sum := 0.0
+	for i := range zs {
+		sum += zs[i] - resid[i]
+	}
+	bg.mean = sum / float64(n)
+	bg.gainGrid()
+	return bg
+}
+
+// gainGrid evaluates the gain exp(Q̄ − Q) on knots every knotStride
+// pixels in x and y (the last knot on the last pixel); between knots the
+// gain is interpolated bilinearly, which for a surface of degree ≤ 4 over
+// the whole image is exact to far below one gray level.
+func (bg *background) gainGrid() {
+	bg.nkx = (bg.w-1)/knotStride + 2
+	bg.nky = (bg.h-1)/knotStride + 2
+	bg.gain = make([]float32, bg.nkx*bg.nky)
+	tmp := make([]float64, numTerms(bg.deg))
+	for j := range bg.nky {
+		y := min(j*knotStride, bg.h-1)
+		for k := range bg.nkx {
+			x := min(k*knotStride, bg.w-1)
+			bg.gain[j*bg.nkx+k] = float32(math.Exp(bg.mean - bg.eval(float64(x), float64(y), tmp)))
+		}
+	}
+}
+
+// solveLeastSquares solves the normal equations for z ≈ Σ c_k·row_k
+// (+ c_step·m when withStep). It returns nil if they are singular.
+func solveLeastSquares(rows [][]float64, z []float64, m []bool, withStep bool) []float64 {
+	nt := len(rows[0])
+	np := nt
+	if withStep {
+		np++
+	}
+	ata := mat.NewSymDense(np, nil)
+	atb := mat.NewVecDense(np, nil)
+	a := make([]float64, np)
+	acc := make([]float64, np*np)
+	bacc := make([]float64, np)
+	for i, r := range rows {
+		copy(a, r)
+		if withStep {
+			a[nt] = 0
+			if m[i] {
+				a[nt] = 1
+			}
+		}
+		for j := range np {
+			aj := a[j]
+			bacc[j] += aj * z[i]
+			row := acc[j*np:]
+			for k := j; k < np; k++ {
+				row[k] += aj * a[k]
+			}
+		}
+	}
+	for j := range np {
+		atb.SetVec(j, bacc[j])
+		for k := j; k < np; k++ {
+			ata.SetSym(j, k, acc[j*np+k])
+		}
+	}
+	var ch mat.Cholesky
+	if !ch.Factorize(ata) {
+		return nil
+	}
+	var x mat.VecDense
+	if err := ch.SolveVecTo(&x, atb); err != nil {
+		return nil
+	}
+	out := make([]float64, np)
+	for j := range np {
+		out[j] = x.AtVec(j)
+	}
+	return out
+}
+
+// splitResiduals sets m[i] to whether resid[i] lies above Otsu's threshold
+// of a 256-bin histogram of the residuals.
+func splitResiduals(resid []float64, m []bool) {
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for _, r := range resid {
+		lo, hi = min(lo, r), max(hi, r)
+	}
+	if !(hi > lo) {
+		clear(m)
+		return
+	}
+	const bins = 256
+	var hist [bins]uint64
+	scale := (bins - 1) / (hi - lo)
+	for _, r := range resid {
+		hist[int((r-lo)*scale)]++
+	}
+	t, ok := Otsu(hist[:])
+	for i, r := range resid {
+		m[i] = ok && int((r-lo)*scale) > t
+	}
+}
+
+// applyRow divides row y (converted luma) by the fitted illumination, in
+// place; knots is scratch of bg.nkx values.
+func (bg *background) applyRow(y int, row []uint16, knots []float32) {
+	j := y / knotStride
+	y0 := j * knotStride
+	fy := float32(y-y0) / float32(max(min(y0+knotStride, bg.h-1)-y0, 1))
+	g0, g1 := bg.gain[j*bg.nkx:(j+1)*bg.nkx], bg.gain[(j+1)*bg.nkx:(j+2)*bg.nkx]
+	for k := range knots {
+		knots[k] = g0[k] + fy*(g1[k]-g0[k])
+	}
+	w := len(row)
+	for x0 := 0; x0 < w; x0 += knotStride {
+		k := x0 / knotStride
+		x1 := min(x0+knotStride, w)
+		span := float32(max(min(x0+knotStride, w-1)-x0, 1))
+		g, dg := knots[k], (knots[k+1]-knots[k])/span
+		seg := row[x0:x1]
+		for x, v := range seg {
+			f := float32(v)*g + 0.5
+			g += dg
+			if f >= 65535 {
+				seg[x] = 65535
+			} else {
+				seg[x] = uint16(f)
+			}
+		}
+	}
+}
