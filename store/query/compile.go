@@ -1,0 +1,162 @@
+package query
+
+import (
+	"fmt"
+	"sort"
+	"strings"
+)
+
+// Column is a run column the language may name: the fixed SQL that reads
+// it (chosen by the back end, never by the user) and whether it holds text.
+type Column struct {
+	SQL  string // e.g. "r.status"
+	Text bool
+}
+
+// Schema is what names may appear in an expression.
+type Schema struct {
+	Columns map[string]Column
+	Params  map[string]bool // recipe parameters (table run_params)
+	Metrics map[string]bool // outcome metrics (table outcomes)
+	// RunID is the SQL of the run's id, e.g. "r.id".
+	RunID string
+}
+
+var sqlOps = map[string]string{"=": "=", "!=": "<>", "<": "<", "<=": "<=", ">": ">", ">=": ">="}
+
+// Compile turns an expression into an SQL boolean expression with "?"
+// placeholders and its arguments, in order. src is the expression's text,
+// for messages.
+func Compile(e Expr, s Schema, src string) (string, []any, error) {
+	var b strings.Builder
+	var args []any
+	if err := compile(&b, &args, e, s, src); err != nil {
+		return "", nil, err
+	}
+	return b.String(), args, nil
+}
+
+// ParseCompile is Parse then Compile.
+func ParseCompile(src string, s Schema) (string, []any, error) {
+	e, err := Parse(src)
+	if err != nil {
+		return "", nil, err
+	}
+	return Compile(e, s, src)
+}
+
+func compile(b *strings.Builder, args *[]any, e Expr, s Schema, src string) error {
+	switch e := e.(type) {
+	case *And, *Or:
+		var l, r Expr
+		word := " AND "
+		if a, ok := e.(*And); ok {
+			l, r = a.L, a.R
+		} else {
+			o := e.(*Or)
+			l, r, word = o.L, o.R, " OR "
+		}
+		b.WriteString("(")
+		if err := compile(b, args, l, s, src); err != nil {
+			return err
+		}
+		b.WriteString(word)
+		if err := compile(b, args, r, s, src); err != nil {
+			return err
+		}
+		b.WriteString(")")
+	case *Not:
+		b.WriteString("(NOT ")
+		if err := compile(b, args, e.X, s, src); err != nil {
+			return err
+		}
+		b.WriteString(")")
+	case *Compare:
+		return compare(b, args, e, s, src)
+	default:
+		panic(fmt.Sprintf("query: unknown expression %T", e))
+	}
+	return nil
+}
+
+func compare(b *strings.Builder, args *[]any, c *Compare, s Schema, src string) error {
+	op, ok := sqlOps[c.Op]
+	if !ok {
+		return &Error{src, c.Pos, fmt.Sprintf("unknown operator %q", c.Op)}
+	}
+	if col, ok := s.Columns[c.Name]; ok {
+		switch {
+		case col.Text && !c.IsStr:
+			return &Error{src, c.VPos, fmt.Sprintf("%s holds text; quote the value, e.g. %s %s \"%s\"", c.Name, c.Name, c.Op, strings.TrimSpace(fmt.Sprint(c.Num)))}
+		case !col.Text && c.IsStr:
+			return &Error{src, c.VPos, fmt.Sprintf("%s holds numbers; give a number, not %q", c.Name, c.Text)}
+		}
+		b.WriteString("(" + col.SQL + " " + op + " ?)")
+		if c.IsStr {
+			*args = append(*args, c.Text)
+		} else {
+			*args = append(*args, c.Num)
+		}
+		return nil
+	}
+	isParam, isMetric := s.Params[c.Name], s.Metrics[c.Name]
+	if !isParam && !isMetric {
+		return &Error{src, c.Pos, unknownName(c.Name, s)}
+	}
+	if c.IsStr {
+		return &Error{src, c.VPos, fmt.Sprintf("%s is a number; give a number, not %q", c.Name, c.Text)}
+	}
+	if isParam {
+		b.WriteString(s.RunID + " IN (SELECT run_id FROM run_params WHERE name = ? AND value " + op + " ?)")
+	} else {
+		b.WriteString(s.RunID + " IN (SELECT run_id FROM outcomes WHERE metric = ? GROUP BY run_id HAVING AVG(value) " + op + " ?)")
+	}
+	*args = append(*args, c.Name, c.Num)
+	return nil
+}
+
+func unknownName(name string, s Schema) string {
+	var all []string
+	for n := range s.Columns {
+		all = append(all, n)
+	}
+	for n := range s.Params {
+		all = append(all, n)
+	}
+	for n := range s.Metrics {
+		all = append(all, n)
+	}
+	sort.Strings(all)
+	best, bd := "", 1<<30
+	for _, n := range all {
+		if d := distance(strings.ToLower(name), n); d < bd {
+			best, bd = n, d
+		}
+	}
+	msg := fmt.Sprintf("unknown name %q; want a run column, recipe parameter or outcome metric", name)
+	if best != "" && bd <= max(2, len(name)/3) {
+		msg += fmt.Sprintf(" (did you mean %s?)", best)
+	}
+	return msg
+}
+
+// distance is the Levenshtein edit distance.
+func distance(a, b string) int {
+	prev := make([]int, len(b)+1)
+	cur := make([]int, len(b)+1)
+	for j := range prev {
+		prev[j] = j
+	}
+	for i := 1; i <= len(a); i++ {
+		cur[0] = i
+		for j := 1; j <= len(b); j++ {
+			c := 1
+			if a[i-1] == b[j-1] {
+				c = 0
+			}
+			cur[j] = min(prev[j]+1, cur[j-1]+1, prev[j-1]+c)
+		}
+		prev, cur = cur, prev
+	}
+	return prev[len(b)]
+}
