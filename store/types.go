@@ -105,15 +105,15 @@ type Outcome struct {
 // (K), "pressure" (Pa), "flow:<gas>" (mol/s), "duration" and "start" (s;
 // Mean = Min = Max).
 type Actual struct {
-	Step     int     `json:"step"` // 1-based
-	Label    string  `json:"label"`
-	Quantity string  `json:"quantity"`
-	Unit     string  `json:"unit"`
+	Step     int      `json:"step"` // 1-based
+	Label    string   `json:"label"`
+	Quantity string   `json:"quantity"`
+	Unit     string   `json:"unit"`
 	Planned  Optional `json:"planned"`
-	Mean     float64 `json:"mean"`
-	Min      float64 `json:"min"`
-	Max      float64 `json:"max"`
-	Samples  int     `json:"samples"`
+	Mean     float64  `json:"mean"`
+	Min      float64  `json:"min"`
+	Max      float64  `json:"max"`
+	Samples  int      `json:"samples"`
 }
 
 // Deviation is an actual value outside its tolerance around the plan.

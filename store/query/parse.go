@@ -42,6 +42,7 @@ func (c *Compare) String() string {
 	}
 	return c.Name + " " + c.Op + " " + v
 }
+
 // quote writes s in double quotes, escaping only " and \ with a
 // backslash, the one escape the lexer reads.
 func quote(s string) string {
@@ -346,8 +347,10 @@ func lex(src string) ([]token, error) {
 	return append(toks, token{kind: tEOF, col: col}), nil
 }
 
-func isDigit(c byte) bool    { return c >= '0' && c <= '9' }
-func isNameByte(c byte) bool { return c == '_' || c >= 'a' && c <= 'z' || c >= 'A' && c <= 'Z' || isDigit(c) }
+func isDigit(c byte) bool { return c >= '0' && c <= '9' }
+func isNameByte(c byte) bool {
+	return c == '_' || c >= 'a' && c <= 'z' || c >= 'A' && c <= 'Z' || isDigit(c)
+}
 
 func nameAt(s string) string {
 	j := 0
