@@ -89,6 +89,8 @@ hydrogen and methane hazards, logs every run and learns from the log.`,
 		newCheckCmd(f),
 		newNewCmd(f),
 		newVersionCmd(f),
+		newSafetyCmd(f),
+		newChecklistCmd(f),
 	)
 	return root
 }

@@ -57,7 +57,7 @@ func Analyze(p *recipe.Plan, s *recipe.Site, o Options) (*Report, error) {
 		Recipe: p.Recipe.Name, Furnace: p.Furnace.Name, Site: s.Name, GasCode: s.GasCode,
 		Compilation: o.Compilation.String(), TubeLitres: p.Furnace.TubeVolume() * 1000,
 		VentilationM3H: s.Room.AirChanges.SI * s.Room.Volume.SI * 3600,
-		OpenBelowC: recipe.VentTemperature - 273.15, Options: o, Disclaimer: Disclaimer,
+		OpenBelowC:     recipe.VentTemperature - 273.15, Options: o, Disclaimer: Disclaimer,
 	}
 	for i := range p.Steps {
 		a.mixture(&p.Steps[i])

@@ -1,0 +1,95 @@
+package main
+
+import (
+	"bytes"
+	"fmt"
+	"os"
+	"text/template"
+
+	"github.com/spf13/cobra"
+
+	"github.com/foilrun/foilrun/recipe/safety"
+	"github.com/foilrun/foilrun/templates"
+)
+
+type checklistOptions struct {
+	io      *streams
+	recipe  string
+	flags   recipeFlags
+	format  string
+	outFile string
+}
+
+func newChecklistCmd(f *factory) *cobra.Command {
+	opts := &checklistOptions{io: f.io}
+	cmd := &cobra.Command{
+		Use:   "checklist RECIPE",
+		Short: "Print the one-page pre-run gas-safety checklist of a recipe",
+		Long: `Print a one-page checklist for a run of the recipe on its furnace in its site:
+before the run (leak check and its pass figure, purge, detectors, exhaust,
+people told), during (what to watch, what to do on an alarm), after (purge,
+cool-down before opening), with a box per item, sign-off lines for the
+operator and the person approving, the figures it relies on, and the site's
+own rules and contacts. Stop-level findings are printed at the top and make
+the exit status 1; the checklist is still written.
+
+The checklist supports, and does not replace, the site's gas-safety review,
+the local fire and compressed-gas codes, and the people licensed to approve
+the set-up.`,
+		Args: cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			opts.recipe = args[0]
+			if opts.format != templates.ChecklistText && opts.format != templates.ChecklistMarkdown {
+				return usagef("--format %q: want text or markdown", opts.format)
+			}
+			return checklistRun(opts)
+		},
+	}
+	opts.flags.register(cmd)
+	cmd.Flags().StringVar(&opts.format, "format", templates.ChecklistText, "checklist format: text or markdown")
+	cmd.Flags().StringVarP(&opts.outFile, "output-file", "o", "", "write the checklist to FILE instead of standard output")
+	return cmd
+}
+
+// renderChecklist executes the checklist template of a format with a sheet.
+func renderChecklist(format string, sh safety.Sheet) ([]byte, error) {
+	src, err := templates.Checklist(format)
+	if err != nil {
+		return nil, err
+	}
+	tmpl, err := template.New("checklist").Option("missingkey=error").Parse(src)
+	if err != nil {
+		return nil, fmt.Errorf("checklist template: %w", err)
+	}
+	var b bytes.Buffer
+	if err := tmpl.Execute(&b, sh); err != nil {
+		return nil, fmt.Errorf("checklist template: %w", err)
+	}
+	return b.Bytes(), nil
+}
+
+func checklistRun(opts *checklistOptions) error {
+	plan, site, rep, err := analyzeRecipe(opts.recipe, opts.flags)
+	if err != nil {
+		return err
+	}
+	out, err := renderChecklist(opts.format, safety.NewSheet(plan, site, rep))
+	if err != nil {
+		return err
+	}
+	if opts.outFile != "" {
+		if err := os.WriteFile(opts.outFile, out, 0o644); err != nil {
+			return fmt.Errorf("write checklist: %w", err)
+		}
+		fmt.Fprintf(opts.io.Err, "checklist written to %s (%s)\n", opts.outFile, rep.Verdict)
+	} else if _, err := opts.io.Out.Write(out); err != nil {
+		return err
+	}
+	if safety.HasStop(rep.Findings) {
+		if opts.outFile == "" {
+			fmt.Fprintln(opts.io.Err, "foilrun: "+rep.Verdict)
+		}
+		return errFindings
+	}
+	return nil
+}

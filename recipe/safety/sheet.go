@@ -1,0 +1,186 @@
+package safety
+
+import (
+	"fmt"
+	"math"
+	"strings"
+
+	"github.com/foilrun/foilrun/recipe"
+)
+
+// Sheet is the content of the printed pre-run checklist: every line
+// already worded, so the text and Markdown templates only lay it out.
+type Sheet struct {
+	Recipe, Furnace, Site string
+	GasCode               string
+	Contacts              []string
+	Stops                 []string // stop-level findings, to resolve before the run
+	Before, During, After []string // checklist items, each gets a box
+	Numbers               []string // the computed figures the items rely on
+	Verdict               string
+	Disclaimer            string
+}
+
+// NewSheet words the checklist of a plan in its site from its report.
+func NewSheet(p *recipe.Plan, s *recipe.Site, r *Report) Sheet {
+	sh := Sheet{Recipe: r.Recipe, Furnace: r.Furnace, Site: r.Site, GasCode: s.GasCode, Contacts: s.Contacts,
+		Verdict: r.Verdict, Disclaimer: Disclaimer}
+	for _, f := range r.Findings {
+		if f.Severity == Stop {
+			where := "run"
+			if f.StepName != "" {
+				where = "step " + f.StepName
+			}
+			sh.Stops = append(sh.Stops, fmt.Sprintf("%s (%s): %s → %s", where, f.Rule, f.Message, f.Action))
+		}
+	}
+	fuels, inerts := gasesOf(p)
+	add := func(list *[]string, format string, args ...any) { *list = append(*list, fmt.Sprintf(format, args...)) }
+
+	// Before the run.
+	if r.LeakCheckStep > 0 {
+		add(&sh.Before, "Leak check (step %d): valves closed, pressure rise at most %s over %s; do not go on if it fails", r.LeakCheckStep, r.LeakCheckPass, r.LeakCheckTime)
+	} else {
+		add(&sh.Before, "Leak check: the recipe has none; add one before any flammable gas")
+	}
+	for _, pg := range r.Purges {
+		if r.FirstFuelStep > 0 && pg.Step > r.FirstFuelStep {
+			break
+		}
+		add(&sh.Before, "Purge, step %s: %s; tube O2 left %s", pg.Label, purgeText(pg), ppm(pg.OxygenAfter))
+	}
+	if r.FirstFuelStep > 0 {
+		add(&sh.Before, "Tube O2 when fuel first enters (step %d): %s (target at most %s)", r.FirstFuelStep, ppm(r.OxygenAtFuel), pct(r.Options.PurgeTarget))
+	}
+	for _, d := range s.Detectors {
+		unit := " LFL"
+		if d.Gas == "O2" {
+			unit = " O2"
+		}
+		var als []string
+		for _, a := range d.Alarms {
+			als = append(als, pct(a.SI)+unit)
+		}
+		at := ""
+		if d.Where != "" {
+			at = " (" + d.Where + ")"
+		}
+		add(&sh.Before, "%s detector%s working and in calibration; alarms at %s", d.Gas, at, strings.Join(als, ", "))
+	}
+	ex := p.Furnace.Exhaust
+	need := 0.0
+	for _, st := range r.Steps {
+		need = math.Max(need, st.DilutionSLM)
+	}
+	add(&sh.Before, "Exhaust to %s drawing; dilution %s flowing at %.3g slm (at least %.3g slm needed)", s.Exhaust, orN2(ex.DilutionGas), slm(ex.DilutionFlow.SI), need)
+	add(&sh.Before, "Cylinders: only %s open, secured, regulators and fittings leak-tested", strings.Join(append(fuels, inerts...), ", "))
+	add(&sh.Before, "People told: the contacts below and everyone in the room know the gases, the times and the alarm actions")
+
+	// During.
+	add(&sh.During, "Watch temperature, pressure and each flow against the plan; shut the fuel on any unexplained pressure rise")
+	add(&sh.During, "Keep the exhaust dilution on whenever flammable gas flows")
+	if len(fuels) > 0 {
+		add(&sh.During, "On a fuel (%s) alarm: shut the fuel cylinder valves, keep inert flow and ventilation on, leave, call the contacts", strings.Join(fuels, "/"))
+	}
+	if len(inerts) > 0 || s.Detectors != nil {
+		add(&sh.During, "On an oxygen alarm: leave the room at once; re-enter only when the site allows")
+	}
+
+	// After.
+	for _, pg := range r.Purges {
+		if r.FirstFuelStep > 0 && pg.Step > r.FirstFuelStep {
+			add(&sh.After, "Purge, step %s: %s; fuel left %s", pg.Label, purgeText(pg), ppm(pg.FuelAfter))
+		}
+	}
+	if r.VentStep > 0 {
+		add(&sh.After, "Cool below %.0f °C before venting and opening (vent planned at %.0f °C); fuel at opening %.2g %% of LFL (limit %.0f %%)",
+			r.OpenBelowC, r.VentTempC, r.FuelAtOpen*100, r.Options.VentTarget*100)
+	} else {
+		add(&sh.After, "Cool below %.0f °C and purge with inert gas before opening (the recipe has no vent step)", r.OpenBelowC)
+	}
+	add(&sh.After, "Close the fuel cylinders, leave the inert line as the site requires, log the run")
+
+	// Numbers.
+	add(&sh.Numbers, "tube volume %.3g L; room %.0f m3 ventilated at %.0f m3/h (well mixed); limits from %s", r.TubeLitres, s.Room.Volume.SI, r.VentilationM3H, r.Compilation)
+	for _, rel := range r.Releases {
+		if rel.ShareOfLFL > 0 {
+			add(&sh.Numbers, "%s leak at %.3g slm (%s): room steady state %.3g %% of LFL%s", rel.Gas, rel.FlowSLM, rel.Source, rel.ShareOfLFL*100, firstAlarm(rel))
+		} else {
+			add(&sh.Numbers, "%s leak at %.3g slm (%s): room O2 falls to %s", rel.Gas, rel.FlowSLM, rel.Source, pct(rel.Oxygen))
+		}
+	}
+	worst := 0.0
+	for _, st := range r.Steps {
+		worst = math.Max(worst, st.Exhaust)
+	}
+	if worst > 0 {
+		add(&sh.Numbers, "exhaust outlet at most %.3g %% of LFL with the fitted dilution (limit %.0f %%)", worst*100, r.Options.ExhaustLimit*100)
+	}
+	if r.LeakOxygenPPM > 0 {
+		add(&sh.Numbers, "a leak at the pass figure would bring about %.2g ppm O2 into the smallest fuel flow", r.LeakOxygenPPM)
+	}
+	add(&sh.Numbers, "purge rule: N = ln(C0/C) volume changes (air to 1 %% O2: 3.04), or (P_low/P_high)^n per cycle")
+	return sh
+}
+
+func firstAlarm(rel Release) string {
+	if len(rel.Alarms) == 0 {
+		return "; no detector"
+	}
+	al := rel.Alarms[0]
+	if al.Seconds < 0 {
+		return fmt.Sprintf("; %s alarm never reached", pct(al.Alarm))
+	}
+	return fmt.Sprintf("; %s alarm after %s", pct(al.Alarm), minutes(al.Seconds))
+}
+
+func purgeText(pg Purge) string {
+	if pg.Cycles > 0 {
+		return fmt.Sprintf("%d pump-and-backfill cycles %.3g to %.3g kPa, left (P_low/P_high)^n = %.2g", pg.Cycles, pg.LowPa/1000, pg.HighPa/1000, pg.Factor)
+	}
+	return fmt.Sprintf("%s tube volumes flow-through (at least 3.04 for 1 %% O2 from air)", count(pg.Exchanges))
+}
+
+func ppm(x float64) string {
+	if x >= 0.01 {
+		return pct(x)
+	}
+	if x < 1e-9 {
+		return "below 0.001 ppm"
+	}
+	return trim(fmt.Sprintf("%.2g ppm", x*1e6))
+}
+
+func orN2(s string) string {
+	if s == "" {
+		return "N2"
+	}
+	return s
+}
+
+// gasesOf returns the flammable and the inert gases the plan flows.
+func gasesOf(p *recipe.Plan) (fuels, inerts []string) {
+	seen := map[string]bool{}
+	for _, sp := range p.Steps {
+		for _, f := range sp.Flows {
+			if f.Molar <= 0 || seen[f.Gas.Symbol] {
+				continue
+			}
+			seen[f.Gas.Symbol] = true
+			if f.Gas.Flammable {
+				fuels = append(fuels, f.Gas.Symbol)
+			} else {
+				inerts = append(inerts, f.Gas.Symbol)
+			}
+		}
+	}
+	return fuels, inerts
+}
+
+// count formats a number of exchanges: whole above 100, three digits below.
+func count(x float64) string {
+	if x >= 100 {
+		return fmt.Sprintf("%.0f", x)
+	}
+	return fmt.Sprintf("%.3g", x)
+}

@@ -1,0 +1,35 @@
+package templates
+
+import (
+	"embed"
+	"fmt"
+)
+
+//go:embed checklist*.tmpl
+var checklistFiles embed.FS
+
+// Checklist formats: "text" (plain, for a printer) and "markdown".
+const (
+	ChecklistText     = "text"
+	ChecklistMarkdown = "markdown"
+)
+
+// Checklist returns the text/template source of the pre-run checklist in a
+// format, "text" or "markdown". The template is executed with a
+// safety.Sheet.
+func Checklist(format string) (string, error) {
+	name := ""
+	switch format {
+	case ChecklistText:
+		name = "checklist.txt.tmpl"
+	case ChecklistMarkdown:
+		name = "checklist.md.tmpl"
+	default:
+		return "", fmt.Errorf("checklist format %q: want text or markdown", format)
+	}
+	b, err := checklistFiles.ReadFile(name)
+	if err != nil {
+		return "", fmt.Errorf("checklist template %s: %w", name, err)
+	}
+	return string(b), nil
+}
