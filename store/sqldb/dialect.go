@@ -1,0 +1,34 @@
+package sqldb
+
+import (
+	"context"
+	"database/sql"
+	"io/fs"
+)
+
+// Querier is what reads need: a *sql.DB, *sql.Tx or *sql.Conn.
+type Querier interface {
+	QueryContext(ctx context.Context, query string, args ...any) (*sql.Rows, error)
+	QueryRowContext(ctx context.Context, query string, args ...any) *sql.Row
+}
+
+// Dialect is everything that differs between SQL back ends.
+type Dialect interface {
+	// Name names the back end in messages ("sqlite").
+	Name() string
+	// Migrations holds the schema as files NNNN_name.sql, numbered from
+	// 0001 without gaps; each file takes the schema from version N−1 to N.
+	Migrations() fs.FS
+	// Rebind rewrites a query written with "?" placeholders into the
+	// back end's own (identity for SQLite, $1, $2, … for PostgreSQL).
+	Rebind(query string) string
+	// Read starts a read that sees one consistent state of the database
+	// without blocking writers; end releases it.
+	Read(ctx context.Context, db *sql.DB) (q Querier, end func() error, err error)
+	// Backup writes a consistent copy of the database to a new file.
+	Backup(ctx context.Context, db *sql.DB, path string) error
+	// Check runs the back end's integrity checks and returns the problems.
+	Check(ctx context.Context, db *sql.DB) ([]string, error)
+	// MaxArgs is the most bound arguments one statement may take.
+	MaxArgs() int
+}

@@ -1,0 +1,13 @@
+// Package sqldb implements store.RunLog over database/sql for every SQL
+// back end. The queries are written in the SQL that SQLite and PostgreSQL
+// share ("?" placeholders, INSERT … ON CONFLICT … DO NOTHING/UPDATE,
+// RETURNING); what differs between back ends is one Dialect value: how
+// placeholders are written, the migration files (DDL), a consistent read,
+// backup and integrity checks. store/sqlite supplies the SQLite dialect.
+//
+// Every write that touches more than one row runs in one transaction.
+// Times are stored as fixed-width UTC text (2006-01-02T15:04:05.000000Z),
+// so they sort as text; missing numbers and times are NULL.
+//
+// Entry points: Open, Migrate, Latest.
+package sqldb

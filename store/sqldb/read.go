@@ -1,0 +1,428 @@
+package sqldb
+
+import (
+	"context"
+	"database/sql"
+	"errors"
+	"fmt"
+	"math"
+	"sort"
+	"strings"
+
+	"github.com/foilrun/foilrun/recipe"
+	"github.com/foilrun/foilrun/store"
+	"github.com/foilrun/foilrun/store/query"
+)
+
+// columns are the run columns the --where language may name, with the
+// fixed SQL that reads each.
+var columns = map[string]query.Column{
+	"code": {SQL: "r.code", Text: true}, "status": {SQL: "r.status", Text: true},
+	"recipe": {SQL: "r.recipe_name", Text: true}, "recipe_sha256": {SQL: "r.recipe_sha256", Text: true},
+	"furnace": {SQL: "r.furnace", Text: true}, "operator": {SQL: "r.operator", Text: true},
+	"lot": {SQL: "r.lot", Text: true}, "started": {SQL: "r.started_at", Text: true}, "ended": {SQL: "r.ended_at", Text: true},
+}
+
+// Columns lists the run column names the --where language knows.
+func Columns() []string {
+	var cs []string
+	for c := range columns {
+		cs = append(cs, c)
+	}
+	sort.Strings(cs)
+	return cs
+}
+
+const runSelect = `SELECT r.id, r.code, r.status, r.recipe_sha256, r.recipe_name, r.furnace, r.operator, r.lot, r.started_at, r.ended_at, r.created_at FROM runs r`
+
+func scanRun(rows *sql.Rows) (int64, store.Run, error) {
+	var id int64
+	var r store.Run
+	var st string
+	var hash, started, ended, created sql.NullString
+	if err := rows.Scan(&id, &r.Code, &st, &hash, &r.RecipeName, &r.Furnace, &r.Operator, &r.Lot, &started, &ended, &created); err != nil {
+		return 0, r, err
+	}
+	r.Status, r.RecipeHash = store.Status(st), hash.String
+	var err1, err2, err3 error
+	r.Started, err1 = parseTime(started)
+	r.Ended, err2 = parseTime(ended)
+	r.Created, err3 = parseTime(created)
+	return id, r, errors.Join(err1, err2, err3)
+}
+
+// where compiles the filter to " WHERE …" (or "") and its arguments.
+func (s *DB) where(ctx context.Context, q Querier, f store.Filter, extra string) (string, []any, error) {
+	var parts []string
+	if extra != "" {
+		parts = append(parts, extra)
+	}
+	var args []any
+	if len(f.Where) > 0 {
+		sch, err := s.schema(ctx, q)
+		if err != nil {
+			return "", nil, err
+		}
+		for _, w := range f.Where {
+			sqlText, a, err := query.ParseCompile(w, sch)
+			if err != nil {
+				return "", nil, fmt.Errorf("%w: %w", err, store.ErrInvalid)
+			}
+			parts = append(parts, sqlText)
+			args = append(args, a...)
+		}
+	}
+	if len(parts) == 0 {
+		return "", nil, nil
+	}
+	return " WHERE " + strings.Join(parts, " AND "), args, nil
+}
+
+func (s *DB) schema(ctx context.Context, q Querier) (query.Schema, error) {
+	sch := query.Schema{Columns: columns, Params: map[string]bool{}, Metrics: map[string]bool{}, RunID: "r.id"}
+	for _, p := range recipe.ParameterNames() {
+		sch.Params[p.Name] = true
+	}
+	for _, m := range store.Metrics() {
+		sch.Metrics[m.Name] = true
+	}
+	names, err := s.names(ctx, q)
+	if err != nil {
+		return sch, err
+	}
+	for _, n := range names {
+		if n.Kind == store.NameParam {
+			sch.Params[n.Name] = true
+		} else {
+			sch.Metrics[n.Name] = true
+		}
+	}
+	return sch, nil
+}
+
+// Names lists the parameter and metric names in the log; parameters carry
+// the unit recipe.ParameterNames gives them.
+func (s *DB) Names(ctx context.Context) ([]store.Name, error) { return s.names(ctx, s.db) }
+
+func (s *DB) names(ctx context.Context, q Querier) ([]store.Name, error) {
+	units := map[string]string{}
+	for _, p := range recipe.ParameterNames() {
+		units[p.Name] = p.Unit
+	}
+	rows, err := q.QueryContext(ctx, `SELECT name, kind, unit FROM names ORDER BY name`)
+	if err != nil {
+		return nil, err
+	}
+	defer rows.Close()
+	var out []store.Name
+	for rows.Next() {
+		var n store.Name
+		if err := rows.Scan(&n.Name, &n.Kind, &n.Unit); err != nil {
+			return nil, err
+		}
+		if n.Kind == store.NameParam && n.Unit == "" {
+			n.Unit = units[n.Name]
+		}
+		out = append(out, n)
+	}
+	return out, rows.Err()
+}
+
+// List returns the runs that pass the filter, oldest first.
+func (s *DB) List(ctx context.Context, f store.Filter) ([]store.Run, error) {
+	w, args, err := s.where(ctx, s.db, f, "")
+	if err != nil {
+		return nil, err
+	}
+	q := runSelect + w + " ORDER BY r.id"
+	if f.Limit > 0 {
+		q += " LIMIT ?"
+		args = append(args, f.Limit)
+	}
+	rows, err := s.db.QueryContext(ctx, s.d.Rebind(q), args...)
+	if err != nil {
+		return nil, err
+	}
+	defer rows.Close()
+	var out []store.Run
+	for rows.Next() {
+		_, r, err := scanRun(rows)
+		if err != nil {
+			return nil, err
+		}
+		out = append(out, r)
+	}
+	return out, rows.Err()
+}
+
+// Samples returns the metric and parameters of every run that passes the
+// filter and has the metric.
+func (s *DB) Samples(ctx context.Context, f store.Filter, metric string, params []string) ([]store.Sample, error) {
+	if len(params) > 60 {
+		return nil, fmt.Errorf("samples: %d parameters, at most 60: %w", len(params), store.ErrInvalid)
+	}
+	var b strings.Builder
+	b.WriteString("SELECT r.code, m.v")
+	for i := range params {
+		fmt.Fprintf(&b, ", p%d.value", i)
+	}
+	b.WriteString(" FROM runs r JOIN (SELECT run_id, AVG(value) AS v FROM outcomes WHERE metric = ? GROUP BY run_id) m ON m.run_id = r.id")
+	args := []any{metric}
+	for i, p := range params {
+		fmt.Fprintf(&b, " LEFT JOIN run_params p%d ON p%d.run_id = r.id AND p%d.name = ?", i, i, i)
+		args = append(args, p)
+	}
+	w, wargs, err := s.where(ctx, s.db, f, "")
+	if err != nil {
+		return nil, err
+	}
+	b.WriteString(w + " ORDER BY r.id")
+	args = append(args, wargs...)
+	rows, err := s.db.QueryContext(ctx, s.d.Rebind(b.String()), args...)
+	if err != nil {
+		return nil, err
+	}
+	defer rows.Close()
+	var out []store.Sample
+	vals := make([]sql.NullFloat64, len(params))
+	dest := make([]any, 2+len(params))
+	for rows.Next() {
+		var sm store.Sample
+		dest[0], dest[1] = &sm.Code, &sm.Metric
+		for i := range vals {
+			dest[2+i] = &vals[i]
+		}
+		if err := rows.Scan(dest...); err != nil {
+			return nil, err
+		}
+		sm.Params = make([]float64, len(params))
+		for i, v := range vals {
+			sm.Params[i] = floatOr(v)
+		}
+		out = append(out, sm)
+	}
+	return out, rows.Err()
+}
+
+// Snapshot returns the recipe snapshot with the hash.
+func (s *DB) Snapshot(ctx context.Context, hash string) (store.Snapshot, error) {
+	sn := store.Snapshot{SHA256: hash}
+	var created sql.NullString
+	err := s.db.QueryRowContext(ctx, s.d.Rebind(`SELECT name, file, content, created_at FROM snapshots WHERE sha256 = ?`), hash).
+		Scan(&sn.Name, &sn.File, &sn.Content, &created)
+	if errors.Is(err, sql.ErrNoRows) {
+		return sn, fmt.Errorf("recipe snapshot %.12s: %w", hash, store.ErrNotFound)
+	}
+	if err != nil {
+		return sn, err
+	}
+	sn.Created, err = parseTime(created)
+	return sn, err
+}
+
+// Record returns a run with everything logged about it.
+func (s *DB) Record(ctx context.Context, code string) (store.RunRecord, error) {
+	var got []store.RunRecord
+	err := s.export(ctx, s.db, "r.code = ?", []any{code}, 1, func(r store.RunRecord) error {
+		got = append(got, r)
+		return nil
+	})
+	if err != nil {
+		return store.RunRecord{}, err
+	}
+	if len(got) == 0 {
+		return store.RunRecord{}, fmt.Errorf("run %q: %w", code, store.ErrNotFound)
+	}
+	return got[0], nil
+}
+
+// Export calls each for every run that passes the filter, from one
+// consistent read.
+func (s *DB) Export(ctx context.Context, f store.Filter, each func(store.RunRecord) error) error {
+	q, end, err := s.d.Read(ctx, s.db)
+	if err != nil {
+		return err
+	}
+	defer end()
+	w, args, err := s.where(ctx, q, f, "")
+	if err != nil {
+		return err
+	}
+	return s.export(ctx, q, strings.TrimPrefix(w, " WHERE "), args, f.Limit, each)
+}
+
+// exportChunk is how many runs are read per round of child queries.
+const exportChunk = 2000
+
+// export reads runs matching cond (SQL, may be "") in id order, chunk by
+// chunk, with their child rows; limit > 0 stops after that many.
+func (s *DB) export(ctx context.Context, q Querier, cond string, args []any, limit int, each func(store.RunRecord) error) error {
+	last := int64(math.MinInt64)
+	sent := 0
+	w := " WHERE r.id > ?"
+	if cond != "" {
+		w += " AND (" + cond + ")"
+	}
+	qs := s.d.Rebind(runSelect + w + " ORDER BY r.id LIMIT ?")
+	for {
+		n := exportChunk
+		if limit > 0 {
+			n = min(n, limit-sent)
+		}
+		if n <= 0 {
+			return nil
+		}
+		a := append(append([]any{last}, args...), n)
+		recs, ids, err := s.readRuns(ctx, q, qs, a)
+		if err != nil || len(recs) == 0 {
+			return err
+		}
+		if err := s.readChildren(ctx, q, ids, recs); err != nil {
+			return err
+		}
+		for i := range recs {
+			if err := each(*recs[i]); err != nil {
+				return err
+			}
+		}
+		sent += len(recs)
+		last = ids[len(ids)-1]
+		if len(recs) < n {
+			return nil
+		}
+	}
+}
+
+func (s *DB) readRuns(ctx context.Context, q Querier, qs string, args []any) ([]*store.RunRecord, []int64, error) {
+	rows, err := q.QueryContext(ctx, qs, args...)
+	if err != nil {
+		return nil, nil, err
+	}
+	defer rows.Close()
+	var recs []*store.RunRecord
+	var ids []int64
+	for rows.Next() {
+		id, r, err := scanRun(rows)
+		if err != nil {
+			return nil, nil, err
+		}
+		recs = append(recs, &store.RunRecord{Run: r, Params: map[string]float64{}})
+		ids = append(ids, id)
+	}
+	return recs, ids, rows.Err()
+}
+
+// readChildren fills params, notes, outcomes, actuals, deviations and
+// attachments of the runs (ids ascending), one query per table over the
+// id range.
+func (s *DB) readChildren(ctx context.Context, q Querier, ids []int64, recs []*store.RunRecord) error {
+	byID := make(map[int64]*store.RunRecord, len(ids))
+	for i, id := range ids {
+		byID[id] = recs[i]
+	}
+	lo, hi := ids[0], ids[len(ids)-1]
+	// read runs one child query; row scans the columns after run_id into
+	// the run's record.
+	read := func(table, cols, order string, row func(rows *sql.Rows) error) error {
+		rows, err := q.QueryContext(ctx, s.d.Rebind("SELECT "+cols+" FROM "+table+" WHERE run_id BETWEEN ? AND ? ORDER BY run_id, "+order), lo, hi)
+		if err != nil {
+			return fmt.Errorf("read %s: %w", table, err)
+		}
+		defer rows.Close()
+		for rows.Next() {
+			if err := row(rows); err != nil {
+				return fmt.Errorf("read %s: %w", table, err)
+			}
+		}
+		return rows.Err()
+	}
+	var id int64
+	pick := func() *store.RunRecord {
+		if r, ok := byID[id]; ok {
+			return r
+		}
+		return &store.RunRecord{Params: map[string]float64{}} // a run the filter left out: discard
+	}
+	err := read("run_params", "run_id, name, value", "name", func(rows *sql.Rows) error {
+		var name string
+		var v float64
+		if err := rows.Scan(&id, &name, &v); err != nil {
+			return err
+		}
+		pick().Params[name] = v
+		return nil
+	})
+	if err != nil {
+		return err
+	}
+	err = read("run_notes", "run_id, at, text", "at, id", func(rows *sql.Rows) error {
+		var at sql.NullString
+		var n store.Note
+		if err := rows.Scan(&id, &at, &n.Text); err != nil {
+			return err
+		}
+		var err error
+		n.At, err = parseTime(at)
+		r := pick()
+		r.Notes = append(r.Notes, n)
+		return err
+	})
+	if err != nil {
+		return err
+	}
+	err = read("outcomes", "run_id, metric, value, unit, entered, method, measured_at", "id", func(rows *sql.Rows) error {
+		var o store.Outcome
+		var at sql.NullString
+		if err := rows.Scan(&id, &o.Metric, &o.Value, &o.Unit, &o.Entered, &o.Method, &at); err != nil {
+			return err
+		}
+		var err error
+		o.Measured, err = parseTime(at)
+		r := pick()
+		r.Outcomes = append(r.Outcomes, o)
+		return err
+	})
+	if err != nil {
+		return err
+	}
+	err = read("run_actuals", "run_id, step, label, quantity, unit, planned, mean, min, max, samples", "step, quantity", func(rows *sql.Rows) error {
+		var a store.Actual
+		var planned, mean, lo, hi sql.NullFloat64
+		if err := rows.Scan(&id, &a.Step, &a.Label, &a.Quantity, &a.Unit, &planned, &mean, &lo, &hi, &a.Samples); err != nil {
+			return err
+		}
+		a.Planned, a.Mean, a.Min, a.Max = store.Optional(floatOr(planned)), floatOr(mean), floatOr(lo), floatOr(hi)
+		r := pick()
+		r.Actuals = append(r.Actuals, a)
+		return nil
+	})
+	if err != nil {
+		return err
+	}
+	err = read("run_deviations", "run_id, step, label, quantity, unit, planned, actual, tolerance, message", "id", func(rows *sql.Rows) error {
+		var d store.Deviation
+		var planned, actual, tol sql.NullFloat64
+		if err := rows.Scan(&id, &d.Step, &d.Label, &d.Quantity, &d.Unit, &planned, &actual, &tol, &d.Message); err != nil {
+			return err
+		}
+		d.Planned, d.Actual, d.Tolerance = floatOr(planned), floatOr(actual), floatOr(tol)
+		r := pick()
+		r.Deviations = append(r.Deviations, d)
+		return nil
+	})
+	if err != nil {
+		return err
+	}
+	return read("attachments", "run_id, path, sha256, kind, added_at", "id", func(rows *sql.Rows) error {
+		var a store.Attachment
+		var at sql.NullString
+		if err := rows.Scan(&id, &a.Path, &a.SHA256, &a.Kind, &at); err != nil {
+			return err
+		}
+		var err error
+		a.Added, err = parseTime(at)
+		r := pick()
+		r.Attachments = append(r.Attachments, a)
+		return err
+	})
+}

@@ -1,0 +1,197 @@
+// Package sqlite is the embedded SQLite back end of the run log: a single
+// file opened through database/sql and github.com/mattn/go-sqlite3 in WAL
+// mode with foreign keys on, a 10 s busy timeout and BEGIN IMMEDIATE
+// transactions (so two processes that log at once wait for each other
+// instead of failing with "database is locked"). The queries are those of
+// store/sqldb; this package supplies the dialect: the migrations in
+// migrations/, VACUUM INTO for backups and PRAGMA integrity_check and
+// foreign_key_check for checks.
+//
+// Entry point: Open.
+package sqlite
+
+import (
+	"context"
+	"database/sql"
+	"embed"
+	"errors"
+	"fmt"
+	"io/fs"
+	"os"
+	"strings"
+
+	_ "github.com/mattn/go-sqlite3" // registers driver "sqlite3"
+
+	"github.com/foilrun/foilrun/store"
+	"github.com/foilrun/foilrun/store/sqldb"
+)
+
+//go:embed migrations/*.sql
+var migrationFiles embed.FS
+
+// BusyTimeoutMS is how long a writer waits for another's transaction.
+const BusyTimeoutMS = 10000
+
+// DB is a run log in a SQLite file.
+type DB struct {
+	*sqldb.DB
+	Path string
+}
+
+var _ store.RunLog = (*DB)(nil)
+
+// dsn returns the data source name with the settings every connection of
+// the pool gets (see LIBRARIES.md: misspelled keys are ignored silently,
+// so Open checks the PRAGMAs afterwards).
+func dsn(path string) string {
+	return fmt.Sprintf("file:%s?_journal_mode=WAL&_busy_timeout=%d&_foreign_keys=on&_txlock=immediate", path, BusyTimeoutMS)
+}
+
+// Open opens (creating if needed) the run log in the SQLite file at path
+// and migrates it to the latest schema.
+func Open(ctx context.Context, path string) (*DB, error) {
+	db, err := open(ctx, path)
+	if err != nil {
+		return nil, err
+	}
+	s, err := sqldb.Open(ctx, db, dialect{})
+	if err != nil {
+		db.Close()
+		return nil, fmt.Errorf("open run log %q: %w", path, err)
+	}
+	return &DB{DB: s, Path: path}, nil
+}
+
+// open opens the file and checks the connection settings took effect.
+func open(ctx context.Context, path string) (*sql.DB, error) {
+	if path == "" {
+		return nil, fmt.Errorf("open run log: empty path")
+	}
+	if strings.ContainsAny(path, "?#") {
+		return nil, fmt.Errorf("open run log %q: the path must not contain ? or #", path)
+	}
+	db, err := sql.Open("sqlite3", dsn(path))
+	if err != nil {
+		return nil, fmt.Errorf("open run log %q: %w", path, err)
+	}
+	if err := checkPragmas(ctx, db); err != nil {
+		db.Close()
+		return nil, fmt.Errorf("open run log %q: %w", path, err)
+	}
+	return db, nil
+}
+
+func checkPragmas(ctx context.Context, db *sql.DB) error {
+	var mode string
+	var fk, busy int
+	if err := db.QueryRowContext(ctx, "PRAGMA journal_mode").Scan(&mode); err != nil {
+		return err
+	}
+	if err := db.QueryRowContext(ctx, "PRAGMA foreign_keys").Scan(&fk); err != nil {
+		return err
+	}
+	if err := db.QueryRowContext(ctx, "PRAGMA busy_timeout").Scan(&busy); err != nil {
+		return err
+	}
+	switch {
+	case !strings.EqualFold(mode, "wal"):
+		return fmt.Errorf("journal_mode is %q, want wal (is the file on a network share?)", mode)
+	case fk != 1:
+		return fmt.Errorf("foreign_keys is %d, want 1", fk)
+	case busy != BusyTimeoutMS:
+		return fmt.Errorf("busy_timeout is %d ms, want %d", busy, BusyTimeoutMS)
+	}
+	return nil
+}
+
+type dialect struct{}
+
+func (dialect) Name() string           { return "sqlite" }
+func (dialect) Migrations() fs.FS      { f, _ := fs.Sub(migrationFiles, "migrations"); return f }
+func (dialect) Rebind(q string) string { return q }
+func (dialect) MaxArgs() int           { return 32766 }
+
+// Read takes a connection of its own and opens a deferred transaction on
+// it: in WAL mode its reads see one snapshot and never block writers.
+// (db.BeginTx would start BEGIN IMMEDIATE, the pool's setting, and hold
+// the write lock.)
+func (dialect) Read(ctx context.Context, db *sql.DB) (sqldb.Querier, func() error, error) {
+	conn, err := db.Conn(ctx)
+	if err != nil {
+		return nil, nil, err
+	}
+	if _, err := conn.ExecContext(ctx, "BEGIN DEFERRED"); err != nil {
+		conn.Close()
+		return nil, nil, err
+	}
+	end := func() error {
+		_, err := conn.ExecContext(context.WithoutCancel(ctx), "ROLLBACK")
+		return errors.Join(err, conn.Close())
+	}
+	return conn, end, nil
+}
+
+// Backup writes the database with VACUUM INTO, which reads one consistent
+// snapshot while others write, then checks the copy.
+func (dialect) Backup(ctx context.Context, db *sql.DB, path string) error {
+	if _, err := os.Stat(path); err == nil {
+		return fmt.Errorf("backup %q: the file exists; give a new file name", path)
+	}
+	if strings.ContainsAny(path, "?#") {
+		return fmt.Errorf("backup %q: the path must not contain ? or #", path)
+	}
+	if _, err := db.ExecContext(ctx, "VACUUM INTO ?", path); err != nil {
+		return fmt.Errorf("backup %q: %w", path, err)
+	}
+	cp, err := sql.Open("sqlite3", "file:"+path+"?mode=ro")
+	if err != nil {
+		return fmt.Errorf("backup %q: check the copy: %w", path, err)
+	}
+	defer cp.Close()
+	probs, err := dialect{}.Check(ctx, cp)
+	if err != nil {
+		return fmt.Errorf("backup %q: check the copy: %w", path, err)
+	}
+	if len(probs) > 0 {
+		return fmt.Errorf("backup %q: the copy fails its check: %s", path, strings.Join(probs, "; "))
+	}
+	return nil
+}
+
+// Check runs PRAGMA integrity_check and PRAGMA foreign_key_check.
+func (dialect) Check(ctx context.Context, db *sql.DB) ([]string, error) {
+	probs := []string{}
+	rows, err := db.QueryContext(ctx, "PRAGMA integrity_check")
+	if err != nil {
+		return nil, err
+	}
+	for rows.Next() {
+		var s string
+		if err := rows.Scan(&s); err != nil {
+			rows.Close()
+			return nil, err
+		}
+		if s != "ok" {
+			probs = append(probs, "integrity: "+s)
+		}
+	}
+	rows.Close()
+	if err := rows.Err(); err != nil {
+		return nil, err
+	}
+	rows, err = db.QueryContext(ctx, "PRAGMA foreign_key_check")
+	if err != nil {
+		return nil, err
+	}
+	defer rows.Close()
+	for rows.Next() {
+		var table, parent string
+		var rowid sql.NullInt64
+		var fkid int
+		if err := rows.Scan(&table, &rowid, &parent, &fkid); err != nil {
+			return nil, err
+		}
+		probs = append(probs, fmt.Sprintf("foreign key: %s row %d refers to a missing %s row", table, rowid.Int64, parent))
+	}
+	return probs, rows.Err()
+}
