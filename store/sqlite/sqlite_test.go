@@ -203,7 +203,7 @@ func TestBadInput(t *testing.T) {
 		{"injection in name position", func() error {
 			_, err := db.Samples(ctx, store.Filter{Where: []string{`status = "done" or 1=1; DROP TABLE runs`}}, "coverage", nil)
 			return err
-		}, store.ErrInvalid, "col 23: unexpected character';'"},
+		}, store.ErrInvalid, "col 23: unexpected character ';'"},
 		{"duplicate code import", func() error {
 			_, err := db.Import(ctx, store.Bundle{Runs: []store.RunRecord{genRecord(2, ""), {Run: store.Run{Code: code, Status: store.Done}}}}, nil)
 			return err
