@@ -1,0 +1,408 @@
+package kinetics
+
+import (
+	"bytes"
+	"fmt"
+	"math"
+	"os"
+	"strconv"
+	"strings"
+
+	"gopkg.in/yaml.v3"
+
+	"github.com/foilrun/foilrun/recipe"
+)
+
+// The parameter file is YAML with one line per parameter; quantities carry
+// units, parsed here into SI:
+//
+//	nucleation_energy: -1.5 eV        # En (eV, meV, kJ/mol)
+//	nucleation_prefactor: 50 /m2/s    # I0 (/m2/s, /cm2/s, /mm2/s, /um2/s)
+//	methane_order: 2.5                # a
+//	hydrogen_order: 2                 # b
+//	growth_energy: 4.5 eV             # Eg
+//	growth_prefactor: 1.1e11 m/s      # G0 (m/s, mm/s, um/s, nm/s, um/min, mm/min)
+//	reference_pressure: 100 Pa        # p0 (any pressure unit of recipe files)
+//	shape: round                      # round or hexagonal (default round)
+//	mode: continuous                  # continuous or site-saturated (default continuous)
+//	site_density: 1e4 /mm2            # N0, required in site-saturated mode (/m2, /cm2, /mm2, /um2)
+//	source: fit of 12 runs            # optional metadata
+//	runs: 12
+//	date: 2026-03-02
+//	covariance:                       # optional, as a fit writes it
+//	  parameters: [nucleation_energy, growth_energy]
+//	  matrix: [[0.01, 0.002], [0.002, 0.02]]
+//
+// The seven model numbers are required; unknown fields are errors.
+
+// paramKind is how one kind of parameter value is written.
+type paramKind struct {
+	name    string             // "an energy"
+	example string             // "1.2 eV"
+	units   map[string]float64 // unit → SI factor
+	list    string             // for messages
+	canon   string             // unit FormatParams writes
+}
+
+// electronvoltPerKJmol converts kJ/mol to eV per particle: 1000/(e·N_A).
+const electronvoltPerKJmol = 1000 / (ElementaryCharge * 6.02214076e23)
+
+var (
+	energyKind = paramKind{"an energy", "1.2 eV", map[string]float64{"eV": 1, "meV": 1e-3, "kJ/mol": electronvoltPerKJmol}, "eV, meV, kJ/mol", "eV"}
+	rateKind   = paramKind{"a nucleation rate", "50 /m2/s", map[string]float64{"/m2/s": 1, "/cm2/s": 1e4, "/mm2/s": 1e6, "/um2/s": 1e12}, "/m2/s, /cm2/s, /mm2/s, /um2/s", "/m2/s"}
+	speedKind  = paramKind{"a speed", "1e11 m/s", map[string]float64{"m/s": 1, "mm/s": 1e-3, "um/s": 1e-6, "µm/s": 1e-6, "nm/s": 1e-9, "um/min": 1e-6 / 60, "µm/min": 1e-6 / 60, "mm/min": 1e-3 / 60}, "m/s, mm/s, um/s, nm/s, um/min, mm/min", "m/s"}
+	areaKind   = paramKind{"a density per area", "1e4 /mm2", map[string]float64{"/m2": 1, "/cm2": 1e4, "/mm2": 1e6, "/um2": 1e12}, "/m2, /cm2, /mm2, /um2", "/m2"}
+)
+
+// parse reads "number unit" (the unit may follow without a space).
+func (k paramKind) parse(text string) (float64, error) {
+	s := strings.TrimSpace(text)
+	num, unit := "", ""
+	for i := len(s); i > 0; i-- {
+		if _, err := strconv.ParseFloat(s[:i], 64); err == nil {
+			num, unit = s[:i], strings.TrimSpace(s[i:])
+			break
+		}
+	}
+	if num == "" {
+		return 0, fmt.Errorf("%q does not start with a number, want %s such as %q", text, k.name, k.example)
+	}
+	v, _ := strconv.ParseFloat(num, 64)
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return 0, fmt.Errorf("%q: %q is not a finite number", text, num)
+	}
+	if unit == "" {
+		return 0, fmt.Errorf("%q has no unit, want %s such as %q (units: %s)", text, k.name, k.example, k.list)
+	}
+	f, ok := k.units[strings.TrimPrefix(strings.ReplaceAll(unit, " ", ""), "1/")]
+	if !ok {
+		f, ok = k.units["/"+strings.TrimPrefix(strings.ReplaceAll(unit, " ", ""), "1/")]
+	}
+	if !ok {
+		return 0, fmt.Errorf("%q has unknown unit %q, want %s such as %q (units: %s)", text, unit, k.name, k.example, k.list)
+	}
+	return v * f, nil
+}
+
+// LoadParams reads and validates a parameter file.
+func LoadParams(path string) (Params, error) {
+	data, err := os.ReadFile(path)
+	if err != nil {
+		return Params{}, fmt.Errorf("load params: %w", err)
+	}
+	return ParseParams(path, data)
+}
+
+// paramFields lists the file's keys in the order FormatParams writes them.
+var paramFields = []string{
+	"nucleation_energy", "nucleation_prefactor", "methane_order", "hydrogen_order",
+	"growth_energy", "growth_prefactor", "reference_pressure", "shape", "mode", "site_density",
+	"source", "runs", "date", "covariance",
+}
+
+// freeParams are the numeric keys a covariance may name.
+var freeParams = paramFields[:7]
+
+// ParseParams decodes a parameter file; name is used in messages. Every
+// problem is reported, each with its line and column, in a
+// *recipe.LoadError (which wraps recipe.ErrInvalid).
+func ParseParams(name string, data []byte) (Params, error) {
+	var ps []recipe.Problem
+	at := func(n *yaml.Node, msg, hint string) {
+		p := recipe.Problem{Msg: msg, Hint: hint}
+		if n != nil {
+			p.Pos = recipe.Pos{Line: n.Line, Col: n.Column}
+		}
+		ps = append(ps, p)
+	}
+	fail := func() (Params, error) {
+		return Params{}, &recipe.LoadError{What: "params", File: name, Problems: ps}
+	}
+	if len(bytes.TrimSpace(data)) == 0 {
+		at(nil, "the file is empty", "list the seven model parameters, one per line, such as \"growth_energy: 4.5 eV\"")
+		return fail()
+	}
+	var doc yaml.Node
+	if err := yaml.Unmarshal(data, &doc); err != nil {
+		at(nil, "not valid YAML: "+strings.TrimPrefix(err.Error(), "yaml: "), "")
+		return fail()
+	}
+	if len(doc.Content) != 1 || doc.Content[0].Kind != yaml.MappingNode {
+		at(&doc, "the params file must be a single mapping of field: value lines", "")
+		return fail()
+	}
+	root := doc.Content[0]
+	var p Params
+	seen := map[string]*yaml.Node{}
+	scalar := func(key string, v *yaml.Node) bool {
+		if v.Kind != yaml.ScalarNode {
+			at(v, key+" must be a single value, not a list or mapping", "")
+			return false
+		}
+		return true
+	}
+	quantity := func(key string, v *yaml.Node, k paramKind, dst *float64) {
+		if !scalar(key, v) {
+			return
+		}
+		x, err := k.parse(v.Value)
+		if err != nil {
+			at(v, key+" "+err.Error(), "")
+			return
+		}
+		*dst = x
+	}
+	number := func(key string, v *yaml.Node, dst *float64) {
+		if !scalar(key, v) {
+			return
+		}
+		x, err := strconv.ParseFloat(strings.TrimSpace(v.Value), 64)
+		if err != nil || math.IsNaN(x) || math.IsInf(x, 0) {
+			at(v, fmt.Sprintf("%s %q is not a finite number", key, v.Value), "write a plain number such as 2")
+			return
+		}
+		*dst = x
+	}
+	for i := 0; i+1 < len(root.Content); i += 2 {
+		k, v := root.Content[i], root.Content[i+1]
+		key := k.Value
+		if seen[key] != nil {
+			at(k, fmt.Sprintf("field %q is given twice", key), "")
+			continue
+		}
+		seen[key] = k
+		switch key {
+		case "nucleation_energy":
+			quantity(key, v, energyKind, &p.En)
+		case "nucleation_prefactor":
+			quantity(key, v, rateKind, &p.I0)
+		case "methane_order":
+			number(key, v, &p.A)
+		case "hydrogen_order":
+			number(key, v, &p.B)
+		case "growth_energy":
+			quantity(key, v, energyKind, &p.Eg)
+		case "growth_prefactor":
+			quantity(key, v, speedKind, &p.G0)
+		case "reference_pressure":
+			if scalar(key, v) {
+				q, err := recipe.Parse(v.Value, recipe.Pressure)
+				if err != nil {
+					at(v, key+" "+err.Error(), "")
+				} else {
+					p.P0 = q.SI
+				}
+			}
+		case "shape":
+			if scalar(key, v) {
+				switch Shape(v.Value) {
+				case Round, Hexagonal:
+					p.Shape = Shape(v.Value)
+				default:
+					at(v, fmt.Sprintf("shape %q is not round or hexagonal", v.Value), "")
+				}
+			}
+		case "mode":
+			if scalar(key, v) {
+				switch Mode(v.Value) {
+				case Continuous, SiteSaturated:
+					p.Mode = Mode(v.Value)
+				default:
+					at(v, fmt.Sprintf("mode %q is not continuous or site-saturated", v.Value), "")
+				}
+			}
+		case "site_density":
+			quantity(key, v, areaKind, &p.SiteDensity)
+		case "source":
+			if scalar(key, v) {
+				p.Source = v.Value
+			}
+		case "date":
+			if scalar(key, v) {
+				p.Date = v.Value
+			}
+		case "runs":
+			if scalar(key, v) {
+				n, err := strconv.Atoi(v.Value)
+				if err != nil || n < 0 {
+					at(v, fmt.Sprintf("runs %q is not a whole number of runs", v.Value), "")
+				} else {
+					p.Runs = n
+				}
+			}
+		case "covariance":
+			c, msgs := parseCovariance(v)
+			for _, m := range msgs {
+				at(m.n, m.msg, "")
+			}
+			p.Covariance = c
+		default:
+			at(k, fmt.Sprintf("unknown field %q in the params file", key), "known fields: "+strings.Join(paramFields, ", "))
+		}
+	}
+	for _, key := range freeParams {
+		if seen[key] == nil {
+			at(root, fmt.Sprintf("missing required field %q in the params file", key), "add a line \""+key+": …\"")
+		}
+	}
+	if p.Mode == SiteSaturated && seen["site_density"] == nil {
+		at(root, "mode site-saturated needs site_density", "add a line such as \"site_density: 1e4 /mm2\"")
+	}
+	if len(ps) == 0 {
+		positive := []struct {
+			key string
+			v   float64
+		}{{"nucleation_prefactor", p.I0}, {"growth_prefactor", p.G0}, {"reference_pressure", p.P0}, {"site_density", p.SiteDensity}}
+		for _, c := range positive {
+			if n := seen[c.key]; n != nil && !(c.v > 0) {
+				at(valueOf(root, n), fmt.Sprintf("%s %q must be greater than zero", c.key, valueOf(root, n).Value), "")
+			}
+		}
+	}
+	if len(ps) > 0 {
+		return fail()
+	}
+	return p, nil
+}
+
+// valueOf returns the value node of a key node in a mapping.
+func valueOf(m, key *yaml.Node) *yaml.Node {
+	for i := 0; i+1 < len(m.Content); i += 2 {
+		if m.Content[i] == key {
+			return m.Content[i+1]
+		}
+	}
+	return key
+}
+
+type nodeMsg struct {
+	n   *yaml.Node
+	msg string
+}
+
+func parseCovariance(v *yaml.Node) (*Covariance, []nodeMsg) {
+	var msgs []nodeMsg
+	bad := func(n *yaml.Node, format string, args ...any) {
+		msgs = append(msgs, nodeMsg{n, fmt.Sprintf(format, args...)})
+	}
+	if v.Kind != yaml.MappingNode {
+		bad(v, "covariance must be a mapping with parameters and matrix")
+		return nil, msgs
+	}
+	c := &Covariance{}
+	var names, matrix *yaml.Node
+	for i := 0; i+1 < len(v.Content); i += 2 {
+		switch k := v.Content[i]; k.Value {
+		case "parameters":
+			names = v.Content[i+1]
+		case "matrix":
+			matrix = v.Content[i+1]
+		default:
+			bad(k, "unknown field %q in covariance, want parameters and matrix", k.Value)
+		}
+	}
+	if names == nil || matrix == nil {
+		bad(v, "covariance needs both parameters and matrix")
+		return nil, msgs
+	}
+	if names.Kind != yaml.SequenceNode {
+		bad(names, "covariance.parameters must be a list of parameter names")
+		return nil, msgs
+	}
+	seen := map[string]bool{}
+	for _, n := range names.Content {
+		known := false
+		for _, f := range freeParams {
+			known = known || f == n.Value
+		}
+		if !known {
+			bad(n, "covariance names unknown parameter %q, want one of %s", n.Value, strings.Join(freeParams, ", "))
+		}
+		if seen[n.Value] {
+			bad(n, "covariance names %q twice", n.Value)
+		}
+		seen[n.Value] = true
+		c.Names = append(c.Names, n.Value)
+	}
+	if matrix.Kind != yaml.SequenceNode || len(matrix.Content) != len(c.Names) {
+		bad(matrix, "covariance.matrix must be a list of %d rows, one per parameter", len(c.Names))
+		return nil, msgs
+	}
+	for i, row := range matrix.Content {
+		if row.Kind != yaml.SequenceNode || len(row.Content) != len(c.Names) {
+			bad(row, "covariance.matrix row %d must hold %d numbers", i+1, len(c.Names))
+			continue
+		}
+		r := make([]float64, len(row.Content))
+		for j, e := range row.Content {
+			x, err := strconv.ParseFloat(e.Value, 64)
+			if err != nil || math.IsNaN(x) || math.IsInf(x, 0) {
+				bad(e, "covariance.matrix %q is not a finite number", e.Value)
+			}
+			r[j] = x
+		}
+		c.Matrix = append(c.Matrix, r)
+	}
+	if len(msgs) > 0 {
+		return nil, msgs
+	}
+	for i := range c.Matrix {
+		if c.Matrix[i][i] < 0 {
+			bad(matrix.Content[i].Content[i], "covariance.matrix variance of %s is negative", c.Names[i])
+		}
+		for j := range i {
+			a, b := c.Matrix[i][j], c.Matrix[j][i]
+			if math.Abs(a-b) > 1e-9*math.Max(math.Abs(a), math.Abs(b)) {
+				bad(matrix.Content[i].Content[j], "covariance.matrix is not symmetric: row %d col %d is %g, row %d col %d is %g", i+1, j+1, a, j+1, i+1, b)
+			}
+		}
+	}
+	if len(msgs) > 0 {
+		return nil, msgs
+	}
+	return c, nil
+}
+
+// FormatParams writes p as a parameter file that ParseParams reads back to
+// the same values (numbers in SI units, shortest exact form).
+func FormatParams(p Params) []byte {
+	var b bytes.Buffer
+	g := func(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
+	b.WriteString("# foilrun kinetics parameters (SI units; see foilrun predict --help)\n")
+	fmt.Fprintf(&b, "nucleation_energy: %s eV\n", g(p.En))
+	fmt.Fprintf(&b, "nucleation_prefactor: %s /m2/s\n", g(p.I0))
+	fmt.Fprintf(&b, "methane_order: %s\n", g(p.A))
+	fmt.Fprintf(&b, "hydrogen_order: %s\n", g(p.B))
+	fmt.Fprintf(&b, "growth_energy: %s eV\n", g(p.Eg))
+	fmt.Fprintf(&b, "growth_prefactor: %s m/s\n", g(p.G0))
+	fmt.Fprintf(&b, "reference_pressure: %s Pa\n", g(p.P0))
+	if p.Shape != "" {
+		fmt.Fprintf(&b, "shape: %s\n", p.Shape)
+	}
+	if p.Mode != "" {
+		fmt.Fprintf(&b, "mode: %s\n", p.Mode)
+	}
+	if p.SiteDensity != 0 {
+		fmt.Fprintf(&b, "site_density: %s /m2\n", g(p.SiteDensity))
+	}
+	if p.Source != "" {
+		fmt.Fprintf(&b, "source: %s\n", strconv.Quote(p.Source))
+	}
+	if p.Runs != 0 {
+		fmt.Fprintf(&b, "runs: %d\n", p.Runs)
+	}
+	if p.Date != "" {
+		fmt.Fprintf(&b, "date: %s\n", strconv.Quote(p.Date))
+	}
+	if c := p.Covariance; c != nil {
+		b.WriteString("covariance:\n  parameters: [" + strings.Join(c.Names, ", ") + "]\n  matrix:\n")
+		for _, row := range c.Matrix {
+			cells := make([]string, len(row))
+			for j, x := range row {
+				cells[j] = g(x)
+			}
+			b.WriteString("    - [" + strings.Join(cells, ", ") + "]\n")
+		}
+	}
+	return b.Bytes()
+}

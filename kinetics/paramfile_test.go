@@ -1,0 +1,194 @@
+package kinetics
+
+import (
+	"errors"
+	"math"
+	"os"
+	"path/filepath"
+	"reflect"
+	"strings"
+	"testing"
+
+	"github.com/foilrun/foilrun/recipe"
+)
+
+// The defaults survive a round trip through their file form, bit for bit.
+func TestParamsRoundTrip(t *testing.T) {
+	p := DefaultParams()
+	p.Covariance = &Covariance{Names: []string{"nucleation_energy", "growth_energy"}, Matrix: [][]float64{{0.01, 0.002}, {0.002, 0.02}}}
+	p.Runs, p.Date = 12, "2026-03-02"
+	got, err := ParseParams("defaults.yaml", FormatParams(p))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !reflect.DeepEqual(got, p) {
+		t.Errorf("round trip:\ngot  %+v\nwant %+v", got, p)
+	}
+}
+
+// Units are converted at the boundary: 1 eV = 96.485332 kJ/mol (e·N_A,
+// exact SI 2019), 1 /mm2 = 1e6 /m2, 1 um/min = 1e-6/60 m/s.
+func TestParamsUnits(t *testing.T) {
+	file := `nucleation_energy: -144.7279983 kJ/mol
+nucleation_prefactor: 5e-5 /mm2/s
+methane_order: 2.5
+hydrogen_order: 2
+growth_energy: 4500 meV
+growth_prefactor: 6.6e18 um/min
+reference_pressure: 0.750061683 Torr
+shape: hexagonal
+mode: site-saturated
+site_density: 1e4 /mm2
+`
+	p, err := ParseParams("units.yaml", []byte(file))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range []struct {
+		name      string
+		got, want float64
+	}{
+		{"En", p.En, -1.5}, {"I0", p.I0, 50}, {"Eg", p.Eg, 4.5}, {"G0", p.G0, 1.1e11},
+		{"p0", p.P0, 100}, {"N0", p.SiteDensity, 1e10},
+	} {
+		if relErr(c.got, c.want) > 1e-6 {
+			t.Errorf("%s: got %.9g, want %.9g", c.name, c.got, c.want)
+		}
+	}
+	if p.Shape != Hexagonal || p.Mode != SiteSaturated {
+		t.Errorf("got shape %q mode %q", p.Shape, p.Mode)
+	}
+}
+
+const goodParams = `nucleation_energy: -1.5 eV
+nucleation_prefactor: 50 /m2/s
+methane_order: 2.5
+hydrogen_order: 2
+growth_energy: 4.5 eV
+growth_prefactor: 1.1e11 m/s
+reference_pressure: 100 Pa
+`
+
+// Bad parameter files: every problem with its line and column, exact text.
+func TestParamsStrict(t *testing.T) {
+	for _, c := range []struct{ name, file, want string }{
+		{"unknown field", goodParams + "growth_energie: 4 eV\n",
+			`load params "p.yaml": line 8 col 1: unknown field "growth_energie" in the params file
+  hint: known fields: nucleation_energy, nucleation_prefactor, methane_order, hydrogen_order, growth_energy, growth_prefactor, reference_pressure, shape, mode, site_density, source, runs, date, covariance`},
+		{"bad unit", strings.Replace(goodParams, "4.5 eV", "4.5 eJ", 1),
+			`load params "p.yaml": line 5 col 16: growth_energy "4.5 eJ" has unknown unit "eJ", want an energy such as "1.2 eV" (units: eV, meV, kJ/mol)`},
+		{"no unit", strings.Replace(goodParams, "1.1e11 m/s", "1.1e11", 1),
+			`load params "p.yaml": line 6 col 19: growth_prefactor "1.1e11" has no unit, want a speed such as "1e11 m/s" (units: m/s, mm/s, um/s, nm/s, um/min, mm/min)`},
+		{"bad number", strings.Replace(goodParams, "2.5", "two", 1),
+			`load params "p.yaml": line 3 col 16: methane_order "two" is not a finite number
+  hint: write a plain number such as 2`},
+		{"negative prefactor", strings.Replace(goodParams, "50 /m2/s", "-50 /m2/s", 1),
+			`load params "p.yaml": line 2 col 23: nucleation_prefactor "-50 /m2/s" must be greater than zero`},
+		{"wrong dimension", strings.Replace(goodParams, "100 Pa", "100 sccm", 1),
+			`load params "p.yaml": line 7 col 21: reference_pressure "100 sccm" is a flow, want a pressure such as "500 mTorr"`},
+		{"missing", strings.Replace(goodParams, "hydrogen_order: 2\n", "", 1),
+			`load params "p.yaml": line 1 col 1: missing required field "hydrogen_order" in the params file
+  hint: add a line "hydrogen_order: …"`},
+		{"bad shape", goodParams + "shape: square\n",
+			`load params "p.yaml": line 8 col 8: shape "square" is not round or hexagonal`},
+		{"site density needed", goodParams + "mode: site-saturated\n",
+			`load params "p.yaml": line 1 col 1: mode site-saturated needs site_density
+  hint: add a line such as "site_density: 1e4 /mm2"`},
+		{"twice", goodParams + "methane_order: 1\n",
+			`load params "p.yaml": line 8 col 1: field "methane_order" is given twice`},
+		{"covariance", goodParams + "covariance:\n  parameters: [growth_energy, shape]\n  matrix: [[1, 0], [0, 1]]\n",
+			`load params "p.yaml": line 9 col 31: covariance names unknown parameter "shape", want one of nucleation_energy, nucleation_prefactor, methane_order, hydrogen_order, growth_energy, growth_prefactor, reference_pressure`},
+		{"asymmetric", goodParams + "covariance:\n  parameters: [growth_energy, nucleation_energy]\n  matrix: [[1, 0.5], [0, 1]]\n",
+			`load params "p.yaml": line 10 col 23: covariance.matrix is not symmetric: row 2 col 1 is 0, row 1 col 2 is 0.5`},
+		{"empty", "  \n", `load params "p.yaml": the file is empty
+  hint: list the seven model parameters, one per line, such as "growth_energy: 4.5 eV"`},
+	} {
+		_, err := ParseParams("p.yaml", []byte(c.file))
+		if err == nil || err.Error() != c.want {
+			t.Errorf("%s:\ngot  %v\nwant %s", c.name, err, c.want)
+			continue
+		}
+		if !errors.Is(err, recipe.ErrInvalid) {
+			t.Errorf("%s: error does not wrap recipe.ErrInvalid", c.name)
+		}
+	}
+}
+
+func TestLoadParams(t *testing.T) {
+	path := filepath.Join(t.TempDir(), "params.yaml")
+	if err := os.WriteFile(path, FormatParams(DefaultParams()), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	p, err := LoadParams(path)
+	if err != nil || !reflect.DeepEqual(p, DefaultParams()) {
+		t.Errorf("got %+v, %v; want the defaults", p, err)
+	}
+	if _, err := LoadParams(filepath.Join(t.TempDir(), "none.yaml")); err == nil || !strings.HasPrefix(err.Error(), "load params: open ") {
+		t.Errorf("missing file: got %v", err)
+	}
+}
+
+func TestValidate(t *testing.T) {
+	for _, c := range []struct {
+		name string
+		mod  func(*Params)
+		want string
+	}{
+		{"zero G0", func(p *Params) { p.G0 = 0 }, "kinetics parameters: growth_prefactor 0 must be greater than zero"},
+		{"NaN En", func(p *Params) { p.En = math.NaN() }, "kinetics parameters: nucleation_energy NaN is not a finite number"},
+		{"shape", func(p *Params) { p.Shape = "oval" }, `kinetics parameters: unknown shape "oval", want round or hexagonal`},
+		{"site density", func(p *Params) { p.Mode, p.SiteDensity = SiteSaturated, 0 }, "kinetics parameters: site_density 0 must be greater than zero"},
+	} {
+		p := DefaultParams()
+		c.mod(&p)
+		if err := p.Validate(); err == nil || err.Error() != c.want {
+			t.Errorf("%s: got %v, want %s", c.name, err, c.want)
+		}
+		if _, err := PredictProfile(isothermal(1273, 50, 30, 60), p, Options{}); err == nil {
+			t.Errorf("%s: Predict accepted invalid parameters", c.name)
+		}
+	}
+	if err := DefaultParams().Validate(); err != nil {
+		t.Errorf("defaults: %v", err)
+	}
+}
+
+// Fuzz: ParseParams never panics, and what it accepts survives a round trip
+// through FormatParams.
+func FuzzParseParams(f *testing.F) {
+	f.Add([]byte(goodParams))
+	f.Add(FormatParams(DefaultParams()))
+	f.Add([]byte(goodParams + "covariance:\n  parameters: [growth_energy]\n  matrix: [[1]]\nsource: \"x\\ty\"\n"))
+	f.Add([]byte("nucleation_energy: 4eV\n"))
+	f.Fuzz(func(t *testing.T, data []byte) {
+		p, err := ParseParams("fuzz.yaml", data)
+		if err != nil {
+			return
+		}
+		q, err := ParseParams("again.yaml", FormatParams(p))
+		if err != nil {
+			t.Fatalf("formatted params do not parse: %v\n%s", err, FormatParams(p))
+		}
+		if !reflect.DeepEqual(p, q) {
+			t.Fatalf("round trip:\ngot  %+v\nwant %+v", q, p)
+		}
+	})
+}
+
+// Fuzz: ParseAxis never panics, and an accepted axis has Steps values from
+// From to To.
+func FuzzParseAxis(f *testing.F) {
+	for _, s := range []string{"temperature=950C:1050C:11", "CH4=1sccm:40sccm:10", "duration=1min:30min:12", "pressure=100mTorr:2Torr:8", "x=::"} {
+		f.Add(s)
+	}
+	f.Fuzz(func(t *testing.T, spec string) {
+		a, err := ParseAxis(spec)
+		if err != nil {
+			return
+		}
+		v := a.Values()
+		if len(v) != a.Steps || v[0] != a.From || math.Abs(v[len(v)-1]-a.To) > 1e-9*math.Abs(a.To) {
+			t.Fatalf("%q: values %v for %g..%g ×%d", spec, v, a.From, a.To, a.Steps)
+		}
+	})
+}

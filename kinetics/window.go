@@ -1,0 +1,346 @@
+package kinetics
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"runtime"
+	"strconv"
+	"strings"
+	"sync"
+
+	"github.com/foilrun/foilrun/recipe"
+	"github.com/foilrun/foilrun/recipe/gas"
+)
+
+// The grow-step parameters a window can vary besides gas flows.
+const (
+	ParamTemperature = "temperature"
+	ParamPressure    = "pressure"
+	ParamDuration    = "duration"
+)
+
+// ErrAxis is wrapped by every error about a window axis (its text, or its
+// range against the furnace), so callers can report it as bad input.
+var ErrAxis = errors.New("bad window axis")
+
+// axisError is an error about a window axis; it wraps ErrAxis without
+// adding to the message.
+type axisError struct{ msg string }
+
+func (e *axisError) Error() string { return e.msg }
+func (e *axisError) Unwrap() error { return ErrAxis }
+
+func axisErr(format string, args ...any) error { return &axisError{fmt.Sprintf(format, args...)} }
+
+// Axis is one grow-step parameter varied over a linear range.
+type Axis struct {
+	Param    string           // ParamTemperature, ParamPressure, ParamDuration or a gas symbol such as "CH4"
+	Dim      recipe.Dimension // recipe.Temperature, Pressure, Duration or Flow
+	From, To float64          // SI: K, Pa, s or mol/s
+	Steps    int              // number of values, ≥ 2
+	Text     string           // as written, e.g. "temperature=950C:1050C:11"
+}
+
+// Values returns the Steps values from From to To, evenly spaced.
+func (a Axis) Values() []float64 {
+	v := make([]float64, a.Steps)
+	for i := range v {
+		v[i] = a.From + (a.To-a.From)*float64(i)/float64(a.Steps-1)
+	}
+	return v
+}
+
+// Unit is the display unit of the axis: "C", "Pa", "min" or "sccm".
+func (a Axis) Unit() string {
+	switch a.Dim {
+	case recipe.Temperature:
+		return "C"
+	case recipe.Pressure:
+		return "Pa"
+	case recipe.Duration:
+		return "min"
+	}
+	return "sccm"
+}
+
+// Display converts an SI value of the axis into its display unit.
+func (a Axis) Display(si float64) float64 {
+	v, _ := recipe.ConvertTo(si, a.Unit())
+	return v
+}
+
+// Label is "temperature (C)", "CH4 flow (sccm)", and so on.
+func (a Axis) Label() string {
+	if a.Dim == recipe.Flow {
+		return a.Param + " flow (sccm)"
+	}
+	return a.Param + " (" + a.Unit() + ")"
+}
+
+// ParseAxis reads PARAM=FROM:TO:STEPS, e.g. "temperature=950C:1050C:11",
+// "CH4=1sccm:40sccm:10", "duration=1min:30min:12" or
+// "pressure=100mTorr:2Torr:8". PARAM is temperature, pressure, duration or a
+// gas name (its flow in the grow step). FROM and TO carry units; STEPS ≥ 2.
+// Errors wrap ErrAxis.
+func ParseAxis(spec string) (Axis, error) {
+	a := Axis{Text: spec}
+	name, rng, ok := strings.Cut(spec, "=")
+	parts := strings.Split(rng, ":")
+	if !ok || len(parts) != 3 {
+		return a, axisErr("window axis %q: want PARAM=FROM:TO:STEPS, e.g. \"temperature=950C:1050C:11\"", spec)
+	}
+	name = strings.TrimSpace(name)
+	switch strings.ToLower(name) {
+	case ParamTemperature:
+		a.Param, a.Dim = ParamTemperature, recipe.Temperature
+	case ParamPressure:
+		a.Param, a.Dim = ParamPressure, recipe.Pressure
+	case ParamDuration:
+		a.Param, a.Dim = ParamDuration, recipe.Duration
+	default:
+		g, err := gas.Lookup(name)
+		if err != nil {
+			return a, axisErr("window axis %q: unknown parameter %q, want temperature, pressure, duration or a gas such as CH4", spec, name)
+		}
+		a.Param, a.Dim = g.Symbol, recipe.Flow
+	}
+	from, err := recipe.Parse(parts[0], a.Dim)
+	if err != nil {
+		return a, axisErr("window axis %q: from %v", spec, err)
+	}
+	to, err := recipe.Parse(parts[1], a.Dim)
+	if err != nil {
+		return a, axisErr("window axis %q: to %v", spec, err)
+	}
+	n, err := strconv.Atoi(strings.TrimSpace(parts[2]))
+	if err != nil {
+		return a, axisErr("window axis %q: steps %q is not a whole number", spec, parts[2])
+	}
+	if n < 2 {
+		return a, axisErr("window axis %q: want at least 2 steps, got %d", spec, n)
+	}
+	if from.SI == to.SI {
+		return a, axisErr("window axis %q: the range is empty (from equals to)", spec)
+	}
+	a.From, a.To, a.Steps = from.SI, to.SI, n
+	return a, nil
+}
+
+// checkLimits reports a range that leaves what the furnace can do: a
+// temperature above the heater's maximum or the tube's service limit, a
+// flow above the line's full scale (or a gas without a line), a pressure
+// below the base pressure or above one atmosphere, or a duration that is not
+// positive.
+func (a Axis) checkLimits(f *recipe.Furnace) error {
+	lo, hi := math.Min(a.From, a.To), math.Max(a.From, a.To)
+	c := func(k float64) string { return fmt.Sprintf("%.4g C", k-273.15) }
+	switch a.Dim {
+	case recipe.Temperature:
+		if lo <= 0 {
+			return axisErr("window axis %q: %s is at or below absolute zero", a.Text, c(lo))
+		}
+		if hi > f.Heater.MaxTemperature.SI {
+			return axisErr("window axis %q: %s is above the heater's maximum %s on furnace %q", a.Text, c(hi), c(f.Heater.MaxTemperature.SI), f.Name)
+		}
+		if hi > f.Tube.ServiceLimit.SI {
+			return axisErr("window axis %q: %s is above the tube's service limit %s on furnace %q", a.Text, c(hi), c(f.Tube.ServiceLimit.SI), f.Name)
+		}
+	case recipe.Pressure:
+		if lo < f.Vacuum.BasePressure.SI {
+			return axisErr("window axis %q: %.4g Pa is below the base pressure %.4g Pa on furnace %q", a.Text, lo, f.Vacuum.BasePressure.SI, f.Name)
+		}
+		if hi > gas.StandardAtmosphere {
+			return axisErr("window axis %q: %.6g Pa is above one atmosphere (101325 Pa)", a.Text, hi)
+		}
+	case recipe.Duration:
+		if !(lo > 0) {
+			return axisErr("window axis %q: durations must be greater than zero", a.Text)
+		}
+	case recipe.Flow:
+		if lo < 0 {
+			return axisErr("window axis %q: flows must not be negative", a.Text)
+		}
+		line := f.LineFor(a.Param)
+		if line == nil {
+			return axisErr("window axis %q: furnace %q has no gas line for %s", a.Text, f.Name, a.Param)
+		}
+		if fs := line.FullScaleOfGas(); hi > fs*(1+1e-9) {
+			return axisErr("window axis %q: %.4g sccm is above the %s line's full scale %.4g sccm on furnace %q",
+				a.Text, hi/gas.MolPerSCCMPerSecond, a.Param, fs/gas.MolPerSCCMPerSecond, f.Name)
+		}
+	}
+	return nil
+}
+
+// WindowSpec says what to map.
+type WindowSpec struct {
+	X, Y    Axis    // the two grow-step parameters, different from each other
+	Params  Params  // model parameters
+	Options Options // numerics of each prediction
+	// Workers is the number of goroutines; 0 means runtime.NumCPU().
+	Workers int
+	// Progress, when not nil, is called after each point with the number
+	// done so far and the total. Calls are serialised and done increases.
+	Progress func(done, total int)
+}
+
+// Point is one grid point of a window.
+type Point struct {
+	X, Y float64 // SI values of the two axes
+	// Feasible is false when recipe.Check found an error for the changed
+	// recipe; Rule and Message are then the first error's.
+	Feasible bool
+	Rule     string
+	Message  string
+
+	Coverage      float64 // final θ
+	NucleiDensity float64 // final N, 1/m²
+	DomainSize    float64 // final domain size, m
+	T99           float64 // s from the first carbon to 99 % coverage; NaN if not reached
+	Etching       bool    // the grow step etches
+}
+
+// Map is a window: predictions over a grid of two grow-step parameters.
+type Map struct {
+	Recipe string
+	Step   string // label of the grow step varied
+	X, Y   Axis
+	Xs, Ys []float64 // SI values along each axis
+	Points [][]Point // Points[iy][ix]
+}
+
+// Window maps predictions over two grow-step parameters of the plan's
+// recipe. For every grid point it copies the recipe with the first grow
+// step changed, lays it out again with recipe.Derive, checks it with
+// recipe.Check (an error finding makes the point infeasible; it is still
+// predicted) and predicts it. It returns an error (wrapping ErrAxis) for two
+// axes on the same parameter or a range outside the furnace's limits, and
+// an error when the recipe has no grow step or the parameters are invalid.
+// It panics if plan, plan.Recipe or plan.Furnace is nil.
+func Window(plan *recipe.Plan, spec WindowSpec) (*Map, error) {
+	r, f := plan.Recipe, plan.Furnace
+	if err := spec.Params.Validate(); err != nil {
+		return nil, err
+	}
+	if spec.X.Param == spec.Y.Param {
+		return nil, axisErr("window axes %q and %q vary the same parameter %s", spec.X.Text, spec.Y.Text, spec.X.Param)
+	}
+	for _, a := range []Axis{spec.X, spec.Y} {
+		if a.Steps < 2 {
+			return nil, axisErr("window axis %q: want at least 2 steps, got %d", a.Text, a.Steps)
+		}
+		if err := a.checkLimits(f); err != nil {
+			return nil, err
+		}
+	}
+	grow := -1
+	for i, s := range r.Steps {
+		if s.Kind == recipe.KindGrow {
+			grow = i
+			break
+		}
+	}
+	if grow < 0 {
+		return nil, fmt.Errorf("window: recipe %q has no grow step to vary", r.Name)
+	}
+	m := &Map{Recipe: r.Name, Step: r.Steps[grow].Label(grow), X: spec.X, Y: spec.Y, Xs: spec.X.Values(), Ys: spec.Y.Values()}
+	m.Points = make([][]Point, len(m.Ys))
+	for iy := range m.Points {
+		m.Points[iy] = make([]Point, len(m.Xs))
+	}
+	total := len(m.Xs) * len(m.Ys)
+	workers := spec.Workers
+	if workers <= 0 {
+		workers = runtime.NumCPU()
+	}
+	workers = min(workers, total)
+	var (
+		mu       sync.Mutex
+		done     int
+		firstErr error
+		wg       sync.WaitGroup
+	)
+	jobs := make(chan int)
+	for range workers {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for k := range jobs {
+				iy, ix := k/len(m.Xs), k%len(m.Xs)
+				pt, err := windowPoint(r, f, grow, spec, m.Xs[ix], m.Ys[iy])
+				m.Points[iy][ix] = pt
+				mu.Lock()
+				if err != nil && firstErr == nil {
+					firstErr = err
+				}
+				done++
+				if spec.Progress != nil {
+					spec.Progress(done, total)
+				}
+				mu.Unlock()
+			}
+		}()
+	}
+	for k := range total {
+		jobs <- k
+	}
+	close(jobs)
+	wg.Wait()
+	if firstErr != nil {
+		return nil, firstErr
+	}
+	return m, nil
+}
+
+// windowPoint predicts one grid point on a copy of the recipe.
+func windowPoint(base *recipe.Recipe, f *recipe.Furnace, grow int, spec WindowSpec, x, y float64) (Point, error) {
+	r := *base
+	r.Steps = append([]recipe.Step(nil), base.Steps...)
+	s := &r.Steps[grow]
+	setParam(s, spec.X, x)
+	setParam(s, spec.Y, y)
+	plan := recipe.Derive(&r, f)
+	pt := Point{X: x, Y: y, Feasible: true}
+	for _, fd := range recipe.Check(plan) {
+		if fd.Severity == recipe.Error {
+			pt.Feasible, pt.Rule, pt.Message = false, fd.Rule, fd.Message
+			break
+		}
+	}
+	res, err := Predict(plan, spec.Params, spec.Options)
+	if err != nil {
+		return pt, err
+	}
+	pt.Coverage, pt.NucleiDensity, pt.DomainSize, pt.T99 = res.Coverage, res.NucleiDensity, res.DomainSize, res.T99
+	pt.Etching = res.Steps[grow].Etching
+	return pt, nil
+}
+
+// setParam sets one axis value on the (copied) grow step; a gas flow gets a
+// fresh Flows slice so the base recipe is never written.
+func setParam(s *recipe.Step, a Axis, v float64) {
+	text := strconv.FormatFloat(a.Display(v), 'g', 6, 64) + " " + a.Unit()
+	q := recipe.Quantity{SI: v, Dim: a.Dim, Text: text}
+	switch a.Param {
+	case ParamTemperature:
+		s.Temperature = q
+	case ParamPressure:
+		s.Pressure = recipe.PressureSetting{Setpoint: q}
+	case ParamDuration:
+		s.Duration = q
+	default:
+		flows := make(recipe.Flows, 0, len(s.Flows)+1)
+		found := false
+		for _, fl := range s.Flows {
+			if fl.Gas == a.Param {
+				fl.Flow, found = q, true
+			}
+			flows = append(flows, fl)
+		}
+		if !found {
+			flows = append(flows, recipe.GasFlow{Gas: a.Param, Flow: q})
+		}
+		s.Flows = flows
+	}
+}

@@ -1,0 +1,127 @@
+package kinetics
+
+import (
+	"errors"
+	"math"
+	"testing"
+)
+
+func TestParseAxis(t *testing.T) {
+	for _, c := range []struct {
+		spec     string
+		param    string
+		from, to float64 // SI
+		steps    int
+	}{
+		{"temperature=950C:1050C:11", "temperature", 1223.15, 1323.15, 11},
+		{"CH4=1sccm:40sccm:10", "CH4", 1 * 7.435839e-7, 40 * 7.435839e-7, 10}, // 1 sccm = 7.435839e-7 mol/s (SEMI, recipe/gas)
+		{"methane=1sccm:40sccm:10", "CH4", 1 * 7.435839e-7, 40 * 7.435839e-7, 10},
+		{"duration=1min:30min:12", "duration", 60, 1800, 12},
+		{"pressure=100mTorr:2Torr:8", "pressure", 101325.0 / 7600, 2 * 101325.0 / 760, 8}, // 1 Torr = 101325/760 Pa (definition)
+	} {
+		a, err := ParseAxis(c.spec)
+		if err != nil {
+			t.Errorf("%s: %v", c.spec, err)
+			continue
+		}
+		if a.Param != c.param || relErr(a.From, c.from) > 1e-6 || relErr(a.To, c.to) > 1e-6 || a.Steps != c.steps {
+			t.Errorf("%s: got %s %g..%g ×%d, want %s %g..%g ×%d", c.spec, a.Param, a.From, a.To, a.Steps, c.param, c.from, c.to, c.steps)
+		}
+	}
+}
+
+// Bad axes get exact messages, and every one wraps ErrAxis.
+func TestBadAxis(t *testing.T) {
+	for _, c := range []struct{ spec, want string }{
+		{"tempreature=950C:1050C:11", `window axis "tempreature=950C:1050C:11": unknown parameter "tempreature", want temperature, pressure, duration or a gas such as CH4`},
+		{"temperature=950C:1050C:0", `window axis "temperature=950C:1050C:0": want at least 2 steps, got 0`},
+		{"temperature=1000C:1000C:5", `window axis "temperature=1000C:1000C:5": the range is empty (from equals to)`},
+		{"temperature=950C:1050C", `window axis "temperature=950C:1050C": want PARAM=FROM:TO:STEPS, e.g. "temperature=950C:1050C:11"`},
+		{"temperature=950:1050C:3", `window axis "temperature=950:1050C:3": from "950" has no unit, want a temperature such as "1000 C" (units: C, K)`},
+		{"CH4=1sccm:5Torr:3", `window axis "CH4=1sccm:5Torr:3": to "5Torr" is a pressure, want a flow such as "20 sccm"`},
+		{"duration=1min:3min:x", `window axis "duration=1min:3min:x": steps "x" is not a whole number`},
+	} {
+		_, err := ParseAxis(c.spec)
+		if err == nil || err.Error() != c.want || !errors.Is(err, ErrAxis) {
+			t.Errorf("%s:\ngot  %v\nwant %s", c.spec, err, c.want)
+		}
+	}
+}
+
+func mustAxis(t testing.TB, spec string) Axis {
+	t.Helper()
+	a, err := ParseAxis(spec)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return a
+}
+
+// Ranges outside the template furnace's limits (templates/furnace.yaml:
+// tube service limit 1100 C, CH4 line 50 sccm full scale calibrated for N2,
+// base pressure 5 mTorr) are errors before anything is computed.
+func TestWindowLimits(t *testing.T) {
+	plan := loadTemplate(t, "lowpressure")
+	dur := mustAxis(t, "duration=5min:15min:3")
+	for _, c := range []struct{ spec, want string }{
+		{"temperature=950C:1150C:5", `window axis "temperature=950C:1150C:5": 1150 C is above the tube's service limit 1100 C on furnace "tube-1"`},
+		{"CH4=1sccm:80sccm:5", `window axis "CH4=1sccm:80sccm:5": 80 sccm is above the CH4 line's full scale 36 sccm on furnace "tube-1"`},
+		{"C2H2=1sccm:5sccm:3", `window axis "C2H2=1sccm:5sccm:3": furnace "tube-1" has no gas line for C2H2`},
+		{"pressure=1mTorr:1Torr:3", `window axis "pressure=1mTorr:1Torr:3": 0.1333 Pa is below the base pressure 0.6666 Pa on furnace "tube-1"`},
+		{"pressure=1Torr:2atm:3", `window axis "pressure=1Torr:2atm:3": 202650 Pa is above one atmosphere (101325 Pa)`},
+	} {
+		_, err := Window(plan, WindowSpec{X: mustAxis(t, c.spec), Y: dur, Params: DefaultParams()})
+		if err == nil || err.Error() != c.want || !errors.Is(err, ErrAxis) {
+			t.Errorf("%s:\ngot  %v\nwant %s", c.spec, err, c.want)
+		}
+	}
+	_, err := Window(plan, WindowSpec{X: dur, Y: mustAxis(t, "duration=1min:2min:2"), Params: DefaultParams()})
+	if want := `window axes "duration=5min:15min:3" and "duration=1min:2min:2" vary the same parameter duration`; err == nil || err.Error() != want {
+		t.Errorf("same parameter twice:\ngot  %v\nwant %s", err, want)
+	}
+}
+
+// Points the recipe checks reject are marked with the first error's rule:
+// 1080 C plus the furnace's 10 K thermocouple margin reaches copper's
+// melting point, 1084.62 C (ITS-90), an error in recipe.Check. The map's
+// middle point equals a direct prediction of the changed recipe.
+func TestWindowFeasibility(t *testing.T) {
+	plan := loadTemplate(t, "lowpressure")
+	var calls, last int
+	m, err := Window(plan, WindowSpec{
+		X: mustAxis(t, "temperature=960C:1080C:3"), Y: mustAxis(t, "CH4=5sccm:35sccm:3"),
+		Params: DefaultParams(), Workers: 2,
+		Progress: func(done, total int) {
+			calls++
+			if done != last+1 || total != 9 {
+				t.Errorf("progress %d/%d after %d", done, total, last)
+			}
+			last = done
+		},
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if calls != 9 {
+		t.Errorf("got %d progress calls, want 9", calls)
+	}
+	for iy := range m.Ys {
+		if !m.Points[iy][0].Feasible || !m.Points[iy][1].Feasible {
+			t.Errorf("row %d: got 960/1020 C infeasible (%s), want feasible", iy, m.Points[iy][0].Rule)
+		}
+		if p := m.Points[iy][2]; p.Feasible || p.Rule != "temperature.copper-melting" {
+			t.Errorf("row %d: got 1080 C feasible=%v rule %q, want infeasible by temperature.copper-melting", iy, p.Feasible, p.Rule)
+		}
+	}
+	// More methane, more nuclei (methane order a > 0).
+	if !(m.Points[2][1].NucleiDensity > m.Points[0][1].NucleiDensity) {
+		t.Errorf("N at 35 sccm %g not above N at 5 sccm %g", m.Points[2][1].NucleiDensity, m.Points[0][1].NucleiDensity)
+	}
+	// The template's own grow step is 1000 C, 35 sccm: the window at
+	// 1020 C must differ from it and the base recipe must be untouched.
+	base, _ := Predict(loadTemplate(t, "lowpressure"), DefaultParams(), Options{})
+	again, _ := Predict(plan, DefaultParams(), Options{})
+	if base.NucleiDensity != again.NucleiDensity || math.Abs(m.Points[2][1].NucleiDensity-base.NucleiDensity) == 0 {
+		t.Errorf("base recipe changed by the window: N %g vs %g", again.NucleiDensity, base.NucleiDensity)
+	}
+}
