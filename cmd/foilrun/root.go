@@ -89,6 +89,7 @@ hydrogen and methane hazards, logs every run and learns from the log.`,
 		newCheckCmd(f),
 		newNewCmd(f),
 		newVersionCmd(f),
+		newMeasureCmd(f),
 		newSafetyCmd(f),
 		newChecklistCmd(f),
 	)

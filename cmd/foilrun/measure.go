@@ -1,0 +1,351 @@
+package main
+
+import (
+	"crypto/sha256"
+	"encoding/hex"
+	"errors"
+	"fmt"
+	"image"
+	"io"
+	"os"
+	"strconv"
+	"strings"
+
+	"github.com/spf13/cobra"
+
+	"github.com/foilrun/foilrun/kinetics/film"
+	"github.com/foilrun/foilrun/kinetics/micrograph"
+	"github.com/foilrun/foilrun/recipe"
+)
+
+// measurement is one measured outcome, ready to print or to store.
+type measurement struct {
+	Metric string  `json:"metric"`
+	Value  float64 `json:"value"`
+	Unit   string  `json:"unit"`
+	Method string  `json:"method"`
+	Text   string  `json:"text"` // as shown to people
+}
+
+// measureFlags are the measurement inputs shared by `measure` and
+// `outcome measure`.
+type measureFlags struct {
+	image         string
+	pixel         string
+	polarity      string
+	bareGray      float64
+	bareGraySet   bool
+	bareRegion    string
+	minArea       int
+	overlay       string
+	transmittance string
+	substrate     string
+	raman         string
+}
+
+func (mf *measureFlags) registerImage(cmd *cobra.Command) {
+	cmd.Flags().StringVar(&mf.pixel, "pixel", "", "pixel size on the sample, e.g. 0.25um (required with an image)")
+	cmd.Flags().StringVar(&mf.polarity, "polarity", "auto", "domains are darker, brighter, or auto (chosen and reported)")
+	cmd.Flags().Float64Var(&mf.bareGray, "bare-gray", 0, "gray level of bare copper in the image's own units (resolves one-peaked images)")
+	cmd.Flags().StringVar(&mf.bareRegion, "bare-region", "", "rectangle x0,y0,x1,y1 (pixels) known to be bare copper")
+	cmd.Flags().IntVar(&mf.minArea, "min-area", 0, "drop specks smaller than this many pixels (default 16)")
+	cmd.Flags().StringVar(&mf.overlay, "overlay", "", "write the image with detected domains outlined to this PNG")
+}
+
+func (mf *measureFlags) registerFilm(cmd *cobra.Command) {
+	cmd.Flags().StringVar(&mf.transmittance, "transmittance", "", "transmittance at 550 nm, e.g. 97.6%")
+	cmd.Flags().StringVar(&mf.substrate, "substrate", "", "bare-substrate transmittance reference, e.g. 91.8%")
+	cmd.Flags().StringVar(&mf.raman, "raman", "", "Raman ratios, e.g. 2d/g=2.3,d/g=0.05[,fwhm=30]")
+}
+
+// imageResult is the JSON form of an image measurement.
+type imageResult struct {
+	File      string   `json:"file"`
+	SHA256    string   `json:"sha256"`
+	Format    string   `json:"format"`
+	Width     int      `json:"width"`
+	Height    int      `json:"height"`
+	Coverage  float64  `json:"coverage"`
+	Domains   int      `json:"domains"`
+	Interior  int      `json:"interior"`
+	Edge      int      `json:"edge_touching"`
+	Specks    int      `json:"specks_removed"`
+	PerMM2    float64  `json:"density_per_mm2"`
+	MeanUm    float64  `json:"mean_diameter_um"`
+	MedianUm  float64  `json:"median_diameter_um"`
+	P10Um     float64  `json:"p10_diameter_um"`
+	P90Um     float64  `json:"p90_diameter_um"`
+	Threshold float64  `json:"threshold"`
+	Polarity  string   `json:"polarity"`
+	Reason    string   `json:"polarity_reason"`
+	Overlay   string   `json:"overlay,omitempty"`
+	Notes     []string `json:"notes,omitempty"`
+}
+
+// measureImage analyses the micrograph and returns the printed result and
+// the outcomes it yields.
+func (mf *measureFlags) measureImage(errw io.Writer) (*imageResult, []measurement, error) {
+	if mf.pixel == "" {
+		return nil, nil, usagef("--pixel is required with an image, e.g. --pixel 0.25um")
+	}
+	px, err := recipe.Parse(mf.pixel, recipe.Length)
+	if err != nil {
+		return nil, nil, usagef("--pixel: %v", err)
+	}
+	if !(px.SI > 0) {
+		return nil, nil, usagef("--pixel %q must be greater than zero", mf.pixel)
+	}
+	pol, err := micrograph.ParsePolarity(mf.polarity)
+	if err != nil {
+		return nil, nil, usagef("--polarity: %v", err)
+	}
+	set := micrograph.Settings{PixelSize: px.SI, Polarity: pol, MinAreaPixels: mf.minArea}
+	if mf.bareGraySet {
+		g := mf.bareGray
+		set.BareGray = &g
+	}
+	if mf.bareRegion != "" {
+		r, err := parseRect(mf.bareRegion)
+		if err != nil {
+			return nil, nil, usagef("--bare-region: %v", err)
+		}
+		set.BareRegion = r
+	}
+	data, err := os.ReadFile(mf.image)
+	if err != nil {
+		return nil, nil, err
+	}
+	sum := sha256.Sum256(data)
+	img, info, err := micrograph.Decode(strings.NewReader(string(data)), micrograph.Limits{})
+	if err != nil {
+		return nil, nil, inputError(fmt.Errorf("image %q: %w", mf.image, err))
+	}
+	res, err := micrograph.Analyze(img, set)
+	if err != nil {
+		var op *micrograph.OnePeakError
+		if errors.As(err, &op) {
+			return nil, nil, withHint(inputError(fmt.Errorf("image %q: %w", mf.image, err)), "give --bare-gray LEVEL or --bare-region x0,y0,x1,y1 of a known bare area")
+		}
+		return nil, nil, inputError(fmt.Errorf("image %q: %w", mf.image, err))
+	}
+	out := &imageResult{
+		File: mf.image, SHA256: hex.EncodeToString(sum[:]), Format: info.Format, Width: info.Width, Height: info.Height,
+		Coverage: res.Coverage, Domains: res.Count, Interior: res.Interior, Edge: res.Edge, Specks: res.Specks,
+		PerMM2: res.DensityPerMM2(), MeanUm: res.Sizes.Mean * 1e6, MedianUm: res.Sizes.Median * 1e6,
+		P10Um: res.Sizes.P10 * 1e6, P90Um: res.Sizes.P90 * 1e6, Threshold: res.Threshold,
+		Polarity: res.Polarity.String(), Reason: res.PolarityReason, Notes: res.Notes,
+	}
+	if mf.overlay != "" {
+		fh, err := os.Create(mf.overlay)
+		if err != nil {
+			return nil, nil, err
+		}
+		if err := res.WriteOverlay(fh, img); err != nil {
+			fh.Close()
+			return nil, nil, err
+		}
+		if err := fh.Close(); err != nil {
+			return nil, nil, err
+		}
+		out.Overlay = mf.overlay
+		fmt.Fprintf(errw, "wrote overlay %s\n", mf.overlay)
+	}
+	const method = "micrograph: otsu threshold after polynomial flattening"
+	ms := []measurement{{Metric: "coverage", Value: res.Coverage, Unit: "1", Method: method, Text: fixed(res.Coverage*100, 1) + " %"}}
+	if res.Phase == "" || res.Count > 0 {
+		ms = append(ms, measurement{Metric: "nuclei_density", Value: res.DensityPerMM2(), Unit: "1/mm2", Method: method, Text: num(res.DensityPerMM2(), 4) + " /mm²"})
+	}
+	if res.Sizes.N > 0 {
+		ms = append(ms, measurement{Metric: "domain_size", Value: res.Sizes.Mean * 1e6, Unit: "um", Method: method + " (mean area-equivalent diameter, interior domains)", Text: num(res.Sizes.Mean*1e6, 4) + " um"})
+	}
+	return out, ms, nil
+}
+
+// measureFilm turns --transmittance and --raman into outcomes.
+func (mf *measureFlags) measureFilm() ([]measurement, []string, error) {
+	var ms []measurement
+	var lines []string
+	if mf.transmittance != "" {
+		t, err := film.ParseTransmittance(mf.transmittance)
+		if err != nil {
+			return nil, nil, usagef("--transmittance: %v", err)
+		}
+		sub := 0.0
+		if mf.substrate != "" {
+			if sub, err = film.ParseTransmittance(mf.substrate); err != nil {
+				return nil, nil, usagef("--substrate: %v", err)
+			}
+		}
+		e, err := film.Layers(t, sub)
+		if err != nil {
+			return nil, nil, inputError(err)
+		}
+		method := "transmittance at 550 nm, T = (1 + N·πα/2)^-2"
+		if sub > 0 {
+			method += ", relative to the bare substrate"
+		}
+		ms = append(ms,
+			measurement{Metric: "transmittance_550", Value: t, Unit: "1", Method: "entered", Text: fixed(t*100, 2) + " %"},
+			measurement{Metric: "layers", Value: e.Layers, Unit: "1", Method: method, Text: fmt.Sprintf("%.2f (nearest %d)", e.Layers, e.Nearest)})
+		lines = append(lines, fmt.Sprintf("layers from transmittance: %.2f, nearest whole number %d (film transmittance %.2f %%)", e.Layers, e.Nearest, e.Film*100))
+	}
+	if mf.raman != "" {
+		r, err := film.ParseRaman(mf.raman)
+		if err != nil {
+			return nil, nil, usagef("--raman: %v", err)
+		}
+		c, err := film.ClassifyRaman(r)
+		if err != nil {
+			return nil, nil, inputError(err)
+		}
+		ms = append(ms,
+			measurement{Metric: "raman_2d_g", Value: r.TwoDG, Unit: "1", Method: "Raman, entered", Text: num(r.TwoDG, 3)},
+			measurement{Metric: "raman_d_g", Value: r.DG, Unit: "1", Method: "Raman, entered", Text: num(r.DG, 3)})
+		th := c.Thresholds
+		lines = append(lines, fmt.Sprintf("Raman: %s — %s", c.Class, c.Reason),
+			fmt.Sprintf("  thresholds (common practice): monolayer-like at 2D/G ≥ %g with 2D FWHM ≤ %g cm⁻¹; defective at D/G ≥ %g", th.MonolayerMin2DG, th.MonolayerMax2DWidth, th.DefectiveMinDG))
+		for _, n := range c.Notes {
+			lines = append(lines, "  note: "+n)
+		}
+	}
+	return ms, lines, nil
+}
+
+// inputErr marks an error in the user's data (exit status 2) without
+// changing its message.
+type inputErr struct{ err error }
+
+func (e inputErr) Error() string   { return e.err.Error() }
+func (e inputErr) Unwrap() []error { return []error{e.err, recipe.ErrInvalid} }
+
+func inputError(err error) error { return inputErr{err} }
+
+func parseRect(s string) (image.Rectangle, error) {
+	parts := strings.Split(s, ",")
+	if len(parts) != 4 {
+		return image.Rectangle{}, fmt.Errorf("%q: want x0,y0,x1,y1", s)
+	}
+	var v [4]int
+	for i, p := range parts {
+		n, err := strconv.Atoi(strings.TrimSpace(p))
+		if err != nil || n < 0 {
+			return image.Rectangle{}, fmt.Errorf("%q: %q is not a pixel coordinate", s, p)
+		}
+		v[i] = n
+	}
+	r := image.Rect(v[0], v[1], v[2], v[3])
+	if r.Empty() {
+		return image.Rectangle{}, fmt.Errorf("%q is an empty rectangle", s)
+	}
+	return r, nil
+}
+
+type measureOptions struct {
+	io     *streams
+	flags  measureFlags
+	output string
+}
+
+func newMeasureCmd(f *factory) *cobra.Command {
+	cmd := &cobra.Command{
+		Use:   "measure",
+		Short: "Measure graphene from a micrograph, a transmittance or Raman ratios, without a run",
+	}
+	cmd.AddCommand(newMeasureImageCmd(f), newMeasureFilmCmd(f))
+	return cmd
+}
+
+func newMeasureImageCmd(f *factory) *cobra.Command {
+	opts := &measureOptions{io: f.io}
+	cmd := &cobra.Command{
+		Use:   "image FILE",
+		Short: "Coverage, domain count, density and sizes from a micrograph (PNG, JPEG, TIFF)",
+		Args:  cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			opts.flags.image = args[0]
+			opts.flags.bareGraySet = cmd.Flags().Changed("bare-gray")
+			if err := checkFormat(opts.output); err != nil {
+				return err
+			}
+			return measureImageRun(opts)
+		},
+	}
+	opts.flags.registerImage(cmd)
+	cmd.Flags().StringVar(&opts.output, "output", formatTable, "output format: table, csv or json")
+	return cmd
+}
+
+func measureImageRun(opts *measureOptions) error {
+	res, ms, err := opts.flags.measureImage(opts.io.Err)
+	if err != nil {
+		return err
+	}
+	if opts.output == formatJSON {
+		return writeJSON(opts.io.Out, res)
+	}
+	if opts.output == formatTable {
+		fmt.Fprintf(opts.io.Out, "%s: %s %d×%d, threshold %.0f, domains %s (%s)\n", res.File, res.Format, res.Width, res.Height, res.Threshold, res.Polarity, res.Reason)
+	}
+	t := imageTable(res, ms)
+	if err := render(opts.io.Out, opts.output, t, nil); err != nil {
+		return err
+	}
+	if opts.output == formatTable {
+		for _, n := range res.Notes {
+			fmt.Fprintln(opts.io.Out, "note: "+n)
+		}
+	}
+	return nil
+}
+
+func imageTable(res *imageResult, ms []measurement) table {
+	t := table{Header: []string{"quantity", "value"}, Numeric: []bool{false, true}}
+	t.add("coverage", fixed(res.Coverage*100, 2)+" %")
+	t.add("domains (interior + edge-touching)", fmt.Sprintf("%d (%d + %d)", res.Domains, res.Interior, res.Edge))
+	t.add("specks removed", strconv.Itoa(res.Specks))
+	t.add("density", num(res.PerMM2, 4)+" /mm²")
+	t.add("diameter mean / median", num(res.MeanUm, 4)+" / "+num(res.MedianUm, 4)+" um")
+	t.add("diameter p10 – p90", num(res.P10Um, 4)+" – "+num(res.P90Um, 4)+" um")
+	return t
+}
+
+func newMeasureFilmCmd(f *factory) *cobra.Command {
+	opts := &measureOptions{io: f.io}
+	cmd := &cobra.Command{
+		Use:   "film",
+		Short: "Layer count from transmittance at 550 nm and a Raman classification",
+		Args:  cobra.NoArgs,
+		RunE: func(cmd *cobra.Command, args []string) error {
+			if opts.flags.transmittance == "" && opts.flags.raman == "" {
+				return usagef("give --transmittance and/or --raman")
+			}
+			if err := checkFormat(opts.output); err != nil {
+				return err
+			}
+			ms, lines, err := opts.flags.measureFilm()
+			if err != nil {
+				return err
+			}
+			return printMeasurements(opts.io.Out, opts.output, ms, lines)
+		},
+	}
+	opts.flags.registerFilm(cmd)
+	cmd.Flags().StringVar(&opts.output, "output", formatTable, "output format: table, csv or json")
+	return cmd
+}
+
+func printMeasurements(w io.Writer, format string, ms []measurement, lines []string) error {
+	t := table{Header: []string{"metric", "value", "unit", "method"}, Numeric: []bool{false, true}}
+	for _, m := range ms {
+		t.add(m.Metric, num(m.Value, 5), m.Unit, m.Method)
+	}
+	if err := render(w, format, t, ms); err != nil {
+		return err
+	}
+	if format == formatTable {
+		for _, l := range lines {
+			fmt.Fprintln(w, l)
+		}
+	}
+	return nil
+}
