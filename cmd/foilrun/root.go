@@ -92,6 +92,8 @@ hydrogen and methane hazards, logs every run and learns from the log.`,
 		newMeasureCmd(f),
 		newSafetyCmd(f),
 		newChecklistCmd(f),
+		newPredictCmd(f),
+		newWindowCmd(f),
 	)
 	return root
 }

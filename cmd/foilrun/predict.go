@@ -1,0 +1,280 @@
+package main
+
+import (
+	"fmt"
+	"io"
+	"math"
+	"strconv"
+
+	"github.com/spf13/cobra"
+
+	"github.com/foilrun/foilrun/kinetics"
+	"github.com/foilrun/foilrun/recipe"
+)
+
+type predictOptions struct {
+	io     *streams
+	recipe string
+	flags  recipeFlags
+	params string
+	output string
+	plot   string
+}
+
+func newPredictCmd(f *factory) *cobra.Command {
+	opts := &predictOptions{io: f.io}
+	cmd := &cobra.Command{
+		Use:   "predict RECIPE",
+		Short: "Predict coverage, nuclei density and domain size for a recipe",
+		Long: `Predict how graphene covers the foil during a recipe with a nucleation and
+growth (Kolmogorov–Johnson–Mehl–Avrami) model: final coverage, nuclei density,
+area-equivalent domain size, and the growth times to 50, 90 and 99 % coverage,
+at the end and per step. Times count from the first step with methane.
+
+The model's parameters come from --params FILE (YAML: nucleation_energy,
+nucleation_prefactor, methane_order, hydrogen_order, growth_energy,
+growth_prefactor, reference_pressure, and optionally shape, mode,
+site_density). Without it the illustrative defaults are used: they show the
+usual trends but are not a calibration of any furnace.
+
+--plot FILE.png or FILE.svg draws the recipe profile (temperature and partial
+pressures) and the predicted coverage and nuclei density against time.`,
+		Args: cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			opts.recipe = args[0]
+			if err := checkFormat(opts.output); err != nil {
+				return err
+			}
+			if opts.plot != "" {
+				if err := checkPlotPath(opts.plot); err != nil {
+					return err
+				}
+			}
+			return predictRun(opts)
+		},
+	}
+	opts.flags.register(cmd)
+	cmd.Flags().StringVar(&opts.params, "params", "", "kinetics parameter file (default: illustrative parameters)")
+	cmd.Flags().StringVar(&opts.output, "output", formatTable, "output format: table, csv or json")
+	cmd.Flags().StringVar(&opts.plot, "plot", "", "write plots of the profile and prediction to this .png or .svg file")
+	return cmd
+}
+
+// loadParams reads --params, or returns the defaults.
+func loadParams(path string) (kinetics.Params, error) {
+	if path == "" {
+		return kinetics.DefaultParams(), nil
+	}
+	return kinetics.LoadParams(path)
+}
+
+// round6 keeps 6 significant digits so JSON output is stable across
+// platforms (fused multiply-add changes the last bits).
+func round6(v float64) float64 {
+	if v == 0 || math.IsNaN(v) || math.IsInf(v, 0) {
+		return v
+	}
+	r, _ := strconv.ParseFloat(strconv.FormatFloat(v, 'g', 6, 64), 64)
+	return r
+}
+
+func opt6(v float64) *float64 {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return nil
+	}
+	r := round6(v)
+	return &r
+}
+
+// predictResult is the JSON form of `foilrun predict`, in display units.
+type predictResult struct {
+	Recipe       string        `json:"recipe"`
+	Furnace      string        `json:"furnace"`
+	ParamsSource string        `json:"params_source"`
+	Mode         string        `json:"mode"`
+	Shape        string        `json:"shape"`
+	Coverage     float64       `json:"coverage"`
+	NucleiPerMM2 float64       `json:"nuclei_per_mm2"`
+	DomainUm     float64       `json:"domain_size_um"`
+	CarbonStart  *float64      `json:"carbon_start_min"`
+	T50Min       *float64      `json:"t50_min"`
+	T90Min       *float64      `json:"t90_min"`
+	T99Min       *float64      `json:"t99_min"`
+	Etching      bool          `json:"etching"`
+	CheckErrors  int           `json:"check_errors"`
+	Notes        []string      `json:"notes"`
+	Steps        []predictStep `json:"steps"`
+}
+
+type predictStep struct {
+	Step           int     `json:"step"`
+	Label          string  `json:"label"`
+	StartMin       float64 `json:"start_min"`
+	DurationMin    float64 `json:"duration_min"`
+	T0C            float64 `json:"t_start_c"`
+	T1C            float64 `json:"t_end_c"`
+	PCH4Pa         float64 `json:"p_ch4_pa"`
+	PH2Pa          float64 `json:"p_h2_pa"`
+	Carbon         bool    `json:"carbon"`
+	Etching        bool    `json:"etching"`
+	NucleationMM2S float64 `json:"nucleation_per_mm2_s"`
+	GrowthUmMin    float64 `json:"growth_um_per_min"`
+	Coverage       float64 `json:"coverage"`
+	NucleiPerMM2   float64 `json:"nuclei_per_mm2"`
+	DomainUm       float64 `json:"domain_size_um"`
+}
+
+func predictJSON(plan *recipe.Plan, res kinetics.Result, checkErrors int) predictResult {
+	out := predictResult{
+		Recipe: res.Recipe, Furnace: plan.Furnace.Name, ParamsSource: res.Params.Source,
+		Mode: string(res.Mode), Shape: string(res.Shape),
+		Coverage: round6(res.Coverage), NucleiPerMM2: round6(res.NucleiDensity * 1e-6), DomainUm: round6(res.DomainSize * 1e6),
+		CarbonStart: opt6(res.CarbonStart / 60), T50Min: opt6(res.T50 / 60), T90Min: opt6(res.T90 / 60), T99Min: opt6(res.T99 / 60),
+		Etching: res.Etching, CheckErrors: checkErrors, Notes: res.Notes,
+	}
+	if out.Notes == nil {
+		out.Notes = []string{}
+	}
+	for i, s := range res.Steps {
+		out.Steps = append(out.Steps, predictStep{
+			Step: i + 1, Label: s.Label, StartMin: round6(s.Start / 60), DurationMin: round6(s.Duration / 60),
+			T0C: round6(s.T0 - 273.15), T1C: round6(s.T1 - 273.15), PCH4Pa: round6(s.PC), PH2Pa: round6(s.PH),
+			Carbon: s.Carbon, Etching: s.Etching,
+			NucleationMM2S: round6(s.NucleationRate * 1e-6), GrowthUmMin: round6(s.GrowthRate * 6e7),
+			Coverage: round6(s.Coverage), NucleiPerMM2: round6(s.NucleiDensity * 1e-6), DomainUm: round6(s.DomainSize * 1e6),
+		})
+	}
+	return out
+}
+
+func predictRun(opts *predictOptions) error {
+	params, err := loadParams(opts.params)
+	if err != nil {
+		return err
+	}
+	plan, _, err := opts.flags.loadPlan(opts.recipe)
+	if err != nil {
+		return err
+	}
+	errs := 0
+	for _, fd := range recipe.Check(plan) {
+		if fd.Severity == recipe.Error {
+			errs++
+		}
+	}
+	if errs > 0 {
+		fmt.Fprintf(opts.io.Err, "foilrun: warning: the recipe has %d check errors; the prediction assumes it runs as written (see foilrun check)\n", errs)
+	}
+	pr := kinetics.Options{}
+	if opts.plot != "" {
+		pr.Samples = 400
+	}
+	res, err := kinetics.Predict(plan, params, pr)
+	if err != nil {
+		return err
+	}
+	out := predictJSON(plan, res, errs)
+	switch opts.output {
+	case formatJSON:
+		err = writeJSON(opts.io.Out, out)
+	case formatCSV:
+		err = writeCSV(opts.io.Out, predictStepTable(out.Steps))
+	default:
+		err = printPredict(opts.io.Out, out)
+	}
+	if err != nil {
+		return err
+	}
+	if opts.plot != "" {
+		if err := writePanels(opts.plot, predictPanels(res)); err != nil {
+			return err
+		}
+		fmt.Fprintf(opts.io.Err, "wrote %s\n", opts.plot)
+	}
+	return nil
+}
+
+func minutes(v *float64) string {
+	if v == nil {
+		return "not reached"
+	}
+	return fixed(*v, 1)
+}
+
+func printPredict(w io.Writer, r predictResult) error {
+	fmt.Fprintf(w, "recipe %q on furnace %q: %s nucleation, %s domains\n", r.Recipe, r.Furnace, r.Mode, r.Shape)
+	fmt.Fprintf(w, "parameters: %s\n", r.ParamsSource)
+	t := table{Header: []string{"quantity", "value"}, Numeric: []bool{false, true}}
+	t.add("final coverage %", fixed(r.Coverage*100, 2))
+	t.add("nuclei density per mm2", num(r.NucleiPerMM2, 4))
+	t.add("domain size um", num(r.DomainUm, 3))
+	t.add("t50 min", minutes(r.T50Min))
+	t.add("t90 min", minutes(r.T90Min))
+	t.add("t99 min", minutes(r.T99Min))
+	heading(w, "Prediction")
+	if err := writeTable(w, t); err != nil {
+		return err
+	}
+	fmt.Fprintln(w, "times count from the first step with methane")
+	heading(w, "Per step")
+	if err := writeTable(w, predictStepTable(r.Steps)); err != nil {
+		return err
+	}
+	for _, n := range r.Notes {
+		fmt.Fprintln(w, "note: "+n)
+	}
+	if r.Etching {
+		fmt.Fprintln(w, "note: methane is below equilibrium with graphite in a step marked etching: no growth there")
+	}
+	return nil
+}
+
+func predictStepTable(steps []predictStep) table {
+	t := table{
+		Header:  []string{"step", "T C", "CH4 Pa", "H2 Pa", "nucleation /mm2/s", "growth um/min", "coverage %", "nuclei /mm2", "domain um"},
+		Numeric: []bool{false, true, true, true, true, true, true, true, true},
+	}
+	for _, s := range steps {
+		T := fixed(s.T0C, 0)
+		if math.Abs(s.T1C-s.T0C) > 0.05 {
+			T += "→" + fixed(s.T1C, 0)
+		}
+		label := s.Label
+		if s.Etching {
+			label += " [etching]"
+		}
+		rate, growth := "", ""
+		if s.Carbon {
+			rate, growth = num(s.NucleationMM2S, 3), num(s.GrowthUmMin, 3)
+		}
+		t.add(label, T, num(s.PCH4Pa, 3), num(s.PH2Pa, 3), rate, growth, fixed(s.Coverage*100, 2), num(s.NucleiPerMM2, 4), num(s.DomainUm, 3))
+	}
+	return t
+}
+
+// predictPanels turns a result with a curve into the four plot panels.
+func predictPanels(res kinetics.Result) []panel {
+	prof := res.Profile
+	var ts, Tc, pc, ph []float64
+	for _, s := range prof.Segments {
+		for _, t := range []float64{s.Start, s.Start + s.Duration} {
+			ts = append(ts, t/60)
+			Tc = append(Tc, s.TemperatureAt(t-s.Start)-273.15)
+			pc = append(pc, s.PC)
+			ph = append(ph, s.PH)
+		}
+	}
+	var ct, cov, dens []float64
+	for _, s := range res.Curve {
+		ct = append(ct, s.Time/60)
+		cov = append(cov, s.Coverage*100)
+		dens = append(dens, s.NucleiDensity*1e-6)
+	}
+	x := "time (min)"
+	return []panel{
+		{Title: res.Recipe + ": temperature", XLabel: x, YLabel: "T (C)", Series: []series{{"temperature", ts, Tc}}},
+		{Title: "partial pressures", XLabel: x, YLabel: "p (Pa)", Series: []series{{"CH4", ts, pc}, {"H2", ts, ph}}},
+		{Title: "predicted coverage", XLabel: x, YLabel: "coverage (%)", Series: []series{{"coverage", ct, cov}}},
+		{Title: "predicted nuclei density", XLabel: x, YLabel: "nuclei per mm2", Series: []series{{"nuclei", ct, dens}}},
+	}
+}

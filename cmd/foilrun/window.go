@@ -1,0 +1,271 @@
+package main
+
+import (
+	"fmt"
+	"io"
+	"math"
+	"strings"
+	"time"
+
+	"github.com/schollz/progressbar/v3"
+	"github.com/spf13/cobra"
+
+	"github.com/foilrun/foilrun/kinetics"
+)
+
+// What `foilrun window --show` can map.
+var windowShows = []string{"coverage", "density", "domain-size", "time-to-99"}
+
+type windowOptions struct {
+	io     *streams
+	recipe string
+	flags  recipeFlags
+	vary   []string
+	show   string
+	params string
+	output string
+	plot   string
+}
+
+func newWindowCmd(f *factory) *cobra.Command {
+	opts := &windowOptions{io: f.io}
+	cmd := &cobra.Command{
+		Use:   "window RECIPE --vary PARAM=FROM:TO:STEPS --vary PARAM=FROM:TO:STEPS",
+		Short: "Map a predicted quantity over two grow-step parameters",
+		Long: `Map a predicted quantity over a grid of two parameters of the recipe's first grow
+step: temperature, pressure, duration or a gas flow (by gas name, e.g. CH4).
+Each grid point is the recipe with the grow step changed, checked against the
+furnace like foilrun check (points with check errors are marked infeasible)
+and predicted like foilrun predict. Ranges carry units:
+
+  --vary temperature=950C:1050C:11   --vary CH4=1sccm:40sccm:10
+  --vary duration=1min:30min:12      --vary pressure=100mTorr:2Torr:8
+
+--show picks the quantity: coverage (%), density (nuclei per mm2),
+domain-size (um) or time-to-99 (min of growth to 99 % coverage). The map is
+computed on all cores; a progress bar shows on a terminal.`,
+		Args: cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			opts.recipe = args[0]
+			if err := checkFormat(opts.output); err != nil {
+				return err
+			}
+			if len(opts.vary) != 2 {
+				return usagef("want exactly two --vary PARAM=FROM:TO:STEPS, got %d", len(opts.vary))
+			}
+			known := false
+			for _, s := range windowShows {
+				known = known || s == opts.show
+			}
+			if !known {
+				return usagef("--show %q: want %s", opts.show, strings.Join(windowShows, ", "))
+			}
+			if opts.plot != "" {
+				if err := checkPlotPath(opts.plot); err != nil {
+					return err
+				}
+			}
+			return windowRun(opts)
+		},
+	}
+	opts.flags.register(cmd)
+	cmd.Flags().StringArrayVar(&opts.vary, "vary", nil, "grow-step parameter and range PARAM=FROM:TO:STEPS (give twice)")
+	cmd.Flags().StringVar(&opts.show, "show", "coverage", "quantity to map: "+strings.Join(windowShows, ", "))
+	cmd.Flags().StringVar(&opts.params, "params", "", "kinetics parameter file (default: illustrative parameters)")
+	cmd.Flags().StringVar(&opts.output, "output", formatTable, "output format: table, csv or json")
+	cmd.Flags().StringVar(&opts.plot, "plot", "", "write a heat map to this .png or .svg file")
+	return cmd
+}
+
+// showValue picks the --show quantity of a point in display units; NaN
+// when it has no value (e.g. 99 % never reached).
+func showValue(show string, p kinetics.Point) float64 {
+	switch show {
+	case "density":
+		return p.NucleiDensity * 1e-6
+	case "domain-size":
+		return p.DomainSize * 1e6
+	case "time-to-99":
+		return p.T99 / 60
+	}
+	return p.Coverage * 100
+}
+
+func showLabel(show string) string {
+	switch show {
+	case "density":
+		return "nuclei per mm2"
+	case "domain-size":
+		return "domain size (um)"
+	case "time-to-99":
+		return "time to 99 % (min)"
+	}
+	return "coverage (%)"
+}
+
+// windowResult is the JSON form of `foilrun window`.
+type windowResult struct {
+	Recipe string        `json:"recipe"`
+	Step   string        `json:"step"`
+	X      string        `json:"x"`
+	XUnit  string        `json:"x_unit"`
+	Y      string        `json:"y"`
+	YUnit  string        `json:"y_unit"`
+	Show   string        `json:"show"`
+	Points []windowPoint `json:"points"`
+}
+
+type windowPoint struct {
+	X            float64  `json:"x"`
+	Y            float64  `json:"y"`
+	Feasible     bool     `json:"feasible"`
+	Rule         string   `json:"rule,omitempty"`
+	Message      string   `json:"message,omitempty"`
+	Coverage     float64  `json:"coverage"`
+	NucleiPerMM2 float64  `json:"nuclei_per_mm2"`
+	DomainUm     float64  `json:"domain_size_um"`
+	T99Min       *float64 `json:"t99_min"`
+	Etching      bool     `json:"etching"`
+}
+
+func windowRun(opts *windowOptions) error {
+	var axes [2]kinetics.Axis
+	for i, v := range opts.vary {
+		a, err := kinetics.ParseAxis(v)
+		if err != nil {
+			return withHint(err, "write --vary PARAM=FROM:TO:STEPS with PARAM temperature, pressure, duration or a gas, e.g. --vary temperature=950C:1050C:11")
+		}
+		axes[i] = a
+	}
+	params, err := loadParams(opts.params)
+	if err != nil {
+		return err
+	}
+	plan, _, err := opts.flags.loadPlan(opts.recipe)
+	if err != nil {
+		return err
+	}
+	spec := kinetics.WindowSpec{X: axes[0], Y: axes[1], Params: params}
+	var bar *progressbar.ProgressBar
+	if opts.io.ErrTTY {
+		bar = progressbar.NewOptions(axes[0].Steps*axes[1].Steps,
+			progressbar.OptionSetWriter(opts.io.Err),
+			progressbar.OptionSetVisibility(true),
+			progressbar.OptionSetDescription("window"), progressbar.OptionShowCount(),
+			progressbar.OptionThrottle(50*time.Millisecond), progressbar.OptionClearOnFinish())
+		spec.Progress = func(done, total int) { _ = bar.Set(done) }
+	}
+	m, err := kinetics.Window(plan, spec)
+	if bar != nil {
+		_ = bar.Finish()
+	}
+	if err != nil {
+		return err
+	}
+	res := windowResult{Recipe: m.Recipe, Step: m.Step, X: m.X.Param, XUnit: m.X.Unit(), Y: m.Y.Param, YUnit: m.Y.Unit(), Show: opts.show}
+	for _, row := range m.Points {
+		for _, p := range row {
+			res.Points = append(res.Points, windowPoint{
+				X: round6(m.X.Display(p.X)), Y: round6(m.Y.Display(p.Y)), Feasible: p.Feasible, Rule: p.Rule, Message: p.Message,
+				Coverage: round6(p.Coverage), NucleiPerMM2: round6(p.NucleiDensity * 1e-6), DomainUm: round6(p.DomainSize * 1e6),
+				T99Min: opt6(p.T99 / 60), Etching: p.Etching,
+			})
+		}
+	}
+	switch opts.output {
+	case formatJSON:
+		err = writeJSON(opts.io.Out, res)
+	case formatCSV:
+		err = writeCSV(opts.io.Out, windowLongTable(res))
+	default:
+		err = printWindow(opts.io.Out, m, opts.show)
+	}
+	if err != nil {
+		return err
+	}
+	if opts.plot != "" {
+		z := make([][]float64, len(m.Ys))
+		blocked := make([][]bool, len(m.Ys))
+		for iy, row := range m.Points {
+			z[iy] = make([]float64, len(row))
+			blocked[iy] = make([]bool, len(row))
+			for ix, p := range row {
+				z[iy][ix] = showValue(opts.show, p)
+				if !p.Feasible {
+					z[iy][ix], blocked[iy][ix] = math.NaN(), true
+				}
+			}
+		}
+		xs, ys := displayValues(m.X, m.Xs), displayValues(m.Y, m.Ys)
+		title := fmt.Sprintf("%s: %s", m.Recipe, showLabel(opts.show))
+		if err := writeHeatMap(opts.plot, title, m.X.Label(), m.Y.Label(), showLabel(opts.show), xs, ys, z, blocked); err != nil {
+			return err
+		}
+		fmt.Fprintf(opts.io.Err, "wrote %s\n", opts.plot)
+	}
+	return nil
+}
+
+func displayValues(a kinetics.Axis, si []float64) []float64 {
+	out := make([]float64, len(si))
+	for i, v := range si {
+		out[i] = a.Display(v)
+	}
+	return out
+}
+
+// printWindow prints the map as a grid: one row per y value, one column
+// per x value; infeasible cells read "x", with the rules listed below.
+func printWindow(w io.Writer, m *kinetics.Map, show string) error {
+	fmt.Fprintf(w, "recipe %q, step %s: %s\n", m.Recipe, m.Step, showLabel(show))
+	t := table{Header: []string{m.Y.Label() + " \\ " + m.X.Label()}, Numeric: []bool{true}}
+	for _, x := range m.Xs {
+		t.Header = append(t.Header, num(m.X.Display(x), 4))
+		t.Numeric = append(t.Numeric, true)
+	}
+	rules := map[string]string{}
+	var order []string
+	for iy, row := range m.Points {
+		cells := []string{num(m.Y.Display(m.Ys[iy]), 4)}
+		for _, p := range row {
+			v := showValue(show, p)
+			switch {
+			case !p.Feasible:
+				cells = append(cells, "x")
+				if _, ok := rules[p.Rule]; !ok {
+					rules[p.Rule] = p.Message
+					order = append(order, p.Rule)
+				}
+			case math.IsNaN(v):
+				cells = append(cells, "-")
+			default:
+				cells = append(cells, num(v, 3))
+			}
+		}
+		t.add(cells...)
+	}
+	heading(w, "Window")
+	if err := writeTable(w, t); err != nil {
+		return err
+	}
+	if show == "time-to-99" {
+		fmt.Fprintln(w, "-: 99 % coverage not reached")
+	}
+	for _, r := range order {
+		fmt.Fprintf(w, "x: infeasible, %s (e.g. %s)\n", r, rules[r])
+	}
+	return nil
+}
+
+// windowLongTable is the CSV form: one row per grid point.
+func windowLongTable(r windowResult) table {
+	t := table{Header: []string{r.X + " " + r.XUnit, r.Y + " " + r.YUnit, "feasible", "rule", "coverage", "nuclei_per_mm2", "domain_size_um", "t99_min", "etching"}}
+	for _, p := range r.Points {
+		t99 := ""
+		if p.T99Min != nil {
+			t99 = num(*p.T99Min, 6)
+		}
+		t.add(num(p.X, 6), num(p.Y, 6), fmt.Sprint(p.Feasible), p.Rule, num(p.Coverage, 6), num(p.NucleiPerMM2, 6), num(p.DomainUm, 6), t99, fmt.Sprint(p.Etching))
+	}
+	return t
+}
