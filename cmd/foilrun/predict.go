@@ -12,13 +12,36 @@ import (
 	"github.com/foilrun/foilrun/recipe"
 )
 
+// modelFlags are the flags every kinetics command shares: --params,
+// --output and --plot.
+type modelFlags struct {
+	params string
+	output string
+	plot   string
+}
+
+func (m *modelFlags) register(cmd *cobra.Command, plotUsage string) {
+	cmd.Flags().StringVar(&m.params, "params", "", "kinetics parameter file (default: illustrative parameters)")
+	cmd.Flags().StringVar(&m.output, "output", formatTable, "output format: table, csv or json")
+	cmd.Flags().StringVar(&m.plot, "plot", "", plotUsage)
+}
+
+// check validates --output and --plot.
+func (m *modelFlags) check() error {
+	if err := checkFormat(m.output); err != nil {
+		return err
+	}
+	if m.plot != "" {
+		return checkPlotPath(m.plot)
+	}
+	return nil
+}
+
 type predictOptions struct {
 	io     *streams
 	recipe string
 	flags  recipeFlags
-	params string
-	output string
-	plot   string
+	modelFlags
 }
 
 func newPredictCmd(f *factory) *cobra.Command {
@@ -42,21 +65,14 @@ pressures) and the predicted coverage and nuclei density against time.`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			opts.recipe = args[0]
-			if err := checkFormat(opts.output); err != nil {
+			if err := opts.check(); err != nil {
 				return err
-			}
-			if opts.plot != "" {
-				if err := checkPlotPath(opts.plot); err != nil {
-					return err
-				}
 			}
 			return predictRun(opts)
 		},
 	}
 	opts.flags.register(cmd)
-	cmd.Flags().StringVar(&opts.params, "params", "", "kinetics parameter file (default: illustrative parameters)")
-	cmd.Flags().StringVar(&opts.output, "output", formatTable, "output format: table, csv or json")
-	cmd.Flags().StringVar(&opts.plot, "plot", "", "write plots of the profile and prediction to this .png or .svg file")
+	opts.modelFlags.register(cmd, "write plots of the profile and prediction to this .png or .svg file")
 	return cmd
 }
 

@@ -22,9 +22,7 @@ type windowOptions struct {
 	flags  recipeFlags
 	vary   []string
 	show   string
-	params string
-	output string
-	plot   string
+	modelFlags
 }
 
 func newWindowCmd(f *factory) *cobra.Command {
@@ -47,7 +45,7 @@ computed on all cores; a progress bar shows on a terminal.`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			opts.recipe = args[0]
-			if err := checkFormat(opts.output); err != nil {
+			if err := opts.check(); err != nil {
 				return err
 			}
 			if len(opts.vary) != 2 {
@@ -60,20 +58,13 @@ computed on all cores; a progress bar shows on a terminal.`,
 			if !known {
 				return usagef("--show %q: want %s", opts.show, strings.Join(windowShows, ", "))
 			}
-			if opts.plot != "" {
-				if err := checkPlotPath(opts.plot); err != nil {
-					return err
-				}
-			}
 			return windowRun(opts)
 		},
 	}
 	opts.flags.register(cmd)
 	cmd.Flags().StringArrayVar(&opts.vary, "vary", nil, "grow-step parameter and range PARAM=FROM:TO:STEPS (give twice)")
 	cmd.Flags().StringVar(&opts.show, "show", "coverage", "quantity to map: "+strings.Join(windowShows, ", "))
-	cmd.Flags().StringVar(&opts.params, "params", "", "kinetics parameter file (default: illustrative parameters)")
-	cmd.Flags().StringVar(&opts.output, "output", formatTable, "output format: table, csv or json")
-	cmd.Flags().StringVar(&opts.plot, "plot", "", "write a heat map to this .png or .svg file")
+	opts.modelFlags.register(cmd, "write a heat map to this .png or .svg file")
 	return cmd
 }
 
