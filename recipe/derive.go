@@ -150,6 +150,7 @@ func (p *Plan) prevPressure(i int) float64 {
 
 // derive fills the flows and the pump-limited pressure.
 func derive(sp *StepPlan, f *Furnace) {
+	sp.Flows = make([]FlowPlan, 0, len(sp.Step.Flows))
 	for _, fl := range sp.Step.Flows {
 		g, err := gas.Lookup(fl.Gas)
 		if err != nil {
@@ -165,15 +166,14 @@ func derive(sp *StepPlan, f *Furnace) {
 		}
 	}
 	sp.Throughput = sp.TotalFlow * gas.R * RoomTemperature
-	gs, xs := mixtureOf(sp.Flows)
-	sp.PumpLimit = f.PumpLimitedPressure(sp.Throughput, gs, xs)
+	sp.PumpLimit = f.pumpLimit(sp.Throughput, sp.Flows, sp.TotalFlow)
 }
 
 // gasPhase fills the numbers that need the step's pressure.
 func gasPhase(sp *StepPlan, f *Furnace) {
 	P, T := sp.Pressure, sp.MeanTemperature()
-	var gs []gas.Gas
-	var xs []float64
+	var mixBuf [3][8]float64 // viscosities, molar masses, fractions; no allocation for up to 8 gases
+	mus, ms, xs := mixBuf[0][:0], mixBuf[1][:0], mixBuf[2][:0]
 	var h2, ch4 float64
 	for i := range sp.Flows {
 		fl := &sp.Flows[i]
@@ -181,7 +181,7 @@ func gasPhase(sp *StepPlan, f *Furnace) {
 			fl.Fraction = fl.Molar / sp.TotalFlow
 		}
 		fl.Partial = fl.Fraction * P
-		gs, xs = append(gs, fl.Gas), append(xs, fl.Fraction)
+		mus, ms, xs = append(mus, fl.Gas.Viscosity(T)), append(ms, fl.Gas.MolarMass.V), append(xs, fl.Fraction)
 		switch fl.Gas.Symbol {
 		case "H2":
 			sp.PH2, h2 = fl.Partial, fl.Molar
@@ -206,10 +206,10 @@ func gasPhase(sp *StepPlan, f *Furnace) {
 		area := math.Pi * d * d / 4
 		sp.Velocity = sp.VolumetricFlow / area
 		sp.Residence = f.Tube.HeatedLength.SI / sp.Velocity
-		sp.Viscosity = gas.MixtureViscosity(gs, xs, T)
+		sp.Viscosity = gas.WilkeViscosity(mus, ms, xs)
 		mm := 0.0
-		for i, g := range gs {
-			mm += xs[i] * g.MolarMass.V
+		for i := range xs {
+			mm += xs[i] * ms[i]
 		}
 		rho := P * mm / (gas.R * T)
 		sp.Reynolds = rho * sp.Velocity * d / sp.Viscosity
@@ -243,15 +243,3 @@ func copperLoss(T0, T1, dur float64) float64 {
 	return sum / (3 * n) * dur
 }
 
-func mixtureOf(fs []FlowPlan) (gs []gas.Gas, xs []float64) {
-	total := 0.0
-	for _, f := range fs {
-		total += f.Molar
-	}
-	for _, f := range fs {
-		if total > 0 {
-			gs, xs = append(gs, f.Gas), append(xs, f.Molar/total)
-		}
-	}
-	return gs, xs
-}

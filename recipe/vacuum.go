@@ -93,12 +93,33 @@ func upstream(d, l, eta, M, pd, Q float64) float64 {
 	return (-cm + math.Sqrt(cm*cm+2*a*K)) / a
 }
 
+// pumpLimit is PumpLimitedPressure for a step's flows, without
+// allocating.
+func (f *Furnace) pumpLimit(Q float64, fs []FlowPlan, total float64) float64 {
+	if total <= 0 {
+		return f.PumpLimitedPressure(Q, nil, nil)
+	}
+	var buf [3][8]float64
+	mus, ms, xs := buf[0][:0], buf[1][:0], buf[2][:0]
+	M := 0.0
+	for _, fl := range fs {
+		x := fl.Molar / total
+		mus, ms, xs = append(mus, fl.Gas.Viscosity(RoomTemperature)), append(ms, fl.Gas.MolarMass.V), append(xs, x)
+		M += x * fl.Gas.MolarMass.V
+	}
+	return f.pumpLimitWith(Q, gas.WilkeViscosity(mus, ms, xs), M)
+}
+
 // PumpLimitedPressure returns the lowest pressure at the foil (middle of
 // the heated zone) that the pump can hold with throughput Q in Pa·m³/s of
 // the gas mixture gs with mole fractions xs: the pump inlet sits at
 // p_base + Q/S, then the pump line and half the tube each add their drop.
 func (f *Furnace) PumpLimitedPressure(Q float64, gs []gas.Gas, xs []float64) float64 {
 	eta, M := mixProps(gs, xs)
+	return f.pumpLimitWith(Q, eta, M)
+}
+
+func (f *Furnace) pumpLimitWith(Q, eta, M float64) float64 {
 	p := f.Vacuum.BasePressure.SI + Q/f.Vacuum.PumpSpeed.SI
 	if Q <= 0 {
 		return p

@@ -109,10 +109,15 @@ type Gas struct {
 // space ("CH4", "methane", "h2", "Argon"). An unknown name returns an error
 // that lists the known gases and, when a known name is close, suggests it.
 func Lookup(name string) (Gas, error) {
+	for _, g := range table { // fast path: the canonical symbol as written
+		if g.Symbol == name {
+			return g.clone(), nil
+		}
+	}
 	key := strings.ToLower(strings.TrimSpace(name))
 	for _, g := range table {
 		for _, n := range g.names() {
-			if strings.ToLower(n) == key {
+			if strings.EqualFold(n, key) {
 				return g.clone(), nil
 			}
 		}
