@@ -242,4 +242,3 @@ func copperLoss(T0, T1, dur float64) float64 {
 	}
 	return sum / (3 * n) * dur
 }
-
