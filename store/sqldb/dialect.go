@@ -29,6 +29,10 @@ type Dialect interface {
 	Backup(ctx context.Context, db *sql.DB, path string) error
 	// Check runs the back end's integrity checks and returns the problems.
 	Check(ctx context.Context, db *sql.DB) ([]string, error)
+	// Bulk prepares the transaction tx for writing many runs at once (for
+	// example by dropping an index to rebuild it once at the end); end
+	// finishes that inside the same transaction. It may do nothing.
+	Bulk(ctx context.Context, tx *sql.Tx, runs int) (end func(context.Context) error, err error)
 	// MaxArgs is the most bound arguments one statement may take.
 	MaxArgs() int
 }

@@ -20,7 +20,7 @@ type writer struct {
 	snaps map[string]bool       // snapshot hashes known to be stored
 
 	params, outcomes, notes, actuals, deviations, attachments, newNames *batch
-	insertRun                                                           *sql.Stmt
+	insertRun, counter                                                  *sql.Stmt
 }
 
 func (s *DB) begin(ctx context.Context) (*writer, error) {
@@ -52,8 +52,10 @@ func (w *writer) rollback() {
 	for _, b := range w.batches() {
 		b.close()
 	}
-	if w.insertRun != nil {
-		w.insertRun.Close()
+	for _, st := range []*sql.Stmt{w.insertRun, w.counter} {
+		if st != nil {
+			st.Close()
+		}
 	}
 	w.tx.Rollback()
 }
@@ -123,10 +125,16 @@ func (w *writer) runID(ctx context.Context, code string) (int64, store.Status, e
 // transaction.
 func (w *writer) nextCode(ctx context.Context) (string, error) {
 	now := w.s.now()
+	if w.counter == nil {
+		var err error
+		w.counter, err = w.tx.PrepareContext(ctx, w.s.d.Rebind(`INSERT INTO counters (name, value) VALUES (?, 1)
+			ON CONFLICT (name) DO UPDATE SET value = counters.value + 1 RETURNING value`))
+		if err != nil {
+			return "", fmt.Errorf("next run code: %w", err)
+		}
+	}
 	var n int64
-	err := w.tx.QueryRowContext(ctx, w.s.d.Rebind(`INSERT INTO counters (name, value) VALUES (?, 1)
-		ON CONFLICT (name) DO UPDATE SET value = counters.value + 1 RETURNING value`), store.CodeCounter(now)).Scan(&n)
-	if err != nil {
+	if err := w.counter.QueryRowContext(ctx, store.CodeCounter(now)).Scan(&n); err != nil {
 		return "", fmt.Errorf("next run code: %w", err)
 	}
 	return store.FormatCode(now, n), nil
@@ -391,6 +399,10 @@ func (s *DB) Import(ctx context.Context, b store.Bundle, progress func(int)) (in
 		return 0, err
 	}
 	defer w.rollback()
+	endBulk, err := s.d.Bulk(ctx, w.tx, len(b.Runs))
+	if err != nil {
+		return 0, fmt.Errorf("import: %w", err)
+	}
 	for _, sn := range b.Snapshots {
 		if err := w.putSnapshot(ctx, sn); err != nil {
 			return 0, err
@@ -406,6 +418,14 @@ func (s *DB) Import(ctx context.Context, b store.Bundle, progress func(int)) (in
 		if progress != nil && (i+1)%500 == 0 {
 			progress(i + 1)
 		}
+	}
+	for _, bt := range w.batches() {
+		if err := bt.flush(ctx); err != nil {
+			return 0, err
+		}
+	}
+	if err := endBulk(ctx); err != nil {
+		return 0, fmt.Errorf("import: %w", err)
 	}
 	if err := w.commit(ctx); err != nil {
 		return 0, err

@@ -131,6 +131,41 @@ func (dialect) Read(ctx context.Context, db *sql.DB) (sqldb.Querier, func() erro
 	return conn, end, nil
 }
 
+// bulkRuns is the import size from which Bulk rebuilds the parameter
+// index instead of updating it row by row.
+const bulkRuns = 5000
+
+// Bulk, for an import of many runs, enlarges the connection's page cache
+// and, when the import is at least as large as the log already is, drops
+// the (name, value) index of run_params and builds it again at the end,
+// all inside the import's transaction (SQLite's DDL is transactional, so
+// a killed import leaves the old index). Inserting 1.5 million rows into
+// that index one by one took about 10 s here; building it once takes
+// about 1 s.
+func (dialect) Bulk(ctx context.Context, tx *sql.Tx, runs int) (func(context.Context) error, error) {
+	nothing := func(context.Context) error { return nil }
+	if runs < bulkRuns {
+		return nothing, nil
+	}
+	if _, err := tx.ExecContext(ctx, "PRAGMA cache_size = -262144"); err != nil { // 256 MiB, for this connection
+		return nil, err
+	}
+	var have int
+	if err := tx.QueryRowContext(ctx, "SELECT COUNT(*) FROM runs").Scan(&have); err != nil {
+		return nil, err
+	}
+	if have > runs {
+		return nothing, nil
+	}
+	if _, err := tx.ExecContext(ctx, "DROP INDEX run_params_name_value"); err != nil {
+		return nil, err
+	}
+	return func(ctx context.Context) error {
+		_, err := tx.ExecContext(ctx, "CREATE INDEX run_params_name_value ON run_params (name, value)")
+		return err
+	}, nil
+}
+
 // Backup writes the database with VACUUM INTO, which reads one consistent
 // snapshot while others write, then checks the copy.
 func (dialect) Backup(ctx context.Context, db *sql.DB, path string) error {
