@@ -275,7 +275,7 @@ func ReadCSV(r io.Reader) (Bundle, error) {
 		if j, dup := seen[key]; dup {
 			return Bundle{}, at("column %q repeats column %d", h, j+1)
 		}
-		seen[key] = i + 1
+		seen[key] = i
 	}
 	var b Bundle
 	for {
@@ -313,7 +313,7 @@ func ReadCSV(r io.Reader) (Bundle, error) {
 				}
 				o, err := ParseOutcome(c.metric+"="+text, recipe.IsParameter)
 				if err != nil {
-					return Bundle{}, at("%v", errors.Unwrap(err))
+					return Bundle{}, at("%s", strings.TrimSuffix(err.Error(), ": "+ErrInvalid.Error()))
 				}
 				o.Entered = cell
 				rec.Outcomes = append(rec.Outcomes, o)
