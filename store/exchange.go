@@ -283,10 +283,10 @@ func ReadCSV(r io.Reader) (Bundle, error) {
 		if errors.Is(err, io.EOF) {
 			break
 		}
-		line, _ := cr.FieldPos(0)
 		if err != nil {
 			return Bundle{}, fmt.Errorf("read runs CSV: %v: %w", err, ErrInvalid)
 		}
+		line, _ := cr.FieldPos(0)
 		rec := RunRecord{Params: map[string]float64{}}
 		for i, cell := range row {
 			cell = strings.TrimSpace(cell)
