@@ -122,7 +122,7 @@ func Match(p *recipe.Plan, lg *Log) Result {
 		}
 		add(store.Actual{Quantity: "start", Unit: "s", Planned: store.Optional(sp.Start), Mean: timeAt(lg, lo), Min: timeAt(lg, lo), Max: timeAt(lg, lo), Samples: 1})
 		add(store.Actual{Quantity: "duration", Unit: "s", Planned: store.Optional(sp.Duration), Mean: dur, Min: dur, Max: dur, Samples: hi - lo})
-		cutShort := last && res.Reached < K // the log ends inside this step
+		cutShort := last && res.Reached < K                   // the log ends inside this step
 		dtol := math.Max(DurationTolerance*sp.Duration, 2*dt) // a boundary is known to a sample either side
 		if sp.Duration > 0 && !cutShort && math.Abs(dur-sp.Duration) > dtol {
 			dev("duration", "s", sp.Duration, dur, dtol, "took %.1f min, planned %.1f min (±%.0f %%)", dur/60, sp.Duration/60, DurationTolerance*100)
