@@ -94,6 +94,10 @@ hydrogen and methane hazards, logs every run and learns from the log.`,
 		newChecklistCmd(f),
 		newPredictCmd(f),
 		newWindowCmd(f),
+		newRunCmd(f),
+		newRunsCmd(f),
+		newOutcomeCmd(f),
+		newDBCmd(f),
 	)
 	return root
 }

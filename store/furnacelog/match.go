@@ -144,7 +144,7 @@ func Match(p *recipe.Plan, lg *Log) Result {
 		if lg.P != nil {
 			ps := stats(lg.P[lo:hi])
 			planned := store.None()
-			if !sp.OpenToPump && sp.Pressure > 0 {
+			if !sp.OpenToPump && sp.Pressure > 0 && sp.Step.Kind != recipe.KindLeakCheck { // pressure rises during a leak check
 				planned = store.Optional(sp.Pressure)
 				if math.Abs(ps.mean-sp.Pressure) > PressureTolerance*sp.Pressure {
 					dev("pressure", "Pa", sp.Pressure, ps.mean, PressureTolerance*sp.Pressure, "mean pressure %s, set %s (±%.0f %%)", torr(ps.mean), torr(sp.Pressure), PressureTolerance*100)
@@ -191,17 +191,19 @@ func searchTime(ts []float64, t float64) int {
 	return lo
 }
 
-// cost is how badly sample k fits step j's set-points, each mismatch in
-// units of its tolerance, squared and capped at 4.
+// cost is how badly sample k fits step j's set-points: each mismatch in
+// units of its tolerance, capped at 25 so that one wild reading cannot
+// outweigh many good ones, yet a flow well off its set-point still tells
+// two steps apart.
 func cost(p *recipe.Plan, j int, lg *Log, k int, gases []string) float64 {
 	sp := &p.Steps[j]
 	c := 0.0
-	term := func(x float64) float64 { return math.Min(4, x*x) }
+	term := func(x float64) float64 { return math.Min(25, math.Abs(x)) }
 	for _, g := range gases {
 		set := setPoint(sp, g)
 		c += term((lg.Flows[g][k] - set) / flowTolerance(p.Furnace, g, set))
 	}
-	if lg.P != nil && !sp.OpenToPump && sp.Pressure > 0 && lg.P[k] > 0 {
+	if lg.P != nil && !sp.OpenToPump && sp.Pressure > 0 && lg.P[k] > 0 && sp.Step.Kind != recipe.KindLeakCheck {
 		c += term(math.Log(lg.P[k]/sp.Pressure) / math.Log(1+PressureTolerance))
 	}
 	lo, hi := math.Min(sp.T0, sp.T1), math.Max(sp.T0, sp.T1)

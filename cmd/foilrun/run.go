@@ -1,0 +1,445 @@
+package main
+
+import (
+	"bytes"
+	"context"
+	"fmt"
+	"io"
+	"os"
+	"sort"
+	"strings"
+	"time"
+
+	"github.com/spf13/cobra"
+
+	"github.com/foilrun/foilrun/recipe"
+	"github.com/foilrun/foilrun/store"
+	"github.com/foilrun/foilrun/store/furnacelog"
+)
+
+func newRunCmd(f *factory) *cobra.Command {
+	cmd := &cobra.Command{
+		Use:   "run",
+		Short: "Log a furnace run: start, note, finish, add, show",
+		Long: `Log furnace runs. "run start" stores the recipe as an immutable snapshot and
+prints the new run's code; "run note" adds timestamped notes while it runs;
+"run finish" ends it, optionally with the furnace controller's CSV log, whose
+per-step actuals and deviations from plan are stored; "run add" logs a finished
+run in one go; "run show" prints everything logged about a run.`,
+	}
+	cmd.AddCommand(newRunStartCmd(f), newRunNoteCmd(f), newRunFinishCmd(f), newRunAddCmd(f), newRunShowCmd(f))
+	return cmd
+}
+
+// runOptions are the options shared by run start and run add.
+type runOptions struct {
+	f         *factory
+	io        *streams
+	recipe    string
+	flags     recipeFlags
+	operator  string
+	lot       string
+	notes     []string
+	log       string   // add: furnace log CSV
+	outcomes  []string // add: metric=value[unit]
+	aborted   bool     // add
+	started   string   // add: start time
+	startOnly bool
+}
+
+func (o *runOptions) register(cmd *cobra.Command) {
+	o.flags.register(cmd)
+	cmd.Flags().StringVar(&o.operator, "operator", "", "who runs the furnace (default $USER)")
+	cmd.Flags().StringVar(&o.lot, "lot", "", "copper foil lot (default the recipe's substrate lot)")
+	cmd.Flags().StringArrayVar(&o.notes, "note", nil, "a note on the run (repeatable)")
+}
+
+func newRunStartCmd(f *factory) *cobra.Command {
+	opts := &runOptions{f: f, io: f.io, startOnly: true}
+	cmd := &cobra.Command{
+		Use:   "start RECIPE",
+		Short: "Start a run from a recipe and print its code",
+		Args:  cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			opts.recipe = args[0]
+			return runStartRun(cmd.Context(), opts)
+		},
+	}
+	opts.register(cmd)
+	return cmd
+}
+
+func newRunAddCmd(f *factory) *cobra.Command {
+	opts := &runOptions{f: f, io: f.io}
+	cmd := &cobra.Command{
+		Use:   "add RECIPE",
+		Short: "Log a finished run in one go (all or nothing)",
+		Example: `  foilrun run add growth.yaml --furnace-log run.csv --lot L-17 \
+      --outcome coverage=93% --outcome domain_size=12um`,
+		Args: cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			opts.recipe = args[0]
+			return runStartRun(cmd.Context(), opts)
+		},
+	}
+	opts.register(cmd)
+	cmd.Flags().StringVar(&opts.log, "furnace-log", "", "the furnace controller's CSV log of the run")
+	cmd.Flags().StringArrayVar(&opts.outcomes, "outcome", nil, "measured outcome metric=value[unit] (repeatable)")
+	cmd.Flags().BoolVar(&opts.aborted, "aborted", false, "the run was aborted")
+	cmd.Flags().StringVar(&opts.started, "started", "", "when the run started (RFC 3339, e.g. 2026-03-01T09:30:00Z; default now)")
+	return cmd
+}
+
+// runStartRun is run start and run add.
+func runStartRun(ctx context.Context, o *runOptions) error {
+	data, err := os.ReadFile(o.recipe)
+	if err != nil {
+		return fmt.Errorf("load recipe: %w", err)
+	}
+	plan, _, err := o.flags.loadPlan(o.recipe)
+	if err != nil {
+		return err
+	}
+	now := time.Now().UTC()
+	rec := store.RunRecord{
+		Run: store.Run{Status: store.Running, RecipeName: plan.Recipe.Name, Furnace: plan.Furnace.Name,
+			Operator: o.operator, Lot: o.lot, Started: now},
+		Params: plan.Parameters(),
+	}
+	if rec.Operator == "" {
+		rec.Operator = os.Getenv("USER")
+	}
+	if rec.Lot == "" {
+		rec.Lot = plan.Recipe.Substrate.Lot
+	}
+	for _, n := range o.notes {
+		rec.Notes = append(rec.Notes, store.Note{At: now, Text: n})
+	}
+	var devs []store.Deviation
+	if !o.startOnly {
+		rec.Status = store.Done
+		if o.aborted {
+			rec.Status = store.Aborted
+		}
+		if o.started != "" {
+			t, err := time.Parse(time.RFC3339, o.started)
+			if err != nil {
+				return usagef("--started %q: want a time such as 2026-03-01T09:30:00Z", o.started)
+			}
+			rec.Started = t
+		}
+		rec.Ended = rec.Started.Add(time.Duration(plan.Total * float64(time.Second)))
+		for _, s := range o.outcomes {
+			oc, err := store.ParseOutcome(s, recipe.IsParameter)
+			if err != nil {
+				return err
+			}
+			oc.Measured = now
+			rec.Outcomes = append(rec.Outcomes, oc)
+		}
+		if o.log != "" {
+			res, att, err := readFurnaceLog(o.log, plan)
+			if err != nil {
+				return err
+			}
+			rec.Actuals, rec.Deviations, devs = res.Actuals, res.Deviations, res.Deviations
+			rec.Attachments = append(rec.Attachments, att)
+			rec.Ended = rec.Started.Add(time.Duration(res.Span * float64(time.Second)))
+		}
+	}
+	snap := store.NewSnapshot(plan.Recipe.Name, o.recipe, data)
+	l, err := o.f.runLog(ctx)
+	if err != nil {
+		return err
+	}
+	code, err := l.CreateRun(ctx, rec, &snap)
+	if err != nil {
+		return err
+	}
+	fmt.Fprintln(o.io.Out, code)
+	if !o.startOnly {
+		return printDeviations(o.io.Err, code, devs)
+	}
+	return nil
+}
+
+// readFurnaceLog reads and matches a controller log and describes the
+// file as an attachment.
+func readFurnaceLog(path string, plan *recipe.Plan) (furnacelog.Result, store.Attachment, error) {
+	data, err := os.ReadFile(path)
+	if err != nil {
+		return furnacelog.Result{}, store.Attachment{}, fmt.Errorf("furnace log: %w", err)
+	}
+	if plan.Furnace.Log == nil {
+		return furnacelog.Result{}, store.Attachment{}, withHint(fmt.Errorf("furnace %q has no controller_log mapping", plan.Furnace.Name),
+			"add controller_log (time, temperature, pressure, flows: column and unit) to the furnace file")
+	}
+	lg, err := furnacelog.Read(bytes.NewReader(data), path, plan.Furnace.Log)
+	if err != nil {
+		return furnacelog.Result{}, store.Attachment{}, err
+	}
+	return furnacelog.Match(plan, lg), store.Attachment{Path: path, SHA256: store.HashOf(data), Kind: "furnace-log"}, nil
+}
+
+func printDeviations(w io.Writer, code string, devs []store.Deviation) error {
+	if len(devs) == 0 {
+		return nil
+	}
+	fmt.Fprintf(w, "run %s: %d deviations from plan\n", code, len(devs))
+	t := table{Header: []string{"step", "quantity", "deviation"}}
+	for _, d := range devs {
+		t.add(d.Label, d.Quantity, d.Message)
+	}
+	return writeTable(w, t)
+}
+
+type runNoteOptions struct {
+	f          *factory
+	code, text string
+}
+
+func newRunNoteCmd(f *factory) *cobra.Command {
+	opts := &runNoteOptions{f: f}
+	return &cobra.Command{
+		Use:   "note CODE TEXT",
+		Short: "Add a timestamped note to a run",
+		Args:  cobra.ExactArgs(2),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			opts.code, opts.text = args[0], args[1]
+			if strings.TrimSpace(opts.text) == "" {
+				return usagef("the note is empty")
+			}
+			l, err := opts.f.runLog(cmd.Context())
+			if err != nil {
+				return err
+			}
+			return l.AddNote(cmd.Context(), opts.code, store.Note{At: time.Now(), Text: opts.text})
+		},
+	}
+}
+
+type runFinishOptions struct {
+	f       *factory
+	code    string
+	log     string
+	aborted bool
+	note    string
+	flags   recipeFlags
+}
+
+func newRunFinishCmd(f *factory) *cobra.Command {
+	opts := &runFinishOptions{f: f}
+	cmd := &cobra.Command{
+		Use:   "finish CODE",
+		Short: "End a run, storing the furnace log's actuals and printing deviations",
+		Args:  cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			opts.code = args[0]
+			return runFinishRun(cmd.Context(), opts)
+		},
+	}
+	cmd.Flags().StringVar(&opts.log, "furnace-log", "", "the furnace controller's CSV log of the run")
+	cmd.Flags().BoolVar(&opts.aborted, "aborted", false, "the run was aborted")
+	cmd.Flags().StringVar(&opts.note, "note", "", "a closing note")
+	cmd.Flags().StringVar(&opts.flags.furnace, "furnace", "", "furnace file for reading the log (default the one the recipe names)")
+	return cmd
+}
+
+func runFinishRun(ctx context.Context, o *runFinishOptions) error {
+	l, err := o.f.runLog(ctx)
+	if err != nil {
+		return err
+	}
+	rec, err := l.Record(ctx, o.code)
+	if err != nil {
+		return err
+	}
+	fin := store.Finish{Status: store.Done, Ended: time.Now(), Note: o.note}
+	if o.aborted {
+		fin.Status = store.Aborted
+	}
+	if rec.Status.Finished() {
+		return fmt.Errorf("run %q is already %s: %w", o.code, rec.Status, store.ErrConflict)
+	}
+	var att *store.Attachment
+	if o.log != "" {
+		plan, err := planOfRun(ctx, l, rec, o.flags.furnace)
+		if err != nil {
+			return err
+		}
+		res, a, err := readFurnaceLog(o.log, plan)
+		if err != nil {
+			return err
+		}
+		fin.Actuals, fin.Deviations, att = res.Actuals, res.Deviations, &a
+	}
+	if err := l.FinishRun(ctx, o.code, fin); err != nil {
+		return err
+	}
+	if att != nil {
+		if err := l.AddAttachment(ctx, o.code, *att); err != nil {
+			return err
+		}
+	}
+	fmt.Fprintf(o.f.io.Out, "run %s %s\n", o.code, fin.Status)
+	return printDeviations(o.f.io.Out, o.code, fin.Deviations)
+}
+
+// planOfRun derives the plan of a logged run from its recipe snapshot.
+func planOfRun(ctx context.Context, l store.RunLog, rec store.RunRecord, furnace string) (*recipe.Plan, error) {
+	if rec.RecipeHash == "" {
+		return nil, fmt.Errorf("run %s has no recipe snapshot to match the log against", rec.Code)
+	}
+	sn, err := l.Snapshot(ctx, rec.RecipeHash)
+	if err != nil {
+		return nil, err
+	}
+	r, err := recipe.ParseRecipe(sn.File, sn.Content)
+	if err != nil {
+		return nil, err
+	}
+	r.Site = "" // the site plays no part in matching a log
+	f, _, err := recipe.Resolve(r, furnace, "")
+	if err != nil {
+		return nil, withHint(err, "pass --furnace FILE")
+	}
+	return recipe.Derive(r, f), nil
+}
+
+type runShowOptions struct {
+	f      *factory
+	code   string
+	output string
+}
+
+func newRunShowCmd(f *factory) *cobra.Command {
+	opts := &runShowOptions{f: f}
+	cmd := &cobra.Command{
+		Use:   "show CODE",
+		Short: "Print everything logged about a run",
+		Args:  cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			opts.code = args[0]
+			if err := checkFormat(opts.output); err != nil {
+				return err
+			}
+			return runShowRun(cmd.Context(), opts)
+		},
+	}
+	cmd.Flags().StringVar(&opts.output, "output", formatTable, "output format: table, csv or json")
+	return cmd
+}
+
+func runShowRun(ctx context.Context, o *runShowOptions) error {
+	l, err := o.f.runLog(ctx)
+	if err != nil {
+		return err
+	}
+	rec, err := l.Record(ctx, o.code)
+	if err != nil {
+		return err
+	}
+	w := o.f.io.Out
+	switch o.output {
+	case formatJSON:
+		return writeJSON(w, rec)
+	case formatCSV:
+		return writeCSV(w, paramTable(rec))
+	}
+	fmt.Fprintf(w, "run %s  %s\n", rec.Code, rec.Status)
+	fmt.Fprintf(w, "recipe    %s (sha256 %.12s)\nfurnace   %s\noperator  %s\nfoil lot  %s\nstarted   %s\nended     %s\n",
+		rec.RecipeName, rec.RecipeHash, rec.Furnace, rec.Operator, rec.Lot, when(rec.Started), when(rec.Ended))
+	heading(w, "Recipe parameters")
+	if err := writeTable(w, paramTable(rec)); err != nil {
+		return err
+	}
+	if len(rec.Outcomes) > 0 {
+		heading(w, "Outcomes")
+		t := table{Header: []string{"metric", "value", "unit", "entered", "method", "measured"}, Numeric: []bool{false, true}}
+		for _, oc := range rec.Outcomes {
+			t.add(oc.Metric, num(oc.Value, 4), oc.Unit, oc.Entered, oc.Method, when(oc.Measured))
+		}
+		if err := writeTable(w, t); err != nil {
+			return err
+		}
+	}
+	if len(rec.Notes) > 0 {
+		heading(w, "Notes")
+		for _, n := range rec.Notes {
+			fmt.Fprintf(w, "%s  %s\n", when(n.At), n.Text)
+		}
+	}
+	if len(rec.Actuals) > 0 {
+		heading(w, "Furnace log: actuals per step")
+		if err := writeTable(w, actualTable(rec.Actuals)); err != nil {
+			return err
+		}
+	}
+	if len(rec.Deviations) > 0 {
+		heading(w, "Deviations from plan")
+		t := table{Header: []string{"step", "quantity", "deviation"}}
+		for _, d := range rec.Deviations {
+			t.add(d.Label, d.Quantity, d.Message)
+		}
+		if err := writeTable(w, t); err != nil {
+			return err
+		}
+	}
+	if len(rec.Attachments) > 0 {
+		heading(w, "Attachments")
+		for _, a := range rec.Attachments {
+			fmt.Fprintf(w, "%s  %s  sha256 %.12s\n", a.Kind, a.Path, a.SHA256)
+		}
+	}
+	return nil
+}
+
+func paramTable(rec store.RunRecord) table {
+	units := map[string]string{}
+	for _, p := range recipe.ParameterNames() {
+		units[p.Name] = p.Unit
+	}
+	names := make([]string, 0, len(rec.Params))
+	for n := range rec.Params {
+		names = append(names, n)
+	}
+	store.SortParams(names)
+	t := table{Header: []string{"parameter", "value", "unit"}, Numeric: []bool{false, true, false}}
+	for _, n := range names {
+		t.add(n, num(rec.Params[n], 5), units[n])
+	}
+	return t
+}
+
+// actualTable shows actuals in lab units: °C, Torr, sccm, min.
+func actualTable(as []store.Actual) table {
+	t := table{Header: []string{"step", "quantity", "unit", "planned", "mean", "min", "max", "samples"},
+		Numeric: []bool{false, false, false, true, true, true, true, true}}
+	sort.SliceStable(as, func(i, j int) bool { return as[i].Step < as[j].Step })
+	for _, a := range as {
+		unit, conv := a.Unit, func(v float64) float64 { return v }
+		switch {
+		case a.Unit == "K":
+			unit, conv = "°C", func(v float64) float64 { return v - 273.15 }
+		case a.Unit == "Pa":
+			unit, conv = "Torr", func(v float64) float64 { x, _ := recipe.ConvertTo(v, "Torr"); return x }
+		case a.Unit == "mol/s":
+			unit, conv = "sccm", func(v float64) float64 { x, _ := recipe.ConvertTo(v, "sccm"); return x }
+		case a.Unit == "s":
+			unit, conv = "min", func(v float64) float64 { return v / 60 }
+		}
+		planned := ""
+		if a.Planned.Valid() {
+			planned = num(conv(float64(a.Planned)), 4)
+		}
+		t.add(a.Label, a.Quantity, unit, planned, num(conv(a.Mean), 4), num(conv(a.Min), 4), num(conv(a.Max), 4), fmt.Sprint(a.Samples))
+	}
+	return t
+}
+
+func when(t time.Time) string {
+	if t.IsZero() {
+		return ""
+	}
+	return t.Local().Format("2006-01-02 15:04")
+}

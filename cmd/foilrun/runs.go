@@ -1,0 +1,450 @@
+package main
+
+import (
+	"bufio"
+	"context"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"strconv"
+	"strings"
+
+	"github.com/spf13/cobra"
+
+	"github.com/foilrun/foilrun/store"
+)
+
+func newRunsCmd(f *factory) *cobra.Command {
+	cmd := &cobra.Command{
+		Use:   "runs",
+		Short: "Query the run log: list, best, rank, export, import",
+		Long: `Query the run log. --where takes an expression over run columns (code,
+status, recipe, furnace, operator, lot, started, ended), recipe parameters
+(in the unit their name carries, e.g. growth_temperature_c) and outcome
+metrics (in their canonical unit, e.g. coverage as a fraction):
+
+  growth_temperature_c >= 1000 and coverage > 0.9 or status = "done"
+
+Comparisons = != < <= > >=, and, or, not, parentheses; text in quotes.
+Repeated --where flags must all hold.`,
+	}
+	cmd.AddCommand(newRunsListCmd(f), newRunsBestCmd(f), newRunsRankCmd(f), newRunsExportCmd(f), newRunsImportCmd(f))
+	return cmd
+}
+
+type runsListOptions struct {
+	f      *factory
+	where  []string
+	limit  int
+	output string
+}
+
+func newRunsListCmd(f *factory) *cobra.Command {
+	opts := &runsListOptions{f: f}
+	cmd := &cobra.Command{
+		Use:   "list",
+		Short: "List runs, optionally filtered",
+		Args:  cobra.NoArgs,
+		RunE: func(cmd *cobra.Command, args []string) error {
+			if err := checkFormat(opts.output); err != nil {
+				return err
+			}
+			return runsListRun(cmd.Context(), opts)
+		},
+	}
+	cmd.Flags().StringArrayVar(&opts.where, "where", nil, "filter expression (repeatable; all must hold)")
+	cmd.Flags().IntVar(&opts.limit, "limit", 0, "at most this many runs (0: all)")
+	cmd.Flags().StringVar(&opts.output, "output", formatTable, "output format: table, csv or json")
+	return cmd
+}
+
+func runsListRun(ctx context.Context, o *runsListOptions) error {
+	l, err := o.f.runLog(ctx)
+	if err != nil {
+		return err
+	}
+	runs, err := l.List(ctx, store.Filter{Where: o.where, Limit: o.limit})
+	if err != nil {
+		return err
+	}
+	t := table{Header: []string{"code", "status", "recipe", "furnace", "operator", "lot", "started", "ended"}}
+	for _, r := range runs {
+		t.add(r.Code, string(r.Status), r.RecipeName, r.Furnace, r.Operator, r.Lot, when(r.Started), when(r.Ended))
+	}
+	if runs == nil {
+		runs = []store.Run{}
+	}
+	if err := render(o.f.io.Out, o.output, t, runs); err != nil {
+		return err
+	}
+	if o.output == formatTable {
+		fmt.Fprintf(o.f.io.Err, "%d runs\n", len(runs))
+	}
+	return nil
+}
+
+// goalFlags are --min and --max of best and rank.
+type goalFlags struct{ min, max string }
+
+func (g *goalFlags) register(cmd *cobra.Command) {
+	cmd.Flags().StringVar(&g.min, "min", "", "a run is good when the metric is at least this (canonical unit)")
+	cmd.Flags().StringVar(&g.max, "max", "", "a run is good when the metric is at most this")
+}
+
+func (g *goalFlags) goal() (store.Goal, error) {
+	out := store.NoGoal()
+	for _, p := range []struct {
+		flag, v string
+		into    *store.Optional
+	}{{"--min", g.min, &out.Min}, {"--max", g.max, &out.Max}} {
+		if p.v == "" {
+			continue
+		}
+		x, err := strconv.ParseFloat(p.v, 64)
+		if err != nil || math.IsNaN(x) || math.IsInf(x, 0) {
+			return out, usagef("%s %q: want a number", p.flag, p.v)
+		}
+		*p.into = store.Optional(x)
+	}
+	return out, nil
+}
+
+type runsBestOptions struct {
+	f      *factory
+	metric string
+	by     []string
+	bins   int
+	goal   goalFlags
+	where  []string
+	output string
+}
+
+func newRunsBestCmd(f *factory) *cobra.Command {
+	opts := &runsBestOptions{f: f}
+	cmd := &cobra.Command{
+		Use:     "best",
+		Short:   "Which parameter ranges gave good results: runs binned by one or two parameters",
+		Example: `  foilrun runs best --metric coverage --min 0.9 --by growth_temperature_c,ch4_flow_sccm --bins 5`,
+		Args:    cobra.NoArgs,
+		RunE: func(cmd *cobra.Command, args []string) error {
+			if opts.metric == "" || len(opts.by) == 0 {
+				return usagef("runs best needs --metric and --by")
+			}
+			if len(opts.by) > 2 {
+				return usagef("--by %s: give one or two parameters", strings.Join(opts.by, ","))
+			}
+			if opts.bins < 1 || opts.bins > 100 {
+				return usagef("--bins %d: want 1 to 100", opts.bins)
+			}
+			if err := checkFormat(opts.output); err != nil {
+				return err
+			}
+			return runsBestRun(cmd.Context(), opts)
+		},
+	}
+	cmd.Flags().StringVar(&opts.metric, "metric", "", "outcome metric, e.g. coverage")
+	cmd.Flags().StringSliceVar(&opts.by, "by", nil, "one or two recipe parameters, comma-separated")
+	cmd.Flags().IntVar(&opts.bins, "bins", 5, "equal-width bins per parameter")
+	cmd.Flags().StringArrayVar(&opts.where, "where", nil, "only runs matching this filter (repeatable)")
+	opts.goal.register(cmd)
+	cmd.Flags().StringVar(&opts.output, "output", formatTable, "output format: table, csv or json")
+	return cmd
+}
+
+// checkNames makes sure the metric and parameters are known to the log.
+func checkNames(ctx context.Context, l store.RunLog, metric string, params []string) error {
+	names, err := l.Names(ctx)
+	if err != nil {
+		return err
+	}
+	kinds := map[string]string{}
+	for _, n := range names {
+		kinds[n.Name] = n.Kind
+	}
+	if kinds[metric] != store.NameMetric {
+		return withHint(usagef("metric %q has no logged values", metric), "add outcomes with: foilrun outcome add CODE "+metric+"=VALUE")
+	}
+	for _, p := range params {
+		if kinds[p] != store.NameParam {
+			return withHint(usagef("parameter %q has no logged values", p), "see the names in: foilrun run show CODE")
+		}
+	}
+	return nil
+}
+
+type bestJSON struct {
+	Metric  string    `json:"metric"`
+	Params  []string  `json:"params"`
+	Goal    string    `json:"goal"`
+	Runs    int       `json:"runs"`
+	Missing int       `json:"runs_missing_a_parameter"`
+	Bins    []binJSON `json:"bins"`
+}
+
+type binJSON struct {
+	Lo, Hi  []float64
+	Count   int      `json:"count"`
+	Mean    float64  `json:"mean"`
+	Min     float64  `json:"min"`
+	Max     float64  `json:"max"`
+	Meeting int      `json:"meeting"`
+	Share   *float64 `json:"share"`
+}
+
+func runsBestRun(ctx context.Context, o *runsBestOptions) error {
+	goal, err := o.goal.goal()
+	if err != nil {
+		return err
+	}
+	l, err := o.f.runLog(ctx)
+	if err != nil {
+		return err
+	}
+	if err := checkNames(ctx, l, o.metric, o.by); err != nil {
+		return err
+	}
+	s, err := l.Samples(ctx, store.Filter{Where: o.where}, o.metric, o.by)
+	if err != nil {
+		return err
+	}
+	bt := store.Best(s, o.metric, o.by, o.bins, goal)
+	t := table{}
+	for _, p := range o.by {
+		t.Header = append(t.Header, p)
+		t.Numeric = append(t.Numeric, false)
+	}
+	share := "share " + goal.String()
+	t.Header = append(t.Header, "runs", "mean", "min", "max", share)
+	t.Numeric = append(t.Numeric, true, true, true, true, true)
+	js := bestJSON{Metric: bt.Metric, Params: bt.Params, Goal: goal.String(), Runs: bt.Runs, Missing: bt.Missing, Bins: []binJSON{}}
+	for _, b := range bt.Bins {
+		var cells []string
+		for j := range o.by {
+			cells = append(cells, num(b.Lo[j], 4)+" – "+num(b.Hi[j], 4))
+		}
+		sh := ""
+		if !math.IsNaN(b.Share) {
+			sh = fixed(100*b.Share, 0) + " %"
+		}
+		t.add(append(cells, fmt.Sprint(b.Count), num(b.Mean, 3), num(b.Min, 3), num(b.Max, 3), sh)...)
+		js.Bins = append(js.Bins, binJSON{Lo: b.Lo, Hi: b.Hi, Count: b.Count, Mean: b.Mean, Min: b.Min, Max: b.Max, Meeting: b.Meeting, Share: optional(b.Share)})
+	}
+	if err := render(o.f.io.Out, o.output, t, js); err != nil {
+		return err
+	}
+	if o.output == formatTable {
+		fmt.Fprintf(o.f.io.Err, "%s over %d runs (%d without the parameters left out)\n", o.metric, bt.Runs, bt.Missing)
+	}
+	return nil
+}
+
+type runsRankOptions struct {
+	f      *factory
+	metric string
+	goal   goalFlags
+	where  []string
+	output string
+}
+
+func newRunsRankCmd(f *factory) *cobra.Command {
+	opts := &runsRankOptions{f: f}
+	cmd := &cobra.Command{
+		Use:   "rank",
+		Short: "Rank recipe parameters by Spearman rank correlation with a metric",
+		Long: `Rank every recipe parameter by Spearman's rank correlation with the metric
+(ties get average ranks), with the number of runs and the parameter's range
+among the good runs against the rest. Good runs meet --min/--max; without
+them, the best quartile (the top one, or the bottom one for metrics where
+lower is better: nuclei_density, raman_d_g, sheet_resistance).`,
+		Args: cobra.NoArgs,
+		RunE: func(cmd *cobra.Command, args []string) error {
+			if opts.metric == "" {
+				return usagef("runs rank needs --metric")
+			}
+			if err := checkFormat(opts.output); err != nil {
+				return err
+			}
+			return runsRankRun(cmd.Context(), opts)
+		},
+	}
+	cmd.Flags().StringVar(&opts.metric, "metric", "", "outcome metric, e.g. coverage")
+	cmd.Flags().StringArrayVar(&opts.where, "where", nil, "only runs matching this filter (repeatable)")
+	opts.goal.register(cmd)
+	cmd.Flags().StringVar(&opts.output, "output", formatTable, "output format: table, csv or json")
+	return cmd
+}
+
+type rankJSON struct {
+	Param   string   `json:"param"`
+	Rho     *float64 `json:"rho"`
+	N       int      `json:"n"`
+	Good    int      `json:"good"`
+	GoodMin *float64 `json:"good_min"`
+	GoodMax *float64 `json:"good_max"`
+	RestMin *float64 `json:"rest_min"`
+	RestMax *float64 `json:"rest_max"`
+}
+
+func runsRankRun(ctx context.Context, o *runsRankOptions) error {
+	goal, err := o.goal.goal()
+	if err != nil {
+		return err
+	}
+	l, err := o.f.runLog(ctx)
+	if err != nil {
+		return err
+	}
+	if err := checkNames(ctx, l, o.metric, nil); err != nil {
+		return err
+	}
+	names, err := l.Names(ctx)
+	if err != nil {
+		return err
+	}
+	var params []string
+	for _, n := range names {
+		if n.Kind == store.NameParam {
+			params = append(params, n.Name)
+		}
+	}
+	store.SortParams(params)
+	s, err := l.Samples(ctx, store.Filter{Where: o.where}, o.metric, params)
+	if err != nil {
+		return err
+	}
+	m, _ := store.MetricByName(o.metric)
+	res := store.Rank(s, o.metric, params, goal, m.LowerBetter)
+	t := table{Header: []string{"parameter", "rho", "runs", "good", "good range", "rest range"}, Numeric: []bool{false, true, true, true, false, false}}
+	js := []rankJSON{}
+	rng := func(lo, hi float64) string {
+		if math.IsNaN(lo) {
+			return ""
+		}
+		return num(lo, 4) + " – " + num(hi, 4)
+	}
+	for _, r := range res.Rows {
+		t.add(r.Param, fixed(r.Rho, 3), fmt.Sprint(r.N), fmt.Sprint(r.Good), rng(r.GoodMin, r.GoodMax), rng(r.RestMin, r.RestMax))
+		js = append(js, rankJSON{r.Param, optional(r.Rho), r.N, r.Good, optional(r.GoodMin), optional(r.GoodMax), optional(r.RestMin), optional(r.RestMax)})
+	}
+	if err := render(o.f.io.Out, o.output, t, js); err != nil {
+		return err
+	}
+	if o.output == formatTable {
+		fmt.Fprintf(o.f.io.Err, "%s: good means %s; %d runs\n", o.metric, res.Goal, len(s))
+	}
+	return nil
+}
+
+type runsExportOptions struct {
+	f      *factory
+	format string
+	file   string
+	where  []string
+}
+
+func newRunsExportCmd(f *factory) *cobra.Command {
+	opts := &runsExportOptions{f: f}
+	cmd := &cobra.Command{
+		Use:   "export",
+		Short: "Write runs as JSON (complete) or CSV (one row per run)",
+		Args:  cobra.NoArgs,
+		RunE: func(cmd *cobra.Command, args []string) error {
+			if opts.format != formatCSV && opts.format != formatJSON {
+				return usagef("--format %q: want csv or json", opts.format)
+			}
+			return runsExportRun(cmd.Context(), opts)
+		},
+	}
+	cmd.Flags().StringVar(&opts.format, "format", formatJSON, "csv or json")
+	cmd.Flags().StringVarP(&opts.file, "output-file", "o", "", "write to this file (default standard output)")
+	cmd.Flags().StringArrayVar(&opts.where, "where", nil, "only runs matching this filter (repeatable)")
+	return cmd
+}
+
+func runsExportRun(ctx context.Context, o *runsExportOptions) (err error) {
+	l, err := o.f.runLog(ctx)
+	if err != nil {
+		return err
+	}
+	var w io.Writer = o.f.io.Out
+	if o.file != "" {
+		fh, err := os.Create(o.file)
+		if err != nil {
+			return fmt.Errorf("export: %w", err)
+		}
+		defer func() {
+			if cerr := fh.Close(); err == nil {
+				err = cerr
+			}
+		}()
+		w = fh
+	}
+	bw := bufio.NewWriter(w)
+	f := store.Filter{Where: o.where}
+	var n int
+	if o.format == formatCSV {
+		n, err = store.WriteCSV(ctx, bw, l, f)
+	} else {
+		n, err = store.WriteJSON(ctx, bw, l, f)
+	}
+	if err != nil {
+		return err
+	}
+	if err := bw.Flush(); err != nil {
+		return err
+	}
+	fmt.Fprintf(o.f.io.Err, "%d runs exported\n", n)
+	return nil
+}
+
+type runsImportOptions struct {
+	f      *factory
+	format string
+	file   string
+}
+
+func newRunsImportCmd(f *factory) *cobra.Command {
+	opts := &runsImportOptions{f: f}
+	cmd := &cobra.Command{
+		Use:   "import FILE",
+		Short: "Add runs from a JSON or CSV export, all or nothing",
+		Args:  cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			opts.file = args[0]
+			if opts.format != formatCSV && opts.format != formatJSON {
+				return usagef("--format %q: want csv or json", opts.format)
+			}
+			return runsImportRun(cmd.Context(), opts)
+		},
+	}
+	cmd.Flags().StringVar(&opts.format, "format", formatJSON, "csv or json")
+	return cmd
+}
+
+func runsImportRun(ctx context.Context, o *runsImportOptions) error {
+	fh, err := os.Open(o.file)
+	if err != nil {
+		return fmt.Errorf("import: %w", err)
+	}
+	defer fh.Close()
+	var b store.Bundle
+	if o.format == formatCSV {
+		b, err = store.ReadCSV(bufio.NewReader(fh))
+	} else {
+		b, err = store.ReadJSON(bufio.NewReader(fh))
+	}
+	if err != nil {
+		return fmt.Errorf("import %q: %w", o.file, err)
+	}
+	l, err := o.f.runLog(ctx)
+	if err != nil {
+		return err
+	}
+	n, err := l.Import(ctx, b, nil)
+	if err != nil {
+		return fmt.Errorf("import %q (nothing was imported): %w", o.file, err)
+	}
+	fmt.Fprintf(o.f.io.Err, "%d runs imported\n", n)
+	return nil
+}
