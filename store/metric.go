@@ -2,6 +2,7 @@ package store
 
 import (
 	"fmt"
+	"github.com/foilrun/foilrun/recipe"
 	"math"
 	"sort"
 	"strconv"
@@ -88,7 +89,7 @@ func ParseOutcome(s string, isParam func(string) bool) (Outcome, error) {
 		return Outcome{}, fmt.Errorf("outcome %q: %q is a recipe parameter, not a measured outcome: %w", s, name, ErrInvalid)
 	}
 	val = strings.TrimSpace(val)
-	numText, unit := splitNumber(val)
+	numText, unit := recipe.SplitNumber(val)
 	unit = strings.TrimSpace(unit)
 	v, err := strconv.ParseFloat(numText, 64)
 	if numText == "" || err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
@@ -133,34 +134,4 @@ func validName(s string) bool {
 		}
 	}
 	return true
-}
-
-// splitNumber splits "12.5e-3 um" into "12.5e-3" and " um".
-func splitNumber(s string) (num, rest string) {
-	i := 0
-	if i < len(s) && (s[i] == '+' || s[i] == '-') {
-		i++
-	}
-	digits := false
-	for i < len(s) && (s[i] >= '0' && s[i] <= '9' || s[i] == '.') {
-		digits = digits || s[i] != '.'
-		i++
-	}
-	if !digits {
-		return "", s
-	}
-	if i < len(s) && (s[i] == 'e' || s[i] == 'E') {
-		j := i + 1
-		if j < len(s) && (s[j] == '+' || s[j] == '-') {
-			j++
-		}
-		k := j
-		for k < len(s) && s[k] >= '0' && s[k] <= '9' {
-			k++
-		}
-		if k > j {
-			i = k
-		}
-	}
-	return s[:i], s[i:]
 }

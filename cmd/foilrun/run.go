@@ -186,11 +186,15 @@ func printDeviations(w io.Writer, code string, devs []store.Deviation) error {
 		return nil
 	}
 	fmt.Fprintf(w, "run %s: %d deviations from plan\n", code, len(devs))
+	return writeTable(w, deviationTable(devs))
+}
+
+func deviationTable(devs []store.Deviation) table {
 	t := table{Header: []string{"step", "quantity", "deviation"}}
 	for _, d := range devs {
 		t.add(d.Label, d.Quantity, d.Message)
 	}
-	return writeTable(w, t)
+	return t
 }
 
 type runNoteOptions struct {
@@ -377,11 +381,7 @@ func runShowRun(ctx context.Context, o *runShowOptions) error {
 	}
 	if len(rec.Deviations) > 0 {
 		heading(w, "Deviations from plan")
-		t := table{Header: []string{"step", "quantity", "deviation"}}
-		for _, d := range rec.Deviations {
-			t.add(d.Label, d.Quantity, d.Message)
-		}
-		if err := writeTable(w, t); err != nil {
+		if err := writeTable(w, deviationTable(rec.Deviations)); err != nil {
 			return err
 		}
 	}
