@@ -89,8 +89,18 @@ func knownFitNames() string {
 // callers can report it as bad input.
 var ErrFitInput = errors.New("bad fit input")
 
+// inputError is an error about the caller's input; it wraps a sentinel
+// without adding to the message.
+type inputError struct {
+	msg  string
+	kind error
+}
+
+func (e *inputError) Error() string { return e.msg }
+func (e *inputError) Unwrap() error { return e.kind }
+
 func fitErr(format string, args ...any) error {
-	return fmt.Errorf("fit: "+format+": %w", append(args, ErrFitInput)...)
+	return &inputError{"fit: " + fmt.Sprintf(format, args...), ErrFitInput}
 }
 
 // ParseFix reads NAME=VALUE for a parameter held fixed, e.g. "Eg=1.9",

@@ -18,7 +18,7 @@ import (
 var ErrSuggest = errors.New("bad suggest input")
 
 func suggestErr(format string, args ...any) error {
-	return fmt.Errorf(format+": %w", append(args, ErrSuggest)...)
+	return &inputError{fmt.Sprintf(format, args...), ErrSuggest}
 }
 
 // Quantities a target can name.
@@ -145,6 +145,9 @@ type Margin struct {
 	Value float64 // the candidate's value, display unit
 	Bound float64 // the limit, display unit
 	Unit  string  // "C", "sccm", "min", "", "um", "/mm2"
+	// Margin is the room left: Bound − Value for upper limits and "<="
+	// targets, Value − Bound for ">=" targets; ≥ 0 when the limit holds.
+	Margin float64
 }
 
 // Candidate is one point of the search that meets the targets.
@@ -798,6 +801,9 @@ func (s *searcher) margins(c Candidate) []Margin {
 	if s.varyTime {
 		ms = append(ms, Margin{Limit: "longest grow time searched", Value: c.Duration / 60, Bound: s.thi / 60, Unit: "min"})
 	}
+	for i := range ms {
+		ms[i].Margin = ms[i].Bound - ms[i].Value
+	}
 	for i, tg := range s.spec.Targets {
 		m := Margin{Limit: tg.Quantity + " target", Value: c.Bounds[i], Bound: tg.Value}
 		switch tg.Quantity {
@@ -805,6 +811,10 @@ func (s *searcher) margins(c Candidate) []Margin {
 			m.Value, m.Bound, m.Unit = m.Value*1e6, m.Bound*1e6, "um"
 		case TargetNucleiDensity:
 			m.Value, m.Bound, m.Unit = m.Value*1e-6, m.Bound*1e-6, "/mm2"
+		}
+		m.Margin = m.Bound - m.Value
+		if tg.AtLeast {
+			m.Margin = m.Value - m.Bound
 		}
 		ms = append(ms, m)
 	}

@@ -5,9 +5,13 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"runtime"
 	"sort"
+	"sync"
 
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/foilrun/foilrun/recipe"
 )
 
 // ErrNoCovariance is returned when an interval is asked of parameters
@@ -221,4 +225,73 @@ func PredictInterval(prof Profile, p Params, opts Options, s IntervalSettings) (
 	}
 	return Uncertainty{Level: s.Level, Samples: s.Samples, Seed: s.Seed, Method: IntervalMethod,
 		Coverage: interval(cov, s.Level), NucleiDensity: interval(nd, s.Level), DomainSize: interval(ds, s.Level)}, nil
+}
+
+// WindowIntervals returns the interval of every point of a window map made
+// from plan (Window), Intervals[iy][ix], each point's recipe rebuilt as
+// Window builds it. Points are computed in parallel. It returns
+// ErrNoCovariance when p has none. It panics if plan or m is nil.
+func WindowIntervals(plan *recipe.Plan, m *Map, p Params, opts Options, s IntervalSettings) ([][]Uncertainty, error) {
+	s = s.withDefaults()
+	samples, err := SampleParams(p, s.Samples, s.Seed)
+	if err != nil {
+		return nil, err
+	}
+	r := plan.Recipe
+	grow := -1
+	for i, st := range r.Steps {
+		if st.Kind == recipe.KindGrow {
+			grow = i
+			break
+		}
+	}
+	if grow < 0 {
+		return nil, fmt.Errorf("window: recipe %q has no grow step to vary", r.Name)
+	}
+	out := make([][]Uncertainty, len(m.Ys))
+	for iy := range out {
+		out[iy] = make([]Uncertainty, len(m.Xs))
+	}
+	var wg sync.WaitGroup
+	var mu sync.Mutex
+	var firstErr error
+	jobs := make(chan int)
+	for range runtime.NumCPU() {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			cov, nd, ds := make([]float64, len(samples)), make([]float64, len(samples)), make([]float64, len(samples))
+			for k := range jobs {
+				iy, ix := k/len(m.Xs), k%len(m.Xs)
+				rr := *r
+				rr.Steps = append([]recipe.Step(nil), r.Steps...)
+				setParam(&rr.Steps[grow], m.X, m.Xs[ix])
+				setParam(&rr.Steps[grow], m.Y, m.Ys[iy])
+				pr, err := Prepare(NewProfile(recipe.Derive(&rr, plan.Furnace)), p, opts)
+				if err != nil {
+					mu.Lock()
+					if firstErr == nil {
+						firstErr = err
+					}
+					mu.Unlock()
+					continue
+				}
+				for j, q := range samples {
+					th, N := pr.Evaluate(q)
+					cov[j], nd[j], ds[j] = th, N, DomainSize(th, N)
+				}
+				out[iy][ix] = Uncertainty{Level: s.Level, Samples: s.Samples, Seed: s.Seed, Method: IntervalMethod,
+					Coverage: interval(cov, s.Level), NucleiDensity: interval(nd, s.Level), DomainSize: interval(ds, s.Level)}
+			}
+		}()
+	}
+	for k := range len(m.Xs) * len(m.Ys) {
+		jobs <- k
+	}
+	close(jobs)
+	wg.Wait()
+	if firstErr != nil {
+		return nil, firstErr
+	}
+	return out, nil
 }
