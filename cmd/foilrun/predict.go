@@ -120,6 +120,7 @@ type predictResult struct {
 	CheckErrors  int           `json:"check_errors"`
 	Notes        []string      `json:"notes"`
 	Steps        []predictStep `json:"steps"`
+	Interval     *intervalJSON `json:"interval,omitempty"` // with a fitted params file (fit.go)
 }
 
 type predictStep struct {
@@ -190,6 +191,9 @@ func predictRun(opts *predictOptions) error {
 		return err
 	}
 	out := predictJSON(plan, res, errs)
+	if out.Interval, err = predictInterval(plan, params); err != nil {
+		return err
+	}
 	switch opts.output {
 	case formatJSON:
 		err = writeJSON(opts.io.Out, out)
@@ -232,6 +236,7 @@ func printPredict(w io.Writer, r predictResult) error {
 		return err
 	}
 	fmt.Fprintln(w, "times count from the first step with methane")
+	printInterval(w, r.Interval)
 	heading(w, "Per step")
 	if err := writeTable(w, predictStepTable(r.Steps)); err != nil {
 		return err

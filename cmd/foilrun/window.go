@@ -107,16 +107,17 @@ type windowResult struct {
 }
 
 type windowPoint struct {
-	X            float64  `json:"x"`
-	Y            float64  `json:"y"`
-	Feasible     bool     `json:"feasible"`
-	Rule         string   `json:"rule,omitempty"`
-	Message      string   `json:"message,omitempty"`
-	Coverage     float64  `json:"coverage"`
-	NucleiPerMM2 float64  `json:"nuclei_per_mm2"`
-	DomainUm     float64  `json:"domain_size_um"`
-	T99Min       *float64 `json:"t99_min"`
-	Etching      bool     `json:"etching"`
+	X            float64       `json:"x"`
+	Y            float64       `json:"y"`
+	Feasible     bool          `json:"feasible"`
+	Rule         string        `json:"rule,omitempty"`
+	Message      string        `json:"message,omitempty"`
+	Coverage     float64       `json:"coverage"`
+	NucleiPerMM2 float64       `json:"nuclei_per_mm2"`
+	DomainUm     float64       `json:"domain_size_um"`
+	T99Min       *float64      `json:"t99_min"`
+	Etching      bool          `json:"etching"`
+	Interval     *intervalJSON `json:"interval,omitempty"` // with a fitted params file (fit.go)
 }
 
 func windowRun(opts *windowOptions) error {
@@ -162,6 +163,16 @@ func windowRun(opts *windowOptions) error {
 				T99Min: opt6(p.T99 / 60), Etching: p.Etching,
 			})
 		}
+	}
+	ivs, err := windowIntervals(plan, m, params)
+	if err != nil {
+		return err
+	}
+	for i := range ivs {
+		res.Points[i].Interval = ivs[i]
+	}
+	if ivs != nil && opts.output == formatTable {
+		fmt.Fprintln(opts.io.Err, "90 % intervals of every point are in --output json")
 	}
 	switch opts.output {
 	case formatJSON:

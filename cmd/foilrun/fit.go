@@ -1,0 +1,610 @@
+package main
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"image/color"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"sort"
+	"strings"
+	"time"
+
+	"github.com/schollz/progressbar/v3"
+	"github.com/spf13/cobra"
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+
+	"github.com/foilrun/foilrun/kinetics"
+	"github.com/foilrun/foilrun/recipe"
+	"github.com/foilrun/foilrun/store"
+)
+
+type fitOptions struct {
+	io      *streams
+	f       *factory
+	metrics string
+	where   []string
+	fix     []string
+	furnace string
+	params  string
+	outFile string
+	plot    string
+	output  string
+	now     func() time.Time
+}
+
+func newFitCmd(f *factory) *cobra.Command {
+	opts := &fitOptions{io: f.io, f: f, now: time.Now}
+	cmd := &cobra.Command{
+		Use:   "fit",
+		Short: "Calibrate the kinetics parameters from logged runs",
+		Long: `Fit the nucleation and growth model to logged runs that have a measured
+coverage and/or nuclei density, by weighted nonlinear least squares
+(Levenberg–Marquardt): coverage on the complementary log-log scale
+ln(−ln(1−θ)), with θ clipped to [0.001, 0.999], nuclei density as ln N,
+prefactors fitted as logarithms. When both metrics are fitted each gets the
+weight 1/σ² with σ its own RMS residual after a first pass.
+
+Each run's plan is rebuilt from its recipe snapshot and a furnace: --furnace
+FILE, or the recipe's own "furnace:" path next to the file the snapshot was
+read from. Prints the estimates with standard errors, the correlation of each
+activation energy with its prefactor, the goodness of fit, the residual of
+every run (worst first) and warnings when the data cannot identify a
+parameter. -o FILE writes a parameter file, with the covariance, that
+predict, window and suggest accept.
+
+--fix NAME=VALUE holds a parameter (En, I0, a, b, Eg, G0, N0 or the file's
+names; eV, /m2/s, m/s, /m2). --params FILE gives the start point and the
+fixed settings (reference pressure, shape, mode); default the illustrative
+parameters.`,
+		Args: cobra.NoArgs,
+		RunE: func(cmd *cobra.Command, args []string) error {
+			if err := checkFormat(opts.output); err != nil {
+				return err
+			}
+			if opts.plot != "" {
+				if err := checkPlotPath(opts.plot); err != nil {
+					return err
+				}
+			}
+			if _, _, err := parseMetrics(opts.metrics); err != nil {
+				return err
+			}
+			return fitRun(cmd.Context(), opts)
+		},
+	}
+	cmd.Flags().StringVar(&opts.metrics, "metric", "coverage,density", "metrics to fit: coverage, density or both (comma-separated)")
+	cmd.Flags().StringArrayVar(&opts.where, "where", nil, "select runs, as in runs list (repeatable; all must hold)")
+	cmd.Flags().StringArrayVar(&opts.fix, "fix", nil, "hold a parameter fixed, NAME=VALUE such as Eg=1.9 (repeatable)")
+	cmd.Flags().StringVar(&opts.furnace, "furnace", "", "furnace file for every run (default: each recipe's own furnace path)")
+	cmd.Flags().StringVar(&opts.params, "params", "", "start parameter file (default: illustrative parameters)")
+	cmd.Flags().StringVarP(&opts.outFile, "output-file", "o", "", "write the calibrated parameter file here")
+	cmd.Flags().StringVar(&opts.plot, "plot", "", "write a parity plot (measured against predicted) to this .png or .svg file")
+	cmd.Flags().StringVar(&opts.output, "output", formatTable, "output format: table, csv or json")
+	return cmd
+}
+
+func parseMetrics(s string) (coverage, density bool, err error) {
+	for _, m := range strings.Split(s, ",") {
+		switch strings.TrimSpace(m) {
+		case "coverage":
+			coverage = true
+		case "density", "nuclei_density", "nuclei-density":
+			density = true
+		default:
+			return false, false, usagef("--metric %q: want coverage, density or coverage,density", s)
+		}
+	}
+	return coverage, density, nil
+}
+
+// fitRunData is what the log gives for one run.
+type fitRunData struct {
+	code     string
+	coverage float64 // NaN if absent
+	density  float64 // 1/m², NaN if absent
+	prof     kinetics.Profile
+}
+
+// furnaceSource loads furnaces once per path and says which were used.
+type furnaceSource struct {
+	flag   string
+	loaded map[string]*recipe.Furnace
+	used   map[string]int // path → runs
+}
+
+func (fs *furnaceSource) forRecipe(code string, r *recipe.Recipe, snap store.Snapshot) (*recipe.Furnace, string, error) {
+	path := fs.flag
+	if path == "" {
+		if r.Furnace == "" {
+			return nil, "", withHint(fmt.Errorf("fit: run %s: recipe %q names no furnace", code, r.Name), "pass --furnace FILE")
+		}
+		path = r.Furnace
+		if !filepath.IsAbs(path) && snap.File != "" {
+			path = filepath.Join(filepath.Dir(snap.File), path)
+		}
+		if _, err := os.Stat(path); err != nil {
+			return nil, "", withHint(fmt.Errorf("fit: run %s: recipe %q names furnace %q, not found at %s (the log keeps recipe snapshots, not furnace files)", code, r.Name, r.Furnace, path), "pass --furnace FILE")
+		}
+	}
+	if f, ok := fs.loaded[path]; ok {
+		return f, path, nil
+	}
+	f, err := recipe.LoadFurnace(path)
+	if err != nil {
+		return nil, "", err
+	}
+	fs.loaded[path] = f
+	return f, path, nil
+}
+
+func meanOutcome(rec store.RunRecord, metric string) float64 {
+	sum, n := 0.0, 0
+	for _, o := range rec.Outcomes {
+		if o.Metric == metric {
+			sum += o.Value
+			n++
+		}
+	}
+	if n == 0 {
+		return math.NaN()
+	}
+	return sum / float64(n)
+}
+
+// nucleiPerM2 converts the log's nuclei_density to 1/m².
+func nucleiPerM2(v float64, unit string) float64 {
+	switch unit {
+	case "1/m2":
+		return v
+	case "1/cm2":
+		return v * 1e4
+	case "1/um2":
+		return v * 1e12
+	}
+	return v * 1e6 // 1/mm2, the log's canonical unit
+}
+
+func (opts *fitOptions) collect(ctx context.Context, wantCov, wantDen bool) ([]fitRunData, []string, *furnaceSource, error) {
+	l, err := opts.f.runLog(ctx)
+	if err != nil {
+		return nil, nil, nil, err
+	}
+	fs := &furnaceSource{flag: opts.furnace, loaded: map[string]*recipe.Furnace{}, used: map[string]int{}}
+	if opts.furnace != "" {
+		if _, _, err := fs.forRecipe("", nil, store.Snapshot{}); err != nil {
+			return nil, nil, nil, err
+		}
+	}
+	type planned struct {
+		prof kinetics.Profile
+		path string
+	}
+	plans := map[string]planned{}
+	var runs []fitRunData
+	var skipped []string
+	denUnit := "1/mm2"
+	if m, ok := store.MetricByName("nuclei_density"); ok {
+		denUnit = m.Unit
+	}
+	err = l.Export(ctx, store.Filter{Where: opts.where}, func(rec store.RunRecord) error {
+		d := fitRunData{code: rec.Code, coverage: math.NaN(), density: math.NaN()}
+		if wantCov {
+			d.coverage = meanOutcome(rec, "coverage")
+		}
+		if wantDen {
+			if v := meanOutcome(rec, "nuclei_density"); !math.IsNaN(v) {
+				d.density = nucleiPerM2(v, denUnit)
+			}
+		}
+		if math.IsNaN(d.coverage) && math.IsNaN(d.density) {
+			return nil
+		}
+		if rec.RecipeHash == "" {
+			skipped = append(skipped, rec.Code+": logged without a recipe snapshot")
+			return nil
+		}
+		pl, ok := plans[rec.RecipeHash]
+		if !ok {
+			snap, err := l.Snapshot(ctx, rec.RecipeHash)
+			if err != nil {
+				return fmt.Errorf("fit: run %s: %w", rec.Code, err)
+			}
+			name := snap.File
+			if name == "" {
+				name = snap.Name
+			}
+			r, err := recipe.ParseRecipe(name, snap.Content)
+			if err != nil {
+				return fmt.Errorf("fit: run %s: recipe snapshot: %w", rec.Code, err)
+			}
+			fu, path, err := fs.forRecipe(rec.Code, r, snap)
+			if err != nil {
+				return err
+			}
+			pl = planned{prof: kinetics.NewProfile(recipe.Derive(r, fu)), path: path}
+			plans[rec.RecipeHash] = pl
+		}
+		fs.used[pl.path]++
+		d.prof = pl.prof
+		runs = append(runs, d)
+		return nil
+	})
+	if err != nil {
+		return nil, nil, nil, err
+	}
+	return runs, skipped, fs, nil
+}
+
+func fitRun(ctx context.Context, opts *fitOptions) error {
+	if ctx == nil {
+		ctx = context.Background()
+	}
+	wantCov, wantDen, _ := parseMetrics(opts.metrics)
+	settings := kinetics.FitSettings{Coverage: wantCov, Density: wantDen, Fixed: map[string]float64{}}
+	for _, s := range opts.fix {
+		key, v, err := kinetics.ParseFix(s)
+		if err != nil {
+			return usageError{err}
+		}
+		settings.Fixed[key] = v
+	}
+	start, err := loadParams(opts.params)
+	if err != nil {
+		return err
+	}
+	runs, skipped, fs, err := opts.collect(ctx, wantCov, wantDen)
+	if err != nil {
+		return err
+	}
+	var obs []kinetics.Observation
+	for _, r := range runs {
+		pr, err := kinetics.Prepare(r.prof, start, kinetics.Options{})
+		if err != nil {
+			skipped = append(skipped, r.code+": "+err.Error())
+			continue
+		}
+		obs = append(obs, kinetics.Observation{Label: r.code, Prepared: pr, Coverage: r.coverage, NucleiDensity: r.density})
+	}
+	paths := make([]string, 0, len(fs.used))
+	for path := range fs.used {
+		paths = append(paths, path)
+	}
+	sort.Strings(paths)
+	for _, path := range paths {
+		fmt.Fprintf(opts.io.Err, "furnace %q from %s for %d runs\n", fs.loaded[path].Name, path, fs.used[path])
+	}
+	for _, s := range skipped {
+		fmt.Fprintln(opts.io.Err, "skipped "+s)
+	}
+	if opts.io.ErrTTY {
+		bar := progressbar.NewOptions(200, progressbar.OptionSetWriter(opts.io.Err), progressbar.OptionSetDescription("fitting"),
+			progressbar.OptionThrottle(50*time.Millisecond), progressbar.OptionClearOnFinish())
+		settings.Progress = func(it int, _ float64) { _ = bar.Set(min(it, 200)) }
+		defer bar.Finish()
+	}
+	res, err := kinetics.Fit(obs, start, settings)
+	if err != nil {
+		if errors.Is(err, kinetics.ErrFitInput) {
+			hint := "log outcomes with foilrun outcome add, or widen --where"
+			if strings.Contains(err.Error(), "one temperature") {
+				hint = "fix the energies with --fix En=VALUE --fix Eg=VALUE, or add runs grown at other temperatures"
+			} else if strings.Contains(err.Error(), "unknown parameter") {
+				hint = "parameters: En, I0, a, b, Eg, G0, N0"
+			}
+			return withHint(usageError{err}, hint)
+		}
+		return err
+	}
+	res.Params.Date = opts.now().Format("2006-01-02")
+	codes := make([]string, len(obs))
+	for i, o := range obs {
+		codes[i] = o.Label
+	}
+	out := fitJSON(res, codes)
+	switch opts.output {
+	case formatJSON:
+		err = writeJSON(opts.io.Out, out)
+	case formatCSV:
+		err = writeCSV(opts.io.Out, estimateTable(out))
+	default:
+		err = printFit(opts.io.Out, out)
+	}
+	if err != nil {
+		return err
+	}
+	if opts.outFile != "" {
+		data := fitParamsFile(res.Params, codes)
+		if err := os.WriteFile(opts.outFile, data, 0o644); err != nil {
+			return fmt.Errorf("fit: write params: %w", err)
+		}
+		if _, err := kinetics.ParseParams(opts.outFile, data); err != nil {
+			return fmt.Errorf("fit: the params file written does not read back: %w", err)
+		}
+		fmt.Fprintf(opts.io.Err, "wrote %s\n", opts.outFile)
+	}
+	if opts.plot != "" {
+		if err := writeParity(opts.plot, res); err != nil {
+			return err
+		}
+		fmt.Fprintf(opts.io.Err, "wrote %s\n", opts.plot)
+	}
+	return nil
+}
+
+// fitParamsFile is FormatParams with the run codes as comments (the
+// loader ignores comments; Source names how many).
+func fitParamsFile(p kinetics.Params, codes []string) []byte {
+	var b strings.Builder
+	b.Write(kinetics.FormatParams(p))
+	b.WriteString("# fitted runs:\n")
+	for i := 0; i < len(codes); i += 8 {
+		b.WriteString("#   " + strings.Join(codes[i:min(i+8, len(codes))], ", ") + "\n")
+	}
+	return []byte(b.String())
+}
+
+type fitEstimateJSON struct {
+	Parameter string   `json:"parameter"`
+	Short     string   `json:"short"`
+	Unit      string   `json:"unit"`
+	Value     float64  `json:"value"`
+	SE        *float64 `json:"se"`
+	LogValue  *float64 `json:"ln_value,omitempty"`
+	LogSE     *float64 `json:"ln_se,omitempty"`
+	Fixed     bool     `json:"fixed"`
+	AtBound   bool     `json:"at_bound"`
+}
+
+type fitResidualJSON struct {
+	Run       string  `json:"run"`
+	Metric    string  `json:"metric"`
+	Measured  float64 `json:"measured"`
+	Predicted float64 `json:"predicted"`
+	Unit      string  `json:"unit"`
+	Residual  float64 `json:"residual"`
+	Weighted  float64 `json:"weighted"`
+}
+
+type fitResultJSON struct {
+	Status                string            `json:"status"`
+	Iterations            int               `json:"iterations"`
+	Runs                  []string          `json:"runs"`
+	Measurements          int               `json:"measurements"`
+	FreeParameters        int               `json:"free_parameters"`
+	RSS                   float64           `json:"rss"`
+	ReducedChiSq          float64           `json:"reduced_chi_sq"`
+	CoverageScale         float64           `json:"coverage_sigma_cloglog"`
+	DensityScale          float64           `json:"density_sigma_ln"`
+	Condition             float64           `json:"condition_number"`
+	Estimates             []fitEstimateJSON `json:"estimates"`
+	NucleationCorrelation *float64          `json:"corr_nucleation_energy_prefactor"`
+	GrowthCorrelation     *float64          `json:"corr_growth_energy_prefactor"`
+	Free                  []string          `json:"free"`
+	Correlation           [][]*float64      `json:"correlation"`
+	Residuals             []fitResidualJSON `json:"residuals"`
+	Warnings              []string          `json:"warnings"`
+	Method                string            `json:"method"`
+}
+
+func fitJSON(res *kinetics.FitResult, codes []string) fitResultJSON {
+	out := fitResultJSON{Status: string(res.Status), Iterations: res.Iterations, Runs: codes, Measurements: res.N, FreeParameters: res.P,
+		RSS: round6(res.RSS), ReducedChiSq: round6(res.ReducedChiSq), CoverageScale: round6(res.CoverageScale), DensityScale: round6(res.DensityScale),
+		Condition: round6(res.Condition), NucleationCorrelation: opt6(res.NucleationCorrelation), GrowthCorrelation: opt6(res.GrowthCorrelation),
+		Free: res.Free, Warnings: res.Warnings,
+		Method: "Levenberg–Marquardt on cloglog coverage and ln nuclei density; covariance s²(JᵀJ)⁻¹"}
+	if out.Warnings == nil {
+		out.Warnings = []string{}
+	}
+	for _, e := range res.Estimates {
+		j := fitEstimateJSON{Parameter: e.Key, Short: e.Short, Unit: e.Unit, Value: round6(e.Value), SE: opt6(e.SE), Fixed: e.Fixed, AtBound: e.AtBound}
+		if e.Log {
+			j.LogValue, j.LogSE = opt6(e.LogValue), opt6(e.LogSE)
+		}
+		out.Estimates = append(out.Estimates, j)
+	}
+	for _, row := range res.Correlation {
+		r := make([]*float64, len(row))
+		for i, v := range row {
+			r[i] = opt6(v)
+		}
+		out.Correlation = append(out.Correlation, r)
+	}
+	for _, r := range res.Residuals {
+		j := fitResidualJSON{Run: r.Label, Metric: r.Metric, Measured: round6(r.Measured), Predicted: round6(r.Predicted), Residual: round6(r.Raw), Weighted: round6(r.Weighted)}
+		if r.Metric == "nuclei_density" {
+			j.Measured, j.Predicted, j.Unit = round6(r.Measured*1e-6), round6(r.Predicted*1e-6), "1/mm2"
+		} else {
+			j.Unit = "1"
+		}
+		out.Residuals = append(out.Residuals, j)
+	}
+	return out
+}
+
+func estimateTable(r fitResultJSON) table {
+	t := table{Header: []string{"parameter", "value", "se", "unit", "fixed"}, Numeric: []bool{false, true, true, false, false}}
+	for _, e := range r.Estimates {
+		se := ""
+		if e.SE != nil {
+			se = num(*e.SE, 4)
+		} else if !e.Fixed {
+			se = "not identified"
+		}
+		fixed := "no"
+		if e.Fixed {
+			fixed, se = "yes", ""
+		}
+		t.add(e.Parameter+" ("+e.Short+")", num(e.Value, 6), se, e.Unit, fixed)
+	}
+	return t
+}
+
+func corrText(v *float64) string {
+	if v == nil {
+		return "n/a"
+	}
+	return fixed(*v, 4)
+}
+
+func printFit(w io.Writer, r fitResultJSON) error {
+	fmt.Fprintf(w, "fit of %d runs: %d measurements, %d free parameters; %s after %d iterations\n", len(r.Runs), r.Measurements, r.FreeParameters, r.Status, r.Iterations)
+	heading(w, "Estimates")
+	if err := writeTable(w, estimateTable(r)); err != nil {
+		return err
+	}
+	fmt.Fprintf(w, "correlation En with ln I0: %s; Eg with ln G0: %s\n", corrText(r.NucleationCorrelation), corrText(r.GrowthCorrelation))
+	heading(w, "Goodness of fit")
+	g := table{Header: []string{"quantity", "value"}, Numeric: []bool{false, true}}
+	g.add("RSS (weighted)", num(r.RSS, 5))
+	g.add("reduced chi-square", num(r.ReducedChiSq, 4))
+	g.add("n measurements", fmt.Sprint(r.Measurements))
+	g.add("p free parameters", fmt.Sprint(r.FreeParameters))
+	g.add("sigma coverage (cloglog)", num(r.CoverageScale, 4))
+	g.add("sigma density (ln)", num(r.DensityScale, 4))
+	g.add("condition of JtJ", num(r.Condition, 3))
+	if err := writeTable(w, g); err != nil {
+		return err
+	}
+	heading(w, "Residuals, worst first")
+	t := table{Header: []string{"run", "metric", "measured", "predicted", "unit", "residual", "weighted"}, Numeric: []bool{false, false, true, true, false, true, true}}
+	for _, e := range r.Residuals {
+		t.add(e.Run, e.Metric, num(e.Measured, 4), num(e.Predicted, 4), e.Unit, num(e.Residual, 3), num(e.Weighted, 3))
+	}
+	if err := writeTable(w, t); err != nil {
+		return err
+	}
+	fmt.Fprintln(w, "residual: measured − predicted on the fit scale (cloglog coverage, ln density)")
+	for _, s := range r.Warnings {
+		fmt.Fprintln(w, "warning: "+s)
+	}
+	return nil
+}
+
+// writeParity draws measured against predicted, one panel per metric,
+// with the line of equality.
+func writeParity(path string, res *kinetics.FitResult) error {
+	byMetric := map[string]plotter.XYs{}
+	for _, r := range res.Residuals {
+		m, p := r.Measured, r.Predicted
+		if r.Metric == "nuclei_density" {
+			m, p = m*1e-6, p*1e-6
+		}
+		byMetric[r.Metric] = append(byMetric[r.Metric], plotter.XY{X: m, Y: p})
+	}
+	var names []string
+	for k := range byMetric {
+		names = append(names, k)
+	}
+	sort.Strings(names)
+	var plots [][]*plot.Plot
+	for _, name := range names {
+		pts := byMetric[name]
+		p := plot.New()
+		p.Title.Text = "parity: " + name
+		p.X.Label.Text, p.Y.Label.Text = "measured", "predicted"
+		lo, hi := math.Inf(1), math.Inf(-1)
+		for _, q := range pts {
+			lo, hi = math.Min(lo, math.Min(q.X, q.Y)), math.Max(hi, math.Max(q.X, q.Y))
+		}
+		if name == "nuclei_density" {
+			p.X.Label.Text, p.Y.Label.Text = "measured / mm²", "predicted / mm²"
+			p.X.Scale, p.Y.Scale = plot.LogScale{}, plot.LogScale{}
+			p.X.Tick.Marker, p.Y.Tick.Marker = plot.LogTicks{}, plot.LogTicks{}
+			lo = math.Max(lo, 1e-12)
+		}
+		sc, err := plotter.NewScatter(pts)
+		if err != nil {
+			return fmt.Errorf("parity plot: %w", err)
+		}
+		sc.Color = color.RGBA{0x20, 0x50, 0xb0, 0xff}
+		eq, err := plotter.NewLine(plotter.XYs{{X: lo, Y: lo}, {X: hi, Y: hi}})
+		if err != nil {
+			return fmt.Errorf("parity plot: %w", err)
+		}
+		eq.Color = color.RGBA{0xc0, 0x30, 0x20, 0xff}
+		eq.Dashes = []vg.Length{vg.Points(4), vg.Points(2)}
+		p.Add(plotter.NewGrid(), eq, sc)
+		plots = append(plots, []*plot.Plot{p})
+	}
+	if len(plots) == 0 {
+		return nil
+	}
+	c, write := canvasFor(path, 12*vg.Centimeter, vg.Length(len(plots))*11*vg.Centimeter)
+	tiles := draw.Tiles{Rows: len(plots), Cols: 1, PadTop: vg.Millimeter * 2, PadBottom: vg.Millimeter * 2,
+		PadLeft: vg.Millimeter * 2, PadRight: vg.Millimeter * 4, PadY: vg.Millimeter * 6}
+	canvases := plot.Align(plots, tiles, draw.New(c))
+	for i := range plots {
+		plots[i][0].Draw(canvases[i][0])
+	}
+	return saveCanvas(path, write)
+}
+
+// intervalJSON is a 90 % (or other level) interval in display units, shown
+// by predict and window when the params file carries a covariance.
+type intervalJSON struct {
+	Level        float64    `json:"level"`
+	Method       string     `json:"method"`
+	Samples      int        `json:"samples"`
+	Seed         uint64     `json:"seed"`
+	Coverage     [2]float64 `json:"coverage"`
+	NucleiPerMM2 [2]float64 `json:"nuclei_per_mm2"`
+	DomainUm     [2]float64 `json:"domain_size_um"`
+}
+
+func toIntervalJSON(u kinetics.Uncertainty) *intervalJSON {
+	return &intervalJSON{Level: u.Level, Method: u.Method, Samples: u.Samples, Seed: u.Seed,
+		Coverage:     [2]float64{round6(u.Coverage.Lo), round6(u.Coverage.Hi)},
+		NucleiPerMM2: [2]float64{round6(u.NucleiDensity.Lo * 1e-6), round6(u.NucleiDensity.Hi * 1e-6)},
+		DomainUm:     [2]float64{round6(u.DomainSize.Lo * 1e6), round6(u.DomainSize.Hi * 1e6)}}
+}
+
+// predictInterval returns the 90 % interval of a plan's prediction when
+// the parameters carry a covariance, nil otherwise.
+func predictInterval(plan *recipe.Plan, p kinetics.Params) (*intervalJSON, error) {
+	if !p.HasCovariance() {
+		return nil, nil
+	}
+	u, err := kinetics.PredictInterval(kinetics.NewProfile(plan), p, kinetics.Options{}, kinetics.IntervalSettings{})
+	if err != nil {
+		return nil, err
+	}
+	return toIntervalJSON(u), nil
+}
+
+// printInterval prints an interval under the prediction table.
+func printInterval(w io.Writer, iv *intervalJSON) {
+	if iv == nil {
+		return
+	}
+	fmt.Fprintf(w, "%.0f %% interval (parameter uncertainty): coverage %s–%s %%, nuclei density %s–%s per mm2, domain size %s–%s um\n",
+		iv.Level*100, fixed(iv.Coverage[0]*100, 2), fixed(iv.Coverage[1]*100, 2), num(iv.NucleiPerMM2[0], 4), num(iv.NucleiPerMM2[1], 4),
+		num(iv.DomainUm[0], 3), num(iv.DomainUm[1], 3))
+	fmt.Fprintln(w, "interval method: "+iv.Method)
+}
+
+// windowIntervals returns each window point's interval (row-major, as the
+// points are listed) when the parameters carry a covariance, nil
+// otherwise.
+func windowIntervals(plan *recipe.Plan, m *kinetics.Map, p kinetics.Params) ([]*intervalJSON, error) {
+	if !p.HasCovariance() {
+		return nil, nil
+	}
+	us, err := kinetics.WindowIntervals(plan, m, p, kinetics.Options{}, kinetics.IntervalSettings{Samples: 200})
+	if err != nil {
+		return nil, err
+	}
+	var out []*intervalJSON
+	for _, row := range us {
+		for _, u := range row {
+			out = append(out, toIntervalJSON(u))
+		}
+	}
+	return out, nil
+}

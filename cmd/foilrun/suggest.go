@@ -1,0 +1,402 @@
+package main
+
+import (
+	"bytes"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+	"strings"
+
+	"github.com/spf13/cobra"
+	"gopkg.in/yaml.v3"
+
+	"github.com/foilrun/foilrun/kinetics"
+	"github.com/foilrun/foilrun/recipe"
+	"github.com/foilrun/foilrun/recipe/gas"
+)
+
+type suggestOptions struct {
+	io         *streams
+	recipe     string
+	flags      recipeFlags
+	targets    []string
+	vary       []string
+	minimize   string
+	params     string
+	confidence float64
+	outFile    string
+	output     string
+}
+
+func newSuggestCmd(f *factory) *cobra.Command {
+	opts := &suggestOptions{io: f.io}
+	cmd := &cobra.Command{
+		Use:   "suggest RECIPE",
+		Short: "Find the grow step that meets coverage and domain-size targets at least cost",
+		Long: `Search the recipe's first grow step for the cheapest settings whose predicted
+outcome meets every --target, within the furnace's limits and with no error
+from foilrun check. Targets: coverage>=0.99 (or 99%), domain-size>=40um,
+nuclei-density<=100/mm2. --vary lists what may change: temperature, time and
+gas flows such as CH4 or H2, each optionally with a range
+(temperature=950C:1060C, CH4=2sccm:20sccm, time=1min:2h); default
+temperature,CH4,time. --minimize time (the grow time, default) or methane
+(CH4 used in the grow step).
+
+For every grid point of temperature and flows the grow time is solved for
+exactly; the grid is refined around the best point. Prints the best few
+candidates with their predictions and margins to the limits; -o FILE writes
+the recipe with the grow step changed (the rest of the file kept as far as
+YAML allows). With --confidence 0.9 and a fitted --params file, the lower
+bound of the 90 % interval (upper for <= targets) must meet each target.
+Says plainly, and exits with status 2, when nothing in range meets the
+targets, naming the limits that bind.`,
+		Args: cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			opts.recipe = args[0]
+			if err := checkFormat(opts.output); err != nil {
+				return err
+			}
+			if len(opts.targets) == 0 {
+				return usagef("give at least one --target, e.g. --target coverage>=0.99")
+			}
+			if opts.confidence != 0 && (opts.confidence <= 0 || opts.confidence >= 1) {
+				return usagef("--confidence %g: want a level between 0 and 1, e.g. 0.9", opts.confidence)
+			}
+			return suggestRun(opts)
+		},
+	}
+	opts.flags.register(cmd)
+	cmd.Flags().StringArrayVar(&opts.targets, "target", nil, "required outcome, e.g. coverage>=0.99 or domain-size>=40um (repeatable)")
+	cmd.Flags().StringSliceVar(&opts.vary, "vary", nil, "grow-step parameters to search: temperature, time, gas names, with optional =FROM:TO ranges (default temperature,CH4,time)")
+	cmd.Flags().StringVar(&opts.minimize, "minimize", kinetics.MinimizeTime, "what to minimise: time or methane")
+	cmd.Flags().StringVar(&opts.params, "params", "", "kinetics parameter file (default: illustrative parameters)")
+	cmd.Flags().Float64Var(&opts.confidence, "confidence", 0, "plan so the targets hold at this interval's bound (needs a fitted params file)")
+	cmd.Flags().StringVarP(&opts.outFile, "output-file", "o", "", "write the changed recipe here")
+	cmd.Flags().StringVar(&opts.output, "output", formatTable, "output format: table, csv or json")
+	return cmd
+}
+
+type suggestCandidateJSON struct {
+	TemperatureC float64            `json:"temperature_c"`
+	FlowsSCCM    map[string]float64 `json:"flows_sccm"`
+	DurationMin  float64            `json:"duration_min"`
+	MethaneSCC   float64            `json:"methane_scc"`
+	Coverage     float64            `json:"coverage"`
+	NucleiPerMM2 float64            `json:"nuclei_per_mm2"`
+	DomainUm     float64            `json:"domain_size_um"`
+	Bounds       []float64          `json:"target_values"`
+	Margins      []kinetics.Margin  `json:"margins"` // Limit, Value, Bound, Unit, Margin
+}
+
+type suggestResultJSON struct {
+	Recipe     string                 `json:"recipe"`
+	Furnace    string                 `json:"furnace"`
+	Step       string                 `json:"step"`
+	Targets    []string               `json:"targets"`
+	Minimize   string                 `json:"minimize"`
+	Method     string                 `json:"method"`
+	Met        bool                   `json:"met"`
+	Changes    []kinetics.Change      `json:"changes"`
+	Candidates []suggestCandidateJSON `json:"candidates"`
+	Closest    *suggestCandidateJSON  `json:"closest,omitempty"`
+	Binding    []string               `json:"binding,omitempty"`
+	Evaluated  int                    `json:"evaluated"`
+	Warnings   []string               `json:"check_warnings"`
+}
+
+func candidateJSON(c kinetics.Candidate, grow recipe.Step) suggestCandidateJSON {
+	j := suggestCandidateJSON{TemperatureC: round6(c.Temperature - 273.15), FlowsSCCM: map[string]float64{}, DurationMin: round6(c.Duration / 60),
+		Coverage: round6(c.Coverage), NucleiPerMM2: round6(c.NucleiDensity * 1e-6), DomainUm: round6(c.DomainSize * 1e6), Margins: c.Margins}
+	for _, fl := range grow.Flows {
+		j.FlowsSCCM[fl.Gas] = round6(fl.Flow.SI / gas.MolPerSCCMPerSecond)
+	}
+	for k, v := range c.Flows {
+		j.FlowsSCCM[k] = round6(v / gas.MolPerSCCMPerSecond)
+	}
+	j.MethaneSCC = round6(j.FlowsSCCM["CH4"] * c.Duration / 60)
+	for _, b := range c.Bounds {
+		j.Bounds = append(j.Bounds, round6(b))
+	}
+	for i := range j.Margins {
+		j.Margins[i].Value, j.Margins[i].Bound, j.Margins[i].Margin = round6(j.Margins[i].Value), round6(j.Margins[i].Bound), round6(j.Margins[i].Margin)
+	}
+	return j
+}
+
+func suggestRun(opts *suggestOptions) error {
+	params, err := loadParams(opts.params)
+	if err != nil {
+		return err
+	}
+	plan, _, err := opts.flags.loadPlan(opts.recipe)
+	if err != nil {
+		return err
+	}
+	spec := kinetics.SuggestSpec{Params: params, Vary: opts.vary, Minimize: opts.minimize, Confidence: opts.confidence}
+	for _, s := range opts.targets {
+		tg, err := kinetics.ParseTarget(s)
+		if err != nil {
+			return usageError{err}
+		}
+		spec.Targets = append(spec.Targets, tg)
+	}
+	sug, err := kinetics.Suggest(plan, spec)
+	if err != nil {
+		if errors.Is(err, kinetics.ErrSuggest) {
+			return usageError{err}
+		}
+		if errors.Is(err, kinetics.ErrNoCovariance) {
+			return withHint(usageError{err}, "fit the parameters with foilrun fit -o params.yaml and pass --params params.yaml")
+		}
+		return err
+	}
+	grow := plan.Recipe.Steps[sug.Step]
+	out := suggestResultJSON{Recipe: plan.Recipe.Name, Furnace: plan.Furnace.Name, Step: grow.Label(sug.Step), Targets: opts.targets,
+		Minimize: sug.Minimize, Method: sug.Method, Met: sug.Met, Changes: sug.Changes, Binding: sug.Binding, Evaluated: sug.Evaluated,
+		Candidates: []suggestCandidateJSON{}, Warnings: []string{}}
+	if out.Changes == nil {
+		out.Changes = []kinetics.Change{}
+	}
+	for _, c := range sug.Candidates {
+		out.Candidates = append(out.Candidates, candidateJSON(c, grow))
+	}
+	if sug.Closest != nil {
+		c := candidateJSON(*sug.Closest, grow)
+		out.Closest = &c
+	}
+	var written []byte
+	if sug.Met {
+		data, err := os.ReadFile(opts.recipe)
+		if err != nil {
+			return err
+		}
+		written, err = editGrowStep(data, sug.Step, sug.Changes, opts.recipe, opts.outFile)
+		if err != nil {
+			return err
+		}
+		// The written recipe must pass check.
+		name := opts.outFile
+		if name == "" {
+			name = opts.recipe
+		}
+		r, err := recipe.ParseRecipe(name, written)
+		if err != nil {
+			return fmt.Errorf("suggest: the changed recipe does not load: %w", err)
+		}
+		fu := plan.Furnace
+		for _, fd := range recipe.Check(recipe.Derive(r, fu)) {
+			switch fd.Severity {
+			case recipe.Error:
+				return fmt.Errorf("suggest: the changed recipe fails check: %s: %s", fd.Rule, fd.Message)
+			case recipe.Warning:
+				out.Warnings = append(out.Warnings, fd.StepName+": "+fd.Message)
+			}
+		}
+	}
+	switch opts.output {
+	case formatJSON:
+		err = writeJSON(opts.io.Out, out)
+	case formatCSV:
+		err = writeCSV(opts.io.Out, candidateTable(out.Candidates, spec.Targets))
+	default:
+		err = printSuggest(opts.io.Out, out, spec.Targets)
+	}
+	if err != nil {
+		return err
+	}
+	if !sug.Met {
+		return withHint(fmt.Errorf("suggest: no recipe within the search range meets %s; binding: %s", strings.Join(opts.targets, " and "), strings.Join(sug.Binding, "; ")),
+			"relax the target, widen the --vary ranges, or vary more parameters (e.g. --vary temperature,CH4,H2,time)")
+	}
+	if opts.outFile != "" {
+		if err := os.WriteFile(opts.outFile, written, 0o644); err != nil {
+			return fmt.Errorf("suggest: %w", err)
+		}
+		fmt.Fprintf(opts.io.Err, "wrote %s\n", opts.outFile)
+	}
+	return nil
+}
+
+func candidateTable(cs []suggestCandidateJSON, targets []kinetics.Target) table {
+	t := table{Header: []string{"rank", "T C", "flows sccm", "time min", "CH4 scc", "coverage %", "domain um", "nuclei /mm2"}}
+	for _, tg := range targets {
+		t.Header = append(t.Header, tg.Text)
+	}
+	t.Numeric = make([]bool, len(t.Header))
+	for i := range t.Numeric {
+		t.Numeric[i] = i != 2
+	}
+	for i, c := range cs {
+		var fl []string
+		for _, k := range sortedKeys(c.FlowsSCCM) {
+			fl = append(fl, k+" "+num(c.FlowsSCCM[k], 3))
+		}
+		row := []string{fmt.Sprint(i + 1), fixed(c.TemperatureC, 1), strings.Join(fl, ", "), fixed(c.DurationMin, 2), num(c.MethaneSCC, 4),
+			fixed(c.Coverage*100, 2), num(c.DomainUm, 3), num(c.NucleiPerMM2, 4)}
+		for j, b := range c.Bounds {
+			row = append(row, targetText(targets[j], b))
+		}
+		t.add(row...)
+	}
+	return t
+}
+
+func targetText(tg kinetics.Target, v float64) string {
+	switch tg.Quantity {
+	case kinetics.TargetDomainSize:
+		return num(v*1e6, 4) + " um"
+	case kinetics.TargetNucleiDensity:
+		return num(v*1e-6, 4) + " /mm2"
+	}
+	return fixed(v*100, 3) + " %"
+}
+
+func sortedKeys(m map[string]float64) []string {
+	var ks []string
+	for k := range m {
+		ks = append(ks, k)
+	}
+	for i := range ks {
+		for j := i + 1; j < len(ks); j++ {
+			if ks[j] < ks[i] {
+				ks[i], ks[j] = ks[j], ks[i]
+			}
+		}
+	}
+	return ks
+}
+
+func printSuggest(w io.Writer, r suggestResultJSON, targets []kinetics.Target) error {
+	fmt.Fprintf(w, "recipe %q on furnace %q, step %s: minimise %s; targets %s (%s)\n", r.Recipe, r.Furnace, r.Step, r.Minimize, strings.Join(r.Targets, ", "), r.Method)
+	if !r.Met {
+		fmt.Fprintln(w, "\nNo recipe within the search range meets the targets.")
+		if r.Closest != nil {
+			heading(w, "Closest point (at the longest time searched)")
+			if err := writeTable(w, candidateTable([]suggestCandidateJSON{*r.Closest}, targets)); err != nil {
+				return err
+			}
+		}
+		fmt.Fprintln(w, "limits that bind: "+strings.Join(r.Binding, "; "))
+		return nil
+	}
+	var ch []string
+	for _, c := range r.Changes {
+		ch = append(ch, c.Field+" "+c.Text)
+	}
+	fmt.Fprintf(w, "suggested: %s\n", strings.Join(ch, ", "))
+	heading(w, "Best candidates")
+	if err := writeTable(w, candidateTable(r.Candidates, targets)); err != nil {
+		return err
+	}
+	heading(w, "Margins of the suggestion")
+	t := table{Header: []string{"limit", "value", "limit value", "unit", "margin"}, Numeric: []bool{false, true, true, false, true}}
+	for _, m := range r.Candidates[0].Margins {
+		t.add(m.Limit, num(m.Value, 5), num(m.Bound, 5), m.Unit, num(m.Margin, 3))
+	}
+	if err := writeTable(w, t); err != nil {
+		return err
+	}
+	fmt.Fprintf(w, "%d settings evaluated; the changed recipe passes foilrun check", r.Evaluated)
+	if len(r.Warnings) > 0 {
+		fmt.Fprintf(w, " with %d warnings:\n", len(r.Warnings))
+		for _, s := range r.Warnings {
+			fmt.Fprintln(w, "  warning: "+s)
+		}
+	} else {
+		fmt.Fprintln(w, " without warnings")
+	}
+	return nil
+}
+
+// editGrowStep rewrites the grow step's fields in the recipe YAML node
+// tree, so comments, order and the rest of the file stay, and points
+// relative furnace and site paths at the same files from the output's
+// folder.
+func editGrowStep(data []byte, step int, changes []kinetics.Change, from, to string) ([]byte, error) {
+	var doc yaml.Node
+	if err := yaml.Unmarshal(data, &doc); err != nil || len(doc.Content) != 1 {
+		return nil, fmt.Errorf("suggest: re-read recipe %q: %v", from, err)
+	}
+	root := doc.Content[0]
+	steps := mapValue(root, "steps")
+	if steps == nil || steps.Kind != yaml.SequenceNode || step >= len(steps.Content) {
+		return nil, fmt.Errorf("suggest: recipe %q: cannot find step %d", from, step+1)
+	}
+	st := steps.Content[step]
+	for _, c := range changes {
+		if gasName, ok := strings.CutPrefix(c.Field, "flows."); ok {
+			flows := mapValue(st, "flows")
+			if flows == nil {
+				flows = &yaml.Node{Kind: yaml.MappingNode, Style: yaml.FlowStyle}
+				setMapValue(st, "flows", flows)
+			}
+			key := gasName
+			for i := 0; i+1 < len(flows.Content); i += 2 {
+				if g, err := gas.Lookup(flows.Content[i].Value); err == nil && g.Symbol == gasName {
+					key = flows.Content[i].Value
+				}
+			}
+			setScalar(flows, key, c.Text)
+			continue
+		}
+		setScalar(st, c.Field, c.Text)
+	}
+	if to != "" {
+		for _, k := range []string{"furnace", "site"} {
+			n := mapValue(root, k)
+			if n == nil || n.Kind != yaml.ScalarNode || n.Value == "" || filepath.IsAbs(n.Value) {
+				continue
+			}
+			abs, err1 := filepath.Abs(filepath.Join(filepath.Dir(from), n.Value))
+			outDir, err2 := filepath.Abs(filepath.Dir(to))
+			if err1 != nil || err2 != nil {
+				continue
+			}
+			if rel, err := filepath.Rel(outDir, abs); err == nil {
+				n.Value = filepath.ToSlash(rel)
+			}
+		}
+	}
+	var b bytes.Buffer
+	enc := yaml.NewEncoder(&b)
+	enc.SetIndent(2)
+	if err := enc.Encode(&doc); err != nil {
+		return nil, err
+	}
+	if err := enc.Close(); err != nil {
+		return nil, err
+	}
+	return b.Bytes(), nil
+}
+
+func mapValue(m *yaml.Node, key string) *yaml.Node {
+	if m == nil || m.Kind != yaml.MappingNode {
+		return nil
+	}
+	for i := 0; i+1 < len(m.Content); i += 2 {
+		if m.Content[i].Value == key {
+			return m.Content[i+1]
+		}
+	}
+	return nil
+}
+
+func setMapValue(m *yaml.Node, key string, v *yaml.Node) {
+	for i := 0; i+1 < len(m.Content); i += 2 {
+		if m.Content[i].Value == key {
+			m.Content[i+1] = v
+			return
+		}
+	}
+	m.Content = append(m.Content, &yaml.Node{Kind: yaml.ScalarNode, Value: key}, v)
+}
+
+func setScalar(m *yaml.Node, key, text string) {
+	if v := mapValue(m, key); v != nil && v.Kind == yaml.ScalarNode {
+		v.Value, v.Tag, v.Style = text, "!!str", 0
+		return
+	}
+	setMapValue(m, key, &yaml.Node{Kind: yaml.ScalarNode, Value: text})
+}
