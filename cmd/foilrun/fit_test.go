@@ -145,6 +145,29 @@ func TestFitCommand(t *testing.T) {
 	if pr.Interval == nil || pr.Interval.Level != 0.9 || !(pr.Interval.Coverage[0] <= pr.Coverage && pr.Coverage <= pr.Interval.Coverage[1]) {
 		t.Errorf("predict with fitted params: interval %+v around coverage %g", pr.Interval, pr.Coverage)
 	}
+	// window with the fitted file gives every point an interval.
+	code, out, errs = runCLI(t, "window", filepath.Join(dir, "r00.yaml"), "--params", params, "--output", "json",
+		"--vary", "temperature=980C:1040C:3", "--vary", "CH4=5sccm:30sccm:2")
+	if code != 0 {
+		t.Fatalf("window: exit %d: %s", code, errs)
+	}
+	var win struct {
+		Points []struct {
+			Coverage float64       `json:"coverage"`
+			Interval *intervalJSON `json:"interval"`
+		} `json:"points"`
+	}
+	if err := json.Unmarshal([]byte(out), &win); err != nil {
+		t.Fatal(err)
+	}
+	for i, pt := range win.Points {
+		if pt.Interval == nil || !(pt.Interval.Coverage[0] <= pt.Coverage && pt.Coverage <= pt.Interval.Coverage[1]) {
+			t.Errorf("window point %d: interval %+v around coverage %g", i, pt.Interval, pt.Coverage)
+		}
+	}
+	if len(win.Points) != 6 {
+		t.Errorf("window: %d points, want 6", len(win.Points))
+	}
 	// suggest --confidence plans longer than the best estimate.
 	base := filepath.Join(dir, "r00.yaml")
 	next := filepath.Join(dir, "next", "suggested.yaml")
