@@ -75,15 +75,21 @@ func Match(p *recipe.Plan, lg *Log) Result {
 		lo = max(lo, bounds[j-1])
 		best, bestCost := searchTime(lg.Time, pred), math.Inf(1)
 		if hi > lo {
-			// prefix sums over the window for the two steps
-			a := make([]float64, hi-lo+1)
-			b := make([]float64, hi-lo+1)
-			for k := lo; k < hi; k++ {
-				a[k-lo+1] = a[k-lo] + cost(p, j-1, lg, k, gases)
-				b[k-lo+1] = b[k-lo] + cost(p, j, lg, k, gases)
+			// Prefix sums of both steps' costs. A boundary at sample k gives
+			// step j-1 the samples [lo, k) and step j the samples of its
+			// planned length after k, so a short step j is not charged for
+			// the samples of the steps after it.
+			durJ := p.Steps[j].Duration
+			top := min(n, searchTime(lg.Time, timeAt(lg, hi)+durJ)+1)
+			a := make([]float64, top-lo+1)
+			b := make([]float64, top-lo+1)
+			for k := lo; k < top; k++ {
+				a[k-lo+1] = a[k-lo] + cost(p, j-1, lg, k, gases, prev)
+				b[k-lo+1] = b[k-lo] + cost(p, j, lg, k, gases, pred)
 			}
 			for k := lo; k <= hi; k++ {
-				c := a[k-lo] + b[hi-lo] - b[k-lo]
+				end := min(top, max(k+1, searchTime(lg.Time, timeAt(lg, k)+durJ)))
+				c := a[k-lo] + b[end-lo] - b[k-lo]
 				// ties go to the planned time
 				if c < bestCost-1e-9 || math.Abs(c-bestCost) <= 1e-9 && math.Abs(timeAt(lg, k)-pred) < math.Abs(timeAt(lg, best)-pred) {
 					best, bestCost = k, c
@@ -194,11 +200,15 @@ func searchTime(ts []float64, t float64) int {
 // cost is how badly sample k fits step j's set-points: each mismatch in
 // units of its tolerance, capped at 25 so that one wild reading cannot
 // outweigh many good ones, yet a flow well off its set-point still tells
-// two steps apart.
-func cost(p *recipe.Plan, j int, lg *Log, k int, gases []string) float64 {
+// two steps apart; readings within half a tolerance cost nothing. A ramp is judged against its straight line from
+// start (the step's estimated start time), so a ramp up does not also fit
+// the samples of a cool-down through the same range.
+func cost(p *recipe.Plan, j int, lg *Log, k int, gases []string, start float64) float64 {
 	sp := &p.Steps[j]
 	c := 0.0
-	term := func(x float64) float64 { return math.Min(25, math.Abs(x)) }
+	// Within half a tolerance a reading costs nothing, so noise does not
+	// pull a boundary; ties then go to the planned time.
+	term := func(x float64) float64 { return math.Min(25, math.Max(0, math.Abs(x)-0.5)) }
 	for _, g := range gases {
 		set := setPoint(sp, g)
 		c += term((lg.Flows[g][k] - set) / flowTolerance(p.Furnace, g, set))
@@ -208,6 +218,11 @@ func cost(p *recipe.Plan, j int, lg *Log, k int, gases []string) float64 {
 	}
 	lo, hi := math.Min(sp.T0, sp.T1), math.Max(sp.T0, sp.T1)
 	T := lg.T[k]
+	if sp.T0 != sp.T1 && sp.Duration > 0 {
+		f := math.Min(1, math.Max(0, (lg.Time[k]-start)/sp.Duration))
+		want := sp.T0 + f*(sp.T1-sp.T0)
+		return c + term((T-want)/(2*TemperatureTolerance))
+	}
 	switch {
 	case T < lo:
 		c += term((lo - T) / TemperatureTolerance)
