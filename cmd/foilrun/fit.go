@@ -474,11 +474,18 @@ func printFit(w io.Writer, r fitResultJSON) error {
 	}
 	heading(w, "Residuals, worst first")
 	t := table{Header: []string{"run", "metric", "measured", "predicted", "unit", "residual", "weighted"}, Numeric: []bool{false, false, true, true, false, true, true}}
-	for _, e := range r.Residuals {
+	const shown = 15 // on screen; --output csv|json lists them all
+	for i, e := range r.Residuals {
+		if i == shown {
+			break
+		}
 		t.add(e.Run, e.Metric, num(e.Measured, 4), num(e.Predicted, 4), e.Unit, num(e.Residual, 3), num(e.Weighted, 3))
 	}
 	if err := writeTable(w, t); err != nil {
 		return err
+	}
+	if len(r.Residuals) > shown {
+		fmt.Fprintf(w, "the %d worst of %d residuals; --output csv or json lists all\n", shown, len(r.Residuals))
 	}
 	fmt.Fprintln(w, "residual: measured − predicted on the fit scale (cloglog coverage, ln density)")
 	for _, s := range r.Warnings {

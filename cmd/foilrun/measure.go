@@ -152,7 +152,7 @@ func (mf *measureFlags) measureImage(errw io.Writer) (*imageResult, []measuremen
 	}
 	const method = "micrograph: otsu threshold after polynomial flattening"
 	ms := []measurement{{Metric: "coverage", Value: res.Coverage, Unit: "1", Method: method, Text: fixed(res.Coverage*100, 1) + " %"}}
-	if res.Phase == "" || res.Count > 0 {
+	if res.Counted > 0 {
 		ms = append(ms, measurement{Metric: "nuclei_density", Value: res.DensityPerMM2(), Unit: "1/mm2", Method: method, Text: num(res.DensityPerMM2(), 4) + " /mm²"})
 	}
 	if res.Sizes.N > 0 {

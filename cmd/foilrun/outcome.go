@@ -17,7 +17,7 @@ func newOutcomeCmd(f *factory) *cobra.Command {
 		Use:   "outcome",
 		Short: "Record measured outcomes of a run",
 	}
-	cmd.AddCommand(newOutcomeAddCmd(f), newOutcomeMetricsCmd(f))
+	cmd.AddCommand(newOutcomeAddCmd(f), newOutcomeMeasureCmd(f), newOutcomeMetricsCmd(f))
 	return cmd
 }
 
@@ -116,4 +116,88 @@ func newOutcomeMetricsCmd(f *factory) *cobra.Command {
 	}
 	cmd.Flags().StringVar(&output, "output", formatTable, "output format: table, csv or json")
 	return cmd
+}
+
+type outcomeMeasureOptions struct {
+	f      *factory
+	code   string
+	flags  measureFlags
+	output string
+}
+
+func newOutcomeMeasureCmd(f *factory) *cobra.Command {
+	opts := &outcomeMeasureOptions{f: f}
+	cmd := &cobra.Command{
+		Use:   "measure CODE [--image FILE --pixel SIZE] [--transmittance T] [--raman RATIOS]",
+		Short: "Measure outcomes from a micrograph, a transmittance or Raman ratios and store them with the run",
+		Long: `Measure a run's graphene and store the results against the run, each with its
+method: from a micrograph (coverage, nuclei density, domain size; the image is
+attached by path and content hash), from transmittance at 550 nm (layer count)
+and from Raman 2D/G and D/G ratios (with the classification printed).`,
+		Example: `  foilrun outcome measure G26-0061 --image foil.png --pixel 0.5um --overlay foil-overlay.png
+  foilrun outcome measure G26-0061 --transmittance 97.6% --raman 2d/g=2.3,d/g=0.05`,
+		Args: cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			opts.code = args[0]
+			opts.flags.bareGraySet = cmd.Flags().Changed("bare-gray")
+			if opts.flags.image == "" && opts.flags.transmittance == "" && opts.flags.raman == "" {
+				return usagef("give --image, --transmittance and/or --raman")
+			}
+			if err := checkFormat(opts.output); err != nil {
+				return err
+			}
+			return outcomeMeasureRun(cmd.Context(), opts)
+		},
+	}
+	cmd.Flags().StringVar(&opts.flags.image, "image", "", "micrograph file (PNG, JPEG or TIFF)")
+	opts.flags.registerImage(cmd)
+	opts.flags.registerFilm(cmd)
+	cmd.Flags().StringVar(&opts.output, "output", formatTable, "output format: table, csv or json")
+	return cmd
+}
+
+func outcomeMeasureRun(ctx context.Context, o *outcomeMeasureOptions) error {
+	var ms []measurement
+	var lines []string
+	var img *imageResult
+	if o.flags.image != "" {
+		res, m, err := o.flags.measureImage(o.f.io.Err)
+		if err != nil {
+			return err
+		}
+		img, ms = res, m
+	}
+	fm, fl, err := o.flags.measureFilm()
+	if err != nil {
+		return err
+	}
+	ms, lines = append(ms, fm...), fl
+	l, err := o.f.runLog(ctx)
+	if err != nil {
+		return err
+	}
+	if _, err := l.Record(ctx, o.code); err != nil {
+		return err
+	}
+	now := time.Now().UTC()
+	var os []store.Outcome
+	for _, m := range ms {
+		os = append(os, store.Outcome{Metric: m.Metric, Value: m.Value, Unit: m.Unit, Entered: m.Text, Method: m.Method, Measured: now})
+	}
+	if err := l.AddOutcomes(ctx, o.code, os); err != nil {
+		return err
+	}
+	if img != nil {
+		if err := l.AddAttachment(ctx, o.code, store.Attachment{Path: img.File, SHA256: img.SHA256, Kind: "micrograph", Added: now}); err != nil {
+			return err
+		}
+		if o.output == formatTable {
+			fmt.Fprintf(o.f.io.Out, "%s: %s %d×%d, sha256 %s…, domains %s (%s)\n", img.File, img.Format, img.Width, img.Height, img.SHA256[:12], img.Polarity, img.Reason)
+			for _, n := range img.Notes {
+				lines = append(lines, "note: "+n)
+			}
+		}
+	}
+	fmt.Fprintf(o.f.io.Err, "run %s: %d outcomes stored\n", o.code, len(os))
+	return printMeasurements(o.f.io.Out, o.output, ms, lines)
 }
