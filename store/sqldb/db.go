@@ -32,6 +32,19 @@ func Open(ctx context.Context, db *sql.DB, d Dialect) (*DB, error) {
 // SQL returns the underlying database, for back-end specific tests.
 func (s *DB) SQL() *sql.DB { return s.db }
 
+// Base returns s itself; back ends that embed *DB thereby give the
+// shared implementation to code that knows them only by interface (Copy,
+// the shared tests).
+func (s *DB) Base() *DB { return s }
+
+// SetClock replaces the clock for created and note times (nil: time.Now).
+func (s *DB) SetClock(now func() time.Time) {
+	if now == nil {
+		now = time.Now
+	}
+	s.Now = now
+}
+
 // Close closes the database.
 func (s *DB) Close() error { return s.db.Close() }
 

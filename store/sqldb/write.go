@@ -6,6 +6,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"sort"
 	"strings"
 
 	"github.com/foilrun/foilrun/recipe"
@@ -20,7 +21,10 @@ type writer struct {
 	snaps map[string]bool       // snapshot hashes known to be stored
 
 	params, outcomes, notes, actuals, deviations, attachments, newNames *batch
-	insertRun, counter                                                  *sql.Stmt
+
+	runStmts map[int]*sql.Stmt // INSERT of n runs
+	pending  []queued          // checked runs not yet inserted
+	seq      int               // runs queued so far
 }
 
 func (s *DB) begin(ctx context.Context) (*writer, error) {
@@ -28,7 +32,7 @@ func (s *DB) begin(ctx context.Context) (*writer, error) {
 	if err != nil {
 		return nil, err
 	}
-	w := &writer{s: s, tx: tx, snaps: map[string]bool{}}
+	w := &writer{s: s, tx: tx, snaps: map[string]bool{}, runStmts: map[int]*sql.Stmt{}}
 	d := s.d
 	w.params = newBatch(tx, d, "run_params", []string{"run_id", "name", "value"}, "")
 	w.outcomes = newBatch(tx, d, "outcomes", []string{"run_id", "metric", "value", "unit", "entered", "method", "measured_at"}, "")
@@ -52,16 +56,17 @@ func (w *writer) rollback() {
 	for _, b := range w.batches() {
 		b.close()
 	}
-	for _, st := range []*sql.Stmt{w.insertRun, w.counter} {
-		if st != nil {
-			st.Close()
-		}
+	for _, st := range w.runStmts {
+		st.Close()
 	}
 	w.tx.Rollback()
 }
 
 func (w *writer) commit(ctx context.Context) error {
 	defer w.rollback() // after a commit only closes statements
+	if _, err := w.flushRuns(ctx); err != nil {
+		return err
+	}
 	for _, b := range w.batches() {
 		if err := b.flush(ctx); err != nil {
 			return err
@@ -121,32 +126,23 @@ func (w *writer) runID(ctx context.Context, code string) (int64, store.Status, e
 	return id, store.Status(st), err
 }
 
-// nextCode takes the next number of the year's counter, in the writer's
-// transaction.
-func (w *writer) nextCode(ctx context.Context) (string, error) {
-	now := w.s.now()
-	if w.counter == nil {
-		var err error
-		w.counter, err = w.tx.PrepareContext(ctx, w.s.d.Rebind(`INSERT INTO counters (name, value) VALUES (?, 1)
-			ON CONFLICT (name) DO UPDATE SET value = counters.value + 1 RETURNING value`))
-		if err != nil {
-			return "", fmt.Errorf("next run code: %w", err)
-		}
+// reserveCodes takes the next k numbers of the year's counter with one
+// upsert, in the writer's transaction (on PostgreSQL the row stays locked
+// until the transaction ends, so other loggers wait; on SQLite the whole
+// database is), and returns the first.
+func (w *writer) reserveCodes(ctx context.Context, counter string, k int) (int64, error) {
+	var last int64
+	err := w.tx.QueryRowContext(ctx, w.s.d.Rebind(`INSERT INTO counters (name, value) VALUES (?, ?)
+		ON CONFLICT (name) DO UPDATE SET value = counters.value + excluded.value RETURNING value`), counter, k).Scan(&last)
+	if err != nil {
+		return 0, fmt.Errorf("next run code: %w", err)
 	}
-	var n int64
-	if err := w.counter.QueryRowContext(ctx, store.CodeCounter(now)).Scan(&n); err != nil {
-		return "", fmt.Errorf("next run code: %w", err)
-	}
-	return store.FormatCode(now, n), nil
+	return last - int64(k) + 1, nil
 }
 
-// bumpCounter makes sure the counter of an imported code's year is past
-// the code's number.
-func (w *writer) bumpCounter(ctx context.Context, code string) error {
-	counter, n, ok := store.ParseCode(code)
-	if !ok {
-		return nil
-	}
+// raiseCounter makes sure a counter is at least n (imported and copied
+// codes move it on).
+func (w *writer) raiseCounter(ctx context.Context, counter string, n int64) error {
 	_, err := w.tx.ExecContext(ctx, w.s.d.Rebind(`INSERT INTO counters (name, value) VALUES (?, ?)
 		ON CONFLICT (name) DO UPDATE SET value = CASE WHEN excluded.value > counters.value THEN excluded.value ELSE counters.value END`), counter, n)
 	return err
@@ -187,79 +183,203 @@ func (w *writer) haveSnapshot(ctx context.Context, hash string) (bool, error) {
 	return err == nil, err
 }
 
-// addRun inserts a run and all its rows; it returns the code.
-func (w *writer) addRun(ctx context.Context, rec store.RunRecord) (string, error) {
+// runBatch is how many runs one INSERT writes.
+const runBatch = 100
+
+// queued is a checked run waiting for its INSERT; n is its place in the
+// caller's input (for messages), from 1.
+type queued struct {
+	rec store.RunRecord
+	n   int
+}
+
+// queue checks a run and everything in it and queues it for writing; a
+// full queue is written (flushRuns).
+func (w *writer) queue(ctx context.Context, rec store.RunRecord) error {
 	if rec.Status == "" {
 		rec.Status = store.Running
 	}
 	if !rec.Status.Valid() {
-		return "", fmt.Errorf("run %q: status %q: want planned, running, done or aborted: %w", rec.Code, rec.Status, store.ErrInvalid)
+		return fmt.Errorf("run %q: status %q: want planned, running, done or aborted: %w", rec.Code, rec.Status, store.ErrInvalid)
 	}
 	if rec.RecipeHash != "" {
 		ok, err := w.haveSnapshot(ctx, rec.RecipeHash)
 		if err != nil {
-			return "", err
+			return err
 		}
 		if !ok {
-			return "", fmt.Errorf("run %q: recipe snapshot %.12s is neither given nor in the log: %w", rec.Code, rec.RecipeHash, store.ErrInvalid)
+			return fmt.Errorf("run %q: recipe snapshot %.12s is neither given nor in the log: %w", rec.Code, rec.RecipeHash, store.ErrInvalid)
 		}
-	}
-	var err error
-	if rec.Code == "" {
-		if rec.Code, err = w.nextCode(ctx); err != nil {
-			return "", err
-		}
-	} else if err := w.bumpCounter(ctx, rec.Code); err != nil {
-		return "", err
-	}
-	created := rec.Created
-	if created.IsZero() {
-		created = w.s.now()
-	}
-	if w.insertRun == nil {
-		w.insertRun, err = w.tx.PrepareContext(ctx, w.s.d.Rebind(`INSERT INTO runs (code, status, recipe_sha256, recipe_name, furnace, operator, lot, started_at, ended_at, created_at)
-			VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?) ON CONFLICT (code) DO NOTHING RETURNING id`))
-		if err != nil {
-			return "", err
-		}
-	}
-	var id int64
-	err = w.insertRun.QueryRowContext(ctx, rec.Code, string(rec.Status), nullString(rec.RecipeHash), rec.RecipeName, rec.Furnace, rec.Operator, rec.Lot,
-		nullTime(rec.Started), nullTime(rec.Ended), formatTime(created)).Scan(&id)
-	if errors.Is(err, sql.ErrNoRows) {
-		return "", fmt.Errorf("run code %q is already in the log: %w", rec.Code, store.ErrConflict)
-	}
-	if err != nil {
-		return "", fmt.Errorf("run %q: %w", rec.Code, err)
 	}
 	for name, v := range rec.Params {
 		if math.IsNaN(v) || math.IsInf(v, 0) {
 			continue
 		}
 		if err := w.register(ctx, name, store.NameParam, ""); err != nil {
-			return "", fmt.Errorf("run %q: %w", rec.Code, err)
+			return fmt.Errorf("run %q: %w", rec.Code, err)
+		}
+	}
+	if err := w.checkOutcomes(ctx, rec.Code, rec.Outcomes); err != nil {
+		return err
+	}
+	w.seq++
+	w.pending = append(w.pending, queued{rec, w.seq})
+	if len(w.pending) == runBatch {
+		_, err := w.flushRuns(ctx)
+		return err
+	}
+	return nil
+}
+
+// flushRuns writes the queued runs: codes for those without one from one
+// counter update, every given code's counter moved past it, one
+// multi-row INSERT … RETURNING id, code, and their rows into the batches.
+// It returns the codes in queue order.
+func (w *writer) flushRuns(ctx context.Context) ([]string, error) {
+	q := w.pending
+	if len(q) == 0 {
+		return nil, nil
+	}
+	w.pending = w.pending[:0]
+	now := w.s.now()
+	need := 0
+	raise := map[string]int64{}
+	for _, p := range q {
+		if p.rec.Code == "" {
+			need++
+		} else if c, n, ok := store.ParseCode(p.rec.Code); ok && n > raise[c] {
+			raise[c] = n
+		}
+	}
+	names := make([]string, 0, len(raise))
+	for c := range raise {
+		names = append(names, c)
+	}
+	sort.Strings(names)
+	for _, c := range names {
+		if err := w.raiseCounter(ctx, c, raise[c]); err != nil {
+			return nil, fmt.Errorf("run code counter: %w", err)
+		}
+	}
+	if need > 0 {
+		next, err := w.reserveCodes(ctx, store.CodeCounter(now), need)
+		if err != nil {
+			return nil, err
+		}
+		for i := range q {
+			if q[i].rec.Code == "" {
+				q[i].rec.Code = store.FormatCode(now, next)
+				next++
+			}
+		}
+	}
+	st, err := w.runStmt(ctx, len(q))
+	if err != nil {
+		return nil, err
+	}
+	args := make([]any, 0, len(q)*10)
+	for _, p := range q {
+		r := p.rec
+		created := r.Created
+		if created.IsZero() {
+			created = now
+		}
+		args = append(args, r.Code, string(r.Status), nullString(r.RecipeHash), r.RecipeName, r.Furnace, r.Operator, r.Lot,
+			nullTime(r.Started), nullTime(r.Ended), formatTime(created))
+	}
+	rows, err := st.QueryContext(ctx, args...)
+	if err != nil {
+		return nil, fmt.Errorf("insert runs: %w", err)
+	}
+	ids := make(map[string]int64, len(q))
+	for rows.Next() {
+		var id int64
+		var code string
+		if err := rows.Scan(&id, &code); err != nil {
+			rows.Close()
+			return nil, err
+		}
+		ids[code] = id
+	}
+	rows.Close()
+	if err := rows.Err(); err != nil {
+		return nil, fmt.Errorf("insert runs: %w", err)
+	}
+	codes := make([]string, len(q))
+	for i, p := range q {
+		id, ok := ids[p.rec.Code]
+		if !ok {
+			return nil, &runError{p.n, fmt.Errorf("run code %q is already in the log: %w", p.rec.Code, store.ErrConflict)}
+		}
+		delete(ids, p.rec.Code) // a code twice in one batch: the second has no row
+		codes[i] = p.rec.Code
+		if err := w.addRows(ctx, id, p.rec); err != nil {
+			return nil, &runError{p.n, err}
+		}
+	}
+	return codes, nil
+}
+
+// runError says which run of the caller's input failed.
+type runError struct {
+	n   int
+	err error
+}
+
+func (e *runError) Error() string { return e.err.Error() }
+func (e *runError) Unwrap() error { return e.err }
+
+// runStmt returns the prepared INSERT of n runs.
+func (w *writer) runStmt(ctx context.Context, n int) (*sql.Stmt, error) {
+	if st, ok := w.runStmts[n]; ok {
+		return st, nil
+	}
+	var b strings.Builder
+	b.WriteString(`INSERT INTO runs (code, status, recipe_sha256, recipe_name, furnace, operator, lot, started_at, ended_at, created_at) VALUES `)
+	for i := 0; i < n; i++ {
+		if i > 0 {
+			b.WriteString(", ")
+		}
+		b.WriteString("(?, ?, ?, ?, ?, ?, ?, ?, ?, ?)")
+	}
+	b.WriteString(" ON CONFLICT (code) DO NOTHING RETURNING id, code")
+	st, err := w.tx.PrepareContext(ctx, w.s.d.Rebind(b.String()))
+	if err != nil {
+		return nil, err
+	}
+	w.runStmts[n] = st
+	return st, nil
+}
+
+// addRows queues the rows of a run just inserted with the id.
+func (w *writer) addRows(ctx context.Context, id int64, rec store.RunRecord) error {
+	for name, v := range rec.Params {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			continue
 		}
 		if err := w.params.add(ctx, id, name, v); err != nil {
-			return "", err
+			return err
 		}
 	}
 	for _, n := range rec.Notes {
 		if err := w.addNote(ctx, id, n); err != nil {
-			return "", err
+			return err
 		}
 	}
-	if err := w.addOutcomes(ctx, id, rec.Code, rec.Outcomes); err != nil {
-		return "", err
+	for _, o := range rec.Outcomes {
+		if err := w.outcomes.add(ctx, id, o.Metric, o.Value, o.Unit, o.Entered, o.Method, nullTime(o.Measured)); err != nil {
+			return err
+		}
 	}
 	if err := w.addActuals(ctx, id, rec.Actuals, rec.Deviations); err != nil {
-		return "", err
+		return err
 	}
 	for _, a := range rec.Attachments {
 		if err := w.addAttachment(ctx, id, a); err != nil {
-			return "", err
+			return err
 		}
 	}
-	return rec.Code, nil
+	return nil
 }
 
 func (w *writer) addNote(ctx context.Context, id int64, n store.Note) error {
@@ -270,7 +390,9 @@ func (w *writer) addNote(ctx context.Context, id int64, n store.Note) error {
 	return w.notes.add(ctx, id, formatTime(at), n.Text)
 }
 
-func (w *writer) addOutcomes(ctx context.Context, id int64, code string, os []store.Outcome) error {
+// checkOutcomes checks outcomes (finite values, known metrics in their
+// unit, one unit per metric) and registers new metric names.
+func (w *writer) checkOutcomes(ctx context.Context, code string, os []store.Outcome) error {
 	for _, o := range os {
 		if math.IsNaN(o.Value) || math.IsInf(o.Value, 0) {
 			return fmt.Errorf("run %q: outcome %s: value %g is not finite: %w", code, o.Metric, o.Value, store.ErrInvalid)
@@ -281,6 +403,15 @@ func (w *writer) addOutcomes(ctx context.Context, id int64, code string, os []st
 		if err := w.register(ctx, o.Metric, store.NameMetric, o.Unit); err != nil {
 			return fmt.Errorf("run %q: %w", code, err)
 		}
+	}
+	return nil
+}
+
+func (w *writer) addOutcomes(ctx context.Context, id int64, code string, os []store.Outcome) error {
+	if err := w.checkOutcomes(ctx, code, os); err != nil {
+		return err
+	}
+	for _, o := range os {
 		if err := w.outcomes.add(ctx, id, o.Metric, o.Value, o.Unit, o.Entered, o.Method, nullTime(o.Measured)); err != nil {
 			return err
 		}
@@ -328,11 +459,14 @@ func (s *DB) CreateRun(ctx context.Context, rec store.RunRecord, snap *store.Sna
 			rec.RecipeName = snap.Name
 		}
 	}
-	code, err := w.addRun(ctx, rec)
+	if err := w.queue(ctx, rec); err != nil {
+		return "", err
+	}
+	codes, err := w.flushRuns(ctx)
 	if err != nil {
 		return "", err
 	}
-	return code, w.commit(ctx)
+	return codes[0], w.commit(ctx)
 }
 
 // AddNote adds a note to a run.
@@ -412,12 +546,15 @@ func (s *DB) Import(ctx context.Context, b store.Bundle, progress func(int)) (in
 		if err := ctx.Err(); err != nil {
 			return 0, err
 		}
-		if _, err := w.addRun(ctx, rec); err != nil {
-			return 0, fmt.Errorf("import run %d of %d: %w", i+1, len(b.Runs), err)
+		if err := w.queue(ctx, rec); err != nil {
+			return 0, importError(err, i+1, len(b.Runs))
 		}
 		if progress != nil && (i+1)%500 == 0 {
 			progress(i + 1)
 		}
+	}
+	if _, err := w.flushRuns(ctx); err != nil {
+		return 0, importError(err, len(b.Runs), len(b.Runs))
 	}
 	for _, bt := range w.batches() {
 		if err := bt.flush(ctx); err != nil {
@@ -434,4 +571,14 @@ func (s *DB) Import(ctx context.Context, b store.Bundle, progress func(int)) (in
 		progress(len(b.Runs))
 	}
 	return len(b.Runs), nil
+}
+
+// importError names the run of an import that failed (a write error
+// found when a batch is written names the run it belongs to).
+func importError(err error, n, total int) error {
+	var re *runError
+	if errors.As(err, &re) {
+		n = re.n
+	}
+	return fmt.Errorf("import run %d of %d: %w", n, total, err)
 }

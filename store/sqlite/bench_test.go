@@ -8,6 +8,7 @@ import (
 	"testing"
 
 	"github.com/foilrun/foilrun/store"
+	"github.com/foilrun/foilrun/store/storetest"
 )
 
 // The 100,000-run benchmarks (go test -bench . -benchtime 1x for the
@@ -18,10 +19,10 @@ import (
 const benchRuns = 100000
 
 func benchRecords() []store.RunRecord {
-	sn := store.NewSnapshot("demo", "demo.yaml", testRecipe)
+	sn := store.NewSnapshot("demo", "demo.yaml", storetest.TestRecipe)
 	recs := make([]store.RunRecord, benchRuns)
 	for i := range recs {
-		recs[i] = genRecord(i, sn.SHA256)
+		recs[i] = storetest.GenRecord(i, sn.SHA256)
 	}
 	return recs
 }
@@ -43,7 +44,7 @@ func benchLog(b *testing.B) *DB {
 		if benchErr != nil {
 			return
 		}
-		sn := store.NewSnapshot("demo", "demo.yaml", testRecipe)
+		sn := store.NewSnapshot("demo", "demo.yaml", storetest.TestRecipe)
 		_, benchErr = benchDB.Import(context.Background(), store.Bundle{Snapshots: []store.Snapshot{sn}, Runs: benchRecords()}, nil)
 	})
 	if benchErr != nil {
@@ -56,7 +57,7 @@ func benchLog(b *testing.B) *DB {
 // each) into a fresh file per iteration and reports the file size per run.
 func BenchmarkImport100k(b *testing.B) {
 	recs := benchRecords()
-	sn := store.NewSnapshot("demo", "demo.yaml", testRecipe)
+	sn := store.NewSnapshot("demo", "demo.yaml", storetest.TestRecipe)
 	ctx := context.Background()
 	for i := 0; i < b.N; i++ {
 		b.StopTimer()

@@ -1,0 +1,255 @@
+package sqldb
+
+import (
+	"context"
+	"crypto/sha256"
+	"database/sql"
+	"encoding/hex"
+	"encoding/json"
+	"fmt"
+	"hash"
+	"sort"
+	"strings"
+
+	"github.com/foilrun/foilrun/store"
+)
+
+// Digest sums up a whole log so that two logs holding the same runs agree
+// on it whatever their back end: row counts per table and a SHA-256 over
+// the canonical JSON (encoding/json, map keys sorted) of every run in
+// export order, then of every snapshot in hash order.
+type Digest struct {
+	Counts map[string]int // rows per table
+	SHA256 string
+}
+
+// Runs is the number of runs.
+func (d Digest) Runs() int { return d.Counts["runs"] }
+
+// String is "N runs, M snapshots, sha256 0123456789ab".
+func (d Digest) String() string {
+	return fmt.Sprintf("%d runs, %d snapshots, sha256 %.12s", d.Counts["runs"], d.Counts["snapshots"], d.SHA256)
+}
+
+// Diff describes how d and e differ ("" when equal).
+func (d Digest) Diff(e Digest) string {
+	var out []string
+	for _, t := range copyTables {
+		if d.Counts[t] != e.Counts[t] {
+			out = append(out, fmt.Sprintf("%s %d against %d", t, d.Counts[t], e.Counts[t]))
+		}
+	}
+	if d.SHA256 != e.SHA256 {
+		out = append(out, fmt.Sprintf("content sha256 %.12s against %.12s", d.SHA256, e.SHA256))
+	}
+	return strings.Join(out, ", ")
+}
+
+// copyTables are the tables whose rows a copy must carry over one for one.
+var copyTables = []string{"runs", "snapshots", "run_params", "run_notes", "outcomes", "run_actuals", "run_deviations", "attachments", "names"}
+
+type digester struct {
+	h hash.Hash
+}
+
+func newDigester() *digester { return &digester{h: sha256.New()} }
+
+func (g *digester) add(v any) error {
+	b, err := json.Marshal(v)
+	if err != nil {
+		return err
+	}
+	g.h.Write(b)
+	g.h.Write([]byte{'\n'})
+	return nil
+}
+
+// digest reads the whole log through q (one consistent read or the
+// writer's transaction) and sums it up.
+func (s *DB) digest(ctx context.Context, q Querier) (Digest, error) {
+	g := newDigester()
+	if err := s.export(ctx, q, "", nil, 0, func(rec store.RunRecord) error { return g.add(rec) }); err != nil {
+		return Digest{}, err
+	}
+	if err := readSnapshots(ctx, q, s.d, func(sn store.Snapshot) error { return g.add(sn) }); err != nil {
+		return Digest{}, err
+	}
+	d := Digest{Counts: map[string]int{}, SHA256: hex.EncodeToString(g.h.Sum(nil))}
+	for _, t := range copyTables {
+		var n int
+		if err := q.QueryRowContext(ctx, "SELECT COUNT(*) FROM "+t).Scan(&n); err != nil {
+			return d, fmt.Errorf("count %s: %w", t, err)
+		}
+		d.Counts[t] = n
+	}
+	return d, nil
+}
+
+// Digest sums up the whole log from one consistent read.
+func (s *DB) Digest(ctx context.Context) (Digest, error) {
+	q, end, err := s.d.Read(ctx, s.db)
+	if err != nil {
+		return Digest{}, err
+	}
+	defer end()
+	return s.digest(ctx, q)
+}
+
+func readSnapshots(ctx context.Context, q Querier, d Dialect, each func(store.Snapshot) error) error {
+	rows, err := q.QueryContext(ctx, `SELECT sha256, name, file, content, created_at FROM snapshots ORDER BY sha256`)
+	if err != nil {
+		return fmt.Errorf("read snapshots: %w", err)
+	}
+	defer rows.Close()
+	for rows.Next() {
+		var sn store.Snapshot
+		var created sql.NullString
+		if err := rows.Scan(&sn.SHA256, &sn.Name, &sn.File, &sn.Content, &created); err != nil {
+			return err
+		}
+		if sn.Created, err = parseTime(created); err != nil {
+			return err
+		}
+		if err := each(sn); err != nil {
+			return err
+		}
+	}
+	return rows.Err()
+}
+
+// Copy copies the whole of src (every snapshot, run and counter) into
+// dst, which must hold no runs and no snapshots, in one transaction on
+// dst. Before it commits it reads the copy back inside that transaction
+// and compares its Digest with src's, taken from the same consistent read
+// the copy came from; on any difference, error or cancellation nothing is
+// written, and a killed process leaves dst as empty as it was. progress,
+// when not nil, is called with the runs copied so far. It returns the
+// digest both sides share.
+func Copy(ctx context.Context, dst, src *DB, progress func(done, total int)) (Digest, error) {
+	q, end, err := src.d.Read(ctx, src.db)
+	if err != nil {
+		return Digest{}, fmt.Errorf("copy: read the source: %w", err)
+	}
+	defer end()
+	var total int
+	if err := q.QueryRowContext(ctx, `SELECT COUNT(*) FROM runs`).Scan(&total); err != nil {
+		return Digest{}, fmt.Errorf("copy: read the source: %w", err)
+	}
+	w, err := dst.begin(ctx)
+	if err != nil {
+		return Digest{}, fmt.Errorf("copy: %w", err)
+	}
+	defer w.rollback()
+	var runs, snaps int
+	if err := w.tx.QueryRowContext(ctx, `SELECT (SELECT COUNT(*) FROM runs), (SELECT COUNT(*) FROM snapshots)`).Scan(&runs, &snaps); err != nil {
+		return Digest{}, fmt.Errorf("copy: %w", err)
+	}
+	if runs > 0 || snaps > 0 {
+		return Digest{}, fmt.Errorf("copy: the target already holds %d runs and %d recipe snapshots; db copy writes only into an empty log: %w", runs, snaps, store.ErrConflict)
+	}
+	endBulk, err := dst.d.Bulk(ctx, w.tx, total)
+	if err != nil {
+		return Digest{}, fmt.Errorf("copy: %w", err)
+	}
+	// snapshots first, hashed in hash order
+	var snapList []store.Snapshot
+	if err := readSnapshots(ctx, q, src.d, func(sn store.Snapshot) error {
+		snapList = append(snapList, sn)
+		return w.putSnapshot(ctx, sn)
+	}); err != nil {
+		return Digest{}, fmt.Errorf("copy snapshots: %w", err)
+	}
+	// runs, hashed as they pass
+	g := newDigester()
+	done := 0
+	err = src.export(ctx, q, "", nil, 0, func(rec store.RunRecord) error {
+		if err := g.add(rec); err != nil {
+			return err
+		}
+		if err := w.queue(ctx, rec); err != nil {
+			return fmt.Errorf("run %s: %w", rec.Code, err)
+		}
+		done++
+		if progress != nil && done%1000 == 0 {
+			progress(done, total)
+		}
+		return ctx.Err()
+	})
+	if err != nil {
+		return Digest{}, fmt.Errorf("copy: %w", err)
+	}
+	if _, err := w.flushRuns(ctx); err != nil {
+		return Digest{}, fmt.Errorf("copy: %w", err)
+	}
+	for _, sn := range snapList {
+		if err := g.add(sn); err != nil {
+			return Digest{}, err
+		}
+	}
+	if err := copyCounters(ctx, q, w); err != nil {
+		return Digest{}, fmt.Errorf("copy counters: %w", err)
+	}
+	for _, bt := range w.batches() {
+		if err := bt.flush(ctx); err != nil {
+			return Digest{}, fmt.Errorf("copy: %w", err)
+		}
+	}
+	if err := endBulk(ctx); err != nil {
+		return Digest{}, fmt.Errorf("copy: %w", err)
+	}
+	want := Digest{Counts: map[string]int{}, SHA256: hex.EncodeToString(g.h.Sum(nil))}
+	for _, t := range copyTables {
+		var n int
+		if err := q.QueryRowContext(ctx, "SELECT COUNT(*) FROM "+t).Scan(&n); err != nil {
+			return Digest{}, fmt.Errorf("copy: count source %s: %w", t, err)
+		}
+		want.Counts[t] = n
+	}
+	got, err := dst.digest(ctx, w.tx)
+	if err != nil {
+		return Digest{}, fmt.Errorf("copy: read the copy back: %w", err)
+	}
+	if diff := want.Diff(got); diff != "" {
+		return Digest{}, fmt.Errorf("copy: the copy differs from the source (%s); nothing was written", diff)
+	}
+	if progress != nil {
+		progress(done, total)
+	}
+	if err := w.commit(ctx); err != nil {
+		return Digest{}, fmt.Errorf("copy: commit: %w", err)
+	}
+	return got, nil
+}
+
+// copyCounters carries the code counters over (each at least as far as
+// the codes copied already moved it).
+func copyCounters(ctx context.Context, q Querier, w *writer) error {
+	rows, err := q.QueryContext(ctx, `SELECT name, value FROM counters`)
+	if err != nil {
+		return err
+	}
+	type counter struct {
+		name string
+		v    int64
+	}
+	var cs []counter
+	for rows.Next() {
+		var c counter
+		if err := rows.Scan(&c.name, &c.v); err != nil {
+			rows.Close()
+			return err
+		}
+		cs = append(cs, c)
+	}
+	rows.Close()
+	if err := rows.Err(); err != nil {
+		return err
+	}
+	sort.Slice(cs, func(i, j int) bool { return cs[i].name < cs[j].name })
+	for _, c := range cs {
+		if err := w.raiseCounter(ctx, c.name, c.v); err != nil {
+			return err
+		}
+	}
+	return nil
+}

@@ -1,0 +1,112 @@
+package storetest
+
+import (
+	"bytes"
+	"context"
+	"fmt"
+	"math"
+	"testing"
+	"time"
+
+	"github.com/foilrun/foilrun/store"
+	"github.com/foilrun/foilrun/store/sqldb"
+)
+
+// TestRecipe is a recipe file's bytes with what a byte-exact store must
+// keep: CRLF line ends, a tab in a comment, trailing spaces, non-ASCII
+// text and no final newline.
+var TestRecipe = []byte("# r\u00e9cipe \t test  \r\nname: demo\r\nsteps: []   \r\n# end")
+
+// T0 is the start time of the synthetic runs.
+var T0 = time.Date(2026, 3, 2, 9, 0, 0, 0, time.UTC)
+
+// GenRecord makes run i of a synthetic log: 15 parameters spread over
+// realistic ranges and two outcomes, a coverage that rises with
+// temperature and a domain size. hash is the recipe snapshot it refers to
+// ("" for none).
+func GenRecord(i int, hash string) store.RunRecord {
+	T := 950 + float64((i*37)%121) // 950..1070 °C
+	ch4 := 1 + float64((i*13)%40)  // 1..40 sccm
+	h2 := 10 + float64((i*7)%30)   // 10..39 sccm
+	tg := 5 + float64((i*11)%26)   // 5..30 min
+	cov := math.Min(1, math.Max(0, (T-940)/130*0.8+tg/150+float64(i%7)/100))
+	return store.RunRecord{
+		Run: store.Run{Status: store.Done, RecipeHash: hash, RecipeName: "demo", Furnace: "tube-" + fmt.Sprint(1+i%3),
+			Operator: "op" + fmt.Sprint(i%5), Lot: fmt.Sprintf("L%03d", i%40),
+			Started: T0.Add(time.Duration(i) * time.Hour), Ended: T0.Add(time.Duration(i)*time.Hour + 2*time.Hour), Created: T0.Add(time.Duration(i) * time.Hour)},
+		Params: map[string]float64{"growth_temperature_c": T, "ch4_flow_sccm": ch4, "h2_flow_sccm": h2, "growth_time_min": tg,
+			"ch4_h2_ratio": ch4 / h2, "growth_pressure_torr": 0.5 + float64(i%4)/4, "anneal_temperature_c": T, "anneal_time_min": 30,
+			"foil_thickness_um": 25, "total_time_min": 120 + tg, "ar_flow_sccm": 0, "ch4_partial_pa": ch4 / (ch4 + h2) * 66, "h2_partial_pa": h2 / (ch4 + h2) * 66,
+			"ramp_rate_c_min": 20, "cool_rate_c_min": 10},
+		Outcomes: []store.Outcome{
+			{Metric: "coverage", Value: cov, Unit: "1", Entered: fmt.Sprint(cov), Method: "micrograph", Measured: T0.Add(time.Duration(i)*time.Hour + 5*time.Hour)},
+			{Metric: "domain_size", Value: 5 + T/100, Unit: "um", Entered: fmt.Sprintf("%gum", 5+T/100)},
+		},
+	}
+}
+
+// FullRecord is GenRecord with a note, an actual (planned value missing),
+// a deviation and an attachment, so every table gets rows.
+func FullRecord(i int, hash string) store.RunRecord {
+	rec := GenRecord(i, hash)
+	rec.Notes = []store.Note{{At: T0, Text: "note " + rec.Lot}}
+	rec.Actuals = []store.Actual{
+		{Step: 2, Label: "2 grow", Quantity: "temperature", Unit: "K", Planned: store.None(), Mean: 1273, Min: 1270, Max: 1276, Samples: 10},
+		{Step: 2, Label: "2 grow", Quantity: "flow:CH4", Unit: "mol/s", Planned: 7.4e-6, Mean: 7.5e-6, Min: 7.3e-6, Max: 7.7e-6, Samples: 10},
+		{Step: 2, Label: "2 grow", Quantity: "flow_total", Unit: "mol/s", Planned: 1e-5, Mean: 1e-5, Min: 1e-5, Max: 1e-5, Samples: 10},
+	}
+	rec.Deviations = []store.Deviation{{Step: 2, Label: "2 grow", Quantity: "duration", Unit: "s", Planned: 900, Actual: 1100, Tolerance: 90, Message: "long"}}
+	rec.Attachments = []store.Attachment{{Path: "a.png", SHA256: "00", Kind: "micrograph", Added: T0}}
+	return rec
+}
+
+// Records returns n GenRecords referring to the snapshot hash.
+func Records(n int, hash string) []store.RunRecord {
+	recs := make([]store.RunRecord, n)
+	for i := range recs {
+		recs[i] = GenRecord(i, hash)
+	}
+	return recs
+}
+
+// Tables are the run log's tables, for row counts.
+var Tables = []string{"runs", "snapshots", "run_params", "run_notes", "outcomes", "run_actuals", "run_deviations", "attachments", "names", "counters", "schema_version"}
+
+// Base returns the shared SQL implementation behind a back end's log
+// (every back end embeds *sqldb.DB); t may be nil outside a test, where
+// a log of another kind panics.
+func Base(t testing.TB, l store.RunLog) *sqldb.DB {
+	b, ok := l.(interface{ Base() *sqldb.DB })
+	if !ok {
+		if t == nil {
+			panic(fmt.Sprintf("storetest: run log %T does not embed *sqldb.DB", l))
+		}
+		t.Fatalf("run log %T does not embed *sqldb.DB", l)
+	}
+	return b.Base()
+}
+
+// Fingerprint is the whole content of a log as JSON plus row counts of
+// every table, to show a failed write changed nothing.
+func Fingerprint(t testing.TB, l store.RunLog) string {
+	t.Helper()
+	ctx := context.Background()
+	var b bytes.Buffer
+	if _, err := store.WriteJSON(ctx, &b, l, store.Filter{}); err != nil {
+		t.Fatal(err)
+	}
+	for _, tbl := range Tables {
+		fmt.Fprintf(&b, "%s=%d\n", tbl, Count(t, l, tbl))
+	}
+	return b.String()
+}
+
+// Count returns the number of rows in a table of the log.
+func Count(t testing.TB, l store.RunLog, table string) int {
+	t.Helper()
+	var n int
+	if err := Base(t, l).SQL().QueryRowContext(context.Background(), "SELECT COUNT(*) FROM "+table).Scan(&n); err != nil {
+		t.Fatalf("count %s: %v", table, err)
+	}
+	return n
+}

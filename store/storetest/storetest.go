@@ -1,0 +1,435 @@
+// Package storetest is the back-end-agnostic test suite of the run log:
+// every back end (store/sqlite, store/postgres) calls Run from its tests
+// with a function that opens a fresh, empty log, so the same checks run
+// unchanged against each. It also holds the synthetic records the
+// benchmarks use and the helpers for tests with several processes
+// (Main, Loggers, KilledImport).
+//
+// The expected values are computed in Go from the same records the test
+// writes (counts, filters and means by hand), never taken from the back
+// end under test.
+//
+// Entry points: Run, GenRecord, Fingerprint, Main, Loggers, KilledImport.
+package storetest
+
+import (
+	"bytes"
+	"context"
+	"errors"
+	"fmt"
+	"sort"
+	"strings"
+	"sync"
+	"testing"
+	"time"
+
+	"github.com/foilrun/foilrun/store"
+)
+
+// Opener opens a fresh, empty run log for one test; the back end closes
+// and removes it in t.Cleanup.
+type Opener func(t *testing.T) store.RunLog
+
+// Run runs the shared suite, each test on its own fresh log.
+func Run(t *testing.T, open Opener) {
+	tests := []struct {
+		name string
+		fn   func(*testing.T, Opener)
+	}{
+		{"SnapshotByteIdentical", testSnapshot},
+		{"RunLifecycle", testLifecycle},
+		{"Codes", testCodes},
+		{"BadInput", testBadInput},
+		{"ListBestRank", testListBestRank},
+		{"TextOrder", testTextOrder},
+		{"ExportImportJSON", testExportImportJSON},
+		{"ExportImportCSV", testExportImportCSV},
+		{"ConcurrentWriters", testConcurrentWriters},
+		{"Check", testCheck},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) { tt.fn(t, open) })
+	}
+}
+
+func setClock(t *testing.T, l store.RunLog, at time.Time) {
+	Base(t, l).SetClock(func() time.Time { return at })
+}
+
+func must(t *testing.T, err error) {
+	t.Helper()
+	if err != nil {
+		t.Fatal(err)
+	}
+}
+
+func testSnapshot(t *testing.T, open Opener) {
+	l := open(t)
+	ctx := context.Background()
+	sn := store.NewSnapshot("demo", "demo.yaml", TestRecipe)
+	code, err := l.CreateRun(ctx, store.RunRecord{}, &sn)
+	must(t, err)
+	rec, err := l.Record(ctx, code)
+	must(t, err)
+	got, err := l.Snapshot(ctx, rec.RecipeHash)
+	must(t, err)
+	// the hash is SHA-256 of the bytes (FIPS 180-4), computed by crypto/sha256
+	if !bytes.Equal(got.Content, TestRecipe) || got.SHA256 != store.HashOf(TestRecipe) {
+		t.Errorf("snapshot round trip: got %q, want %q", got.Content, TestRecipe)
+	}
+	if _, err := l.CreateRun(ctx, store.RunRecord{}, &sn); err != nil {
+		t.Fatal(err)
+	}
+	if n := Count(t, l, "snapshots"); n != 1 {
+		t.Errorf("snapshots after two runs of one recipe: got %d, want 1", n)
+	}
+	if _, err := l.Snapshot(ctx, "ffff"); !errors.Is(err, store.ErrNotFound) {
+		t.Errorf("unknown snapshot: got %v, want ErrNotFound", err)
+	}
+}
+
+// testLifecycle: start, note, finish, outcomes, attachment, show.
+func testLifecycle(t *testing.T, open Opener) {
+	l := open(t)
+	ctx := context.Background()
+	setClock(t, l, time.Date(2026, 3, 1, 8, 0, 0, 0, time.UTC))
+	c1, err := l.CreateRun(ctx, store.RunRecord{Run: store.Run{Furnace: "tube-1", Started: T0}}, nil)
+	must(t, err)
+	c2, err := l.CreateRun(ctx, store.RunRecord{}, nil)
+	must(t, err)
+	if c1 != "G26-0001" || c2 != "G26-0002" {
+		t.Errorf("codes: got %s %s, want G26-0001 G26-0002", c1, c2)
+	}
+	must(t, l.AddNote(ctx, c1, store.Note{Text: "foil looked oxidised"}))
+	fin := store.Finish{Status: store.Done, Ended: T0.Add(time.Hour), Note: "cooled",
+		Actuals:    []store.Actual{{Step: 1, Label: "1 grow", Quantity: "temperature", Unit: "K", Planned: 1273.15, Mean: 1272, Min: 1270, Max: 1275, Samples: 60}},
+		Deviations: []store.Deviation{{Step: 1, Label: "1 grow", Quantity: "duration", Unit: "s", Planned: 900, Actual: 1100, Tolerance: 90, Message: "long"}}}
+	must(t, l.FinishRun(ctx, c1, fin))
+	if err := l.FinishRun(ctx, c1, fin); !errors.Is(err, store.ErrConflict) {
+		t.Errorf("second finish: got %v, want ErrConflict", err)
+	}
+	must(t, l.AddOutcomes(ctx, c1, []store.Outcome{{Metric: "coverage", Value: 0.95, Unit: "1"}}))
+	must(t, l.AddAttachment(ctx, c1, store.Attachment{Path: "m.png", SHA256: "ab", Kind: "micrograph"}))
+	rec, err := l.Record(ctx, c1)
+	must(t, err)
+	if rec.Status != store.Done || !rec.Ended.Equal(T0.Add(time.Hour)) || len(rec.Notes) != 2 || len(rec.Actuals) != 1 ||
+		len(rec.Deviations) != 1 || len(rec.Outcomes) != 1 || len(rec.Attachments) != 1 || rec.Actuals[0].Planned != 1273.15 ||
+		rec.Notes[0].Text != "foil looked oxidised" || rec.Notes[1].Text != "cooled" || rec.Furnace != "tube-1" || !rec.Started.Equal(T0) {
+		t.Errorf("record: got %+v", rec)
+	}
+	runs, err := l.List(ctx, store.Filter{})
+	must(t, err)
+	if len(runs) != 2 || runs[0].Code != c1 || runs[1].Status != store.Running {
+		t.Errorf("List: got %+v, want %s done then %s running", runs, c1, c2)
+	}
+}
+
+// testCodes: codes restart each year, imported codes move the counter on,
+// codes of another shape are kept.
+func testCodes(t *testing.T, open Opener) {
+	l := open(t)
+	ctx := context.Background()
+	setClock(t, l, time.Date(2026, 12, 31, 23, 0, 0, 0, time.UTC))
+	c, err := l.CreateRun(ctx, store.RunRecord{}, nil)
+	must(t, err)
+	imp := []store.RunRecord{{Run: store.Run{Code: "G27-0041", Status: store.Done}}, {Run: store.Run{Code: "LAB-7", Status: store.Done}}}
+	_, err = l.Import(ctx, store.Bundle{Runs: imp}, nil)
+	must(t, err)
+	setClock(t, l, time.Date(2027, 1, 1, 1, 0, 0, 0, time.UTC))
+	c2, err := l.CreateRun(ctx, store.RunRecord{}, nil)
+	must(t, err)
+	if c != "G26-0001" || c2 != "G27-0042" {
+		t.Errorf("codes: got %s, %s; want G26-0001 and G27-0042 (after the imported G27-0041)", c, c2)
+	}
+	if _, err := l.Record(ctx, "LAB-7"); err != nil {
+		t.Errorf("imported code of another shape: %v", err)
+	}
+}
+
+// testBadInput: each bad call fails with a clear error and leaves the log
+// exactly as it was.
+func testBadInput(t *testing.T, open Opener) {
+	l := open(t)
+	ctx := context.Background()
+	sn := store.NewSnapshot("demo", "demo.yaml", TestRecipe)
+	code, err := l.CreateRun(ctx, GenRecord(1, sn.SHA256), &sn)
+	must(t, err)
+	before := Fingerprint(t, l)
+	tests := []struct {
+		name string
+		call func() error
+		is   error
+		msg  string
+	}{
+		{"unknown code note", func() error { return l.AddNote(ctx, "G99-0001", store.Note{Text: "x"}) }, store.ErrNotFound, `run "G99-0001": not found`},
+		{"unknown code finish", func() error { return l.FinishRun(ctx, "nope", store.Finish{Status: store.Done}) }, store.ErrNotFound, `run "nope"`},
+		{"bad finish status", func() error { return l.FinishRun(ctx, code, store.Finish{Status: store.Running}) }, store.ErrInvalid, "want done or aborted"},
+		{"unknown code show", func() error { _, err := l.Record(ctx, "G26-9999"); return err }, store.ErrNotFound, "not found"},
+		{"wrong unit metric", func() error {
+			return l.AddOutcomes(ctx, code, []store.Outcome{{Metric: "coverage", Value: 0.5, Unit: "1"}, {Metric: "domain_size", Value: 3, Unit: "ohm/sq"}})
+		}, store.ErrInvalid, `domain_size is in um, not "ohm/sq"`},
+		{"free metric unit change", func() error {
+			return l.AddOutcomes(ctx, code, []store.Outcome{{Metric: "peak_shift", Value: 2, Unit: "cm-1"}, {Metric: "peak_shift", Value: 2, Unit: "nm"}})
+		}, store.ErrInvalid, `metric "peak_shift" is logged in "cm-1", not "nm"`},
+		{"metric named like a parameter", func() error {
+			return l.AddOutcomes(ctx, code, []store.Outcome{{Metric: "growth_time_min", Value: 2, Unit: "1"}})
+		}, store.ErrInvalid, "is logged as a param"},
+		{"where syntax", func() error { _, err := l.List(ctx, store.Filter{Where: []string{"coverage >> 1"}}); return err }, store.ErrInvalid, "col 11"},
+		{"injection", func() error {
+			_, err := l.List(ctx, store.Filter{Where: []string{`x'; DROP TABLE runs; --`}})
+			return err
+		}, store.ErrInvalid, "string starting with ' is not closed"},
+		{"injection in name position", func() error {
+			_, err := l.Samples(ctx, store.Filter{Where: []string{`status = "done" or 1=1; DROP TABLE runs`}}, "coverage", nil)
+			return err
+		}, store.ErrInvalid, "col 23: unexpected character ';'"},
+		{"injection in a string value", func() error {
+			runs, err := l.List(ctx, store.Filter{Where: []string{`furnace = "x'; DROP TABLE runs; --"`}})
+			if err == nil && len(runs) != 0 {
+				return fmt.Errorf("%d runs match", len(runs))
+			}
+			return fmt.Errorf("no match: %w", store.ErrNotFound)
+		}, store.ErrNotFound, "no match"},
+		{"duplicate code import", func() error {
+			_, err := l.Import(ctx, store.Bundle{Runs: []store.RunRecord{GenRecord(2, ""), {Run: store.Run{Code: code, Status: store.Done}}}}, nil)
+			return err
+		}, store.ErrConflict, `run code "` + code + `" is already in the log`},
+		{"duplicate code within an import", func() error {
+			a := GenRecord(2, "")
+			a.Code = "G20-0005"
+			_, err := l.Import(ctx, store.Bundle{Runs: []store.RunRecord{a, a}}, nil)
+			return err
+		}, store.ErrConflict, `run code "G20-0005" is already in the log`},
+		{"missing snapshot import", func() error {
+			_, err := l.Import(ctx, store.Bundle{Runs: []store.RunRecord{GenRecord(3, "deadbeef")}}, nil)
+			return err
+		}, store.ErrInvalid, "neither given nor in the log"},
+		{"bad status import", func() error {
+			bad := GenRecord(3, "")
+			bad.Status = "cooking"
+			_, err := l.Import(ctx, store.Bundle{Runs: []store.RunRecord{GenRecord(4, ""), bad}}, nil)
+			return err
+		}, store.ErrInvalid, `status "cooking"`},
+		{"tampered snapshot", func() error {
+			bad := sn
+			bad.Content = append([]byte(nil), sn.Content...)
+			bad.Content[0] ^= 1
+			bad.SHA256 = store.HashOf([]byte("other"))
+			_, err := l.CreateRun(ctx, store.RunRecord{}, &bad)
+			return err
+		}, store.ErrInvalid, "content hashes to"},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			err := tt.call()
+			if !errors.Is(err, tt.is) || !strings.Contains(err.Error(), tt.msg) {
+				t.Errorf("got %v, want %v containing %q", err, tt.is, tt.msg)
+			}
+			if after := Fingerprint(t, l); after != before {
+				t.Errorf("the log changed")
+			}
+		})
+	}
+	if n := Count(t, l, "runs"); n != 1 {
+		t.Errorf("runs table after injection attempts: got %d runs, want 1", n)
+	}
+}
+
+func importRecords(t *testing.T, l store.RunLog, recs []store.RunRecord) {
+	t.Helper()
+	n, err := l.Import(context.Background(), store.Bundle{Runs: recs}, nil)
+	if err != nil || n != len(recs) {
+		t.Fatalf("Import: got %d, %v; want %d", n, err, len(recs))
+	}
+}
+
+func testListBestRank(t *testing.T, open Opener) {
+	l := open(t)
+	ctx := context.Background()
+	recs := Records(200, "")
+	importRecords(t, l, recs)
+	// count by hand in Go over the same records
+	want := 0
+	for _, r := range recs {
+		if r.Params["growth_temperature_c"] >= 1000 && r.Outcomes[0].Value > 0.6 || r.Furnace == "tube-2" {
+			want++
+		}
+	}
+	got, err := l.List(ctx, store.Filter{Where: []string{`growth_temperature_c >= 1000 and coverage > 0.6 or furnace = "tube-2"`}})
+	if err != nil || len(got) != want {
+		t.Fatalf("List: got %d runs, %v; want %d", len(got), err, want)
+	}
+	lim, err := l.List(ctx, store.Filter{Where: []string{`not (status != "done")`}, Limit: 7})
+	if err != nil || len(lim) != 7 || lim[6].Code != "" && lim[0].Code > lim[6].Code {
+		t.Errorf("List with limit 7: got %d runs, %v; want 7 oldest first", len(lim), err)
+	}
+	samples, err := l.Samples(ctx, store.Filter{}, "coverage", []string{"growth_temperature_c", "ch4_flow_sccm", "no_such_param"})
+	if err != nil || len(samples) != 200 {
+		t.Fatalf("Samples: got %d, %v; want 200", len(samples), err)
+	}
+	for i, s := range samples {
+		if s.Params[0] != recs[i].Params["growth_temperature_c"] || s.Params[1] != recs[i].Params["ch4_flow_sccm"] ||
+			s.Metric != recs[i].Outcomes[0].Value || s.Params[2] == s.Params[2] {
+			t.Fatalf("sample %d: got %+v, want the record's values and NaN for the missing parameter", i, s)
+		}
+	}
+	tb := store.Best(samples, "coverage", []string{"growth_temperature_c"}, 4, store.Goal{Min: 0.7, Max: store.None()})
+	total, meet := 0, 0
+	for _, b := range tb.Bins {
+		total += b.Count
+		meet += b.Meeting
+	}
+	wantMeet := 0
+	for _, r := range recs {
+		if r.Outcomes[0].Value >= 0.7 {
+			wantMeet++
+		}
+	}
+	if total != 200 || len(tb.Bins) != 4 || meet != wantMeet {
+		t.Errorf("Best: got %d bins holding %d runs, %d meeting; want 4 holding 200, %d meeting", len(tb.Bins), total, meet, wantMeet)
+	}
+	rk := store.Rank(samples[:], "coverage", []string{"growth_temperature_c", "ch4_flow_sccm"}, store.NoGoal(), false)
+	if rk.Rows[0].Param != "growth_temperature_c" || !(rk.Rows[0].Rho > 0.8) {
+		t.Errorf("Rank: got first %s rho %g, want growth_temperature_c (coverage is built from it) with rho > 0.8", rk.Rows[0].Param, rk.Rows[0].Rho)
+	}
+	names, err := l.Names(ctx)
+	must(t, err)
+	if len(names) != 17 || !sort.SliceIsSorted(names, func(i, j int) bool { return names[i].Name < names[j].Name }) {
+		t.Errorf("Names: got %d names, want 15 parameters and 2 metrics in byte order", len(names))
+	}
+}
+
+// testTextOrder: text compares and sorts byte-wise on every back end
+// (upper case before lower case, '-' before digits before letters), as Go
+// compares strings.
+func testTextOrder(t *testing.T, open Opener) {
+	l := open(t)
+	ctx := context.Background()
+	furnaces := []string{"tube-b", "Tube-a", "tube_c", "tube-2", "tube-10", "tübe"}
+	var recs []store.RunRecord
+	for i, f := range furnaces {
+		r := GenRecord(i, "")
+		r.Furnace = f
+		recs = append(recs, r)
+	}
+	importRecords(t, l, recs)
+	want := 0
+	for _, f := range furnaces {
+		if f < "tube-b" {
+			want++
+		}
+	}
+	got, err := l.List(ctx, store.Filter{Where: []string{`furnace < "tube-b"`}})
+	if err != nil || len(got) != want {
+		t.Errorf(`furnace < "tube-b": got %d runs, %v; want %d (byte order)`, len(got), err, want)
+	}
+	day := T0.Add(3 * time.Hour).Format("2006-01-02T15")
+	got, err = l.List(ctx, store.Filter{Where: []string{`started >= "` + day + `"`}})
+	if err != nil || len(got) != 3 {
+		t.Errorf("started >= %q: got %d runs, %v; want 3", day, len(got), err)
+	}
+}
+
+func testExportImportJSON(t *testing.T, open Opener) {
+	src := open(t)
+	ctx := context.Background()
+	sn := store.NewSnapshot("demo", "demo.yaml", TestRecipe)
+	for i := 0; i < 30; i++ {
+		var snap *store.Snapshot
+		if i%2 == 0 {
+			snap = &sn
+		}
+		if _, err := src.CreateRun(ctx, FullRecord(i, ""), snap); err != nil {
+			t.Fatal(err)
+		}
+	}
+	var a bytes.Buffer
+	_, err := store.WriteJSON(ctx, &a, src, store.Filter{})
+	must(t, err)
+	b, err := store.ReadJSON(bytes.NewReader(a.Bytes()))
+	must(t, err)
+	dst := open(t)
+	if n, err := dst.Import(ctx, b, nil); err != nil || n != 30 {
+		t.Fatalf("Import: got %d, %v; want 30", n, err)
+	}
+	var c bytes.Buffer
+	_, err = store.WriteJSON(ctx, &c, dst, store.Filter{})
+	must(t, err)
+	if a.String() != c.String() {
+		t.Errorf("export of the imported log differs from the original export")
+	}
+	got, err := dst.Snapshot(ctx, sn.SHA256)
+	if err != nil || !bytes.Equal(got.Content, TestRecipe) {
+		t.Errorf("snapshot after JSON round trip: got %q, %v; want %q", got.Content, err, TestRecipe)
+	}
+	rec, err := dst.Record(ctx, b.Runs[3].Code)
+	must(t, err)
+	if q := []string{rec.Actuals[0].Quantity, rec.Actuals[1].Quantity, rec.Actuals[2].Quantity}; q[0] != "flow:CH4" || q[1] != "flow_total" || q[2] != "temperature" {
+		t.Errorf("actuals order: got %v, want byte order flow:CH4, flow_total, temperature", q)
+	}
+}
+
+func testExportImportCSV(t *testing.T, open Opener) {
+	src := open(t)
+	ctx := context.Background()
+	importRecords(t, src, Records(30, ""))
+	var d bytes.Buffer
+	_, err := store.WriteCSV(ctx, &d, src, store.Filter{})
+	must(t, err)
+	cb, err := store.ReadCSV(bytes.NewReader(d.Bytes()))
+	must(t, err)
+	dst := open(t)
+	importRecords(t, dst, cb.Runs)
+	var e bytes.Buffer
+	_, err = store.WriteCSV(ctx, &e, dst, store.Filter{})
+	must(t, err)
+	if e.String() != d.String() {
+		t.Errorf("CSV round trip differs:\n%s\nwant\n%s", e.String(), d.String())
+	}
+}
+
+// testConcurrentWriters: 4 goroutines log 50 runs each through one log at
+// once; 200 runs with 200 distinct codes.
+func testConcurrentWriters(t *testing.T, open Opener) {
+	l := open(t)
+	ctx := context.Background()
+	var wg sync.WaitGroup
+	errs := make([]error, 4)
+	for g := range errs {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := 0; i < 50 && errs[g] == nil; i++ {
+				_, errs[g] = l.CreateRun(ctx, GenRecord(g*50+i, ""), nil)
+			}
+		}()
+	}
+	wg.Wait()
+	for g, err := range errs {
+		if err != nil {
+			t.Errorf("writer %d: %v", g, err)
+		}
+	}
+	runs, err := l.List(ctx, store.Filter{})
+	must(t, err)
+	codes := map[string]bool{}
+	for _, r := range runs {
+		codes[r.Code] = true
+	}
+	if len(runs) != 200 || len(codes) != 200 {
+		t.Errorf("got %d runs with %d distinct codes, want 200 and 200", len(runs), len(codes))
+	}
+}
+
+func testCheck(t *testing.T, open Opener) {
+	l := open(t)
+	ctx := context.Background()
+	importRecords(t, l, Records(20, ""))
+	probs, err := l.Check(ctx)
+	if err != nil || len(probs) != 0 {
+		t.Errorf("Check of a good log: got %v, %v; want no problems", probs, err)
+	}
+	if v, err := l.SchemaVersion(ctx); err != nil || v != 3 {
+		t.Errorf("SchemaVersion: got %d, %v; want 3", v, err)
+	}
+}
