@@ -210,7 +210,16 @@ func stepTable(steps []stepNumbers) table {
 			ss = num(*s.Supersaturation, 3)
 		}
 		t.add(s.Label, fixed(s.StartMin, 1), fixed(s.DurationMin, 1), T, num(s.PressurePa, 3), num(s.PCH4Pa, 3), num(s.PH2Pa, 3), ratio,
-			num(s.VolFlowLmin, 3), num(s.VelocityMS, 3), num(s.ResidenceS, 3), num(s.Reynolds, 3), num(s.Knudsen, 2), ss, num(s.CopperLossUm, 2))
+			num(s.VolFlowLmin, 3), num(s.VelocityMS, 3), num(s.ResidenceS, 3), num(s.Reynolds, 3), num(s.Knudsen, 2), ss, num(tiny(s.CopperLossUm, 0.005), 2))
 	}
 	return t
+}
+
+// tiny shows values below eps as zero (copper loss far below anything a
+// balance can weigh).
+func tiny(v, eps float64) float64 {
+	if math.Abs(v) < eps {
+		return 0
+	}
+	return v
 }

@@ -145,7 +145,7 @@ func demoRun(ctx context.Context, o *demoOptions) error {
 		{"7. Finish it with the furnace controller's log", []string{db, "run", "finish", runCode, "--furnace-log", furnaceLog}, 0},
 		{"8. Measure the foil: micrograph, transmittance, Raman", []string{db, "outcome", "measure", runCode, "--image", micrograph, "--pixel", "0.2um",
 			"--polarity", "darker", "--overlay", filepath.Join(paths.images, "foil-nucleation-overlay.png"), "--transmittance", "97.6%", "--raman", "2d/g=2.4,d/g=0.06"}, 0},
-		{"9. Which parameters gave good coverage?", []string{db, "runs", "best", "--metric", "coverage", "--min", "0.95", "--by", "growth_temperature_c,growth_time_min", "--bins", "3"}, 0},
+		{"9. Which parameters gave good coverage?", []string{db, "runs", "best", "--metric", "coverage", "--min", "0.95", "--by", "ch4_flow_sccm,growth_time_min", "--bins", "3"}, 0},
 		{"10. Which parameters matter most?", []string{db, "runs", "rank", "--metric", "coverage", "--min", "0.95"}, 0},
 		{"11. Calibrate the kinetics from the log", []string{db, "fit", "--metric", "coverage,density", "--where", `status = "done"`, "--furnace", paths.furnaceA, "-o", fitted, "--plot", filepath.Join(paths.plots, "parity.png")}, 0},
 		{"12. Plan the next recipe", []string{"suggest", rel(paths.recipe), "--params", fitted, "--target", "coverage>=0.99", "--target", "domain-size>=15um", "--vary", "temperature=950C:1050C,CH4,time", "-o", suggested}, 0},
