@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -325,7 +326,14 @@ func editGrowStep(data []byte, step int, changes []kinetics.Change, from, to str
 		return nil, fmt.Errorf("suggest: recipe %q: cannot find step %d", from, step+1)
 	}
 	st := steps.Content[step]
+	oldT := ""
+	if n := mapValue(st, "temperature"); n != nil {
+		oldT = n.Value
+	}
 	for _, c := range changes {
+		if c.Field == "temperature" {
+			followTemperature(steps.Content[:step], oldT, c.Text)
+		}
 		if gasName, ok := strings.CutPrefix(c.Field, "flows."); ok {
 			flows := mapValue(st, "flows")
 			if flows == nil {
@@ -369,6 +377,45 @@ func editGrowStep(data []byte, step int, changes []kinetics.Change, from, to str
 		return nil, err
 	}
 	return b.Bytes(), nil
+}
+
+// followTemperature moves the anneal and ramp steps just before the grow
+// step that sat at its old temperature to the new one, so the furnace is
+// at the growth temperature when the carbon source comes on (the checks
+// warn otherwise).
+func followTemperature(before []*yaml.Node, oldText, newText string) {
+	old, err := recipe.Parse(oldText, recipe.Temperature)
+	if err != nil {
+		return
+	}
+	for i := len(before) - 1; i >= 0; i-- {
+		st := before[i]
+		kind := mapValue(st, "kind")
+		if kind == nil {
+			return
+		}
+		key := ""
+		switch kind.Value {
+		case "anneal", "grow":
+			key = "temperature"
+		case "ramp":
+			key = "to"
+		default:
+			return
+		}
+		n := mapValue(st, key)
+		if n == nil {
+			return
+		}
+		q, err := recipe.Parse(n.Value, recipe.Temperature)
+		if err != nil || math.Abs(q.SI-old.SI) > 0.01 {
+			return
+		}
+		n.Value = newText
+		if kind.Value == "ramp" {
+			return // the ramp brings the furnace there; steps before it are colder
+		}
+	}
 }
 
 func mapValue(m *yaml.Node, key string) *yaml.Node {
