@@ -359,10 +359,10 @@ func (s *searcher) addAxis(spec string, plan *recipe.Plan) error {
 		if a.dim == recipe.Flow && !(lo > 0) {
 			return suggestErr("suggest --vary %q: flows must be greater than zero", spec)
 		}
-		a.lo, a.hi = lo, math.Min(hi, a.hi)
 		if hi < a.hi {
-			a.limit = "the --vary range"
+			a.limit = "top of the --vary range"
 		}
+		a.lo, a.hi = lo, math.Min(hi, a.hi)
 	}
 	s.axes = append(s.axes, a)
 	return nil
