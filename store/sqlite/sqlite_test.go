@@ -3,14 +3,11 @@ package sqlite
 import (
 	"context"
 	"database/sql"
-	"errors"
 	"path/filepath"
 	"strings"
 	"testing"
-	"time"
 
 	"github.com/foilrun/foilrun/store"
-	"github.com/foilrun/foilrun/store/sqldb"
 	"github.com/foilrun/foilrun/store/storetest"
 )
 
@@ -26,79 +23,22 @@ func TestPragmas(t *testing.T) {
 	}
 }
 
-// TestMigrations opens an empty file, and files left at every earlier
-// version with data in them, and checks each reaches the latest version
-// with its data intact and the names registry (version 3) filled.
+// TestMigrations: from an empty file and from files left at every
+// earlier version (the shared check in storetest).
 func TestMigrations(t *testing.T) {
-	ctx := context.Background()
-	latest, err := sqldb.Latest(dialect{})
-	if err != nil || latest != 3 {
-		t.Fatalf("Latest = %d, %v; want 3", latest, err)
-	}
-	for v := 0; v < latest; v++ {
-		t.Run("from"+string(rune('0'+v)), func(t *testing.T) {
-			path := filepath.Join(t.TempDir(), "runs.db")
-			raw, err := open(ctx, path)
-			if err != nil {
-				t.Fatal(err)
-			}
-			if v > 0 {
-				if err := sqldb.Migrate(ctx, raw, dialect{}, v); err != nil {
-					t.Fatal(err)
-				}
-				// data written at version v, with the columns that version has
-				mustExec(t, raw, `INSERT INTO snapshots VALUES ('h', 'demo', 'a.yaml', x'00ff', '2026-01-01T00:00:00.000000Z')`)
-				mustExec(t, raw, `INSERT INTO runs (id, code, status, recipe_sha256, recipe_name, furnace, operator, lot, created_at)
-					VALUES (1, 'G26-0007', 'done', 'h', 'demo', 'tube-1', 'op', 'L1', '2026-01-01T00:00:00.000000Z')`)
-				mustExec(t, raw, `INSERT INTO counters VALUES ('run-2026', 7)`)
-				mustExec(t, raw, `INSERT INTO run_params VALUES (1, 'growth_temperature_c', 1000)`)
-				mustExec(t, raw, `INSERT INTO outcomes (run_id, metric, value, unit, entered, method) VALUES (1, 'coverage', 0.9, '1', '90%', '')`)
-			}
-			raw.Close()
-			db, err := Open(ctx, path)
-			if err != nil {
-				t.Fatal(err)
-			}
-			defer db.Close()
-			got, err := db.SchemaVersion(ctx)
-			if err != nil || got != latest {
-				t.Fatalf("SchemaVersion = %d, %v; want %d", got, err, latest)
-			}
-			if v == 0 {
-				return
-			}
-			rec, err := db.Record(ctx, "G26-0007")
-			if err != nil {
-				t.Fatal(err)
-			}
-			if rec.Params["growth_temperature_c"] != 1000 || len(rec.Outcomes) != 1 || rec.Outcomes[0].Value != 0.9 {
-				t.Errorf("after migration from %d: got %+v", v, rec)
-			}
-			runs, err := db.List(ctx, store.Filter{Where: []string{"growth_temperature_c >= 1000 and coverage > 0.5"}})
-			if err != nil || len(runs) != 1 {
-				t.Errorf("where over migrated data: got %d runs, %v; want 1", len(runs), err)
-			}
-			db.Now = func() time.Time { return time.Date(2026, 5, 1, 0, 0, 0, 0, time.UTC) }
-			code, err := db.CreateRun(ctx, store.RunRecord{Run: store.Run{RecipeName: "x"}}, nil)
-			if err != nil || code != "G26-0008" {
-				t.Errorf("next code after migration = %q, %v; want G26-0008 (counter kept)", code, err)
-			}
-			if probs, err := db.Check(ctx); err != nil || len(probs) > 0 {
-				t.Errorf("Check = %v, %v", probs, err)
-			}
-		})
-	}
+	storetest.Migrations(t, dialect{}, func(t *testing.T) (*sql.DB, func() (store.RunLog, error)) {
+		path := filepath.Join(t.TempDir(), "runs.db")
+		raw, err := open(context.Background(), path)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return raw, func() (store.RunLog, error) { return Open(context.Background(), path) }
+	})
 }
 
 func TestSchemaTooNew(t *testing.T) {
-	ctx := context.Background()
 	db, path := openTemp(t)
-	mustExec(t, db.SQL(), `INSERT INTO schema_version VALUES (99, '2030-01-01T00:00:00.000000Z')`)
-	db.Close()
-	_, err := Open(ctx, path)
-	if !errors.Is(err, store.ErrSchemaTooNew) || !strings.Contains(err.Error(), "version 99, this foilrun knows up to 3") {
-		t.Errorf("Open of a newer schema: %v, want ErrSchemaTooNew naming 99 and 3", err)
-	}
+	storetest.SchemaTooNew(t, db, func() (store.RunLog, error) { return Open(context.Background(), path) })
 }
 
 // TestSuite runs the back-end-agnostic suite on fresh SQLite files.

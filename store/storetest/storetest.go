@@ -433,3 +433,7 @@ func testCheck(t *testing.T, open Opener) {
 		t.Errorf("SchemaVersion: got %d, %v; want 3", v, err)
 	}
 }
+
+func errorsIs(err, target error) bool { return errors.Is(err, target) }
+
+func contains(err error, s string) bool { return err != nil && strings.Contains(err.Error(), s) }

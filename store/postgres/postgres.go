@@ -1,0 +1,288 @@
+// Package postgres is the shared-server back end of the run log: a
+// PostgreSQL database reached by a connection URL (postgres://… or
+// postgresql://…) through database/sql and github.com/jackc/pgx/v5/stdlib.
+// The queries are those of store/sqldb, the same as on SQLite; this package
+// supplies the dialect: "?" placeholders rewritten to $1, $2, …, the
+// migrations in migrations/ (the same tables and versions as SQLite's, with
+// identity columns, bytea and double precision, text compared byte-wise),
+// repeatable-read read-only transactions for consistent reads, integrity
+// checks, and a backup that writes a SQLite file.
+//
+// Concurrency: run codes come from a counter row upserted in the same
+// transaction that inserts the run, so PostgreSQL's row lock on that row
+// orders loggers on every machine; migrations take an advisory lock per
+// schema, so processes that open a new database at once migrate it once.
+//
+// Entry points: Open, Redact.
+package postgres
+
+import (
+	"context"
+	"database/sql"
+	"embed"
+	"errors"
+	"fmt"
+	"io/fs"
+	"net"
+	"net/url"
+	"strings"
+
+	"github.com/jackc/pgx/v5/pgconn"
+	_ "github.com/jackc/pgx/v5/stdlib" // registers driver "pgx"
+
+	"github.com/foilrun/foilrun/store"
+	"github.com/foilrun/foilrun/store/sqldb"
+)
+
+//go:embed migrations/*.sql
+var migrationFiles embed.FS
+
+// DB is a run log on a PostgreSQL server.
+type DB struct {
+	*sqldb.DB
+	// URL is the connection URL with any password hidden.
+	URL string
+}
+
+var _ store.RunLog = (*DB)(nil)
+
+// Errors of Open that callers can branch on (with errors.Is); both come
+// wrapped with the server's own message.
+var (
+	// ErrUnreachable: no server answered at the URL's host and port or socket.
+	ErrUnreachable = errors.New("cannot reach the PostgreSQL server")
+	// ErrAuth: the server refused the user name or password.
+	ErrAuth = errors.New("the PostgreSQL server refused the credentials")
+	// ErrNoDatabase: the server has no database of that name.
+	ErrNoDatabase = errors.New("the PostgreSQL server has no such database")
+)
+
+// IsURL reports whether s names a PostgreSQL database (postgres:// or
+// postgresql://) rather than a SQLite file.
+func IsURL(s string) bool {
+	return strings.HasPrefix(s, "postgres://") || strings.HasPrefix(s, "postgresql://")
+}
+
+// Open connects to the database at the URL, migrates it to the latest
+// schema (or fails with store.ErrSchemaTooNew, changing nothing) and
+// returns the run log on it. Errors never show the password.
+func Open(ctx context.Context, dbURL string) (*DB, error) {
+	red := Redact(dbURL)
+	db, err := sql.Open("pgx", dbURL)
+	if err != nil {
+		return nil, fmt.Errorf("open run log %s: %s", red, hide(err, dbURL))
+	}
+	db.SetMaxIdleConns(4)
+	if err := db.PingContext(ctx); err != nil {
+		db.Close()
+		return nil, fmt.Errorf("open run log %s: %w", red, classify(err, dbURL))
+	}
+	s, err := migrate(ctx, db)
+	if err != nil {
+		db.Close()
+		return nil, fmt.Errorf("open run log %s: %w", red, classify(err, dbURL))
+	}
+	return &DB{DB: s, URL: red}, nil
+}
+
+// migrate runs the migrations while holding an advisory lock on one
+// connection, so that processes opening the same new schema at once take
+// turns (CREATE TABLE IF NOT EXISTS alone races on PostgreSQL).
+func migrate(ctx context.Context, db *sql.DB) (*sqldb.DB, error) {
+	conn, err := db.Conn(ctx)
+	if err != nil {
+		return nil, err
+	}
+	defer conn.Close()
+	const key = `hashtext('foilrun migrate ' || current_schema())`
+	if _, err := conn.ExecContext(ctx, `SELECT pg_advisory_lock(`+key+`)`); err != nil {
+		return nil, fmt.Errorf("migrate: lock: %w", err)
+	}
+	defer conn.ExecContext(context.WithoutCancel(ctx), `SELECT pg_advisory_unlock(`+key+`)`)
+	var schema sql.NullString
+	if err := conn.QueryRowContext(ctx, `SELECT current_schema()`).Scan(&schema); err != nil {
+		return nil, err
+	}
+	if !schema.Valid {
+		return nil, fmt.Errorf("migrate: no schema to create tables in (check search_path and that the schema exists)")
+	}
+	return sqldb.Open(ctx, db, dialect{})
+}
+
+// classify wraps a connection error with ErrUnreachable, ErrAuth or
+// ErrNoDatabase when it is one, with the password hidden.
+func classify(err error, dbURL string) error {
+	msg := hide(err, dbURL)
+	var pe *pgconn.PgError
+	if errors.As(err, &pe) {
+		switch pe.Code {
+		case "28P01", "28000": // invalid_password, invalid_authorization_specification
+			return fmt.Errorf("%w: %s", ErrAuth, msg)
+		case "3D000": // invalid_catalog_name
+			return fmt.Errorf("%w: %s", ErrNoDatabase, msg)
+		}
+	}
+	var ne net.Error
+	var ce *pgconn.ConnectError
+	if errors.As(err, &ne) || (errors.As(err, &ce) && pe == nil) {
+		return fmt.Errorf("%w: %s", ErrUnreachable, msg)
+	}
+	if errors.Is(err, store.ErrSchemaTooNew) {
+		return err
+	}
+	return errors.New(msg)
+}
+
+// hide returns the error's text with the URL's password replaced.
+func hide(err error, dbURL string) string {
+	msg := err.Error()
+	if pw := password(dbURL); pw != "" {
+		msg = strings.ReplaceAll(msg, pw, "***")
+	}
+	return msg
+}
+
+func password(dbURL string) string {
+	u, err := url.Parse(dbURL)
+	if err != nil {
+		return ""
+	}
+	if pw, ok := u.User.Password(); ok && pw != "" {
+		return pw
+	}
+	return u.Query().Get("password")
+}
+
+// Redact returns the URL with its password (in the user part or a
+// password= parameter) replaced by ***; text that is not a URL is
+// returned with everything between "://" and "@" after the first ":"
+// hidden.
+func Redact(dbURL string) string {
+	u, err := url.Parse(dbURL)
+	if err != nil {
+		at, sch := strings.LastIndex(dbURL, "@"), strings.Index(dbURL, "://")
+		if at > sch && sch >= 0 {
+			if c := strings.Index(dbURL[sch+3:at], ":"); c >= 0 {
+				return dbURL[:sch+3+c+1] + "***" + dbURL[at:]
+			}
+		}
+		return dbURL
+	}
+	if _, ok := u.User.Password(); ok {
+		u.User = url.UserPassword(u.User.Username(), "***")
+	}
+	q := u.Query()
+	if q.Has("password") {
+		q.Set("password", "***")
+		u.RawQuery = q.Encode()
+	}
+	return strings.Replace(u.String(), "%2A%2A%2A", "***", -1)
+}
+
+type dialect struct{}
+
+func (dialect) Name() string      { return "postgres" }
+func (dialect) Migrations() fs.FS { f, _ := fs.Sub(migrationFiles, "migrations"); return f }
+func (dialect) MaxArgs() int      { return 65535 }
+
+// Rebind rewrites "?" placeholders to $1, $2, … outside quoted text and
+// identifiers.
+func (dialect) Rebind(q string) string {
+	if !strings.Contains(q, "?") {
+		return q
+	}
+	var b strings.Builder
+	b.Grow(len(q) + 16)
+	n := 0
+	var quote byte
+	for i := 0; i < len(q); i++ {
+		c := q[i]
+		switch {
+		case quote != 0:
+			if c == quote {
+				quote = 0
+			}
+		case c == '\'' || c == '"':
+			quote = c
+		case c == '?':
+			n++
+			fmt.Fprintf(&b, "$%d", n)
+			continue
+		}
+		b.WriteByte(c)
+	}
+	return b.String()
+}
+
+// Read opens a repeatable-read, read-only transaction: every query in it
+// sees the snapshot taken at its first query, and it blocks no writer.
+func (dialect) Read(ctx context.Context, db *sql.DB) (sqldb.Querier, func() error, error) {
+	tx, err := db.BeginTx(ctx, &sql.TxOptions{Isolation: sql.LevelRepeatableRead, ReadOnly: true})
+	if err != nil {
+		return nil, nil, err
+	}
+	return tx, tx.Rollback, nil
+}
+
+// Bulk does nothing on PostgreSQL: dropping an index inside the import
+// would lock every reader out of the table until the import commits.
+func (dialect) Bulk(ctx context.Context, tx *sql.Tx, runs int) (func(context.Context) error, error) {
+	return func(context.Context) error { return nil }, nil
+}
+
+// Backup is done by DB.Backup (a SQLite file); the dialect has no file of
+// its own to copy.
+func (dialect) Backup(ctx context.Context, db *sql.DB, path string) error {
+	return fmt.Errorf("backup %q: use postgres.DB.Backup", path)
+}
+
+// Check looks for what the server's constraints cannot catch: recipe
+// snapshots whose content no longer hashes to their key, code counters
+// behind the codes logged, and invalid indexes left by an interrupted
+// build. (Foreign keys and unique codes the server enforces itself.)
+func (dialect) Check(ctx context.Context, db *sql.DB) ([]string, error) {
+	probs := []string{}
+	add := func(q string, format func(rows *sql.Rows) (string, error)) error {
+		rows, err := db.QueryContext(ctx, q)
+		if err != nil {
+			return err
+		}
+		defer rows.Close()
+		for rows.Next() {
+			p, err := format(rows)
+			if err != nil {
+				return err
+			}
+			probs = append(probs, p)
+		}
+		return rows.Err()
+	}
+	err := add(`SELECT sha256, encode(sha256(content), 'hex') FROM snapshots WHERE encode(sha256(content), 'hex') <> sha256`, func(rows *sql.Rows) (string, error) {
+		var key, got string
+		err := rows.Scan(&key, &got)
+		return fmt.Sprintf("snapshot %.12s: content hashes to %.12s", key, got), err
+	})
+	if err != nil {
+		return nil, err
+	}
+	err = add(`SELECT c.name, c.value, m.n FROM counters c JOIN (
+			SELECT 'run-' || (2000 + CAST(substr(code, 2, 2) AS INTEGER)) AS name, MAX(CAST(substr(code, 5) AS BIGINT)) AS n
+			FROM runs WHERE code ~ '^G[0-9]{2}-[0-9]{4,18}$' GROUP BY 1) m ON m.name = c.name
+		WHERE c.value < m.n`, func(rows *sql.Rows) (string, error) {
+		var name string
+		var v, n int64
+		err := rows.Scan(&name, &v, &n)
+		return fmt.Sprintf("counter %s is at %d but a run with number %d is logged", name, v, n), err
+	})
+	if err != nil {
+		return nil, err
+	}
+	err = add(`SELECT c.relname FROM pg_index i JOIN pg_class c ON c.oid = i.indexrelid
+		JOIN pg_namespace n ON n.oid = c.relnamespace
+		WHERE n.nspname = current_schema() AND NOT i.indisvalid`, func(rows *sql.Rows) (string, error) {
+		var name string
+		err := rows.Scan(&name)
+		return fmt.Sprintf("index %s is invalid (rebuild it with REINDEX)", name), err
+	})
+	return probs, err
+}
