@@ -219,3 +219,32 @@ func BenchmarkMatch(b *testing.B) {
 		Match(p, lg)
 	}
 }
+
+// TestMatchShortStepWithNoise: a 2-minute grow step between a long anneal
+// and a long cool, with thermocouple noise of ±1 K (well inside the 10 K
+// tolerance). The boundaries must stay where the methane comes on and
+// goes off; before the fix a short step was charged for the samples of
+// the cool after it, and noise pulled the ramp's end into the anneal.
+func TestMatchShortStepWithNoise(t *testing.T) {
+	p := loadPlan(t)
+	const grow = 5
+	// Shorten the grow step to 2 minutes in a copy of the plan.
+	r := *p.Recipe
+	r.Steps = append([]recipe.Step(nil), p.Recipe.Steps...)
+	r.Steps[grow].Duration = recipe.MustParse("2 min", recipe.Duration)
+	short := recipe.Derive(&r, p.Furnace)
+	k := 0
+	noise := func(j int, into float64, T, P *float64, fl map[string]float64) {
+		k++
+		*T += math.Sin(float64(k) * 1.7) // deterministic ±1 K
+	}
+	res := matchText(t, short, synth(short, nil, noise, 0))
+	if got := strings.Join(devs(res), ", "); got != "" {
+		t.Errorf("deviations %q, want none\n%+v", got, res.Deviations)
+	}
+	for _, a := range res.Actuals {
+		if a.Step == grow+1 && a.Quantity == "duration" && math.Abs(a.Mean-120) > 10 {
+			t.Errorf("grow step lasted %g s in the log, want 120 s ± one sample", a.Mean)
+		}
+	}
+}
