@@ -90,3 +90,55 @@ func TestMeasureFilm(t *testing.T) {
 		t.Errorf("%d measurements, want 4", len(ms))
 	}
 }
+
+// TestOutcomeMeasureStores: outcomes measured from a micrograph are stored
+// against the run with their method, and the image is attached by its
+// content hash; a bad image stores nothing.
+func TestOutcomeMeasureStores(t *testing.T) {
+	db := "--db=" + filepath.Join(t.TempDir(), "log.db")
+	code, out, e := runCLI(t, db, "run", "add", tmplDir+"recipe-lowpressure.yaml")
+	if code != 0 {
+		t.Fatalf("run add: exit %d: %s", code, e)
+	}
+	run := strings.TrimSpace(out)
+	if i := strings.LastIndex(run, "\n"); i >= 0 {
+		run = run[i+1:]
+	}
+	img, _ := writeSynth(t, 30, 15)
+	if code, _, e := runCLI(t, db, "outcome", "measure", run, "--image", "../../go.mod", "--pixel", "0.5um"); code != 2 {
+		t.Fatalf("bad image: exit %d, want 2: %s", code, e)
+	}
+	code, _, e = runCLI(t, db, "outcome", "measure", run, "--image", img, "--pixel", "0.5um", "--polarity", "darker", "--raman", "2d/g=2.2,d/g=0.1")
+	if code != 0 {
+		t.Fatalf("outcome measure: exit %d: %s", code, e)
+	}
+	code, out, e = runCLI(t, db, "run", "show", run, "--output", "json")
+	if code != 0 {
+		t.Fatalf("run show: exit %d: %s", code, e)
+	}
+	var rec struct {
+		Outcomes []struct {
+			Metric string
+			Method string
+		}
+		Attachments []struct {
+			SHA256 string
+			Kind   string
+		}
+	}
+	if err := json.Unmarshal([]byte(out), &rec); err != nil {
+		t.Fatal(err)
+	}
+	metrics := map[string]string{}
+	for _, o := range rec.Outcomes {
+		metrics[o.Metric] = o.Method
+	}
+	for _, m := range []string{"coverage", "nuclei_density", "domain_size", "raman_2d_g", "raman_d_g"} {
+		if metrics[m] == "" {
+			t.Errorf("outcome %s not stored with a method: %v", m, metrics)
+		}
+	}
+	if len(rec.Attachments) != 1 || rec.Attachments[0].Kind != "micrograph" || len(rec.Attachments[0].SHA256) != 64 {
+		t.Errorf("attachments %+v, want one micrograph with a SHA-256", rec.Attachments)
+	}
+}
