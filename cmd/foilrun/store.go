@@ -2,13 +2,14 @@ package main
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"os"
 	"path/filepath"
-	"strings"
 	"sync"
 
 	"github.com/foilrun/foilrun/store"
+	"github.com/foilrun/foilrun/store/postgres"
 	"github.com/foilrun/foilrun/store/sqlite"
 )
 
@@ -53,13 +54,7 @@ func (f *factory) runLog(ctx context.Context) (store.RunLog, error) {
 	if err != nil {
 		return nil, err
 	}
-	if strings.HasPrefix(path, "postgres://") || strings.HasPrefix(path, "postgresql://") {
-		return nil, withHint(usagef("run log %q: the PostgreSQL back end is not built yet", redact(path)), "use a SQLite file path for now")
-	}
-	if err := os.MkdirAll(filepath.Dir(path), 0o755); err != nil {
-		return nil, fmt.Errorf("run log: %w", err)
-	}
-	l, err := sqlite.Open(ctx, path)
+	l, err := openLog(ctx, path)
 	if err != nil {
 		return nil, err
 	}
@@ -73,15 +68,40 @@ func (f *factory) runLog(ctx context.Context) (store.RunLog, error) {
 	return l, nil
 }
 
-// redact hides a password in a connection URL.
-func redact(u string) string {
-	at := strings.LastIndex(u, "@")
-	scheme := strings.Index(u, "://")
-	if at < 0 || scheme < 0 {
-		return u
+// openLog opens the run log at target: a PostgreSQL database for a
+// postgres:// or postgresql:// URL, else a SQLite file (its folder made
+// when missing). Connection errors get a hint; none shows a password.
+func openLog(ctx context.Context, target string) (store.RunLog, error) {
+	if postgres.IsURL(target) {
+		l, err := postgres.Open(ctx, target)
+		switch {
+		case errors.Is(err, postgres.ErrUnreachable):
+			return nil, withHint(err, "check the host, port or socket folder in the URL, that the server runs and that this machine may reach it")
+		case errors.Is(err, postgres.ErrAuth):
+			return nil, withHint(err, "check the user name and password in the URL (or in ~/.pgpass); the lab's database administrator can reset them")
+		case errors.Is(err, postgres.ErrNoDatabase):
+			return nil, withHint(err, "create the database first (createdb NAME) or correct its name in the URL")
+		case errors.Is(err, store.ErrSchemaTooNew):
+			return nil, withHint(err, "a newer foilrun wrote this database; update foilrun on this machine")
+		case err != nil:
+			return nil, err
+		}
+		return l, nil
 	}
-	if c := strings.Index(u[scheme+3:at], ":"); c >= 0 {
-		return u[:scheme+3+c+1] + "***" + u[at:]
+	if err := os.MkdirAll(filepath.Dir(target), 0o755); err != nil {
+		return nil, fmt.Errorf("run log: %w", err)
 	}
-	return u
+	l, err := sqlite.Open(ctx, target)
+	if errors.Is(err, store.ErrSchemaTooNew) {
+		return nil, withHint(err, "a newer foilrun wrote this file; update foilrun on this machine")
+	}
+	return l, err
+}
+
+// shown is a database location as messages show it (passwords hidden).
+func shown(target string) string {
+	if postgres.IsURL(target) {
+		return postgres.Redact(target)
+	}
+	return target
 }
