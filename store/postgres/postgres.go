@@ -224,10 +224,24 @@ func (dialect) Read(ctx context.Context, db *sql.DB) (sqldb.Querier, func() erro
 	return tx, tx.Rollback, nil
 }
 
-// Bulk does nothing on PostgreSQL: dropping an index inside the import
-// would lock every reader out of the table until the import commits.
+// bulkRuns is the import size from which Bulk refreshes the planner's
+// statistics at the end.
+const bulkRuns = 5000
+
+// Bulk keeps every index in place (dropping one inside the import would
+// lock readers out of the table until it commits) and, for an import of
+// many runs, runs ANALYZE on the big tables at the end, inside the
+// import's transaction: without fresh statistics the planner takes the
+// new log for an empty one and `runs best` over 100,000 runs took over a
+// second instead of a few hundred milliseconds.
 func (dialect) Bulk(ctx context.Context, tx *sql.Tx, runs int) (func(context.Context) error, error) {
-	return func(context.Context) error { return nil }, nil
+	return func(ctx context.Context) error {
+		if runs < bulkRuns {
+			return nil
+		}
+		_, err := tx.ExecContext(ctx, `ANALYZE runs, run_params, outcomes, names`)
+		return err
+	}, nil
 }
 
 // Backup is done by DB.Backup (a SQLite file); the dialect has no file of

@@ -17,7 +17,9 @@ import (
 
 func TestMain(m *testing.M) {
 	storetest.Main(openAt)
-	os.Exit(m.Run())
+	code := m.Run()
+	removeBenchLog()
+	os.Exit(code)
 }
 
 // TestSuite runs the back-end-agnostic suite, each test in a fresh schema.

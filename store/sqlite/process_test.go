@@ -13,7 +13,9 @@ func openAt(ctx context.Context, path string) (store.RunLog, error) { return Ope
 
 func TestMain(m *testing.M) {
 	storetest.Main(openAt)
-	os.Exit(m.Run())
+	code := m.Run()
+	removeBenchLog()
+	os.Exit(code)
 }
 
 // TestConcurrentProcesses: 4 processes each log 250 runs at once; the log
