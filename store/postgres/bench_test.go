@@ -119,7 +119,7 @@ func BenchmarkCopy100k(b *testing.B) {
 		b.StopTimer()
 		b.ReportMetric(t1.Sub(t0).Seconds(), "s-to-postgres")
 		b.ReportMetric(t2.Sub(t1).Seconds(), "s-to-sqlite")
-		if a, c := exportJSON(b, src), exportJSON(b, back); a != c || a != exportJSON(b, pg) {
+		if a, c := storetest.ExportJSON(b, src), storetest.ExportJSON(b, back); a != c || a != storetest.ExportJSON(b, pg) {
 			b.Fatal("exports differ after SQLite → PostgreSQL → SQLite")
 		}
 		back.Close()

@@ -194,7 +194,7 @@ func TestCopyRoundTrip(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	ea, ep, eb := exportJSON(t, a), exportJSON(t, pg), exportJSON(t, b)
+	ea, ep, eb := storetest.ExportJSON(t, a), storetest.ExportJSON(t, pg), storetest.ExportJSON(t, b)
 	if ea != ep || ea != eb {
 		t.Errorf("exports differ after SQLite → PostgreSQL → SQLite")
 	}
@@ -279,13 +279,4 @@ func TestBackup(t *testing.T) {
 	if err := pg.Backup(ctx, path); err == nil || !strings.Contains(err.Error(), "exists") {
 		t.Errorf("backup over an existing file: got %v, want an error", err)
 	}
-}
-
-func exportJSON(t testing.TB, l store.RunLog) string {
-	t.Helper()
-	var b strings.Builder
-	if _, err := store.WriteJSON(context.Background(), &b, l, store.Filter{}); err != nil {
-		t.Fatal(err)
-	}
-	return b.String()
 }

@@ -258,12 +258,13 @@ func KilledCopy(t *testing.T, open OpenFunc, src, dst string, n int) {
 	if dg.Runs() != n {
 		t.Errorf("copy after the killed one: got %d runs, want %d", dg.Runs(), n)
 	}
-	if a, b := exportJSON(t, s), exportJSON(t, d); a != b {
+	if a, b := ExportJSON(t, s), ExportJSON(t, d); a != b {
 		t.Errorf("export of the copy differs from the source's")
 	}
 }
 
-func exportJSON(t testing.TB, l store.RunLog) string {
+// ExportJSON returns the log's whole JSON export.
+func ExportJSON(t testing.TB, l store.RunLog) string {
 	t.Helper()
 	var b strings.Builder
 	if _, err := store.WriteJSON(context.Background(), &b, l, store.Filter{}); err != nil {
