@@ -8,6 +8,8 @@ import (
 	"strings"
 
 	"gopkg.in/yaml.v3"
+
+	"github.com/foilrun/foilrun/recipe/gas"
 )
 
 // decoder turns a yaml.Node tree into the schema structs, collecting every
@@ -301,7 +303,7 @@ func nameOr(path, def string) string {
 func suggest(got string, names []string) string {
 	best, bestD := "", 3
 	for _, n := range names {
-		if d := editDistance(strings.ToLower(got), strings.ToLower(n)); d < bestD {
+		if d := gas.EditDistance(strings.ToLower(got), strings.ToLower(n)); d < bestD {
 			best, bestD = n, d
 		}
 	}
@@ -309,27 +311,6 @@ func suggest(got string, names []string) string {
 		return ""
 	}
 	return fmt.Sprintf("; did you mean %q?", best)
-}
-
-func editDistance(a, b string) int {
-	ra, rb := []rune(a), []rune(b)
-	prev := make([]int, len(rb)+1)
-	cur := make([]int, len(rb)+1)
-	for j := range prev {
-		prev[j] = j
-	}
-	for i := 1; i <= len(ra); i++ {
-		cur[0] = i
-		for j := 1; j <= len(rb); j++ {
-			c := prev[j-1]
-			if ra[i-1] != rb[j-1] {
-				c++
-			}
-			cur[j] = min(c, prev[j]+1, cur[j-1]+1)
-		}
-		prev, cur = cur, prev
-	}
-	return prev[len(rb)]
 }
 
 func reflectValue(p any) reflect.Value { return reflect.ValueOf(p).Elem() }

@@ -167,7 +167,7 @@ func suggest(key string) (string, bool) {
 	best, bestD := "", -1
 	for _, g := range table {
 		for _, n := range g.names() {
-			d := editDistance(key, strings.ToLower(n))
+			d := EditDistance(key, strings.ToLower(n))
 			if bestD < 0 || d < bestD {
 				best, bestD = g.Symbol, d
 			}
@@ -183,8 +183,9 @@ func suggest(key string) (string, bool) {
 	return best, true
 }
 
-// editDistance is the Levenshtein distance between a and b, counted in runes.
-func editDistance(a, b string) int {
+// EditDistance is the Levenshtein distance between a and b, counted in
+// runes; the loaders use it to suggest a close name for a typo.
+func EditDistance(a, b string) int {
 	ra, rb := []rune(a), []rune(b)
 	prev := make([]int, len(rb)+1)
 	cur := make([]int, len(rb)+1)

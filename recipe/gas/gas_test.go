@@ -240,8 +240,8 @@ func TestEditDistance(t *testing.T) {
 		{"flaw", "lawn", 2}, {"méthane", "methane", 1},
 	}
 	for _, tt := range tests {
-		if got := editDistance(tt.a, tt.b); got != tt.want {
-			t.Errorf("editDistance(%q, %q) got %d, want %d", tt.a, tt.b, got, tt.want)
+		if got := EditDistance(tt.a, tt.b); got != tt.want {
+			t.Errorf("EditDistance(%q, %q) got %d, want %d", tt.a, tt.b, got, tt.want)
 		}
 	}
 }
