@@ -23,7 +23,13 @@ func runCLI(t *testing.T, args ...string) (int, string, string) {
 // golden compares got with testdata/cli/<name>, rewriting it under -update.
 func golden(t *testing.T, name, got string) {
 	t.Helper()
-	path := filepath.Join("..", "..", "testdata", "cli", name)
+	goldenAt(t, filepath.Join("..", "..", "testdata", "cli", name), got)
+}
+
+// goldenAt compares got with a file under the repository's testdata,
+// rewriting it under -update.
+func goldenAt(t *testing.T, path, got string) {
+	t.Helper()
 	if *updateGolden {
 		if err := os.MkdirAll(filepath.Dir(path), 0o755); err != nil {
 			t.Fatal(err)

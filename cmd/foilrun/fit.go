@@ -18,7 +18,6 @@ import (
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
-	"gonum.org/v1/plot/vg/draw"
 
 	"github.com/foilrun/foilrun/kinetics"
 	"github.com/foilrun/foilrun/recipe"
@@ -543,14 +542,7 @@ func writeParity(path string, res *kinetics.FitResult) error {
 	if len(plots) == 0 {
 		return nil
 	}
-	c, write := canvasFor(path, 12*vg.Centimeter, vg.Length(len(plots))*11*vg.Centimeter)
-	tiles := draw.Tiles{Rows: len(plots), Cols: 1, PadTop: vg.Millimeter * 2, PadBottom: vg.Millimeter * 2,
-		PadLeft: vg.Millimeter * 2, PadRight: vg.Millimeter * 4, PadY: vg.Millimeter * 6}
-	canvases := plot.Align(plots, tiles, draw.New(c))
-	for i := range plots {
-		plots[i][0].Draw(canvases[i][0])
-	}
-	return saveCanvas(path, write)
+	return drawStacked(path, plots, 12*vg.Centimeter, 11*vg.Centimeter, 6*vg.Millimeter)
 }
 
 // intervalJSON is a 90 % (or other level) interval in display units, shown

@@ -97,9 +97,15 @@ func writePanels(path string, panels []panel) error {
 		p.Legend.Top = true
 		plots[i] = []*plot.Plot{p}
 	}
-	c, write := canvasFor(path, 16*vg.Centimeter, vg.Length(len(panels))*6*vg.Centimeter)
-	tiles := draw.Tiles{Rows: len(panels), Cols: 1, PadTop: vg.Millimeter * 2, PadBottom: vg.Millimeter * 2,
-		PadLeft: vg.Millimeter * 2, PadRight: vg.Millimeter * 4, PadY: vg.Millimeter * 4}
+	return drawStacked(path, plots, 16*vg.Centimeter, 6*vg.Centimeter, 4*vg.Millimeter)
+}
+
+// drawStacked draws one plot per row, aligned, into path (.png or .svg);
+// each row is rowHeight tall with gap between rows.
+func drawStacked(path string, plots [][]*plot.Plot, width, rowHeight, gap vg.Length) error {
+	c, write := canvasFor(path, width, vg.Length(len(plots))*rowHeight)
+	tiles := draw.Tiles{Rows: len(plots), Cols: 1, PadTop: vg.Millimeter * 2, PadBottom: vg.Millimeter * 2,
+		PadLeft: vg.Millimeter * 2, PadRight: vg.Millimeter * 4, PadY: gap}
 	canvases := plot.Align(plots, tiles, draw.New(c))
 	for i := range plots {
 		plots[i][0].Draw(canvases[i][0])

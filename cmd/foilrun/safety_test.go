@@ -7,27 +7,6 @@ import (
 	"testing"
 )
 
-// goldenAt compares got with a file under the repository's testdata,
-// rewriting it under -update.
-func goldenAt(t *testing.T, path, got string) {
-	t.Helper()
-	if *updateGolden {
-		if err := os.MkdirAll(filepath.Dir(path), 0o755); err != nil {
-			t.Fatal(err)
-		}
-		if err := os.WriteFile(path, []byte(got), 0o644); err != nil {
-			t.Fatal(err)
-		}
-	}
-	want, err := os.ReadFile(path)
-	if err != nil {
-		t.Fatalf("%v (go test ./cmd/foilrun -run %s -update creates it)", err, t.Name())
-	}
-	if got != string(want) {
-		t.Errorf("output differs from %s\n--- got\n%s\n--- want\n%s", path, got, want)
-	}
-}
-
 func TestSafetyExitCodes(t *testing.T) {
 	cases := []struct {
 		name string
