@@ -206,7 +206,7 @@ func validateFurnace(f *Furnace) []Problem {
 
 func validateSite(s *Site) []Problem {
 	var ps problems
-	if s.Room.Volume.IsZero() == false && !(s.Room.Volume.SI > 0) {
+	if !s.Room.Volume.IsZero() && !(s.Room.Volume.SI > 0) {
 		ps.at(s.Room.Volume.Pos, "volume", fmt.Sprintf("room volume %q must be greater than zero", s.Room.Volume.Text), "give the room's free air volume, e.g. \"60 m3\"")
 	}
 	if !s.Room.AirChanges.IsZero() && !(s.Room.AirChanges.SI > 0) {

@@ -125,15 +125,14 @@ func demoRun(ctx context.Context, o *demoOptions) error {
 	}
 
 	db := "--db=" + paths.db
-	rel := func(p string) string { return p }
 	fitted := filepath.Join(paths.dir, "params-fitted.yaml")
 	suggested := filepath.Join(paths.recipes, "suggested.yaml")
 	steps := []demoStep{
-		{"1. Check the recipe against the furnace", []string{"check", rel(paths.recipe)}, 0},
-		{"2. Hazards of the recipe in this room", []string{"safety", rel(paths.recipe)}, 0},
-		{"3. Print the pre-run checklist", []string{"checklist", rel(paths.recipe), "--format", "markdown", "-o", filepath.Join(paths.dir, "checklist.md")}, 0},
-		{"4. Predict coverage and domain size", []string{"predict", rel(paths.recipe), "--plot", filepath.Join(paths.plots, "predict.png")}, 0},
-		{"5. Log a short nucleation run: start it", []string{db, "run", "start", rel(shortRecipe), "--operator", "operator A", "--lot", "demo-lot-4"}, 0},
+		{"1. Check the recipe against the furnace", []string{"check", paths.recipe}, 0},
+		{"2. Hazards of the recipe in this room", []string{"safety", paths.recipe}, 0},
+		{"3. Print the pre-run checklist", []string{"checklist", paths.recipe, "--format", "markdown", "-o", filepath.Join(paths.dir, "checklist.md")}, 0},
+		{"4. Predict coverage and domain size", []string{"predict", paths.recipe, "--plot", filepath.Join(paths.plots, "predict.png")}, 0},
+		{"5. Log a short nucleation run: start it", []string{db, "run", "start", shortRecipe, "--operator", "operator A", "--lot", "demo-lot-4"}, 0},
 	}
 	code, err := o.walk(steps)
 	if err != nil {
@@ -148,7 +147,7 @@ func demoRun(ctx context.Context, o *demoOptions) error {
 		{"9. Which parameters gave good coverage?", []string{db, "runs", "best", "--metric", "coverage", "--min", "0.95", "--by", "ch4_flow_sccm,growth_time_min", "--bins", "3"}, 0},
 		{"10. Which parameters matter most?", []string{db, "runs", "rank", "--metric", "coverage", "--min", "0.95"}, 0},
 		{"11. Calibrate the kinetics from the log", []string{db, "fit", "--metric", "coverage,density", "--where", `status = "done"`, "--furnace", paths.furnaceA, "-o", fitted, "--plot", filepath.Join(paths.plots, "parity.png")}, 0},
-		{"12. Plan the next recipe", []string{"suggest", rel(paths.recipe), "--params", fitted, "--target", "coverage>=0.99", "--target", "domain-size>=15um", "--vary", "temperature=950C:1050C,CH4,time", "-o", suggested}, 0},
+		{"12. Plan the next recipe", []string{"suggest", paths.recipe, "--params", fitted, "--target", "coverage>=0.99", "--target", "domain-size>=15um", "--vary", "temperature=950C:1050C,CH4,time", "-o", suggested}, 0},
 		{"13. Check the suggested recipe", []string{"check", suggested}, 0},
 	}
 	if _, err := o.walk(steps); err != nil {

@@ -10,7 +10,7 @@ import (
 	"github.com/spf13/cobra"
 	"golang.org/x/term"
 
-	"github.com/foilrun/foilrun/recipe"
+	"github.com/foilrun/foilrun/store"
 )
 
 // Exit statuses.
@@ -46,6 +46,8 @@ type factory struct {
 	dbFlag string
 	// closers run after the command.
 	closers []func() error
+	// log is the run log, once opened by runLog.
+	log store.RunLog
 }
 
 // errFindings is returned by a command whose checks found errors; the
@@ -133,18 +135,7 @@ func exitCode(err error, w io.Writer) int {
 	if errors.As(err, &h) && h.hint != "" {
 		fmt.Fprintln(w, "  hint: "+h.hint)
 	}
-	var ue usageError
-	if errors.As(err, &ue) || errors.Is(err, recipe.ErrInvalid) || isCobraUsage(msg) {
-		return exitUsage
-	}
+	// Everything else is a usage error, unreadable or invalid input, or a
+	// failure to reach the run log: the command could not do its job.
 	return exitUsage
-}
-
-func isCobraUsage(msg string) bool {
-	for _, p := range []string{"unknown command", "unknown flag", "unknown shorthand", "accepts ", "requires at least", "invalid argument", "flag needs an argument"} {
-		if strings.Contains(msg, p) {
-			return true
-		}
-	}
-	return false
 }

@@ -6,7 +6,6 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
-	"sync"
 
 	"github.com/foilrun/foilrun/store"
 	"github.com/foilrun/foilrun/store/postgres"
@@ -15,13 +14,6 @@ import (
 
 // dbEnv names the environment variable that selects the run-log database.
 const dbEnv = "FOILRUN_DB"
-
-// openLogs holds the run log each factory opened, so a command opens it
-// once. (A field in factory would do; this keeps root.go untouched.)
-var (
-	openLogsMu sync.Mutex
-	openLogs   = map[*factory]store.RunLog{}
-)
 
 // dbPath returns the database location: --db, then $FOILRUN_DB, then
 // $XDG_DATA_HOME/foilrun/runs.db, then ~/.local/share/foilrun/runs.db.
@@ -45,10 +37,8 @@ func (f *factory) dbPath() (string, error) {
 
 // runLog opens the run log on first use and registers its Close.
 func (f *factory) runLog(ctx context.Context) (store.RunLog, error) {
-	openLogsMu.Lock()
-	defer openLogsMu.Unlock()
-	if l, ok := openLogs[f]; ok {
-		return l, nil
+	if f.log != nil {
+		return f.log, nil
 	}
 	path, err := f.dbPath()
 	if err != nil {
@@ -58,11 +48,9 @@ func (f *factory) runLog(ctx context.Context) (store.RunLog, error) {
 	if err != nil {
 		return nil, err
 	}
-	openLogs[f] = l
+	f.log = l
 	f.closers = append(f.closers, func() error {
-		openLogsMu.Lock()
-		delete(openLogs, f)
-		openLogsMu.Unlock()
+		f.log = nil
 		return l.Close()
 	})
 	return l, nil
