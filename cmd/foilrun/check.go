@@ -189,6 +189,7 @@ func printCheck(w io.Writer, file string, res checkResult) error {
 		return err
 	}
 	fmt.Fprintf(w, "\n%d errors, %d warnings, %d notes\n", res.Errors, res.Warnings, len(res.Findings)-res.Errors-res.Warnings)
+	fmt.Fprintln(w, "These are limit and sequence checks, not a gas-safety review: see foilrun safety, and follow the site's gas code and the people licensed to approve the set-up.")
 	return nil
 }
 
