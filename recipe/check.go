@@ -71,14 +71,11 @@ func Check(p *Plan) []Finding {
 	return c.fs
 }
 
-func c2(k float64) string { return fmt.Sprintf("%.1f °C", k-273.15) }
+func c2(k float64) string { return fmt.Sprintf("%.1f °C", Celsius(k)) }
 
 func (c *checker) temperature(sp *StepPlan) {
 	h, tube := c.f.Heater, c.f.Tube
-	margin := DefaultThermocoupleMargin
-	if !h.ThermocoupleMargin.IsZero() {
-		margin = h.ThermocoupleMargin.SI
-	}
+	margin := h.ThermocoupleMargin.SI
 	Tmax := sp.MaxTemperature()
 	pos := sp.Step.Temperature.Pos
 	if pos.Line == 0 {
@@ -189,10 +186,7 @@ func (c *checker) flows(sp *StepPlan) {
 				"%s flow %.4g sccm is above the line's full scale %.4g sccm of %s%s", fl.Gas, sccm, fs/molPerSCCMSecond, fl.Gas, calib)
 			continue
 		}
-		low := DefaultLowEnd
-		if !line.LowEnd.IsZero() {
-			low = line.LowEnd.SI
-		}
+		low := line.LowEnd.SI
 		if share < low {
 			c.add(Warning, sp, "flow.low-end", fl.Flow.Pos, "use a smaller MFC, or a diluted source gas",
 				"%s flow %.4g sccm is %.2f %% of full scale, below the %.0f %% where a thermal MFC is accurate%s", fl.Gas, sccm, share*100, low*100, calib)

@@ -6,14 +6,10 @@ import (
 	"github.com/foilrun/foilrun/recipe/gas"
 )
 
-// Defaults used where a file leaves a value out.
+// Constants of the plan.
 const (
-	DefaultStartTemperature   = 298.15 // K (25 °C)
-	DefaultThermocoupleMargin = 10.0   // K
-	DefaultLowEnd             = 0.02   // of full scale: thermal MFCs are not accurate below about 2 % (common practice)
-	DefaultLineLength         = 1.0    // m
-	RoomTemperature           = 293.15 // K: where throughput Q = ṅRT is counted (at the pump)
-	atmosphere                = 101325.0
+	RoomTemperature = 293.15 // K: where throughput Q = ṅRT is counted (at the pump)
+	atmosphere      = 101325.0
 )
 
 // FlowPlan is one gas of a step with its derived numbers.

@@ -101,6 +101,7 @@ func ParseFurnace(name string, data []byte) (*Furnace, error) {
 		return nil, err
 	}
 	f.File = name
+	f.applyDefaults()
 	return f, nil
 }
 

@@ -5,6 +5,8 @@ import (
 	"math"
 	"strconv"
 	"strings"
+
+	"github.com/foilrun/foilrun/recipe/gas"
 )
 
 // Dimension is the physical kind of a quantity.
@@ -25,6 +27,11 @@ const (
 	VolumeRate                             // SI: m³/s (pumping speed)
 	Frequency                              // SI: 1/s (air changes per hour)
 	TemperatureDifference                  // SI: K (a margin, no offset)
+	Energy                                 // SI: J (per particle; eV and kJ/mol convert)
+	AreaDensity                            // SI: 1/m² (nuclei per area)
+	AreaRate                               // SI: 1/(m²·s) (nucleation rate)
+	Speed                                  // SI: m/s (domain edge velocity)
+	SheetResistance                        // SI: Ω (ohm per square)
 )
 
 var dimensionNames = [...]string{
@@ -41,6 +48,11 @@ var dimensionNames = [...]string{
 	VolumeRate:            "pumping speed",
 	Frequency:             "rate per time",
 	TemperatureDifference: "temperature difference",
+	Energy:                "energy",
+	AreaDensity:           "density per area",
+	AreaRate:              "rate per area",
+	Speed:                 "speed",
+	SheetResistance:       "sheet resistance",
 }
 
 var dimensionExamples = [...]string{
@@ -57,6 +69,11 @@ var dimensionExamples = [...]string{
 	VolumeRate:            "5 m3/h",
 	Frequency:             "6 /h",
 	TemperatureDifference: "10 K",
+	Energy:                "1.2 eV",
+	AreaDensity:           "1e4 /mm2",
+	AreaRate:              "50 /m2/s",
+	Speed:                 "2 um/min",
+	SheetResistance:       "350 ohm/sq",
 }
 
 // String names the dimension in plain words.
@@ -84,14 +101,24 @@ type unit struct {
 
 // molPerSCCMSecond is the molar flow of 1 sccm in mol/s: 1 cm³/min of ideal
 // gas at 0 °C and 101325 Pa (the SEMI convention stated by MFC makers).
-const molPerSCCMSecond = 101325e-6 / (8.314462618 * 273.15) / 60
+const molPerSCCMSecond = gas.MolPerSCCMPerSecond
 
-const torr = 101325.0 / 760
+// torr is one torr in Pa: 101325/760 by definition.
+const torr = gas.StandardAtmosphere / 760
 
+// zeroC is 0 °C in K (ITS-90 and the SI definition of the Celsius scale).
+const zeroC = gas.ZeroCelsius
+
+// units maps every unit name Parse accepts to its dimension and its
+// conversion to SI. Names are matched exactly: SI prefixes are never
+// case-folded ("mbar" is not "Mbar"); the lab spellings "SCCM", "SLM" and
+// "micron" (of mercury, a vacuum unit equal to 1 mTorr, common practice)
+// are listed explicitly. The per-area, speed and energy families are added
+// by init from the length prefixes below.
 var units = map[string]unit{
 	// temperature
-	"K": {Temperature, 1, 0}, "C": {Temperature, 1, 273.15}, "°C": {Temperature, 1, 273.15},
-	"degC": {Temperature, 1, 273.15}, "F": {Temperature, 5.0 / 9, 273.15 - 32*5.0/9}, "°F": {Temperature, 5.0 / 9, 273.15 - 32*5.0/9},
+	"K": {Temperature, 1, 0}, "C": {Temperature, 1, zeroC}, "°C": {Temperature, 1, zeroC},
+	"degC": {Temperature, 1, zeroC}, "F": {Temperature, 5.0 / 9, zeroC - 32*5.0/9}, "°F": {Temperature, 5.0 / 9, zeroC - 32*5.0/9},
 	// temperature rate
 	"K/s": {TemperatureRate, 1, 0}, "C/s": {TemperatureRate, 1, 0}, "K/min": {TemperatureRate, 1.0 / 60, 0},
 	"C/min": {TemperatureRate, 1.0 / 60, 0}, "°C/min": {TemperatureRate, 1.0 / 60, 0}, "degC/min": {TemperatureRate, 1.0 / 60, 0},
@@ -99,18 +126,19 @@ var units = map[string]unit{
 	// pressure
 	"Pa": {Pressure, 1, 0}, "hPa": {Pressure, 100, 0}, "kPa": {Pressure, 1000, 0}, "MPa": {Pressure, 1e6, 0},
 	"mbar": {Pressure, 100, 0}, "bar": {Pressure, 1e5, 0}, "Torr": {Pressure, torr, 0}, "torr": {Pressure, torr, 0},
-	"mTorr": {Pressure, torr / 1000, 0}, "mtorr": {Pressure, torr / 1000, 0}, "atm": {Pressure, 101325, 0},
+	"mTorr": {Pressure, torr / 1000, 0}, "mtorr": {Pressure, torr / 1000, 0}, "atm": {Pressure, gas.StandardAtmosphere, 0},
 	"psi": {Pressure, 6894.757293168361, 0}, "ubar": {Pressure, 0.1, 0},
+	"micron": {Pressure, torr / 1000, 0}, "microns": {Pressure, torr / 1000, 0},
 	// pressure rise rate
 	"Pa/s": {PressureRate, 1, 0}, "Pa/min": {PressureRate, 1.0 / 60, 0}, "mbar/min": {PressureRate, 100.0 / 60, 0},
 	"Torr/min": {PressureRate, torr / 60, 0}, "mTorr/min": {PressureRate, torr / 1000 / 60, 0},
 	"mTorr/s": {PressureRate, torr / 1000, 0}, "mbar/s": {PressureRate, 100, 0},
 	// flow (standard)
 	"sccm": {Flow, molPerSCCMSecond, 0}, "slm": {Flow, 1000 * molPerSCCMSecond, 0}, "slpm": {Flow, 1000 * molPerSCCMSecond, 0},
+	"SCCM": {Flow, molPerSCCMSecond, 0}, "SLM": {Flow, 1000 * molPerSCCMSecond, 0}, "SLPM": {Flow, 1000 * molPerSCCMSecond, 0},
 	"mol/s": {Flow, 1, 0}, "mol/min": {Flow, 1.0 / 60, 0}, "mmol/s": {Flow, 1e-3, 0},
 	// length
-	"m": {Length, 1, 0}, "cm": {Length, 1e-2, 0}, "mm": {Length, 1e-3, 0}, "um": {Length, 1e-6, 0},
-	"µm": {Length, 1e-6, 0}, "μm": {Length, 1e-6, 0}, "nm": {Length, 1e-9, 0}, "in": {Length, 0.0254, 0},
+	"in": {Length, 0.0254, 0},
 	// duration
 	"s": {Duration, 1, 0}, "sec": {Duration, 1, 0}, "ms": {Duration, 1e-3, 0}, "min": {Duration, 60, 0},
 	"h": {Duration, 3600, 0}, "hr": {Duration, 3600, 0},
@@ -126,6 +154,42 @@ var units = map[string]unit{
 	"/h": {Frequency, 1.0 / 3600, 0}, "1/h": {Frequency, 1.0 / 3600, 0}, "/s": {Frequency, 1, 0},
 	"1/s": {Frequency, 1, 0}, "/min": {Frequency, 1.0 / 60, 0}, "1/min": {Frequency, 1.0 / 60, 0},
 	"ACH": {Frequency, 1.0 / 3600, 0},
+	// energy per particle: eV by the exact elementary charge; kJ/mol and
+	// kcal/mol by the exact Avogadro constant (thermochemical calorie
+	// 4.184 J, exact by definition)
+	"J": {Energy, 1, 0}, "eV": {Energy, gas.ElementaryCharge, 0}, "meV": {Energy, 1e-3 * gas.ElementaryCharge, 0},
+	"kJ/mol": {Energy, 1e3 / gas.Avogadro, 0}, "J/mol": {Energy, 1 / gas.Avogadro, 0}, "kcal/mol": {Energy, 4184 / gas.Avogadro, 0},
+	// sheet resistance
+	"ohm/sq": {SheetResistance, 1, 0}, "Ω/sq": {SheetResistance, 1, 0}, "ohm/□": {SheetResistance, 1, 0},
+	"Ω/□": {SheetResistance, 1, 0}, "ohm": {SheetResistance, 1, 0}, "kohm/sq": {SheetResistance, 1e3, 0},
+	"kΩ/sq": {SheetResistance, 1e3, 0},
+}
+
+// lengthPrefixes are the length units from which the per-area, speed and
+// plain length units are built (exact SI prefixes).
+var lengthPrefixes = []struct {
+	names []string
+	m     float64
+}{
+	{[]string{"m"}, 1}, {[]string{"cm"}, 1e-2}, {[]string{"mm"}, 1e-3},
+	{[]string{"um", "µm", "μm"}, 1e-6}, {[]string{"nm"}, 1e-9},
+}
+
+func init() {
+	for _, lp := range lengthPrefixes {
+		a := 1 / (lp.m * lp.m)
+		for _, n := range lp.names {
+			units[n] = unit{Length, lp.m, 0}
+			for _, d := range []string{"/" + n + "2", "1/" + n + "2", "/" + n + "²", "1/" + n + "²", n + "-2", n + "^-2"} {
+				units[d] = unit{AreaDensity, a, 0}
+				units[d+"/s"] = unit{AreaRate, a, 0}
+				units[d+"/min"] = unit{AreaRate, a / 60, 0}
+			}
+			units[n+"/s"] = unit{Speed, lp.m, 0}
+			units[n+"/min"] = unit{Speed, lp.m / 60, 0}
+			units[n+"/h"] = unit{Speed, lp.m / 3600, 0}
+		}
+	}
 }
 
 // unitsOf lists, for messages, the common units of a dimension.
@@ -142,6 +206,11 @@ var unitsOf = map[Dimension]string{
 	VolumeRate:            "m3/h, L/s, m3/s",
 	Frequency:             "/h, /min, /s",
 	TemperatureDifference: "K, C",
+	Energy:                "eV, meV, kJ/mol, J",
+	AreaDensity:           "/m2, /cm2, /mm2, /um2",
+	AreaRate:              "/m2/s, /cm2/s, /mm2/s, /um2/s",
+	Speed:                 "m/s, mm/s, um/s, nm/s, um/min, mm/min",
+	SheetResistance:       "ohm/sq, kohm/sq",
 }
 
 // Quantity is a number with a unit, parsed once from the text a person
@@ -234,12 +303,17 @@ func Parse(text string, want Dimension) (Quantity, error) {
 		return Quantity{}, &UnitError{Text: s, Want: want, Got: -1, Unit: u}
 	}
 	if want == TemperatureDifference && un.dim == Temperature {
-		return Quantity{SI: v * un.scale, Dim: want, Text: s}, nil
+		un.offset = 0
+		un.dim = want
 	}
 	if un.dim != want {
 		return Quantity{}, &UnitError{Text: s, Want: want, Got: un.dim, Unit: u}
 	}
-	return Quantity{SI: v*un.scale + un.offset, Dim: want, Text: s}, nil
+	si := v*un.scale + un.offset
+	if math.IsInf(si, 0) || math.IsNaN(si) {
+		return Quantity{}, fmt.Errorf("%q is too large to hold as a %s", text, want)
+	}
+	return Quantity{SI: si, Dim: want, Text: s}, nil
 }
 
 // MustParse is Parse for constants in code and tests; it panics on error.
@@ -308,4 +382,56 @@ func ConvertTo(si float64, unitName string) (float64, bool) {
 func UnitDimension(unitName string) (Dimension, bool) {
 	u, ok := units[unitName]
 	return u.dim, ok
+}
+
+// Format writes an SI value in the named unit as text that Parse reads back
+// to the same value: Format(1273.15, "C") is "1000 C". It is the inverse of
+// Parse for every unit Parse accepts. An unknown unit or a non-finite value
+// is an error.
+func Format(si float64, unitName string) (string, error) {
+	v, err := In(si, unitName)
+	if err != nil {
+		return "", err
+	}
+	return strconv.FormatFloat(v, 'g', -1, 64) + " " + unitName, nil
+}
+
+// In expresses an SI value in the named unit, for output: In(1273.15, "C")
+// is 1000. An unknown unit or a non-finite value is an error.
+func In(si float64, unitName string) (float64, error) {
+	u, ok := units[unitName]
+	if !ok {
+		return 0, fmt.Errorf("unknown unit %q", unitName)
+	}
+	if math.IsNaN(si) || math.IsInf(si, 0) {
+		return 0, fmt.Errorf("%v is not a finite value to write in %s", si, unitName)
+	}
+	return (si - u.offset) / u.scale, nil
+}
+
+// Celsius converts a temperature in K to °C.
+func Celsius(k float64) float64 { return k - zeroC }
+
+// Kelvin converts a temperature in °C to K.
+func Kelvin(c float64) float64 { return c + zeroC }
+
+// ParseFraction reads a fraction as people write one on a command line: a
+// bare number ("0.3") is the fraction itself, a number with a unit of
+// fraction ("30%", "30 %", "300000 ppm") is converted. The result must be
+// finite; the caller checks its range.
+func ParseFraction(text string) (float64, error) {
+	s := strings.TrimSpace(text)
+	num, rest := splitNumber(s)
+	if num != "" && strings.TrimSpace(rest) == "" {
+		v, err := strconv.ParseFloat(num, 64)
+		if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
+			return 0, fmt.Errorf("%q is not a finite number", text)
+		}
+		return v, nil
+	}
+	q, err := Parse(s, Fraction)
+	if err != nil {
+		return 0, err
+	}
+	return q.SI, nil
 }

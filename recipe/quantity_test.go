@@ -42,6 +42,19 @@ func TestParseConversions(t *testing.T) {
 		{"leak-up rate", "5 mTorr/min", PressureRate, 5 * 101325.0 / 760 / 1000 / 60, 1e-12, "NIST SP 811"},
 		{"margin", "10 C", TemperatureDifference, 10, 1e-12, "a difference of 1 °C is 1 K (SI Brochure)"},
 		{"fahrenheit", "212 F", Temperature, 373.15, 1e-12, "t/°F = 1.8·t/°C + 32 (NIST SP 811)"},
+		{"SCCM capitals", "5 SCCM", Flow, 5 * 4.461503e-5 / 60, 1e-6, "lab spelling of sccm (common practice)"},
+		{"SLM capitals", "2 SLM", Flow, 2000 * 4.461503e-5 / 60, 1e-6, "lab spelling of slm (common practice)"},
+		{"micron of mercury", "30 micron", Pressure, 30 * 101325.0 / 760 / 1000, 1e-12, "1 micron (µmHg) taken as 1 mTorr (common practice)"},
+		{"electronvolt", "1.5 eV", Energy, 1.5 * 1.602176634e-19, 1e-12, "1 eV = 1.602176634e-19 J (exact, SI 2019)"},
+		{"kJ per mol", "96.485 kJ/mol", Energy, 1.602176634e-19, 1e-5, "1 eV per particle = 96.485 kJ/mol (CODATA 2018 Faraday constant 96485.33 C/mol)"},
+		{"kcal per mol", "23.0605 kcal/mol", Energy, 1.602176634e-19, 1e-5, "1 eV per particle = 23.0605 kcal/mol (CODATA 2018, thermochemical calorie)"},
+		{"per mm2", "1e4 /mm2", AreaDensity, 1e10, 1e-12, "1 mm² = 1e-6 m² (SI prefix)"},
+		{"per cm2", "1e6 1/cm2", AreaDensity, 1e10, 1e-12, "1 cm² = 1e-4 m² (SI prefix)"},
+		{"per um2 superscript", "2 /µm²", AreaDensity, 2e12, 1e-12, "1 µm² = 1e-12 m² (SI prefix)"},
+		{"rate per cm2", "5 /cm2/s", AreaRate, 5e4, 1e-12, "SI prefix"},
+		{"speed um/min", "6 um/min", Speed, 1e-7, 1e-12, "6e-6 m per 60 s"},
+		{"speed nm/s", "100 nm/s", Speed, 1e-7, 1e-12, "SI prefix"},
+		{"sheet resistance", "1.2 kohm/sq", SheetResistance, 1200, 1e-12, "SI prefix"},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
@@ -70,6 +83,9 @@ func TestParseErrors(t *testing.T) {
 		{"", Duration, `empty value, want a duration such as "30 min"`},
 		{"1e999 K", Temperature, `"1e999 K": "1e999" is not a finite number`},
 		{"3 sccm", Dimensionless, `"3 sccm": want a plain number without a unit`},
+		{"1e308 h", Duration, `"1e308 h" is too large to hold as a duration`},
+		{"5 Mbar", Pressure, `"5 Mbar" has unknown unit "Mbar", want a pressure such as "500 mTorr" (units: Pa, kPa, mbar, bar, Torr, mTorr, atm)`},
+		{"5 Sccm", Flow, `"5 Sccm" has unknown unit "Sccm", want a flow such as "20 sccm" (units: sccm, slm, mol/s)`},
 	}
 	for _, tt := range tests {
 		t.Run(tt.text, func(t *testing.T) {
@@ -85,6 +101,62 @@ func TestParseErrors(t *testing.T) {
 	var ue *UnitError
 	if _, err := Parse("5 Torr", Flow); !errors.As(err, &ue) || ue.Got != Pressure {
 		t.Errorf("Parse(\"5 Torr\", Flow) error %v, want *UnitError with Got=Pressure", err)
+	}
+}
+
+func TestFormatRoundTrip(t *testing.T) {
+	// Format is the inverse of Parse: every unit, several magnitudes.
+	for name, u := range units {
+		for _, v := range []float64{12.5, -3, 1e-7, 4.2e9} {
+			si := v*u.scale + u.offset
+			text, err := Format(si, name)
+			if err != nil {
+				t.Fatalf("Format(%g, %q): %v", si, name, err)
+			}
+			q, err := Parse(text, u.dim)
+			if err != nil {
+				t.Fatalf("Parse(Format(%g, %q) = %q): %v", si, name, text, err)
+			}
+			if math.Abs(q.SI-si) > 1e-12*math.Abs(si) {
+				t.Errorf("Parse(%q) = %.17g, want %.17g", text, q.SI, si)
+			}
+		}
+	}
+	if _, err := Format(math.Inf(1), "K"); err == nil {
+		t.Error("Format(+Inf) succeeded, want an error")
+	}
+	if _, err := Format(1, "furlong"); err == nil {
+		t.Error("Format(1, furlong) succeeded, want an error")
+	}
+}
+
+func TestParseFraction(t *testing.T) {
+	tests := []struct {
+		text string
+		want float64
+	}{
+		{"0.3", 0.3}, {"30%", 0.3}, {"30 %", 0.3}, {"2500 ppm", 0.0025}, // definitions of per cent and ppm
+	}
+	for _, tt := range tests {
+		got, err := ParseFraction(tt.text)
+		if err != nil || math.Abs(got-tt.want) > 1e-15 {
+			t.Errorf("ParseFraction(%q) = %v, %v; want %v", tt.text, got, err, tt.want)
+		}
+	}
+	for _, bad := range []string{"", "thirty", "30 sccm", "1e999"} {
+		if _, err := ParseFraction(bad); err == nil {
+			t.Errorf("ParseFraction(%q) succeeded, want an error", bad)
+		}
+	}
+}
+
+func TestCelsiusKelvin(t *testing.T) {
+	// T/K = t/°C + 273.15 (BIPM SI Brochure, 9th ed.).
+	if got := Kelvin(1084.62); math.Abs(got-1357.77) > 1e-9 {
+		t.Errorf("Kelvin(1084.62) = %v, want 1357.77 (ITS-90 copper point)", got)
+	}
+	if got := Celsius(273.15); got != 0 {
+		t.Errorf("Celsius(273.15) = %v, want 0", got)
 	}
 }
 
@@ -109,7 +181,7 @@ func FuzzParse(f *testing.F) {
 		f.Add(s, int(Pressure))
 	}
 	f.Fuzz(func(t *testing.T, s string, d int) {
-		dim := Dimension(((d % 13) + 13) % 13)
+		dim := Dimension(((d % len(dimensionNames)) + len(dimensionNames)) % len(dimensionNames))
 		q, err := Parse(s, dim)
 		if err != nil {
 			return

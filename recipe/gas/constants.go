@@ -8,6 +8,11 @@ const (
 	Boltzmann = 1.380649e-23
 	// Avogadro is the Avogadro constant N_A in 1/mol (exact, SI 2019).
 	Avogadro = 6.02214076e23
+	// ElementaryCharge is the elementary charge e in C (exact, SI 2019); one
+	// electronvolt is e joules.
+	ElementaryCharge = 1.602176634e-19
+	// ZeroCelsius is 0 °C in K (the SI definition of the Celsius scale).
+	ZeroCelsius = 273.15
 	// StandardAtmosphere is one standard atmosphere in Pa (exact by definition).
 	StandardAtmosphere = 101325.0
 	// StandardPressure is the thermochemical standard pressure p° = 1 bar in Pa
@@ -15,7 +20,7 @@ const (
 	StandardPressure = 1e5
 	// SCCMReferenceT is the temperature in K to which "standard" flows (sccm, slm)
 	// refer: 0 °C at 101 325 Pa (SEMI convention as stated in MFC makers' documents).
-	SCCMReferenceT = 273.15
+	SCCMReferenceT = ZeroCelsius
 	// SCCMReferenceP is the pressure in Pa to which "standard" flows refer.
 	SCCMReferenceP = StandardAtmosphere
 	// MolPerSCCMPerSecond is the molar flow in mol/s of one sccm:
