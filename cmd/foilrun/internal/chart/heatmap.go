@@ -80,7 +80,8 @@ func (g heatGrid) Z(c, r int) float64 { return g.z[r][c] }
 func (g heatGrid) X(c int) float64    { return g.xs[c] }
 func (g heatGrid) Y(r int) float64    { return g.ys[r] }
 
-// zRange is the range of the values not blocked, padded when flat.
+// zRange is the range of the values not blocked, widened to whole tick
+// spacings of the colour bar.
 func (m HeatMap) zRange() (lo, hi float64) {
 	var vs []float64
 	for iy, row := range m.Z {
@@ -91,14 +92,10 @@ func (m HeatMap) zRange() (lo, hi float64) {
 		}
 	}
 	lo, hi, ok := finiteRange(vs)
-	switch {
-	case !ok:
+	if !ok {
 		return 0, 1
-	case lo == hi:
-		pad := math.Max(math.Abs(lo)*0.05, 0.5)
-		return lo - pad, hi + pad
 	}
-	return lo, hi
+	return linearBounds(lo, hi, 6)
 }
 
 func (m HeatMap) blocked(ix, iy int) bool {

@@ -45,10 +45,14 @@ var timeSteps = []struct{ major, minor float64 }{
 const maxTimeTicks = 8
 
 // TimeSpacing picks the major and minor tick spacing (min) of a time axis
-// spanning span minutes: the smallest round spacing (0.1, 0.2, 0.5, 1, 2,
-// 5, 10, 15, 30, 60, 120 … min) that gives at most 8 intervals.
+// spanning span minutes: the smallest round spacing (1, 2, 5, 10, 15, 30,
+// 60, 120 … min, and 0.1, 0.2, 0.5 min for spans under 2 min) that gives
+// at most 8 intervals.
 func TimeSpacing(span float64) (major, minor float64) {
 	for _, s := range timeSteps {
+		if s.major < 1 && span >= 2 {
+			continue
+		}
 		if span/s.major <= maxTimeTicks {
 			return s.major, s.minor
 		}
