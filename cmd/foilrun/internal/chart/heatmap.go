@@ -120,20 +120,7 @@ func WriteHeatMap(path string, m HeatMap) error {
 	if err != nil {
 		return err
 	}
-	z := make([][]float64, len(m.Z))
-	var blocked, missing []cell
-	for iy, row := range m.Z {
-		z[iy] = append([]float64(nil), row...)
-		for ix, v := range row {
-			switch {
-			case m.blocked(ix, iy):
-				z[iy][ix] = math.NaN()
-				blocked = append(blocked, cell{ix, iy})
-			case math.IsNaN(v):
-				missing = append(missing, cell{ix, iy})
-			}
-		}
-	}
+	z, blocked, missing := m.cells()
 	p := newPlot()
 	p.X.Label.Text, p.Y.Label.Text = m.XLabel, m.YLabel
 	hm := plotter.NewHeatMap(heatGrid{m.X, m.Y, z}, cm.Palette(255))
@@ -176,6 +163,25 @@ func WriteHeatMap(path string, m HeatMap) error {
 		l.Draw(crop(dc, side, data.Min.Y, dc.Max.X, data.Min.Y+legendH-2*vg.Millimeter))
 		return nil
 	})
+}
+
+// cells are the values to colour (blocked cells NaN), the blocked cells
+// and the cells without a value.
+func (m HeatMap) cells() (z [][]float64, blocked, missing []cell) {
+	z = make([][]float64, len(m.Z))
+	for iy, row := range m.Z {
+		z[iy] = append([]float64(nil), row...)
+		for ix, v := range row {
+			switch {
+			case m.blocked(ix, iy):
+				z[iy][ix] = math.NaN()
+				blocked = append(blocked, cell{ix, iy})
+			case math.IsNaN(v):
+				missing = append(missing, cell{ix, iy})
+			}
+		}
+	}
+	return z, blocked, missing
 }
 
 func orDefault(s, def string) string {

@@ -50,24 +50,31 @@ func labels(ticks []plot.Tick) string {
 	return strings.Join(out, " ")
 }
 
+// labelCase is a ticker's labels over an axis range.
+type labelCase struct {
+	name   string
+	lo, hi float64
+	want   string
+}
+
+func checkLabels(t *testing.T, ticker plot.Ticker, tests []labelCase) {
+	t.Helper()
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			if got := labels(ticker.Ticks(tc.lo, tc.hi)); got != tc.want {
+				t.Errorf("labels over %g–%g: got %q, want %q", tc.lo, tc.hi, got, tc.want)
+			}
+		})
+	}
+}
+
 func TestTimeTicks(t *testing.T) {
-	tests := []struct {
-		name   string
-		lo, hi float64
-		want   string
-	}{
+	checkLabels(t, TimeTicks{}, []labelCase{
 		{"whole run", 0, 211.3, "0 30 60 90 120 150 180 210"},
 		{"zoom", 91.7, 111.2, "95 100 105 110"},
 		{"short zoom", 93.2, 96.1, "94 95 96"},
 		{"sub-minute", 0, 0.35, "0.0 0.1 0.2 0.3"},
-	}
-	for _, tc := range tests {
-		t.Run(tc.name, func(t *testing.T) {
-			if got := labels(TimeTicks{}.Ticks(tc.lo, tc.hi)); got != tc.want {
-				t.Errorf("labels over %g–%g min: got %q, want %q", tc.lo, tc.hi, got, tc.want)
-			}
-		})
-	}
+	})
 }
 
 // The log-or-linear choice: log when the largest positive value is more
@@ -98,25 +105,14 @@ func TestUseLog(t *testing.T) {
 }
 
 func TestLogTicks(t *testing.T) {
-	tests := []struct {
-		name   string
-		lo, hi float64
-		want   string
-	}{
+	checkLabels(t, LogTicks{}, []labelCase{
 		{"two decades: 1, 2, 5", 10, 1000, "10 20 50 100 200 500 1000"},
 		{"three decades: 1, 3", 1, 2000, "1 3 10 30 100 300 1000"},
 		{"past 1e5: powers from 1000 up", 1000, 2e6, "10³ 3×10³ 10⁴ 3×10⁴ 10⁵ 3×10⁵ 10⁶"},
 		{"six decades: decades only", 0.01, 1e4, "0.01 0.1 1 10 100 1000 10000"},
 		{"small values", 1e-6, 1e-3, "10⁻⁶ 3×10⁻⁶ 10⁻⁵ 3×10⁻⁵ 10⁻⁴ 3×10⁻⁴ 0.001"},
 		{"not a log range", 0, 10, ""},
-	}
-	for _, tc := range tests {
-		t.Run(tc.name, func(t *testing.T) {
-			if got := labels(LogTicks{}.Ticks(tc.lo, tc.hi)); got != tc.want {
-				t.Errorf("labels over %g–%g: got %q, want %q", tc.lo, tc.hi, got, tc.want)
-			}
-		})
-	}
+	})
 	// every decade of 1–1000 has its minor ticks at 2…9
 	if n := len(LogTicks{}.Ticks(1, 1000)); n != 28 {
 		t.Errorf("ticks over 1–1000: got %d, want 28 (9 per decade and 1000)", n)

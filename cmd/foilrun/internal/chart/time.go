@@ -106,26 +106,9 @@ func WriteTimeFigure(path string, f TimeFigure) error {
 		windows = append(windows, [2]float64{lo, hi})
 		heads = append(heads, fmt.Sprintf("zoom on the steps with methane, %s–%s min", trimFloat(lo, 1), trimFloat(hi, 1)))
 	}
-	plots := make([][]*plot.Plot, len(f.Rows))
-	legends := make([]plot.Legend, len(f.Rows))
-	for i, r := range f.Rows {
-		plots[i] = make([]*plot.Plot, len(windows))
-		for j, win := range windows {
-			p, thumbs, err := timePanel(r, f.Steps, win[0], win[1], j > 0)
-			if err != nil {
-				return fmt.Errorf("plot %s: %w", r.YLabel, err)
-			}
-			if i == len(f.Rows)-1 {
-				p.X.Label.Text = f.XLabel
-			}
-			plots[i][j] = p
-			if j == 0 && len(r.Series) > 1 {
-				legends[i] = legend()
-				for k, s := range r.Series {
-					legends[i].Add(s.Name, thumbs[k])
-				}
-			}
-		}
+	plots, legends, err := timePlots(f, windows)
+	if err != nil {
+		return err
 	}
 	w, h := TimeSize(len(f.Rows))
 	return save(path, w, h, func(dc draw.Canvas) error {
@@ -152,6 +135,33 @@ func WriteTimeFigure(path string, f TimeFigure) error {
 		}
 		return nil
 	})
+}
+
+// timePlots are the panels of f, one row per Row and one column per time
+// window, with the legend of each row that has more than one series.
+func timePlots(f TimeFigure, windows [][2]float64) ([][]*plot.Plot, []plot.Legend, error) {
+	plots := make([][]*plot.Plot, len(f.Rows))
+	legends := make([]plot.Legend, len(f.Rows))
+	for i, r := range f.Rows {
+		plots[i] = make([]*plot.Plot, len(windows))
+		for j, win := range windows {
+			p, thumbs, err := timePanel(r, f.Steps, win[0], win[1], j > 0)
+			if err != nil {
+				return nil, nil, fmt.Errorf("plot %s: %w", r.YLabel, err)
+			}
+			if i == len(f.Rows)-1 {
+				p.X.Label.Text = f.XLabel
+			}
+			plots[i][j] = p
+			if j == 0 && len(r.Series) > 1 {
+				legends[i] = legend()
+				for k, s := range r.Series {
+					legends[i].Add(s.Name, thumbs[k])
+				}
+			}
+		}
+	}
+	return plots, legends, nil
 }
 
 // seriesXRange is the x range of every series in rows.
