@@ -4,7 +4,6 @@ import (
 	"context"
 	"errors"
 	"fmt"
-	"image/color"
 	"io"
 	"math"
 	"os"
@@ -15,10 +14,8 @@ import (
 
 	"github.com/schollz/progressbar/v3"
 	"github.com/spf13/cobra"
-	"gonum.org/v1/plot"
-	"gonum.org/v1/plot/plotter"
-	"gonum.org/v1/plot/vg"
 
+	"github.com/foilrun/foilrun/cmd/foilrun/internal/chart"
 	"github.com/foilrun/foilrun/kinetics"
 	"github.com/foilrun/foilrun/recipe"
 	"github.com/foilrun/foilrun/store"
@@ -493,56 +490,40 @@ func printFit(w io.Writer, r fitResultJSON) error {
 	return nil
 }
 
-// writeParity draws measured against predicted, one panel per metric,
-// with the line of equality.
+// writeParity draws measured against predicted, one panel per metric
+// (coverage in %, nuclei density per mm²), with the line of equality.
 func writeParity(path string, res *kinetics.FitResult) error {
-	byMetric := map[string]plotter.XYs{}
-	for _, r := range res.Residuals {
-		m, p := r.Measured, r.Predicted
-		if r.Metric == "nuclei_density" {
-			m, p = m*1e-6, p*1e-6
-		}
-		byMetric[r.Metric] = append(byMetric[r.Metric], plotter.XY{X: m, Y: p})
-	}
+	panels := map[string]*chart.ParityPanel{}
 	var names []string
-	for k := range byMetric {
-		names = append(names, k)
+	for _, r := range res.Residuals {
+		pn := panels[r.Metric]
+		if pn == nil {
+			pn = &chart.ParityPanel{Quantity: r.Metric}
+			switch r.Metric {
+			case "coverage":
+				pn.Quantity, pn.Range = "coverage (%)", [2]float64{0, 100}
+			case "nuclei_density":
+				pn.Quantity = "nuclei density (1/mm²)"
+			}
+			panels[r.Metric] = pn
+			names = append(names, r.Metric)
+		}
+		scale := 100.0 // coverage fraction to %
+		if r.Metric == "nuclei_density" {
+			scale = 1e-6 // 1/m² to 1/mm²
+		}
+		pn.Measured = append(pn.Measured, r.Measured*scale)
+		pn.Predicted = append(pn.Predicted, r.Predicted*scale)
 	}
-	sort.Strings(names)
-	var plots [][]*plot.Plot
-	for _, name := range names {
-		pts := byMetric[name]
-		p := plot.New()
-		p.Title.Text = "parity: " + name
-		p.X.Label.Text, p.Y.Label.Text = "measured", "predicted"
-		lo, hi := math.Inf(1), math.Inf(-1)
-		for _, q := range pts {
-			lo, hi = math.Min(lo, math.Min(q.X, q.Y)), math.Max(hi, math.Max(q.X, q.Y))
-		}
-		if name == "nuclei_density" {
-			p.X.Label.Text, p.Y.Label.Text = "measured / mm²", "predicted / mm²"
-			p.X.Scale, p.Y.Scale = plot.LogScale{}, plot.LogScale{}
-			p.X.Tick.Marker, p.Y.Tick.Marker = plot.LogTicks{}, plot.LogTicks{}
-			lo = math.Max(lo, 1e-12)
-		}
-		sc, err := plotter.NewScatter(pts)
-		if err != nil {
-			return fmt.Errorf("parity plot: %w", err)
-		}
-		sc.Color = color.RGBA{0x20, 0x50, 0xb0, 0xff}
-		eq, err := plotter.NewLine(plotter.XYs{{X: lo, Y: lo}, {X: hi, Y: hi}})
-		if err != nil {
-			return fmt.Errorf("parity plot: %w", err)
-		}
-		eq.Color = color.RGBA{0xc0, 0x30, 0x20, 0xff}
-		eq.Dashes = []vg.Length{vg.Points(4), vg.Points(2)}
-		p.Add(plotter.NewGrid(), eq, sc)
-		plots = append(plots, []*plot.Plot{p})
-	}
-	if len(plots) == 0 {
+	if len(names) == 0 {
 		return nil
 	}
-	return drawStacked(path, plots, 12*vg.Centimeter, 11*vg.Centimeter, 6*vg.Millimeter)
+	sort.Strings(names)
+	fig := chart.Parity{Title: fmt.Sprintf("fit of %d measurements: predicted against measured", len(res.Residuals))}
+	for _, n := range names {
+		fig.Panels = append(fig.Panels, *panels[n])
+	}
+	return chart.WriteParity(path, fig)
 }
 
 // intervalJSON is a 90 % (or other level) interval in display units, shown

@@ -8,6 +8,7 @@ import (
 
 	"github.com/spf13/cobra"
 
+	"github.com/foilrun/foilrun/cmd/foilrun/internal/chart"
 	"github.com/foilrun/foilrun/kinetics"
 	"github.com/foilrun/foilrun/recipe"
 )
@@ -184,7 +185,7 @@ func predictRun(opts *predictOptions) error {
 	}
 	pr := kinetics.Options{}
 	if opts.plot != "" {
-		pr.Samples = 400
+		pr.Samples = 4000 // enough points for the zoom on the steps with methane
 	}
 	res, err := kinetics.Predict(plan, params, pr)
 	if err != nil {
@@ -206,7 +207,7 @@ func predictRun(opts *predictOptions) error {
 		return err
 	}
 	if opts.plot != "" {
-		if err := writePanels(opts.plot, predictPanels(res)); err != nil {
+		if err := chart.WriteTimeFigure(opts.plot, predictFigure(res)); err != nil {
 			return err
 		}
 		fmt.Fprintf(opts.io.Err, "wrote %s\n", opts.plot)
@@ -273,17 +274,22 @@ func predictStepTable(steps []predictStep) table {
 	return t
 }
 
-// predictPanels turns a result with a curve into the four plot panels.
-func predictPanels(res kinetics.Result) []panel {
-	prof := res.Profile
+// predictFigure turns a result with a curve into the plot: temperature,
+// partial pressures (log when they spread over more than 100×), coverage
+// and nuclei density against time, each over the whole run and zoomed on
+// the steps with methane.
+func predictFigure(res kinetics.Result) chart.TimeFigure {
 	var ts, Tc, pc, ph []float64
-	for _, s := range prof.Segments {
+	var steps []chart.Step
+	for _, s := range res.Profile.Segments {
 		for _, t := range []float64{s.Start, s.Start + s.Duration} {
 			ts = append(ts, t/60)
 			Tc = append(Tc, s.TemperatureAt(t-s.Start)-273.15)
 			pc = append(pc, s.PC)
 			ph = append(ph, s.PH)
 		}
+		steps = append(steps, chart.Step{Name: fmt.Sprintf("%d %s", s.Index+1, s.Kind),
+			Start: s.Start / 60, End: (s.Start + s.Duration) / 60, Carbon: s.Carbon()})
 	}
 	var ct, cov, dens []float64
 	for _, s := range res.Curve {
@@ -291,11 +297,13 @@ func predictPanels(res kinetics.Result) []panel {
 		cov = append(cov, s.Coverage*100)
 		dens = append(dens, s.NucleiDensity*1e-6)
 	}
-	x := "time (min)"
-	return []panel{
-		{Title: res.Recipe + ": temperature", XLabel: x, YLabel: "T (C)", Series: []series{{"temperature", ts, Tc}}},
-		{Title: "partial pressures", XLabel: x, YLabel: "p (Pa)", Series: []series{{"CH4", ts, pc}, {"H2", ts, ph}}},
-		{Title: "predicted coverage", XLabel: x, YLabel: "coverage (%)", Series: []series{{"coverage", ct, cov}}},
-		{Title: "predicted nuclei density", XLabel: x, YLabel: "nuclei per mm2", Series: []series{{"nuclei", ct, dens}}},
+	return chart.TimeFigure{
+		Title: res.Recipe + ": recipe profile and predicted growth", XLabel: "time from the recipe start (min)", Steps: steps,
+		Rows: []chart.Row{
+			{YLabel: "temperature (°C)", Series: []chart.Series{{Name: "temperature", X: ts, Y: Tc}}},
+			{YLabel: "partial pressure (Pa)", AutoLog: true, Unit: "Pa", Series: []chart.Series{{Name: "CH4", X: ts, Y: pc}, {Name: "H2", X: ts, Y: ph}}},
+			{YLabel: "coverage (%)", Range: [2]float64{0, 100}, Series: []chart.Series{{Name: "coverage", X: ct, Y: cov}}},
+			{YLabel: "nuclei density (1/mm²)", Series: []chart.Series{{Name: "nuclei", X: ct, Y: dens}}},
+		},
 	}
 }

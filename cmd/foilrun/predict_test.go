@@ -47,8 +47,9 @@ func TestPredictTable(t *testing.T) {
 	}
 }
 
-// The plot is a PNG that decodes to the size the canvas asks for: 16 cm ×
-// 24 cm at vgimg's default 96 dpi is 605 × 907 pixels.
+// The plot is a PNG that decodes to the size the canvas asks for: 26 cm ×
+// 22.8 cm (4 rows of 5 cm under a 2.8 cm header) at 120 dpi is
+// 1228 × 1077 pixels (26 / 2.54 × 120 = 1228.3, 22.8 / 2.54 × 120 = 1077.2).
 func TestPredictPlotPNG(t *testing.T) {
 	path := filepath.Join(t.TempDir(), "profile.png")
 	code, _, errOut := runCLI(t, "predict", lowPressure, "--plot", path, "--output", "json")
@@ -64,8 +65,8 @@ func TestPredictPlotPNG(t *testing.T) {
 	if err != nil {
 		t.Fatalf("plot does not decode as PNG: %v", err)
 	}
-	if b := img.Bounds(); b.Dx() != 605 || b.Dy() != 907 {
-		t.Errorf("got %d×%d pixels, want 605×907", b.Dx(), b.Dy())
+	if b := img.Bounds(); b.Dx() != 1228 || b.Dy() != 1077 {
+		t.Errorf("got %d×%d pixels, want 1228×1077", b.Dx(), b.Dy())
 	}
 	if fi, _ := os.Stat(path); fi.Size() < 10000 {
 		t.Errorf("got a %d-byte PNG, want a drawn plot (> 10 kB)", fi.Size())
