@@ -123,6 +123,9 @@ func windowRun(opts *windowOptions) error {
 	var axes [2]kinetics.Axis
 	for i, v := range opts.vary {
 		a, err := kinetics.ParseAxis(v)
+		if err != nil && hintOf(err) != "" {
+			return err // the library's own hint says what to write
+		}
 		if err != nil {
 			return withHint(err, "write --vary PARAM=FROM:TO:STEPS with PARAM temperature, pressure, duration or a gas, e.g. --vary temperature=950C:1050C:11")
 		}
