@@ -103,3 +103,25 @@ func TestProgressOnlyOnATerminal(t *testing.T) {
 		t.Errorf("got %q on stderr, want a bar described as copying", b.String())
 	}
 }
+
+// FuzzOutputFormat: Set never panics, accepts exactly the three formats,
+// and what it accepts reads back unchanged through String.
+func FuzzOutputFormat(f *testing.F) {
+	for _, s := range []string{"table", "csv", "json", "", "Table", "json ", "xml"} {
+		f.Add(s)
+	}
+	f.Fuzz(func(t *testing.T, s string) {
+		o := outputFormat(formatTable)
+		err := o.Set(s)
+		ok := s == formatTable || s == formatCSV || s == formatJSON
+		if (err == nil) != ok {
+			t.Fatalf("Set(%q): got error %v, want accepted %v", s, err, ok)
+		}
+		if ok && o.String() != s {
+			t.Fatalf("Set(%q) then String: got %q", s, o.String())
+		}
+		if !ok && o.String() != formatTable {
+			t.Fatalf("Set(%q) refused but changed the value to %q", s, o.String())
+		}
+	})
+}
