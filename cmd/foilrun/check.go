@@ -35,14 +35,14 @@ func (rf *recipeFlags) loadPlan(path string) (*recipe.Plan, *recipe.Site, error)
 }
 
 type checkOptions struct {
-	io     *streams
+	f      *factory
 	recipe string
 	flags  recipeFlags
-	output string
+	output outputFormat
 }
 
 func newCheckCmd(f *factory) *cobra.Command {
-	opts := &checkOptions{io: f.io}
+	opts := &checkOptions{f: f}
 	cmd := &cobra.Command{
 		Use:   "check RECIPE",
 		Short: "Check a recipe against the furnace's limits and the safe order of steps",
@@ -54,14 +54,11 @@ derived gas-phase numbers. Exit status 1 when any finding is an error.`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			opts.recipe = args[0]
-			if err := checkFormat(opts.output); err != nil {
-				return err
-			}
 			return checkRun(opts)
 		},
 	}
 	opts.flags.register(cmd)
-	cmd.Flags().StringVar(&opts.output, "output", formatTable, "output format: table, csv or json")
+	addOutputFlag(cmd, &opts.output)
 	return cmd
 }
 
@@ -146,7 +143,7 @@ func checkRun(opts *checkOptions) error {
 			res.Warnings++
 		}
 	}
-	w := opts.io.Out
+	w := opts.f.io.Out
 	switch opts.output {
 	case formatJSON:
 		err = writeJSON(w, res)

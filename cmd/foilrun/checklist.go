@@ -13,7 +13,7 @@ import (
 )
 
 type checklistOptions struct {
-	io      *streams
+	f       *factory
 	recipe  string
 	flags   recipeFlags
 	format  string
@@ -21,7 +21,7 @@ type checklistOptions struct {
 }
 
 func newChecklistCmd(f *factory) *cobra.Command {
-	opts := &checklistOptions{io: f.io}
+	opts := &checklistOptions{f: f}
 	cmd := &cobra.Command{
 		Use:   "checklist RECIPE",
 		Short: "Print the one-page pre-run gas-safety checklist of a recipe",
@@ -81,13 +81,13 @@ func checklistRun(opts *checklistOptions) error {
 		if err := os.WriteFile(opts.outFile, out, 0o644); err != nil {
 			return fmt.Errorf("write checklist: %w", err)
 		}
-		fmt.Fprintf(opts.io.Err, "checklist written to %s (%s)\n", opts.outFile, rep.Verdict)
-	} else if _, err := opts.io.Out.Write(out); err != nil {
+		fmt.Fprintf(opts.f.io.Err, "checklist written to %s (%s)\n", opts.outFile, rep.Verdict)
+	} else if _, err := opts.f.io.Out.Write(out); err != nil {
 		return err
 	}
 	if safety.HasStop(rep.Findings) {
 		if opts.outFile == "" {
-			fmt.Fprintln(opts.io.Err, "foilrun: "+rep.Verdict)
+			fmt.Fprintln(opts.f.io.Err, "foilrun: "+rep.Verdict)
 		}
 		return errFindings
 	}

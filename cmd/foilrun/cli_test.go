@@ -11,12 +11,25 @@ import (
 
 var updateGolden = flag.Bool("update", false, "rewrite golden files under testdata/cli")
 
-// runCLI runs foilrun in-process with captured streams and returns the
-// exit status, stdout and stderr.
+// runCLI runs foilrun in-process as a person at a terminal sees it:
+// stdout counts as a terminal (tables aligned), stderr is captured as a
+// pipe (no progress bars). It returns the exit status, stdout and stderr.
 func runCLI(t *testing.T, args ...string) (int, string, string) {
 	t.Helper()
+	return runStreams(t, true, args...)
+}
+
+// runPiped runs foilrun with stdout piped, as a script sees it: tables
+// are tab-separated.
+func runPiped(t *testing.T, args ...string) (int, string, string) {
+	t.Helper()
+	return runStreams(t, false, args...)
+}
+
+func runStreams(t *testing.T, outTTY bool, args ...string) (int, string, string) {
+	t.Helper()
 	var out, errb bytes.Buffer
-	code := run(args, &streams{In: strings.NewReader(""), Out: &out, Err: &errb})
+	code := run(args, &streams{In: strings.NewReader(""), Out: &out, Err: &errb, OutTTY: outTTY})
 	return code, out.String(), errb.String()
 }
 

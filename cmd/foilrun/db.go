@@ -6,9 +6,7 @@ import (
 	"fmt"
 	"io/fs"
 	"os"
-	"time"
 
-	"github.com/schollz/progressbar/v3"
 	"github.com/spf13/cobra"
 
 	"github.com/foilrun/foilrun/store"
@@ -21,59 +19,86 @@ func newDBCmd(f *factory) *cobra.Command {
 		Use:   "db",
 		Short: "Look after the run-log database: backup, check, copy",
 	}
-	cmd.AddCommand(&cobra.Command{
+	cmd.AddCommand(newDBBackupCmd(f), newDBCheckCmd(f), newDBCopyCmd(f))
+	return cmd
+}
+
+type dbBackupOptions struct {
+	f    *factory
+	file string
+}
+
+func newDBBackupCmd(f *factory) *cobra.Command {
+	opts := &dbBackupOptions{f: f}
+	return &cobra.Command{
 		Use:   "backup FILE",
 		Short: "Write a consistent copy of the run log to a new file, while others may be logging",
 		Args:  cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
-			l, err := f.runLog(cmd.Context())
-			if err != nil {
-				return err
-			}
-			if err := l.Backup(cmd.Context(), args[0]); err != nil {
-				return err
-			}
-			fmt.Fprintf(f.io.Err, "backup written to %s and checked\n", args[0])
-			return nil
+			opts.file = args[0]
+			return dbBackupRun(cmd.Context(), opts)
 		},
-	}, &cobra.Command{
+	}
+}
+
+func dbBackupRun(ctx context.Context, o *dbBackupOptions) error {
+	l, err := o.f.runLog(ctx)
+	if err != nil {
+		return err
+	}
+	if err := l.Backup(ctx, o.file); err != nil {
+		return err
+	}
+	fmt.Fprintf(o.f.io.Err, "backup written to %s and checked\n", o.file)
+	return nil
+}
+
+type dbCheckOptions struct{ f *factory }
+
+func newDBCheckCmd(f *factory) *cobra.Command {
+	opts := &dbCheckOptions{f: f}
+	return &cobra.Command{
 		Use:   "check",
 		Short: "Check the run log's integrity; exit 1 when problems are found",
 		Args:  cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, args []string) error {
-			l, err := f.runLog(cmd.Context())
-			if err != nil {
-				return err
-			}
-			v, err := l.SchemaVersion(cmd.Context())
-			if err != nil {
-				return err
-			}
-			probs, err := l.Check(cmd.Context())
-			if err != nil {
-				return err
-			}
-			for _, p := range probs {
-				fmt.Fprintln(f.io.Out, p)
-			}
-			if len(probs) > 0 {
-				fmt.Fprintf(f.io.Out, "%d problems (schema version %d)\n", len(probs), v)
-				return errFindings
-			}
-			fmt.Fprintf(f.io.Out, "ok (schema version %d)\n", v)
-			return nil
+			return dbCheckRun(cmd.Context(), opts)
 		},
-	}, newDBCopyCmd(f))
-	return cmd
+	}
+}
+
+func dbCheckRun(ctx context.Context, o *dbCheckOptions) error {
+	l, err := o.f.runLog(ctx)
+	if err != nil {
+		return err
+	}
+	v, err := l.SchemaVersion(ctx)
+	if err != nil {
+		return err
+	}
+	probs, err := l.Check(ctx)
+	if err != nil {
+		return err
+	}
+	w := o.f.io.Out
+	for _, p := range probs {
+		fmt.Fprintln(w, p)
+	}
+	if len(probs) > 0 {
+		fmt.Fprintf(w, "%d problems (schema version %d)\n", len(probs), v)
+		return errFindings
+	}
+	fmt.Fprintf(w, "ok (schema version %d)\n", v)
+	return nil
 }
 
 type dbCopyOptions struct {
-	io       *streams
+	f        *factory
 	from, to string
 }
 
 func newDBCopyCmd(f *factory) *cobra.Command {
-	opts := &dbCopyOptions{io: f.io}
+	opts := &dbCopyOptions{f: f}
 	cmd := &cobra.Command{
 		Use:   "copy --from SRC --to DST",
 		Short: "Copy a whole run log between a SQLite file and a PostgreSQL database, all or nothing, verified",
@@ -124,21 +149,9 @@ func dbCopyRun(ctx context.Context, o *dbCopyOptions) error {
 		dst.Close()
 		return fmt.Errorf("db copy: unsupported back end")
 	}
-	var bar *progressbar.ProgressBar
-	progress := func(done, total int) {
-		if bar == nil {
-			bar = progressbar.NewOptions(total, progressbar.OptionSetWriter(o.io.Err), progressbar.OptionSetDescription("copying runs"),
-				progressbar.OptionThrottle(100*time.Millisecond), progressbar.OptionClearOnFinish())
-		}
-		bar.Set(done)
-	}
-	if !o.io.ErrTTY {
-		progress = nil
-	}
-	dg, err := sqldb.Copy(ctx, db.Base(), sb.Base(), progress)
-	if bar != nil {
-		bar.Finish()
-	}
+	bar := o.f.io.progress("copying runs")
+	dg, err := sqldb.Copy(ctx, db.Base(), sb.Base(), bar.report())
+	bar.finish()
 	if err == nil {
 		// afterwards, from a fresh read of the committed target
 		var after sqldb.Digest
@@ -161,7 +174,7 @@ func dbCopyRun(ctx context.Context, o *dbCopyOptions) error {
 	if cerr != nil {
 		return cerr
 	}
-	fmt.Fprintf(o.io.Out, "copied %d runs and %d recipe snapshots from %s to %s\n", dg.Counts["runs"], dg.Counts["snapshots"], shown(o.from), shown(o.to))
-	fmt.Fprintf(o.io.Out, "verified: row counts equal in %d tables, content sha256 %s on both sides\n", len(dg.Counts), dg.SHA256)
+	fmt.Fprintf(o.f.io.Err, "copied %d runs and %d recipe snapshots from %s to %s\n", dg.Counts["runs"], dg.Counts["snapshots"], shown(o.from), shown(o.to))
+	fmt.Fprintf(o.f.io.Err, "verified: row counts equal in %d tables, content sha256 %s on both sides\n", len(dg.Counts), dg.SHA256)
 	return nil
 }

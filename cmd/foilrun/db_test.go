@@ -30,7 +30,8 @@ func TestDBCopy(t *testing.T) {
 	from := src
 	for _, to := range hops {
 		code, out, errs := runArgs(t, "db", "copy", "--from", from, "--to", to)
-		if code != 0 || !strings.Contains(out, "copied 3 runs and 1 recipe snapshots") || !strings.Contains(out, "verified: row counts equal in 9 tables") {
+		// The report is status: on stderr, leaving stdout empty.
+		if code != 0 || out != "" || !strings.Contains(errs, "copied 3 runs and 1 recipe snapshots") || !strings.Contains(errs, "verified: row counts equal in 9 tables") {
 			t.Fatalf("db copy --from %s --to %s: exit %d, out %q, err %q", from, to, code, out, errs)
 		}
 		from = to

@@ -211,15 +211,6 @@ func (mf *measureFlags) measureFilm() ([]measurement, []string, error) {
 	return ms, lines, nil
 }
 
-// inputErr marks an error in the user's data (exit status 2) without
-// changing its message.
-type inputErr struct{ err error }
-
-func (e inputErr) Error() string   { return e.err.Error() }
-func (e inputErr) Unwrap() []error { return []error{e.err, recipe.ErrInvalid} }
-
-func inputError(err error) error { return inputErr{err} }
-
 func parseRect(s string) (image.Rectangle, error) {
 	parts := strings.Split(s, ",")
 	if len(parts) != 4 {
@@ -241,9 +232,9 @@ func parseRect(s string) (image.Rectangle, error) {
 }
 
 type measureOptions struct {
-	io     *streams
+	f      *factory
 	flags  measureFlags
-	output string
+	output outputFormat
 }
 
 func newMeasureCmd(f *factory) *cobra.Command {
@@ -256,7 +247,7 @@ func newMeasureCmd(f *factory) *cobra.Command {
 }
 
 func newMeasureImageCmd(f *factory) *cobra.Command {
-	opts := &measureOptions{io: f.io}
+	opts := &measureOptions{f: f}
 	cmd := &cobra.Command{
 		Use:   "image FILE",
 		Short: "Coverage, domain count, density and sizes from a micrograph (PNG, JPEG, TIFF)",
@@ -264,35 +255,33 @@ func newMeasureImageCmd(f *factory) *cobra.Command {
 		RunE: func(cmd *cobra.Command, args []string) error {
 			opts.flags.image = args[0]
 			opts.flags.bareGraySet = cmd.Flags().Changed("bare-gray")
-			if err := checkFormat(opts.output); err != nil {
-				return err
-			}
 			return measureImageRun(opts)
 		},
 	}
 	opts.flags.registerImage(cmd)
-	cmd.Flags().StringVar(&opts.output, "output", formatTable, "output format: table, csv or json")
+	addOutputFlag(cmd, &opts.output)
 	return cmd
 }
 
 func measureImageRun(opts *measureOptions) error {
-	res, ms, err := opts.flags.measureImage(opts.io.Err)
+	res, ms, err := opts.flags.measureImage(opts.f.io.Err)
 	if err != nil {
 		return err
 	}
+	w := opts.f.io.Out
 	if opts.output == formatJSON {
-		return writeJSON(opts.io.Out, res)
+		return writeJSON(w, res)
 	}
 	if opts.output == formatTable {
-		fmt.Fprintf(opts.io.Out, "%s: %s %d×%d, threshold %.0f, domains %s (%s)\n", res.File, res.Format, res.Width, res.Height, res.Threshold, res.Polarity, res.Reason)
+		fmt.Fprintf(w, "%s: %s %d×%d, threshold %.0f, domains %s (%s)\n", res.File, res.Format, res.Width, res.Height, res.Threshold, res.Polarity, res.Reason)
 	}
 	t := imageTable(res, ms)
-	if err := render(opts.io.Out, opts.output, t, nil); err != nil {
+	if err := render(w, opts.output, t, nil); err != nil {
 		return err
 	}
 	if opts.output == formatTable {
 		for _, n := range res.Notes {
-			fmt.Fprintln(opts.io.Out, "note: "+n)
+			fmt.Fprintln(w, "note: "+n)
 		}
 	}
 	return nil
@@ -310,7 +299,7 @@ func imageTable(res *imageResult, ms []measurement) table {
 }
 
 func newMeasureFilmCmd(f *factory) *cobra.Command {
-	opts := &measureOptions{io: f.io}
+	opts := &measureOptions{f: f}
 	cmd := &cobra.Command{
 		Use:   "film",
 		Short: "Layer count from transmittance at 550 nm and a Raman classification",
@@ -319,22 +308,23 @@ func newMeasureFilmCmd(f *factory) *cobra.Command {
 			if opts.flags.transmittance == "" && opts.flags.raman == "" {
 				return usagef("give --transmittance and/or --raman")
 			}
-			if err := checkFormat(opts.output); err != nil {
-				return err
-			}
-			ms, lines, err := opts.flags.measureFilm()
-			if err != nil {
-				return err
-			}
-			return printMeasurements(opts.io.Out, opts.output, ms, lines)
+			return measureFilmRun(opts)
 		},
 	}
 	opts.flags.registerFilm(cmd)
-	cmd.Flags().StringVar(&opts.output, "output", formatTable, "output format: table, csv or json")
+	addOutputFlag(cmd, &opts.output)
 	return cmd
 }
 
-func printMeasurements(w io.Writer, format string, ms []measurement, lines []string) error {
+func measureFilmRun(opts *measureOptions) error {
+	ms, lines, err := opts.flags.measureFilm()
+	if err != nil {
+		return err
+	}
+	return printMeasurements(opts.f.io.Out, opts.output, ms, lines)
+}
+
+func printMeasurements(w io.Writer, format outputFormat, ms []measurement, lines []string) error {
 	t := table{Header: []string{"metric", "value", "unit", "method"}, Numeric: []bool{false, true}}
 	for _, m := range ms {
 		t.add(m.Metric, num(m.Value, 5), m.Unit, m.Method)

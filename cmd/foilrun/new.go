@@ -11,7 +11,7 @@ import (
 )
 
 type newOptions struct {
-	io    *streams
+	f     *factory
 	kind  string
 	from  string
 	out   string
@@ -20,7 +20,7 @@ type newOptions struct {
 }
 
 func newNewCmd(f *factory) *cobra.Command {
-	opts := &newOptions{io: f.io}
+	opts := &newOptions{f: f}
 	cmd := &cobra.Command{
 		Use:   "new recipe|furnace|site",
 		Short: "Write a commented starting file from a template",
@@ -36,6 +36,11 @@ recipe comes from the low-pressure template. --list names the templates.`,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			if !opts.list {
 				opts.kind = args[0]
+				switch opts.kind {
+				case "recipe", "furnace", "site":
+				default:
+					return usagef("new %q: want recipe, furnace or site", opts.kind)
+				}
 			}
 			return newRun(opts)
 		},
@@ -53,12 +58,7 @@ func newRun(opts *newOptions) error {
 		for _, tp := range templates.List() {
 			t.add(tp.Kind, tp.Name, tp.File)
 		}
-		return writeTable(opts.io.Out, t)
-	}
-	switch opts.kind {
-	case "recipe", "furnace", "site":
-	default:
-		return usagef("new %q: want recipe, furnace or site", opts.kind)
+		return writeTable(opts.f.io.Out, t)
 	}
 	tp, ok := templates.Find(opts.kind, opts.from)
 	if !ok {
@@ -69,7 +69,7 @@ func newRun(opts *newOptions) error {
 		return err
 	}
 	if opts.out == "" {
-		_, err = opts.io.Out.Write(data)
+		_, err = opts.f.io.Out.Write(data)
 		return err
 	}
 	flag := os.O_WRONLY | os.O_CREATE | os.O_EXCL
@@ -90,6 +90,6 @@ func newRun(opts *newOptions) error {
 	if err := fh.Close(); err != nil {
 		return err
 	}
-	fmt.Fprintf(opts.io.Err, "wrote %s (from template %s)\n", opts.out, tp.Name)
+	fmt.Fprintf(opts.f.io.Err, "wrote %s (from template %s)\n", opts.out, tp.Name)
 	return nil
 }

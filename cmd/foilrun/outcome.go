@@ -59,7 +59,7 @@ func metricHelp() string {
 }
 
 func outcomeAddRun(ctx context.Context, o *outcomeAddOptions) error {
-	at := time.Now()
+	at := o.f.now()
 	if o.measured != "" {
 		t, err := time.Parse(time.RFC3339, o.measured)
 		if err != nil {
@@ -87,42 +87,48 @@ func outcomeAddRun(ctx context.Context, o *outcomeAddOptions) error {
 	return nil
 }
 
+type outcomeMetricsOptions struct {
+	f      *factory
+	output outputFormat
+}
+
 func newOutcomeMetricsCmd(f *factory) *cobra.Command {
-	var output string
+	opts := &outcomeMetricsOptions{f: f}
 	cmd := &cobra.Command{
 		Use:   "metrics",
 		Short: "List the known outcome metrics and their units",
 		Args:  cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, args []string) error {
-			if err := checkFormat(output); err != nil {
-				return err
-			}
-			t := table{Header: []string{"metric", "unit", "better", "units accepted", "description"}}
-			type row struct {
-				Metric, Unit, Better, Description string
-				Units                             []string
-			}
-			var rows []row
-			for _, m := range store.Metrics() {
-				better := "higher"
-				if m.LowerBetter {
-					better = "lower"
-				}
-				t.add(m.Name, m.Unit, better, strings.Join(m.Units(), " "), m.Description)
-				rows = append(rows, row{m.Name, m.Unit, better, m.Description, m.Units()})
-			}
-			return render(f.io.Out, output, t, rows)
+			return outcomeMetricsRun(opts)
 		},
 	}
-	cmd.Flags().StringVar(&output, "output", formatTable, "output format: table, csv or json")
+	addOutputFlag(cmd, &opts.output)
 	return cmd
+}
+
+func outcomeMetricsRun(o *outcomeMetricsOptions) error {
+	t := table{Header: []string{"metric", "unit", "better", "units accepted", "description"}}
+	type row struct {
+		Metric, Unit, Better, Description string
+		Units                             []string
+	}
+	var rows []row
+	for _, m := range store.Metrics() {
+		better := "higher"
+		if m.LowerBetter {
+			better = "lower"
+		}
+		t.add(m.Name, m.Unit, better, strings.Join(m.Units(), " "), m.Description)
+		rows = append(rows, row{m.Name, m.Unit, better, m.Description, m.Units()})
+	}
+	return render(o.f.io.Out, o.output, t, rows)
 }
 
 type outcomeMeasureOptions struct {
 	f      *factory
 	code   string
 	flags  measureFlags
-	output string
+	output outputFormat
 }
 
 func newOutcomeMeasureCmd(f *factory) *cobra.Command {
@@ -143,16 +149,13 @@ and from Raman 2D/G and D/G ratios (with the classification printed).`,
 			if opts.flags.image == "" && opts.flags.transmittance == "" && opts.flags.raman == "" {
 				return usagef("give --image, --transmittance and/or --raman")
 			}
-			if err := checkFormat(opts.output); err != nil {
-				return err
-			}
 			return outcomeMeasureRun(cmd.Context(), opts)
 		},
 	}
 	cmd.Flags().StringVar(&opts.flags.image, "image", "", "micrograph file (PNG, JPEG or TIFF)")
 	opts.flags.registerImage(cmd)
 	opts.flags.registerFilm(cmd)
-	cmd.Flags().StringVar(&opts.output, "output", formatTable, "output format: table, csv or json")
+	addOutputFlag(cmd, &opts.output)
 	return cmd
 }
 
@@ -179,7 +182,7 @@ func outcomeMeasureRun(ctx context.Context, o *outcomeMeasureOptions) error {
 	if _, err := l.Record(ctx, o.code); err != nil {
 		return err
 	}
-	now := time.Now().UTC()
+	now := o.f.now().UTC()
 	var os []store.Outcome
 	for _, m := range ms {
 		os = append(os, store.Outcome{Metric: m.Metric, Value: m.Value, Unit: m.Unit, Entered: m.Text, Method: m.Method, Measured: now})

@@ -17,21 +17,18 @@ import (
 // --output and --plot.
 type modelFlags struct {
 	params string
-	output string
+	output outputFormat
 	plot   string
 }
 
 func (m *modelFlags) register(cmd *cobra.Command, plotUsage string) {
 	cmd.Flags().StringVar(&m.params, "params", "", "kinetics parameter file (default: illustrative parameters)")
-	cmd.Flags().StringVar(&m.output, "output", formatTable, "output format: table, csv or json")
+	addOutputFlag(cmd, &m.output)
 	cmd.Flags().StringVar(&m.plot, "plot", "", plotUsage)
 }
 
-// check validates --output and --plot.
+// check validates --plot (--output is checked as it is parsed).
 func (m *modelFlags) check() error {
-	if err := checkFormat(m.output); err != nil {
-		return err
-	}
 	if m.plot != "" {
 		return checkPlotPath(m.plot)
 	}
@@ -39,14 +36,14 @@ func (m *modelFlags) check() error {
 }
 
 type predictOptions struct {
-	io     *streams
+	f      *factory
 	recipe string
 	flags  recipeFlags
 	modelFlags
 }
 
 func newPredictCmd(f *factory) *cobra.Command {
-	opts := &predictOptions{io: f.io}
+	opts := &predictOptions{f: f}
 	cmd := &cobra.Command{
 		Use:   "predict RECIPE",
 		Short: "Predict coverage, nuclei density and domain size for a recipe",
@@ -181,7 +178,7 @@ func predictRun(opts *predictOptions) error {
 		}
 	}
 	if errs > 0 {
-		fmt.Fprintf(opts.io.Err, "foilrun: warning: the recipe has %d check errors; the prediction assumes it runs as written (see foilrun check)\n", errs)
+		fmt.Fprintf(opts.f.io.Err, "foilrun: warning: the recipe has %d check errors; the prediction assumes it runs as written (see foilrun check)\n", errs)
 	}
 	pr := kinetics.Options{}
 	if opts.plot != "" {
@@ -195,13 +192,14 @@ func predictRun(opts *predictOptions) error {
 	if out.Interval, err = predictInterval(plan, params); err != nil {
 		return err
 	}
+	w := opts.f.io.Out
 	switch opts.output {
 	case formatJSON:
-		err = writeJSON(opts.io.Out, out)
+		err = writeJSON(w, out)
 	case formatCSV:
-		err = writeCSV(opts.io.Out, predictStepTable(out.Steps))
+		err = writeCSV(w, predictStepTable(out.Steps))
 	default:
-		err = printPredict(opts.io.Out, out)
+		err = printPredict(w, out)
 	}
 	if err != nil {
 		return err
@@ -210,7 +208,7 @@ func predictRun(opts *predictOptions) error {
 		if err := chart.WriteTimeFigure(opts.plot, predictFigure(res)); err != nil {
 			return err
 		}
-		fmt.Fprintf(opts.io.Err, "wrote %s\n", opts.plot)
+		fmt.Fprintf(opts.f.io.Err, "wrote %s\n", opts.plot)
 	}
 	return nil
 }

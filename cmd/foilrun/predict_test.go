@@ -108,7 +108,7 @@ func TestPredictBadInput(t *testing.T) {
 }
 
 func TestWindowTable(t *testing.T) {
-	code, out, errOut := runCLI(t, "window", lowPressure, "--vary", "temperature=960C:1080C:3", "--vary", "CH4=5sccm:35sccm:2", "--show", "density")
+	code, out, errOut := runCLI(t, "window", lowPressure, "--vary", "temperature=960C:1080C:3", "--vary", "CH4=5sccm:35sccm:2", "--show", "nuclei_density")
 	if code != exitOK {
 		t.Fatalf("exit %d: %s", code, errOut)
 	}
@@ -127,7 +127,7 @@ func TestWindowTable(t *testing.T) {
 
 func TestWindowJSONAndPlot(t *testing.T) {
 	path := filepath.Join(t.TempDir(), "map.png")
-	code, out, errOut := runCLI(t, "window", lowPressure, "--vary", "duration=1min:5min:3", "--vary", "pressure=20Pa:200Pa:2", "--output", "json", "--plot", path, "--show", "time-to-99")
+	code, out, errOut := runCLI(t, "window", lowPressure, "--vary", "duration=1min:5min:3", "--vary", "pressure=20Pa:200Pa:2", "--output", "json", "--plot", path, "--show", "time_to_99")
 	if code != exitOK {
 		t.Fatalf("exit %d: %s", code, errOut)
 	}
@@ -163,7 +163,7 @@ func TestWindowBadInput(t *testing.T) {
 			`foilrun: window axis "temperature=950C:1150C:5": 1150 C is above the tube's service limit 1100 C on furnace "tube-1"` + "\n"},
 		{"one axis", []string{"--vary", "temperature=950C:1050C:5"}, "foilrun: want exactly two --vary PARAM=FROM:TO:STEPS, got 1\n"},
 		{"show", []string{"--vary", "temperature=950C:1050C:5", "--vary", "CH4=5sccm:35sccm:3", "--show", "speed"},
-			`foilrun: --show "speed": want coverage, density, domain-size, time-to-99` + "\n"},
+			`foilrun: --show "speed": want coverage, nuclei_density, domain_size, time_to_99` + "\n"},
 	} {
 		code, out, errOut := runCLI(t, append([]string{"window", lowPressure}, c.args...)...)
 		if code != exitUsage || out != "" || errOut != c.want {

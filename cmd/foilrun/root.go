@@ -2,22 +2,14 @@ package main
 
 import (
 	"errors"
-	"fmt"
 	"io"
 	"os"
-	"strings"
+	"time"
 
 	"github.com/spf13/cobra"
 	"golang.org/x/term"
 
 	"github.com/foilrun/foilrun/store"
-)
-
-// Exit statuses.
-const (
-	exitOK       = 0
-	exitFindings = 1 // checks found errors
-	exitUsage    = 2 // bad flags, unreadable or invalid input
 )
 
 // streams are the command's input and outputs, injected so tests can
@@ -26,7 +18,7 @@ type streams struct {
 	In     io.Reader
 	Out    io.Writer // results
 	Err    io.Writer // status, progress, errors
-	OutTTY bool      // stdout is a terminal: human tables may align
+	OutTTY bool      // stdout is a terminal: tables align; else they are tab-separated
 	ErrTTY bool      // stderr is a terminal: progress bars may draw
 }
 
@@ -39,9 +31,11 @@ func newStreams() *streams {
 }
 
 // factory holds what commands need, made lazily so that commands which do
-// not need the database never open it.
+// not need the database never open it. Every command's options hold it.
 type factory struct {
 	io *streams
+	// now is the clock: the time outcomes are measured and runs logged.
+	now func() time.Time
 	// dbFlag is the --db value; the store is opened on first use.
 	dbFlag string
 	// closers run after the command.
@@ -49,29 +43,6 @@ type factory struct {
 	// log is the run log, once opened by runLog.
 	log store.RunLog
 }
-
-// errFindings is returned by a command whose checks found errors; the
-// findings have been printed already.
-var errFindings = errors.New("checks found errors")
-
-// usageError marks an error in how the command was called.
-type usageError struct{ err error }
-
-func (e usageError) Error() string { return e.err.Error() }
-func (e usageError) Unwrap() error { return e.err }
-
-func usagef(format string, args ...any) error { return usageError{fmt.Errorf(format, args...)} }
-
-// hintError carries a second line telling the user what to do.
-type hintError struct {
-	err  error
-	hint string
-}
-
-func (e hintError) Error() string { return e.err.Error() }
-func (e hintError) Unwrap() error { return e.err }
-
-func withHint(err error, hint string) error { return hintError{err, hint} }
 
 func newRootCmd(f *factory) *cobra.Command {
 	root := &cobra.Command{
@@ -83,6 +54,7 @@ hydrogen and methane hazards, logs every run and learns from the log.`,
 		SilenceUsage:  true,
 		SilenceErrors: true,
 	}
+	root.SetFlagErrorFunc(flagError)
 	root.PersistentFlags().StringVar(&f.dbFlag, "db", "", "run-log database (file path or postgres:// URL; default $FOILRUN_DB or the user data folder)")
 	root.SetOut(f.io.Out)
 	root.SetErr(f.io.Err)
@@ -104,12 +76,41 @@ hydrogen and methane hazards, logs every run and learns from the log.`,
 		newOutcomeCmd(f),
 		newDBCmd(f),
 	)
+	markArgErrors(root)
 	return root
+}
+
+// flagError reports a flag the command line got wrong as a usage error;
+// a value refused by its type is shown in that type's words.
+func flagError(_ *cobra.Command, err error) error {
+	var fv *flagValueError
+	if errors.As(err, &fv) {
+		return asUsage(fv)
+	}
+	return asUsage(err)
+}
+
+// markArgErrors makes the argument checks of cmd and its subcommands
+// return usage errors.
+func markArgErrors(cmd *cobra.Command) {
+	if check := cmd.Args; check != nil {
+		cmd.Args = func(c *cobra.Command, args []string) error {
+			if err := check(c, args); err != nil {
+				return asUsage(err)
+			}
+			return nil
+		}
+	}
+	for _, c := range cmd.Commands() {
+		markArgErrors(c)
+	}
 }
 
 // run executes the command line and maps the outcome to an exit status.
 func run(args []string, io *streams) int {
-	f := &factory{io: io}
+	s := *io
+	s.Out = &outWriter{Writer: io.Out, tty: io.OutTTY}
+	f := &factory{io: &s, now: time.Now}
 	root := newRootCmd(f)
 	root.SetArgs(args)
 	err := root.Execute()
@@ -119,23 +120,4 @@ func run(args []string, io *streams) int {
 		}
 	}
 	return exitCode(err, io.Err)
-}
-
-// exitCode prints err (message and hint) and returns the exit status.
-func exitCode(err error, w io.Writer) int {
-	if err == nil {
-		return exitOK
-	}
-	if errors.Is(err, errFindings) {
-		return exitFindings
-	}
-	msg := err.Error()
-	fmt.Fprintln(w, "foilrun: "+strings.ReplaceAll(msg, "\n", "\n  "))
-	var h hintError
-	if errors.As(err, &h) && h.hint != "" {
-		fmt.Fprintln(w, "  hint: "+h.hint)
-	}
-	// Everything else is a usage error, unreadable or invalid input, or a
-	// failure to reach the run log: the command could not do its job.
-	return exitUsage
 }

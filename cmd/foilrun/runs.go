@@ -7,13 +7,18 @@ import (
 	"io"
 	"math"
 	"os"
+	"slices"
 	"strconv"
 	"strings"
 
 	"github.com/spf13/cobra"
 
+	"github.com/foilrun/foilrun/recipe"
 	"github.com/foilrun/foilrun/store"
 )
+
+// metricUsage is the --metric help of runs best and rank.
+const metricUsage = "outcome metric as stored: coverage, nuclei_density, domain_size, or any other logged one"
 
 func newRunsCmd(f *factory) *cobra.Command {
 	cmd := &cobra.Command{
@@ -22,7 +27,7 @@ func newRunsCmd(f *factory) *cobra.Command {
 		Long: `Query the run log. --where takes an expression over run columns (code,
 status, recipe, furnace, operator, lot, started, ended), recipe parameters
 (in the unit their name carries, e.g. growth_temperature_c) and outcome
-metrics (in their canonical unit, e.g. coverage as a fraction):
+metrics (in their canonical unit, e.g. coverage as a fraction, 0.9 for 90 %):
 
   growth_temperature_c >= 1000 and coverage > 0.9 or status = "done"
 
@@ -37,7 +42,7 @@ type runsListOptions struct {
 	f      *factory
 	where  []string
 	limit  int
-	output string
+	output outputFormat
 }
 
 func newRunsListCmd(f *factory) *cobra.Command {
@@ -47,15 +52,12 @@ func newRunsListCmd(f *factory) *cobra.Command {
 		Short: "List runs, optionally filtered",
 		Args:  cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, args []string) error {
-			if err := checkFormat(opts.output); err != nil {
-				return err
-			}
 			return runsListRun(cmd.Context(), opts)
 		},
 	}
 	cmd.Flags().StringArrayVar(&opts.where, "where", nil, "filter expression (repeatable; all must hold)")
 	cmd.Flags().IntVar(&opts.limit, "limit", 0, "at most this many runs (0: all)")
-	cmd.Flags().StringVar(&opts.output, "output", formatTable, "output format: table, csv or json")
+	addOutputFlag(cmd, &opts.output)
 	return cmd
 }
 
@@ -88,11 +90,16 @@ func runsListRun(ctx context.Context, o *runsListOptions) error {
 type goalFlags struct{ min, max string }
 
 func (g *goalFlags) register(cmd *cobra.Command) {
-	cmd.Flags().StringVar(&g.min, "min", "", "a run is good when the metric is at least this (canonical unit)")
-	cmd.Flags().StringVar(&g.max, "max", "", "a run is good when the metric is at most this")
+	cmd.Flags().StringVar(&g.min, "min", "", "a run is good when the metric is at least this, in its canonical unit (fractions also as 30%)")
+	cmd.Flags().StringVar(&g.max, "max", "", "a run is good when the metric is at most this (as --min)")
 }
 
-func (g *goalFlags) goal() (store.Goal, error) {
+// goal reads --min and --max for metric: a number in the metric's
+// canonical unit, or for a fraction (coverage, transmittance_550) also a
+// percentage such as 30%.
+func (g *goalFlags) goal(metric string) (store.Goal, error) {
+	m, known := store.MetricByName(metric)
+	fraction := known && slices.Contains(m.Units(), "%")
 	out := store.NoGoal()
 	for _, p := range []struct {
 		flag, v string
@@ -101,13 +108,34 @@ func (g *goalFlags) goal() (store.Goal, error) {
 		if p.v == "" {
 			continue
 		}
-		x, err := strconv.ParseFloat(p.v, 64)
+		if fraction {
+			x, err := recipe.ParseFraction(p.v)
+			if err != nil {
+				return out, usagef("%s: %v; want a fraction such as 0.9 or a percentage such as 90%%", p.flag, err)
+			}
+			*p.into = store.Optional(x)
+			continue
+		}
+		x, err := strconv.ParseFloat(strings.TrimSpace(p.v), 64)
 		if err != nil || math.IsNaN(x) || math.IsInf(x, 0) {
-			return out, usagef("%s %q: want a number", p.flag, p.v)
+			unit := "its canonical unit"
+			if known {
+				unit = m.Unit
+			}
+			return out, usagef("%s %q: want a number in %s", p.flag, p.v, unit)
 		}
 		*p.into = store.Optional(x)
 	}
 	return out, nil
+}
+
+// metricFlag checks a --metric value: old spellings of the known metrics
+// are refused naming the new one; any other name is left to checkNames.
+func metricFlag(metric string) error {
+	if _, known := store.MetricByName(metric); known {
+		return nil
+	}
+	return oldSpelling("--metric", metric)
 }
 
 type runsBestOptions struct {
@@ -117,7 +145,7 @@ type runsBestOptions struct {
 	bins   int
 	goal   goalFlags
 	where  []string
-	output string
+	output outputFormat
 }
 
 func newRunsBestCmd(f *factory) *cobra.Command {
@@ -125,7 +153,7 @@ func newRunsBestCmd(f *factory) *cobra.Command {
 	cmd := &cobra.Command{
 		Use:     "best",
 		Short:   "Which parameter ranges gave good results: runs binned by one or two parameters",
-		Example: `  foilrun runs best --metric coverage --min 0.9 --by growth_temperature_c,ch4_flow_sccm --bins 5`,
+		Example: `  foilrun runs best --metric coverage --min 90% --by growth_temperature_c,ch4_flow_sccm --bins 5`,
 		Args:    cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			if opts.metric == "" || len(opts.by) == 0 {
@@ -137,18 +165,18 @@ func newRunsBestCmd(f *factory) *cobra.Command {
 			if opts.bins < 1 || opts.bins > 100 {
 				return usagef("--bins %d: want 1 to 100", opts.bins)
 			}
-			if err := checkFormat(opts.output); err != nil {
+			if err := metricFlag(opts.metric); err != nil {
 				return err
 			}
 			return runsBestRun(cmd.Context(), opts)
 		},
 	}
-	cmd.Flags().StringVar(&opts.metric, "metric", "", "outcome metric, e.g. coverage")
+	cmd.Flags().StringVar(&opts.metric, "metric", "", metricUsage)
 	cmd.Flags().StringSliceVar(&opts.by, "by", nil, "one or two recipe parameters, comma-separated")
 	cmd.Flags().IntVar(&opts.bins, "bins", 5, "equal-width bins per parameter")
 	cmd.Flags().StringArrayVar(&opts.where, "where", nil, "only runs matching this filter (repeatable)")
 	opts.goal.register(cmd)
-	cmd.Flags().StringVar(&opts.output, "output", formatTable, "output format: table, csv or json")
+	addOutputFlag(cmd, &opts.output)
 	return cmd
 }
 
@@ -193,7 +221,7 @@ type binJSON struct {
 }
 
 func runsBestRun(ctx context.Context, o *runsBestOptions) error {
-	goal, err := o.goal.goal()
+	goal, err := o.goal.goal(o.metric)
 	if err != nil {
 		return err
 	}
@@ -244,7 +272,7 @@ type runsRankOptions struct {
 	metric string
 	goal   goalFlags
 	where  []string
-	output string
+	output outputFormat
 }
 
 func newRunsRankCmd(f *factory) *cobra.Command {
@@ -262,16 +290,16 @@ lower is better: nuclei_density, raman_d_g, sheet_resistance).`,
 			if opts.metric == "" {
 				return usagef("runs rank needs --metric")
 			}
-			if err := checkFormat(opts.output); err != nil {
+			if err := metricFlag(opts.metric); err != nil {
 				return err
 			}
 			return runsRankRun(cmd.Context(), opts)
 		},
 	}
-	cmd.Flags().StringVar(&opts.metric, "metric", "", "outcome metric, e.g. coverage")
+	cmd.Flags().StringVar(&opts.metric, "metric", "", metricUsage)
 	cmd.Flags().StringArrayVar(&opts.where, "where", nil, "only runs matching this filter (repeatable)")
 	opts.goal.register(cmd)
-	cmd.Flags().StringVar(&opts.output, "output", formatTable, "output format: table, csv or json")
+	addOutputFlag(cmd, &opts.output)
 	return cmd
 }
 
@@ -287,7 +315,7 @@ type rankJSON struct {
 }
 
 func runsRankRun(ctx context.Context, o *runsRankOptions) error {
-	goal, err := o.goal.goal()
+	goal, err := o.goal.goal(o.metric)
 	if err != nil {
 		return err
 	}

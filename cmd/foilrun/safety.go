@@ -12,14 +12,14 @@ import (
 )
 
 type safetyOptions struct {
-	io     *streams
+	f      *factory
 	recipe string
 	flags  recipeFlags
-	output string
+	output outputFormat
 }
 
 func newSafetyCmd(f *factory) *cobra.Command {
-	opts := &safetyOptions{io: f.io}
+	opts := &safetyOptions{f: f}
 	cmd := &cobra.Command{
 		Use:   "safety RECIPE",
 		Short: "Flag hydrogen, methane and inert-gas hazards of a recipe in its room",
@@ -36,14 +36,11 @@ set-up.`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			opts.recipe = args[0]
-			if err := checkFormat(opts.output); err != nil {
-				return err
-			}
 			return safetyRun(opts)
 		},
 	}
 	opts.flags.register(cmd)
-	cmd.Flags().StringVar(&opts.output, "output", formatTable, "output format: table, csv or json")
+	addOutputFlag(cmd, &opts.output)
 	return cmd
 }
 
@@ -70,7 +67,7 @@ func safetyRun(opts *safetyOptions) error {
 	if err != nil {
 		return err
 	}
-	w := opts.io.Out
+	w := opts.f.io.Out
 	switch opts.output {
 	case formatJSON:
 		err = writeJSON(w, rep)

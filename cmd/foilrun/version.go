@@ -12,16 +12,23 @@ import (
 // otherwise the module version or VCS revision from the build info is shown.
 var version = ""
 
+type versionOptions struct{ f *factory }
+
 func newVersionCmd(f *factory) *cobra.Command {
+	opts := &versionOptions{f: f}
 	return &cobra.Command{
 		Use:   "version",
 		Short: "Print foilrun's version",
 		Args:  cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, args []string) error {
-			_, err := fmt.Fprintf(f.io.Out, "foilrun %s (%s, %s/%s)\n", versionString(), runtime.Version(), runtime.GOOS, runtime.GOARCH)
-			return err
+			return versionRun(opts)
 		},
 	}
+}
+
+func versionRun(o *versionOptions) error {
+	_, err := fmt.Fprintf(o.f.io.Out, "foilrun %s (%s, %s/%s)\n", versionString(), runtime.Version(), runtime.GOOS, runtime.GOARCH)
+	return err
 }
 
 func versionString() string {

@@ -4,20 +4,20 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"slices"
 	"strings"
-	"time"
 
-	"github.com/schollz/progressbar/v3"
 	"github.com/spf13/cobra"
 
 	"github.com/foilrun/foilrun/kinetics"
 )
 
-// What `foilrun window --show` can map.
-var windowShows = []string{"coverage", "density", "domain-size", "time-to-99"}
+// What `foilrun window --show` can map: the stored metrics' names, and
+// time_to_99.
+var windowShows = []string{"coverage", "nuclei_density", "domain_size", "time_to_99"}
 
 type windowOptions struct {
-	io     *streams
+	f      *factory
 	recipe string
 	flags  recipeFlags
 	vary   []string
@@ -26,12 +26,12 @@ type windowOptions struct {
 }
 
 func newWindowCmd(f *factory) *cobra.Command {
-	opts := &windowOptions{io: f.io}
+	opts := &windowOptions{f: f}
 	cmd := &cobra.Command{
 		Use:   "window RECIPE --vary PARAM=FROM:TO:STEPS --vary PARAM=FROM:TO:STEPS",
 		Short: "Map a predicted quantity over two grow-step parameters",
 		Long: `Map a predicted quantity over a grid of two parameters of the recipe's first grow
-step: temperature, pressure, duration or a gas flow (by gas name, e.g. CH4).
+step: temperature, pressure, duration or a gas flow (by gas symbol, e.g. CH4).
 Each grid point is the recipe with the grow step changed, checked against the
 furnace like foilrun check (points with check errors are marked infeasible)
 and predicted like foilrun predict. Ranges carry units:
@@ -39,8 +39,8 @@ and predicted like foilrun predict. Ranges carry units:
   --vary temperature=950C:1050C:11   --vary CH4=1sccm:40sccm:10
   --vary duration=1min:30min:12      --vary pressure=100mTorr:2Torr:8
 
---show picks the quantity: coverage (%), density (nuclei per mm2),
-domain-size (um) or time-to-99 (min of growth to 99 % coverage). The map is
+--show picks the quantity: coverage (%), nuclei_density (nuclei per mm2),
+domain_size (um) or time_to_99 (min of growth to 99 % coverage). The map is
 computed on all cores; a progress bar shows on a terminal.`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
@@ -51,11 +51,10 @@ computed on all cores; a progress bar shows on a terminal.`,
 			if len(opts.vary) != 2 {
 				return usagef("want exactly two --vary PARAM=FROM:TO:STEPS, got %d", len(opts.vary))
 			}
-			known := false
-			for _, s := range windowShows {
-				known = known || s == opts.show
-			}
-			if !known {
+			if !slices.Contains(windowShows, opts.show) {
+				if err := oldSpelling("--show", opts.show); err != nil {
+					return err
+				}
 				return usagef("--show %q: want %s", opts.show, strings.Join(windowShows, ", "))
 			}
 			return windowRun(opts)
@@ -72,11 +71,11 @@ computed on all cores; a progress bar shows on a terminal.`,
 // when it has no value (e.g. 99 % never reached).
 func showValue(show string, p kinetics.Point) float64 {
 	switch show {
-	case "density":
+	case "nuclei_density":
 		return p.NucleiDensity * 1e-6
-	case "domain-size":
+	case "domain_size":
 		return p.DomainSize * 1e6
-	case "time-to-99":
+	case "time_to_99":
 		return p.T99 / 60
 	}
 	return p.Coverage * 100
@@ -84,11 +83,11 @@ func showValue(show string, p kinetics.Point) float64 {
 
 func showLabel(show string) string {
 	switch show {
-	case "density":
+	case "nuclei_density":
 		return "nuclei per mm2"
-	case "domain-size":
+	case "domain_size":
 		return "domain size (um)"
-	case "time-to-99":
+	case "time_to_99":
 		return "time to 99 % (min)"
 	}
 	return "coverage (%)"
@@ -124,6 +123,9 @@ func windowRun(opts *windowOptions) error {
 	var axes [2]kinetics.Axis
 	for i, v := range opts.vary {
 		a, err := kinetics.ParseAxis(v)
+		if err != nil && hintOf(err) != "" {
+			return err // the library's own hint says what to write
+		}
 		if err != nil {
 			return withHint(err, "write --vary PARAM=FROM:TO:STEPS with PARAM temperature, pressure, duration or a gas, e.g. --vary temperature=950C:1050C:11")
 		}
@@ -138,19 +140,10 @@ func windowRun(opts *windowOptions) error {
 		return err
 	}
 	spec := kinetics.WindowSpec{X: axes[0], Y: axes[1], Params: params}
-	var bar *progressbar.ProgressBar
-	if opts.io.ErrTTY {
-		bar = progressbar.NewOptions(axes[0].Steps*axes[1].Steps,
-			progressbar.OptionSetWriter(opts.io.Err),
-			progressbar.OptionSetVisibility(true),
-			progressbar.OptionSetDescription("window"), progressbar.OptionShowCount(),
-			progressbar.OptionThrottle(50*time.Millisecond), progressbar.OptionClearOnFinish())
-		spec.Progress = func(done, total int) { _ = bar.Set(done) }
-	}
+	bar := opts.f.io.progress("window")
+	spec.Progress = bar.report()
 	m, err := kinetics.Window(plan, spec)
-	if bar != nil {
-		_ = bar.Finish()
-	}
+	bar.finish()
 	if err != nil {
 		return err
 	}
@@ -172,15 +165,16 @@ func windowRun(opts *windowOptions) error {
 		res.Points[i].Interval = ivs[i]
 	}
 	if ivs != nil && opts.output == formatTable {
-		fmt.Fprintln(opts.io.Err, "90 % intervals of every point are in --output json")
+		fmt.Fprintln(opts.f.io.Err, "90 % intervals of every point are in --output json")
 	}
+	w := opts.f.io.Out
 	switch opts.output {
 	case formatJSON:
-		err = writeJSON(opts.io.Out, res)
+		err = writeJSON(w, res)
 	case formatCSV:
-		err = writeCSV(opts.io.Out, windowLongTable(res))
+		err = writeCSV(w, windowLongTable(res))
 	default:
-		err = printWindow(opts.io.Out, m, opts.show)
+		err = printWindow(w, m, opts.show)
 	}
 	if err != nil {
 		return err
@@ -203,7 +197,7 @@ func windowRun(opts *windowOptions) error {
 		if err := writeHeatMap(opts.plot, title, m.X.Label(), m.Y.Label(), showLabel(opts.show), xs, ys, z, blocked); err != nil {
 			return err
 		}
-		fmt.Fprintf(opts.io.Err, "wrote %s\n", opts.plot)
+		fmt.Fprintf(opts.f.io.Err, "wrote %s\n", opts.plot)
 	}
 	return nil
 }
@@ -250,7 +244,7 @@ func printWindow(w io.Writer, m *kinetics.Map, show string) error {
 	if err := writeTable(w, t); err != nil {
 		return err
 	}
-	if show == "time-to-99" {
+	if show == "time_to_99" {
 		fmt.Fprintln(w, "-: 99 % coverage not reached")
 	}
 	for _, r := range order {
