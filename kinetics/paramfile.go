@@ -16,8 +16,8 @@ import (
 // The parameter file is YAML with one line per parameter; quantities carry
 // units, parsed here into SI:
 //
-//	nucleation_energy: -1.5 eV        # En (eV, meV, kJ/mol)
-//	nucleation_prefactor: 50 /m2/s    # I0 (/m2/s, /cm2/s, /mm2/s, /um2/s)
+//	nucleation_energy: -1.5 eV        # En (eV, meV, kJ/mol, kcal/mol, J)
+//	nucleation_prefactor: 50 /m2/s    # I0 (/m2/s, /cm2/s, /mm2/s, /um2/s, …/min)
 //	methane_order: 2.5                # a
 //	hydrogen_order: 2                 # b
 //	growth_energy: 4.5 eV             # Eg
@@ -25,7 +25,7 @@ import (
 //	reference_pressure: 100 Pa        # p0 (any pressure unit of recipe files)
 //	shape: round                      # round or hexagonal (default round)
 //	mode: continuous                  # continuous or site-saturated (default continuous)
-//	site_density: 1e4 /mm2            # N0, required in site-saturated mode (/m2, /cm2, /mm2, /um2)
+//	site_density: 1e4 /mm2            # N0, required in site-saturated mode (/m2, /cm2, /mm2, /um2, mm-2)
 //	source: fit of 12 runs            # optional metadata
 //	runs: 12
 //	date: 2026-03-02
@@ -33,55 +33,38 @@ import (
 //	  parameters: [nucleation_energy, growth_energy]
 //	  matrix: [[0.01, 0.002], [0.002, 0.02]]
 //
-// The seven model numbers are required; unknown fields are errors.
+// Units are those of recipe.Parse for the dimension (energy, rate per
+// area, speed, pressure, density per area). The seven model numbers are
+// required; unknown fields are errors.
 
-// paramKind is how one kind of parameter value is written.
-type paramKind struct {
-	name    string             // "an energy"
-	example string             // "1.2 eV"
-	units   map[string]float64 // unit → SI factor
-	list    string             // for messages
-	canon   string             // unit FormatParams writes
+// paramDims are the dimensions of the file's quantities; each is parsed
+// by recipe.Parse, so every unit recipe files accept for the dimension is
+// accepted here.
+var paramDims = map[string]recipe.Dimension{
+	"nucleation_energy":    recipe.Energy,
+	"nucleation_prefactor": recipe.AreaRate,
+	"growth_energy":        recipe.Energy,
+	"growth_prefactor":     recipe.Speed,
+	"reference_pressure":   recipe.Pressure,
+	"site_density":         recipe.AreaDensity,
 }
 
-// electronvoltPerKJmol converts kJ/mol to eV per particle: 1000/(e·N_A).
-const electronvoltPerKJmol = 1000 / (ElementaryCharge * 6.02214076e23)
-
-var (
-	energyKind = paramKind{"an energy", "1.2 eV", map[string]float64{"eV": 1, "meV": 1e-3, "kJ/mol": electronvoltPerKJmol}, "eV, meV, kJ/mol", "eV"}
-	rateKind   = paramKind{"a nucleation rate", "50 /m2/s", map[string]float64{"/m2/s": 1, "/cm2/s": 1e4, "/mm2/s": 1e6, "/um2/s": 1e12}, "/m2/s, /cm2/s, /mm2/s, /um2/s", "/m2/s"}
-	speedKind  = paramKind{"a speed", "1e11 m/s", map[string]float64{"m/s": 1, "mm/s": 1e-3, "um/s": 1e-6, "µm/s": 1e-6, "nm/s": 1e-9, "um/min": 1e-6 / 60, "µm/min": 1e-6 / 60, "mm/min": 1e-3 / 60}, "m/s, mm/s, um/s, nm/s, um/min, mm/min", "m/s"}
-	areaKind   = paramKind{"a density per area", "1e4 /mm2", map[string]float64{"/m2": 1, "/cm2": 1e4, "/mm2": 1e6, "/um2": 1e12}, "/m2, /cm2, /mm2, /um2", "/m2"}
-)
-
-// parse reads "number unit" (the unit may follow without a space).
-func (k paramKind) parse(text string) (float64, error) {
-	s := strings.TrimSpace(text)
-	num, unit := "", ""
-	for i := len(s); i > 0; i-- {
-		if _, err := strconv.ParseFloat(s[:i], 64); err == nil {
-			num, unit = s[:i], strings.TrimSpace(s[i:])
-			break
-		}
+// parseParamValue reads a quantity of the dimension and returns it in the
+// unit Params holds it in: eV for energies (Params' unit, the trade's),
+// SI otherwise. A value written in eV is read as written, so that
+// FormatParams round-trips bit for bit (x·e/e is not always x).
+func parseParamValue(text string, dim recipe.Dimension) (float64, error) {
+	q, err := recipe.Parse(text, dim)
+	if err != nil {
+		return 0, err
 	}
-	if num == "" {
-		return 0, fmt.Errorf("%q does not start with a number, want %s such as %q", text, k.name, k.example)
+	if dim != recipe.Energy {
+		return q.SI, nil
 	}
-	v, _ := strconv.ParseFloat(num, 64)
-	if math.IsNaN(v) || math.IsInf(v, 0) {
-		return 0, fmt.Errorf("%q: %q is not a finite number", text, num)
+	if num, unit := recipe.SplitNumber(strings.TrimSpace(text)); strings.TrimSpace(unit) == "eV" {
+		return strconv.ParseFloat(num, 64)
 	}
-	if unit == "" {
-		return 0, fmt.Errorf("%q has no unit, want %s such as %q (units: %s)", text, k.name, k.example, k.list)
-	}
-	f, ok := k.units[strings.TrimPrefix(strings.ReplaceAll(unit, " ", ""), "1/")]
-	if !ok {
-		f, ok = k.units["/"+strings.TrimPrefix(strings.ReplaceAll(unit, " ", ""), "1/")]
-	}
-	if !ok {
-		return 0, fmt.Errorf("%q has unknown unit %q, want %s such as %q (units: %s)", text, unit, k.name, k.example, k.list)
-	}
-	return v * f, nil
+	return recipe.In(q.SI, "eV")
 }
 
 // LoadParams reads and validates a parameter file.
@@ -141,11 +124,11 @@ func ParseParams(name string, data []byte) (Params, error) {
 		}
 		return true
 	}
-	quantity := func(key string, v *yaml.Node, k paramKind, dst *float64) {
+	quantity := func(key string, v *yaml.Node, dst *float64) {
 		if !scalar(key, v) {
 			return
 		}
-		x, err := k.parse(v.Value)
+		x, err := parseParamValue(v.Value, paramDims[key])
 		if err != nil {
 			at(v, key+" "+err.Error(), "")
 			return
@@ -173,26 +156,19 @@ func ParseParams(name string, data []byte) (Params, error) {
 		seen[key] = k
 		switch key {
 		case "nucleation_energy":
-			quantity(key, v, energyKind, &p.En)
+			quantity(key, v, &p.En)
 		case "nucleation_prefactor":
-			quantity(key, v, rateKind, &p.I0)
+			quantity(key, v, &p.I0)
 		case "methane_order":
 			number(key, v, &p.A)
 		case "hydrogen_order":
 			number(key, v, &p.B)
 		case "growth_energy":
-			quantity(key, v, energyKind, &p.Eg)
+			quantity(key, v, &p.Eg)
 		case "growth_prefactor":
-			quantity(key, v, speedKind, &p.G0)
+			quantity(key, v, &p.G0)
 		case "reference_pressure":
-			if scalar(key, v) {
-				q, err := recipe.Parse(v.Value, recipe.Pressure)
-				if err != nil {
-					at(v, key+" "+err.Error(), "")
-				} else {
-					p.P0 = q.SI
-				}
-			}
+			quantity(key, v, &p.P0)
 		case "shape":
 			if scalar(key, v) {
 				switch Shape(v.Value) {
@@ -212,7 +188,7 @@ func ParseParams(name string, data []byte) (Params, error) {
 				}
 			}
 		case "site_density":
-			quantity(key, v, areaKind, &p.SiteDensity)
+			quantity(key, v, &p.SiteDensity)
 		case "source":
 			if scalar(key, v) {
 				p.Source = v.Value
@@ -364,18 +340,28 @@ func parseCovariance(v *yaml.Node) (*Covariance, []nodeMsg) {
 }
 
 // FormatParams writes p as a parameter file that ParseParams reads back to
-// the same values (numbers in SI units, shortest exact form).
+// the same values (energies in eV, the rest in SI units, shortest exact
+// form, written by recipe.Format).
 func FormatParams(p Params) []byte {
 	var b bytes.Buffer
 	g := func(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
+	// si writes an SI value in a unit of scale 1, so Parse reads it back
+	// exactly; a non-finite value (never in validated parameters) is
+	// written as Go formats it and fails to parse.
+	si := func(v float64, unit string) string {
+		if text, err := recipe.Format(v, unit); err == nil {
+			return text
+		}
+		return g(v) + " " + unit
+	}
 	b.WriteString("# foilrun kinetics parameters (SI units; see foilrun predict --help)\n")
 	fmt.Fprintf(&b, "nucleation_energy: %s eV\n", g(p.En))
-	fmt.Fprintf(&b, "nucleation_prefactor: %s /m2/s\n", g(p.I0))
+	fmt.Fprintf(&b, "nucleation_prefactor: %s\n", si(p.I0, "/m2/s"))
 	fmt.Fprintf(&b, "methane_order: %s\n", g(p.A))
 	fmt.Fprintf(&b, "hydrogen_order: %s\n", g(p.B))
 	fmt.Fprintf(&b, "growth_energy: %s eV\n", g(p.Eg))
-	fmt.Fprintf(&b, "growth_prefactor: %s m/s\n", g(p.G0))
-	fmt.Fprintf(&b, "reference_pressure: %s Pa\n", g(p.P0))
+	fmt.Fprintf(&b, "growth_prefactor: %s\n", si(p.G0, "m/s"))
+	fmt.Fprintf(&b, "reference_pressure: %s\n", si(p.P0, "Pa"))
 	if p.Shape != "" {
 		fmt.Fprintf(&b, "shape: %s\n", p.Shape)
 	}
@@ -383,7 +369,7 @@ func FormatParams(p Params) []byte {
 		fmt.Fprintf(&b, "mode: %s\n", p.Mode)
 	}
 	if p.SiteDensity != 0 {
-		fmt.Fprintf(&b, "site_density: %s /m2\n", g(p.SiteDensity))
+		fmt.Fprintf(&b, "site_density: %s\n", si(p.SiteDensity, "/m2"))
 	}
 	if p.Source != "" {
 		fmt.Fprintf(&b, "source: %s\n", strconv.Quote(p.Source))

@@ -76,9 +76,9 @@ func TestParamsStrict(t *testing.T) {
 			`load params "p.yaml": line 8 col 1: unknown field "growth_energie" in the params file
   hint: known fields: nucleation_energy, nucleation_prefactor, methane_order, hydrogen_order, growth_energy, growth_prefactor, reference_pressure, shape, mode, site_density, source, runs, date, covariance`},
 		{"bad unit", strings.Replace(goodParams, "4.5 eV", "4.5 eJ", 1),
-			`load params "p.yaml": line 5 col 16: growth_energy "4.5 eJ" has unknown unit "eJ", want an energy such as "1.2 eV" (units: eV, meV, kJ/mol)`},
+			`load params "p.yaml": line 5 col 16: growth_energy "4.5 eJ" has unknown unit "eJ", want a energy such as "1.2 eV" (units: eV, meV, kJ/mol, J)`},
 		{"no unit", strings.Replace(goodParams, "1.1e11 m/s", "1.1e11", 1),
-			`load params "p.yaml": line 6 col 19: growth_prefactor "1.1e11" has no unit, want a speed such as "1e11 m/s" (units: m/s, mm/s, um/s, nm/s, um/min, mm/min)`},
+			`load params "p.yaml": line 6 col 19: growth_prefactor "1.1e11" has no unit, want a speed such as "2 um/min" (units: m/s, mm/s, um/s, nm/s, um/min, mm/min)`},
 		{"bad number", strings.Replace(goodParams, "2.5", "two", 1),
 			`load params "p.yaml": line 3 col 16: methane_order "two" is not a finite number
   hint: write a plain number such as 2`},

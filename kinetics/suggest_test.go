@@ -27,15 +27,21 @@ func TestParseTarget(t *testing.T) {
 		v       float64
 		wantErr string
 	}{
-		{"coverage>=0.99", TargetCoverage, true, 0.99, ""},
-		{"coverage>=99%", TargetCoverage, true, 0.99, ""},
-		{"domain-size>=40um", TargetDomainSize, true, 40e-6, ""},
-		{"domain_size >= 0.1 mm", TargetDomainSize, true, 1e-4, ""},
-		{"nuclei-density<=100/mm2", TargetNucleiDensity, false, 1e8, ""},
+		{"coverage>=0.99", MetricCoverage, true, 0.99, ""},
+		{"coverage>=99%", MetricCoverage, true, 0.99, ""},
+		{"coverage>=95 %", MetricCoverage, true, 0.95, ""},
+		{"domain_size>=40um", MetricDomainSize, true, 40e-6, ""},
+		{"domain_size >= 0.1 mm", MetricDomainSize, true, 1e-4, ""},
+		{"nuclei_density<=100/mm2", MetricNucleiDensity, false, 1e8, ""}, // 1 /mm2 = 1e6 /m2 (SI prefix)
+		{"nuclei_density<=100 mm-2", MetricNucleiDensity, false, 1e8, ""},
+		{"Coverage>=0.5", MetricCoverage, true, 0.5, ""},
 		{"coverage>=1", "", false, 0, "strictly between 0 and 1"},
-		{"coverage=0.9", "", false, 0, "want QUANTITY>=VALUE"},
-		{"domain-size>=40", "", false, 0, "needs a length unit"},
-		{"layers>=1", "", false, 0, `unknown quantity "layers"`},
+		{"coverage>=100%", "", false, 0, "strictly between 0 and 1"},
+		{"coverage=0.9", "", false, 0, "want METRIC>=VALUE"},
+		{"domain_size>=40", "", false, 0, `"40" has no unit, want a length`},
+		{"domain_size>=-1um", "", false, 0, "greater than zero"},
+		{"nuclei_density<=1e308/um2", "", false, 0, "too large"},
+		{"layers>=1", "", false, 0, `unknown metric "layers"`},
 	} {
 		tg, err := ParseTarget(c.in)
 		if c.wantErr != "" {
@@ -69,7 +75,7 @@ func checkSuggested(t *testing.T, sug *Suggestion, plan *recipe.Plan, spec Sugge
 		t.Fatal(err)
 	}
 	for _, tg := range spec.Targets {
-		got := map[string]float64{TargetCoverage: res.Coverage, TargetDomainSize: res.DomainSize, TargetNucleiDensity: res.NucleiDensity}[tg.Quantity]
+		got := map[string]float64{MetricCoverage: res.Coverage, MetricDomainSize: res.DomainSize, MetricNucleiDensity: res.NucleiDensity}[tg.Quantity]
 		if tg.AtLeast && got < tg.Value || !tg.AtLeast && got > tg.Value {
 			t.Errorf("target %s: suggested recipe predicts %g", tg.Text, got)
 		}
@@ -90,7 +96,7 @@ func TestSuggestBeatsFineGrid(t *testing.T) {
 		minimize string
 	}{
 		{"fastest full coverage", []string{"coverage>=0.99"}, MinimizeTime},
-		{"large domains, least methane", []string{"coverage>=0.95", "domain-size>=15um"}, MinimizeMethane},
+		{"large domains, least methane", []string{"coverage>=0.95", "domain_size>=15um"}, MinimizeMethane},
 	} {
 		t.Run(c.name, func(t *testing.T) {
 			spec := SuggestSpec{Params: DefaultParams(), Minimize: c.minimize}
@@ -168,7 +174,7 @@ func TestSuggestConfidence(t *testing.T) {
 // and the limits that bind.
 func TestSuggestImpossible(t *testing.T) {
 	plan := loadTemplate(t, "lowpressure")
-	spec := SuggestSpec{Params: DefaultParams(), Targets: []Target{mustTarget(t, "domain-size>=5mm")}}
+	spec := SuggestSpec{Params: DefaultParams(), Targets: []Target{mustTarget(t, "domain_size>=5mm")}}
 	sug, err := Suggest(plan, spec)
 	if err != nil {
 		t.Fatal(err)
