@@ -245,7 +245,7 @@ func (s *searcher) changed(c Candidate) (*recipe.Recipe, []Change) {
 		case recipe.Temperature:
 			ch = append(ch, Change{Field: ParamTemperature, Text: strconv.FormatFloat(recipe.Celsius(v), 'f', 1, 64) + " C", SI: v})
 		case recipe.Pressure:
-			ch = append(ch, Change{Field: ParamPressure, Text: strconv.FormatFloat(v, 'g', 3, 64) + " Pa", SI: v})
+			ch = append(ch, Change{Field: ParamPressure, Text: strconv.FormatFloat(v, 'f', -1, 64) + " Pa", SI: v})
 		default:
 			ch = append(ch, Change{Field: "flows." + a.name, Text: strconv.FormatFloat(v/gas.MolPerSCCMPerSecond, 'g', 3, 64) + " sccm", SI: v})
 		}

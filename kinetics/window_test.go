@@ -3,6 +3,7 @@ package kinetics
 import (
 	"errors"
 	"math"
+	"strings"
 	"testing"
 )
 
@@ -45,6 +46,35 @@ func TestBadAxis(t *testing.T) {
 		if err == nil || err.Error() != c.want || !errors.Is(err, ErrAxis) {
 			t.Errorf("%s:\ngot  %v\nwant %s", c.spec, err, c.want)
 		}
+	}
+}
+
+// Axis values hit both ends exactly and stay inside the range, and
+// non-finite ends are refused: the inputs CI's fuzzing found (also in
+// testdata/fuzz/FuzzParseAxis).
+func TestAxisValuesExact(t *testing.T) {
+	for _, c := range []struct{ name, spec, wantErr string }{
+		{"falling to zero flow", "CH4=1sccm:0sccm:14", ""},
+		{"falling temperature", "temperature=1050C:950C:7", ""},
+		{"many steps", "duration=1s:1e7s:9999", ""},
+		{"infinite from", "duration=1e308h:1h:2", "too large to hold"},
+		{"too many steps", "duration=1min:2min:10001", "want 2 to 10000 steps"},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			a, err := ParseAxis(c.spec)
+			if c.wantErr != "" {
+				if err == nil || !strings.Contains(err.Error(), c.wantErr) || !errors.Is(err, ErrAxis) {
+					t.Errorf("got %v, want an ErrAxis containing %q", err, c.wantErr)
+				}
+				return
+			}
+			if err != nil {
+				t.Fatal(err)
+			}
+			if msg := checkAxisValues(a); msg != "" {
+				t.Error(msg)
+			}
+		})
 	}
 }
 
