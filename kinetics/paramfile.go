@@ -90,155 +90,179 @@ var freeParams = paramFields[:7]
 // problem is reported, each with its line and column, in a
 // *recipe.LoadError (which wraps recipe.ErrInvalid).
 func ParseParams(name string, data []byte) (Params, error) {
-	var ps []recipe.Problem
-	at := func(n *yaml.Node, msg, hint string) {
-		p := recipe.Problem{Msg: msg, Hint: hint}
-		if n != nil {
-			p.Pos = recipe.Pos{Line: n.Line, Col: n.Column}
-		}
-		ps = append(ps, p)
-	}
+	d := &paramDecoder{seen: map[string]*yaml.Node{}}
 	fail := func() (Params, error) {
-		return Params{}, &recipe.LoadError{What: "params", File: name, Problems: ps}
+		return Params{}, &recipe.LoadError{What: "params", File: name, Problems: d.ps}
 	}
 	if len(bytes.TrimSpace(data)) == 0 {
-		at(nil, "the file is empty", "list the seven model parameters, one per line, such as \"growth_energy: 4.5 eV\"")
+		d.at(nil, "the file is empty", "list the seven model parameters, one per line, such as \"growth_energy: 4.5 eV\"")
 		return fail()
 	}
 	var doc yaml.Node
 	if err := yaml.Unmarshal(data, &doc); err != nil {
-		at(nil, "not valid YAML: "+strings.TrimPrefix(err.Error(), "yaml: "), "")
+		d.at(nil, "not valid YAML: "+strings.TrimPrefix(err.Error(), "yaml: "), "")
 		return fail()
 	}
 	if len(doc.Content) != 1 || doc.Content[0].Kind != yaml.MappingNode {
-		at(&doc, "the params file must be a single mapping of field: value lines", "")
+		d.at(&doc, "the params file must be a single mapping of field: value lines", "")
 		return fail()
 	}
 	root := doc.Content[0]
-	var p Params
-	seen := map[string]*yaml.Node{}
-	scalar := func(key string, v *yaml.Node) bool {
-		if v.Kind != yaml.ScalarNode {
-			at(v, key+" must be a single value, not a list or mapping", "")
-			return false
-		}
-		return true
-	}
-	quantity := func(key string, v *yaml.Node, dst *float64) {
-		if !scalar(key, v) {
-			return
-		}
-		x, err := parseParamValue(v.Value, paramDims[key])
-		if err != nil {
-			at(v, key+" "+err.Error(), "")
-			return
-		}
-		*dst = x
-	}
-	number := func(key string, v *yaml.Node, dst *float64) {
-		if !scalar(key, v) {
-			return
-		}
-		x, err := strconv.ParseFloat(strings.TrimSpace(v.Value), 64)
-		if err != nil || math.IsNaN(x) || math.IsInf(x, 0) {
-			at(v, fmt.Sprintf("%s %q is not a finite number", key, v.Value), "write a plain number such as 2")
-			return
-		}
-		*dst = x
-	}
 	for i := 0; i+1 < len(root.Content); i += 2 {
 		k, v := root.Content[i], root.Content[i+1]
-		key := k.Value
-		if seen[key] != nil {
-			at(k, fmt.Sprintf("field %q is given twice", key), "")
+		if d.seen[k.Value] != nil {
+			d.at(k, fmt.Sprintf("field %q is given twice", k.Value), "")
 			continue
 		}
-		seen[key] = k
-		switch key {
-		case "nucleation_energy":
-			quantity(key, v, &p.En)
-		case "nucleation_prefactor":
-			quantity(key, v, &p.I0)
-		case "methane_order":
-			number(key, v, &p.A)
-		case "hydrogen_order":
-			number(key, v, &p.B)
-		case "growth_energy":
-			quantity(key, v, &p.Eg)
-		case "growth_prefactor":
-			quantity(key, v, &p.G0)
-		case "reference_pressure":
-			quantity(key, v, &p.P0)
-		case "shape":
-			if scalar(key, v) {
-				switch Shape(v.Value) {
-				case Round, Hexagonal:
-					p.Shape = Shape(v.Value)
-				default:
-					at(v, fmt.Sprintf("shape %q is not round or hexagonal", v.Value), "")
-				}
-			}
-		case "mode":
-			if scalar(key, v) {
-				switch Mode(v.Value) {
-				case Continuous, SiteSaturated:
-					p.Mode = Mode(v.Value)
-				default:
-					at(v, fmt.Sprintf("mode %q is not continuous or site-saturated", v.Value), "")
-				}
-			}
-		case "site_density":
-			quantity(key, v, &p.SiteDensity)
-		case "source":
-			if scalar(key, v) {
-				p.Source = v.Value
-			}
-		case "date":
-			if scalar(key, v) {
-				p.Date = v.Value
-			}
-		case "runs":
-			if scalar(key, v) {
-				n, err := strconv.Atoi(v.Value)
-				if err != nil || n < 0 {
-					at(v, fmt.Sprintf("runs %q is not a whole number of runs", v.Value), "")
-				} else {
-					p.Runs = n
-				}
-			}
-		case "covariance":
-			c, msgs := parseCovariance(v)
-			for _, m := range msgs {
-				at(m.n, m.msg, "")
-			}
-			p.Covariance = c
-		default:
-			at(k, fmt.Sprintf("unknown field %q in the params file", key), "known fields: "+strings.Join(paramFields, ", "))
-		}
+		d.seen[k.Value] = k
+		d.field(k, v)
 	}
+	d.complete(root)
+	if len(d.ps) > 0 {
+		return fail()
+	}
+	return d.p, nil
+}
+
+// paramDecoder collects a parameter file's values and its problems.
+type paramDecoder struct {
+	p    Params
+	ps   []recipe.Problem
+	seen map[string]*yaml.Node // key nodes by key
+}
+
+// at records a problem at a node (nil: the whole file).
+func (d *paramDecoder) at(n *yaml.Node, msg, hint string) {
+	p := recipe.Problem{Msg: msg, Hint: hint}
+	if n != nil {
+		p.Pos = recipe.Pos{Line: n.Line, Col: n.Column}
+	}
+	d.ps = append(d.ps, p)
+}
+
+// scalar reports whether v is a single value, recording a problem if not.
+func (d *paramDecoder) scalar(key string, v *yaml.Node) bool {
+	if v.Kind != yaml.ScalarNode {
+		d.at(v, key+" must be a single value, not a list or mapping", "")
+		return false
+	}
+	return true
+}
+
+// quantity reads a value with a unit of the key's dimension.
+func (d *paramDecoder) quantity(key string, v *yaml.Node, dst *float64) {
+	if !d.scalar(key, v) {
+		return
+	}
+	x, err := parseParamValue(v.Value, paramDims[key])
+	if err != nil {
+		d.at(v, key+" "+err.Error(), "")
+		return
+	}
+	*dst = x
+}
+
+// number reads a plain finite number.
+func (d *paramDecoder) number(key string, v *yaml.Node, dst *float64) {
+	if !d.scalar(key, v) {
+		return
+	}
+	x, err := strconv.ParseFloat(strings.TrimSpace(v.Value), 64)
+	if err != nil || math.IsNaN(x) || math.IsInf(x, 0) {
+		d.at(v, fmt.Sprintf("%s %q is not a finite number", key, v.Value), "write a plain number such as 2")
+		return
+	}
+	*dst = x
+}
+
+// field decodes one key: value line.
+func (d *paramDecoder) field(k, v *yaml.Node) {
+	p := &d.p
+	switch key := k.Value; key {
+	case "nucleation_energy":
+		d.quantity(key, v, &p.En)
+	case "nucleation_prefactor":
+		d.quantity(key, v, &p.I0)
+	case "methane_order":
+		d.number(key, v, &p.A)
+	case "hydrogen_order":
+		d.number(key, v, &p.B)
+	case "growth_energy":
+		d.quantity(key, v, &p.Eg)
+	case "growth_prefactor":
+		d.quantity(key, v, &p.G0)
+	case "reference_pressure":
+		d.quantity(key, v, &p.P0)
+	case "shape":
+		if d.scalar(key, v) {
+			switch Shape(v.Value) {
+			case Round, Hexagonal:
+				p.Shape = Shape(v.Value)
+			default:
+				d.at(v, fmt.Sprintf("shape %q is not round or hexagonal", v.Value), "")
+			}
+		}
+	case "mode":
+		if d.scalar(key, v) {
+			switch Mode(v.Value) {
+			case Continuous, SiteSaturated:
+				p.Mode = Mode(v.Value)
+			default:
+				d.at(v, fmt.Sprintf("mode %q is not continuous or site-saturated", v.Value), "")
+			}
+		}
+	case "site_density":
+		d.quantity(key, v, &p.SiteDensity)
+	case "source":
+		if d.scalar(key, v) {
+			p.Source = v.Value
+		}
+	case "date":
+		if d.scalar(key, v) {
+			p.Date = v.Value
+		}
+	case "runs":
+		if d.scalar(key, v) {
+			n, err := strconv.Atoi(v.Value)
+			if err != nil || n < 0 {
+				d.at(v, fmt.Sprintf("runs %q is not a whole number of runs", v.Value), "")
+			} else {
+				p.Runs = n
+			}
+		}
+	case "covariance":
+		c, msgs := parseCovariance(v)
+		for _, m := range msgs {
+			d.at(m.n, m.msg, "")
+		}
+		p.Covariance = c
+	default:
+		d.at(k, fmt.Sprintf("unknown field %q in the params file", key), "known fields: "+strings.Join(paramFields, ", "))
+	}
+}
+
+// complete checks what no single line shows: missing required fields,
+// site_density for site-saturated mode, prefactors above zero.
+func (d *paramDecoder) complete(root *yaml.Node) {
 	for _, key := range freeParams {
-		if seen[key] == nil {
-			at(root, fmt.Sprintf("missing required field %q in the params file", key), "add a line \""+key+": …\"")
+		if d.seen[key] == nil {
+			d.at(root, fmt.Sprintf("missing required field %q in the params file", key), "add a line \""+key+": …\"")
 		}
 	}
-	if p.Mode == SiteSaturated && seen["site_density"] == nil {
-		at(root, "mode site-saturated needs site_density", "add a line such as \"site_density: 1e4 /mm2\"")
+	if d.p.Mode == SiteSaturated && d.seen["site_density"] == nil {
+		d.at(root, "mode site-saturated needs site_density", "add a line such as \"site_density: 1e4 /mm2\"")
 	}
-	if len(ps) == 0 {
+	if len(d.ps) == 0 {
 		positive := []struct {
 			key string
 			v   float64
-		}{{"nucleation_prefactor", p.I0}, {"growth_prefactor", p.G0}, {"reference_pressure", p.P0}, {"site_density", p.SiteDensity}}
+		}{{"nucleation_prefactor", d.p.I0}, {"growth_prefactor", d.p.G0}, {"reference_pressure", d.p.P0}, {"site_density", d.p.SiteDensity}}
 		for _, c := range positive {
-			if n := seen[c.key]; n != nil && !(c.v > 0) {
-				at(valueOf(root, n), fmt.Sprintf("%s %q must be greater than zero", c.key, valueOf(root, n).Value), "")
+			if n := d.seen[c.key]; n != nil && !(c.v > 0) {
+				d.at(valueOf(root, n), fmt.Sprintf("%s %q must be greater than zero", c.key, valueOf(root, n).Value), "")
 			}
 		}
 	}
-	if len(ps) > 0 {
-		return fail()
-	}
-	return p, nil
 }
 
 // valueOf returns the value node of a key node in a mapping.
