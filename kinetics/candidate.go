@@ -124,22 +124,14 @@ func (c *Candidate) get(a axisRange) float64 {
 	return c.Flows[a.name]
 }
 
+// axis is the range as a window Axis, for its display unit and label.
+func (a axisRange) axis() Axis { return Axis{Param: a.name, Dim: a.dim} }
+
 // unit is the display unit of the axis: "C", "Pa" or "sccm".
-func (a axisRange) unit() string {
-	switch a.dim {
-	case recipe.Temperature:
-		return "C"
-	case recipe.Pressure:
-		return "Pa"
-	}
-	return "sccm"
-}
+func (a axisRange) unit() string { return a.axis().Unit() }
 
 // display converts an SI value of the axis to its display unit.
-func (a axisRange) display(si float64) float64 {
-	v, _ := recipe.In(si, a.unit())
-	return v
-}
+func (a axisRange) display(si float64) float64 { return a.axis().Display(si) }
 
 // meets reports whether every target holds at its bound; the time
 // rounding and the quantile may leave a sliver, so 1e-9 relative is

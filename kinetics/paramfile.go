@@ -175,6 +175,18 @@ func (d *paramDecoder) number(key string, v *yaml.Node, dst *float64) {
 	*dst = x
 }
 
+// choice reads one of two words, recording a problem for any other.
+func (d *paramDecoder) choice(key string, v *yaml.Node, a, b string) (string, bool) {
+	if !d.scalar(key, v) {
+		return "", false
+	}
+	if v.Value != a && v.Value != b {
+		d.at(v, fmt.Sprintf("%s %q is not %s or %s", key, v.Value, a, b), "")
+		return "", false
+	}
+	return v.Value, true
+}
+
 // field decodes one key: value line.
 func (d *paramDecoder) field(k, v *yaml.Node) {
 	p := &d.p
@@ -194,22 +206,12 @@ func (d *paramDecoder) field(k, v *yaml.Node) {
 	case "reference_pressure":
 		d.quantity(key, v, &p.P0)
 	case "shape":
-		if d.scalar(key, v) {
-			switch Shape(v.Value) {
-			case Round, Hexagonal:
-				p.Shape = Shape(v.Value)
-			default:
-				d.at(v, fmt.Sprintf("shape %q is not round or hexagonal", v.Value), "")
-			}
+		if w, ok := d.choice(key, v, string(Round), string(Hexagonal)); ok {
+			p.Shape = Shape(w)
 		}
 	case "mode":
-		if d.scalar(key, v) {
-			switch Mode(v.Value) {
-			case Continuous, SiteSaturated:
-				p.Mode = Mode(v.Value)
-			default:
-				d.at(v, fmt.Sprintf("mode %q is not continuous or site-saturated", v.Value), "")
-			}
+		if w, ok := d.choice(key, v, string(Continuous), string(SiteSaturated)); ok {
+			p.Mode = Mode(w)
 		}
 	case "site_density":
 		d.quantity(key, v, &p.SiteDensity)

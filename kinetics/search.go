@@ -334,7 +334,7 @@ func (s *searcher) recipeAt(x []float64, dur float64) *recipe.Recipe {
 	r.Steps = append([]recipe.Step(nil), s.base.Steps...)
 	st := &r.Steps[s.grow]
 	for i, a := range s.axes {
-		setParam(st, Axis{Param: a.name, Dim: a.dim}, x[i])
+		setParam(st, a.axis(), x[i])
 	}
 	setParam(st, Axis{Param: ParamDuration, Dim: recipe.Duration}, dur)
 	return &r
