@@ -61,6 +61,23 @@
 //     to coverage for a recipe.
 //   - ParseAxis, Window: a map of predictions over two grow-step parameters,
 //     with every point checked by recipe.Check.
+//   - Prepare, Fit, ParseFix: calibration by weighted least squares
+//     (Levenberg–Marquardt in kinetics/internal/lm), with the covariance
+//     (covariance.go) and PredictInterval, SampleParams for its intervals.
+//   - ParseTarget, Suggest: the cheapest grow step that meets targets.
+//   - Parameters, Metrics, ParseMetric: the one vocabulary the parsers
+//     accept (temperature, duration, pressure, gas symbols; coverage,
+//     nuclei_density, domain_size); old spellings are refused with a
+//     message naming the new one.
+//   - InputError: every error about the caller's input, with a Kind, an
+//     optional Reason to branch on, and a Hint; it unwraps to ErrAxis,
+//     ErrSuggest, ErrFitInput, ErrMetric or ErrParams.
+//
+// Files follow the concepts: profile, nucleation, growth, coverage,
+// predict; params, paramfile; window; prepared (the parameter-free part of
+// a profile), fitparams, fit, fitter, covariance, uncertainty; target,
+// space, search, root (the Illinois root finder), candidate; vocabulary,
+// errors.
 //
 // References:
 //

@@ -174,15 +174,15 @@ func TestFitJacobian(t *testing.T) {
 				x[j] = f.v0[i]
 			}
 			J := mat.NewDense(2, len(x), nil)
-			f.jacobian(x, J)
+			f.jacobian(J, x)
 			for j := range x {
 				h := 1e-5
 				xp, xm := append([]float64(nil), x...), append([]float64(nil), x...)
 				xp[j] += h
 				xm[j] -= h
 				rp, rm := make([]float64, 2), make([]float64, 2)
-				f.residuals(xp, rp)
-				f.residuals(xm, rm)
+				f.residuals(rp, xp)
+				f.residuals(rm, xm)
 				for i := range 2 {
 					want := (rp[i] - rm[i]) / (2 * h)
 					scale := 0.0

@@ -6,10 +6,11 @@ import (
 	"github.com/foilrun/foilrun/recipe/gas"
 )
 
-// ElementaryCharge is e in C (exact, SI 2019); BoltzmannEV = k_B/e is the
-// Boltzmann constant in eV/K (8.617333262e-5, CODATA 2018).
+// ElementaryCharge is e in C, gas.ElementaryCharge (exact, SI 2019);
+// BoltzmannEV = k_B/e is the Boltzmann constant in eV/K (8.617333262e-5,
+// CODATA 2018).
 const (
-	ElementaryCharge = 1.602176634e-19
+	ElementaryCharge = gas.ElementaryCharge
 	BoltzmannEV      = gas.Boltzmann / ElementaryCharge
 )
 

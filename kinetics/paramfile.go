@@ -16,8 +16,8 @@ import (
 // The parameter file is YAML with one line per parameter; quantities carry
 // units, parsed here into SI:
 //
-//	nucleation_energy: -1.5 eV        # En (eV, meV, kJ/mol)
-//	nucleation_prefactor: 50 /m2/s    # I0 (/m2/s, /cm2/s, /mm2/s, /um2/s)
+//	nucleation_energy: -1.5 eV        # En (eV, meV, kJ/mol, kcal/mol, J)
+//	nucleation_prefactor: 50 /m2/s    # I0 (/m2/s, /cm2/s, /mm2/s, /um2/s, …/min)
 //	methane_order: 2.5                # a
 //	hydrogen_order: 2                 # b
 //	growth_energy: 4.5 eV             # Eg
@@ -25,7 +25,7 @@ import (
 //	reference_pressure: 100 Pa        # p0 (any pressure unit of recipe files)
 //	shape: round                      # round or hexagonal (default round)
 //	mode: continuous                  # continuous or site-saturated (default continuous)
-//	site_density: 1e4 /mm2            # N0, required in site-saturated mode (/m2, /cm2, /mm2, /um2)
+//	site_density: 1e4 /mm2            # N0, required in site-saturated mode (/m2, /cm2, /mm2, /um2, mm-2)
 //	source: fit of 12 runs            # optional metadata
 //	runs: 12
 //	date: 2026-03-02
@@ -33,55 +33,38 @@ import (
 //	  parameters: [nucleation_energy, growth_energy]
 //	  matrix: [[0.01, 0.002], [0.002, 0.02]]
 //
-// The seven model numbers are required; unknown fields are errors.
+// Units are those of recipe.Parse for the dimension (energy, rate per
+// area, speed, pressure, density per area). The seven model numbers are
+// required; unknown fields are errors.
 
-// paramKind is how one kind of parameter value is written.
-type paramKind struct {
-	name    string             // "an energy"
-	example string             // "1.2 eV"
-	units   map[string]float64 // unit → SI factor
-	list    string             // for messages
-	canon   string             // unit FormatParams writes
+// paramDims are the dimensions of the file's quantities; each is parsed
+// by recipe.Parse, so every unit recipe files accept for the dimension is
+// accepted here.
+var paramDims = map[string]recipe.Dimension{
+	"nucleation_energy":    recipe.Energy,
+	"nucleation_prefactor": recipe.AreaRate,
+	"growth_energy":        recipe.Energy,
+	"growth_prefactor":     recipe.Speed,
+	"reference_pressure":   recipe.Pressure,
+	"site_density":         recipe.AreaDensity,
 }
 
-// electronvoltPerKJmol converts kJ/mol to eV per particle: 1000/(e·N_A).
-const electronvoltPerKJmol = 1000 / (ElementaryCharge * 6.02214076e23)
-
-var (
-	energyKind = paramKind{"an energy", "1.2 eV", map[string]float64{"eV": 1, "meV": 1e-3, "kJ/mol": electronvoltPerKJmol}, "eV, meV, kJ/mol", "eV"}
-	rateKind   = paramKind{"a nucleation rate", "50 /m2/s", map[string]float64{"/m2/s": 1, "/cm2/s": 1e4, "/mm2/s": 1e6, "/um2/s": 1e12}, "/m2/s, /cm2/s, /mm2/s, /um2/s", "/m2/s"}
-	speedKind  = paramKind{"a speed", "1e11 m/s", map[string]float64{"m/s": 1, "mm/s": 1e-3, "um/s": 1e-6, "µm/s": 1e-6, "nm/s": 1e-9, "um/min": 1e-6 / 60, "µm/min": 1e-6 / 60, "mm/min": 1e-3 / 60}, "m/s, mm/s, um/s, nm/s, um/min, mm/min", "m/s"}
-	areaKind   = paramKind{"a density per area", "1e4 /mm2", map[string]float64{"/m2": 1, "/cm2": 1e4, "/mm2": 1e6, "/um2": 1e12}, "/m2, /cm2, /mm2, /um2", "/m2"}
-)
-
-// parse reads "number unit" (the unit may follow without a space).
-func (k paramKind) parse(text string) (float64, error) {
-	s := strings.TrimSpace(text)
-	num, unit := "", ""
-	for i := len(s); i > 0; i-- {
-		if _, err := strconv.ParseFloat(s[:i], 64); err == nil {
-			num, unit = s[:i], strings.TrimSpace(s[i:])
-			break
-		}
+// parseParamValue reads a quantity of the dimension and returns it in the
+// unit Params holds it in: eV for energies (Params' unit, the trade's),
+// SI otherwise. A value written in eV is read as written, so that
+// FormatParams round-trips bit for bit (x·e/e is not always x).
+func parseParamValue(text string, dim recipe.Dimension) (float64, error) {
+	q, err := recipe.Parse(text, dim)
+	if err != nil {
+		return 0, err
 	}
-	if num == "" {
-		return 0, fmt.Errorf("%q does not start with a number, want %s such as %q", text, k.name, k.example)
+	if dim != recipe.Energy {
+		return q.SI, nil
 	}
-	v, _ := strconv.ParseFloat(num, 64)
-	if math.IsNaN(v) || math.IsInf(v, 0) {
-		return 0, fmt.Errorf("%q: %q is not a finite number", text, num)
+	if num, unit := recipe.SplitNumber(strings.TrimSpace(text)); strings.TrimSpace(unit) == "eV" {
+		return strconv.ParseFloat(num, 64)
 	}
-	if unit == "" {
-		return 0, fmt.Errorf("%q has no unit, want %s such as %q (units: %s)", text, k.name, k.example, k.list)
-	}
-	f, ok := k.units[strings.TrimPrefix(strings.ReplaceAll(unit, " ", ""), "1/")]
-	if !ok {
-		f, ok = k.units["/"+strings.TrimPrefix(strings.ReplaceAll(unit, " ", ""), "1/")]
-	}
-	if !ok {
-		return 0, fmt.Errorf("%q has unknown unit %q, want %s such as %q (units: %s)", text, unit, k.name, k.example, k.list)
-	}
-	return v * f, nil
+	return recipe.In(q.SI, "eV")
 }
 
 // LoadParams reads and validates a parameter file.
@@ -107,162 +90,181 @@ var freeParams = paramFields[:7]
 // problem is reported, each with its line and column, in a
 // *recipe.LoadError (which wraps recipe.ErrInvalid).
 func ParseParams(name string, data []byte) (Params, error) {
-	var ps []recipe.Problem
-	at := func(n *yaml.Node, msg, hint string) {
-		p := recipe.Problem{Msg: msg, Hint: hint}
-		if n != nil {
-			p.Pos = recipe.Pos{Line: n.Line, Col: n.Column}
-		}
-		ps = append(ps, p)
-	}
+	d := &paramDecoder{seen: map[string]*yaml.Node{}}
 	fail := func() (Params, error) {
-		return Params{}, &recipe.LoadError{What: "params", File: name, Problems: ps}
+		return Params{}, &recipe.LoadError{What: "params", File: name, Problems: d.ps}
 	}
 	if len(bytes.TrimSpace(data)) == 0 {
-		at(nil, "the file is empty", "list the seven model parameters, one per line, such as \"growth_energy: 4.5 eV\"")
+		d.at(nil, "the file is empty", "list the seven model parameters, one per line, such as \"growth_energy: 4.5 eV\"")
 		return fail()
 	}
 	var doc yaml.Node
 	if err := yaml.Unmarshal(data, &doc); err != nil {
-		at(nil, "not valid YAML: "+strings.TrimPrefix(err.Error(), "yaml: "), "")
+		d.at(nil, "not valid YAML: "+strings.TrimPrefix(err.Error(), "yaml: "), "")
 		return fail()
 	}
 	if len(doc.Content) != 1 || doc.Content[0].Kind != yaml.MappingNode {
-		at(&doc, "the params file must be a single mapping of field: value lines", "")
+		d.at(&doc, "the params file must be a single mapping of field: value lines", "")
 		return fail()
 	}
 	root := doc.Content[0]
-	var p Params
-	seen := map[string]*yaml.Node{}
-	scalar := func(key string, v *yaml.Node) bool {
-		if v.Kind != yaml.ScalarNode {
-			at(v, key+" must be a single value, not a list or mapping", "")
-			return false
-		}
-		return true
-	}
-	quantity := func(key string, v *yaml.Node, k paramKind, dst *float64) {
-		if !scalar(key, v) {
-			return
-		}
-		x, err := k.parse(v.Value)
-		if err != nil {
-			at(v, key+" "+err.Error(), "")
-			return
-		}
-		*dst = x
-	}
-	number := func(key string, v *yaml.Node, dst *float64) {
-		if !scalar(key, v) {
-			return
-		}
-		x, err := strconv.ParseFloat(strings.TrimSpace(v.Value), 64)
-		if err != nil || math.IsNaN(x) || math.IsInf(x, 0) {
-			at(v, fmt.Sprintf("%s %q is not a finite number", key, v.Value), "write a plain number such as 2")
-			return
-		}
-		*dst = x
-	}
 	for i := 0; i+1 < len(root.Content); i += 2 {
 		k, v := root.Content[i], root.Content[i+1]
-		key := k.Value
-		if seen[key] != nil {
-			at(k, fmt.Sprintf("field %q is given twice", key), "")
+		if d.seen[k.Value] != nil {
+			d.at(k, fmt.Sprintf("field %q is given twice", k.Value), "")
 			continue
 		}
-		seen[key] = k
-		switch key {
-		case "nucleation_energy":
-			quantity(key, v, energyKind, &p.En)
-		case "nucleation_prefactor":
-			quantity(key, v, rateKind, &p.I0)
-		case "methane_order":
-			number(key, v, &p.A)
-		case "hydrogen_order":
-			number(key, v, &p.B)
-		case "growth_energy":
-			quantity(key, v, energyKind, &p.Eg)
-		case "growth_prefactor":
-			quantity(key, v, speedKind, &p.G0)
-		case "reference_pressure":
-			if scalar(key, v) {
-				q, err := recipe.Parse(v.Value, recipe.Pressure)
-				if err != nil {
-					at(v, key+" "+err.Error(), "")
-				} else {
-					p.P0 = q.SI
-				}
-			}
-		case "shape":
-			if scalar(key, v) {
-				switch Shape(v.Value) {
-				case Round, Hexagonal:
-					p.Shape = Shape(v.Value)
-				default:
-					at(v, fmt.Sprintf("shape %q is not round or hexagonal", v.Value), "")
-				}
-			}
-		case "mode":
-			if scalar(key, v) {
-				switch Mode(v.Value) {
-				case Continuous, SiteSaturated:
-					p.Mode = Mode(v.Value)
-				default:
-					at(v, fmt.Sprintf("mode %q is not continuous or site-saturated", v.Value), "")
-				}
-			}
-		case "site_density":
-			quantity(key, v, areaKind, &p.SiteDensity)
-		case "source":
-			if scalar(key, v) {
-				p.Source = v.Value
-			}
-		case "date":
-			if scalar(key, v) {
-				p.Date = v.Value
-			}
-		case "runs":
-			if scalar(key, v) {
-				n, err := strconv.Atoi(v.Value)
-				if err != nil || n < 0 {
-					at(v, fmt.Sprintf("runs %q is not a whole number of runs", v.Value), "")
-				} else {
-					p.Runs = n
-				}
-			}
-		case "covariance":
-			c, msgs := parseCovariance(v)
-			for _, m := range msgs {
-				at(m.n, m.msg, "")
-			}
-			p.Covariance = c
-		default:
-			at(k, fmt.Sprintf("unknown field %q in the params file", key), "known fields: "+strings.Join(paramFields, ", "))
-		}
+		d.seen[k.Value] = k
+		d.field(k, v)
 	}
+	d.complete(root)
+	if len(d.ps) > 0 {
+		return fail()
+	}
+	return d.p, nil
+}
+
+// paramDecoder collects a parameter file's values and its problems.
+type paramDecoder struct {
+	p    Params
+	ps   []recipe.Problem
+	seen map[string]*yaml.Node // key nodes by key
+}
+
+// at records a problem at a node (nil: the whole file).
+func (d *paramDecoder) at(n *yaml.Node, msg, hint string) {
+	p := recipe.Problem{Msg: msg, Hint: hint}
+	if n != nil {
+		p.Pos = recipe.Pos{Line: n.Line, Col: n.Column}
+	}
+	d.ps = append(d.ps, p)
+}
+
+// scalar reports whether v is a single value, recording a problem if not.
+func (d *paramDecoder) scalar(key string, v *yaml.Node) bool {
+	if v.Kind != yaml.ScalarNode {
+		d.at(v, key+" must be a single value, not a list or mapping", "")
+		return false
+	}
+	return true
+}
+
+// quantity reads a value with a unit of the key's dimension.
+func (d *paramDecoder) quantity(key string, v *yaml.Node, dst *float64) {
+	if !d.scalar(key, v) {
+		return
+	}
+	x, err := parseParamValue(v.Value, paramDims[key])
+	if err != nil {
+		d.at(v, key+" "+err.Error(), "")
+		return
+	}
+	*dst = x
+}
+
+// number reads a plain finite number.
+func (d *paramDecoder) number(key string, v *yaml.Node, dst *float64) {
+	if !d.scalar(key, v) {
+		return
+	}
+	x, err := strconv.ParseFloat(strings.TrimSpace(v.Value), 64)
+	if err != nil || math.IsNaN(x) || math.IsInf(x, 0) {
+		d.at(v, fmt.Sprintf("%s %q is not a finite number", key, v.Value), "write a plain number such as 2")
+		return
+	}
+	*dst = x
+}
+
+// choice reads one of two words, recording a problem for any other.
+func (d *paramDecoder) choice(key string, v *yaml.Node, a, b string) (string, bool) {
+	if !d.scalar(key, v) {
+		return "", false
+	}
+	if v.Value != a && v.Value != b {
+		d.at(v, fmt.Sprintf("%s %q is not %s or %s", key, v.Value, a, b), "")
+		return "", false
+	}
+	return v.Value, true
+}
+
+// field decodes one key: value line.
+func (d *paramDecoder) field(k, v *yaml.Node) {
+	p := &d.p
+	switch key := k.Value; key {
+	case "nucleation_energy":
+		d.quantity(key, v, &p.En)
+	case "nucleation_prefactor":
+		d.quantity(key, v, &p.I0)
+	case "methane_order":
+		d.number(key, v, &p.A)
+	case "hydrogen_order":
+		d.number(key, v, &p.B)
+	case "growth_energy":
+		d.quantity(key, v, &p.Eg)
+	case "growth_prefactor":
+		d.quantity(key, v, &p.G0)
+	case "reference_pressure":
+		d.quantity(key, v, &p.P0)
+	case "shape":
+		if w, ok := d.choice(key, v, string(Round), string(Hexagonal)); ok {
+			p.Shape = Shape(w)
+		}
+	case "mode":
+		if w, ok := d.choice(key, v, string(Continuous), string(SiteSaturated)); ok {
+			p.Mode = Mode(w)
+		}
+	case "site_density":
+		d.quantity(key, v, &p.SiteDensity)
+	case "source":
+		if d.scalar(key, v) {
+			p.Source = v.Value
+		}
+	case "date":
+		if d.scalar(key, v) {
+			p.Date = v.Value
+		}
+	case "runs":
+		if d.scalar(key, v) {
+			n, err := strconv.Atoi(v.Value)
+			if err != nil || n < 0 {
+				d.at(v, fmt.Sprintf("runs %q is not a whole number of runs", v.Value), "")
+			} else {
+				p.Runs = n
+			}
+		}
+	case "covariance":
+		c, msgs := parseCovariance(v)
+		for _, m := range msgs {
+			d.at(m.n, m.msg, "")
+		}
+		p.Covariance = c
+	default:
+		d.at(k, fmt.Sprintf("unknown field %q in the params file", key), "known fields: "+strings.Join(paramFields, ", "))
+	}
+}
+
+// complete checks what no single line shows: missing required fields,
+// site_density for site-saturated mode, prefactors above zero.
+func (d *paramDecoder) complete(root *yaml.Node) {
 	for _, key := range freeParams {
-		if seen[key] == nil {
-			at(root, fmt.Sprintf("missing required field %q in the params file", key), "add a line \""+key+": …\"")
+		if d.seen[key] == nil {
+			d.at(root, fmt.Sprintf("missing required field %q in the params file", key), "add a line \""+key+": …\"")
 		}
 	}
-	if p.Mode == SiteSaturated && seen["site_density"] == nil {
-		at(root, "mode site-saturated needs site_density", "add a line such as \"site_density: 1e4 /mm2\"")
+	if d.p.Mode == SiteSaturated && d.seen["site_density"] == nil {
+		d.at(root, "mode site-saturated needs site_density", "add a line such as \"site_density: 1e4 /mm2\"")
 	}
-	if len(ps) == 0 {
+	if len(d.ps) == 0 {
 		positive := []struct {
 			key string
 			v   float64
-		}{{"nucleation_prefactor", p.I0}, {"growth_prefactor", p.G0}, {"reference_pressure", p.P0}, {"site_density", p.SiteDensity}}
+		}{{"nucleation_prefactor", d.p.I0}, {"growth_prefactor", d.p.G0}, {"reference_pressure", d.p.P0}, {"site_density", d.p.SiteDensity}}
 		for _, c := range positive {
-			if n := seen[c.key]; n != nil && !(c.v > 0) {
-				at(valueOf(root, n), fmt.Sprintf("%s %q must be greater than zero", c.key, valueOf(root, n).Value), "")
+			if n := d.seen[c.key]; n != nil && !(c.v > 0) {
+				d.at(valueOf(root, n), fmt.Sprintf("%s %q must be greater than zero", c.key, valueOf(root, n).Value), "")
 			}
 		}
 	}
-	if len(ps) > 0 {
-		return fail()
-	}
-	return p, nil
 }
 
 // valueOf returns the value node of a key node in a mapping.
@@ -364,18 +366,28 @@ func parseCovariance(v *yaml.Node) (*Covariance, []nodeMsg) {
 }
 
 // FormatParams writes p as a parameter file that ParseParams reads back to
-// the same values (numbers in SI units, shortest exact form).
+// the same values (energies in eV, the rest in SI units, shortest exact
+// form, written by recipe.Format).
 func FormatParams(p Params) []byte {
 	var b bytes.Buffer
 	g := func(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
+	// si writes an SI value in a unit of scale 1, so Parse reads it back
+	// exactly; a non-finite value (never in validated parameters) is
+	// written as Go formats it and fails to parse.
+	si := func(v float64, unit string) string {
+		if text, err := recipe.Format(v, unit); err == nil {
+			return text
+		}
+		return g(v) + " " + unit
+	}
 	b.WriteString("# foilrun kinetics parameters (SI units; see foilrun predict --help)\n")
 	fmt.Fprintf(&b, "nucleation_energy: %s eV\n", g(p.En))
-	fmt.Fprintf(&b, "nucleation_prefactor: %s /m2/s\n", g(p.I0))
+	fmt.Fprintf(&b, "nucleation_prefactor: %s\n", si(p.I0, "/m2/s"))
 	fmt.Fprintf(&b, "methane_order: %s\n", g(p.A))
 	fmt.Fprintf(&b, "hydrogen_order: %s\n", g(p.B))
 	fmt.Fprintf(&b, "growth_energy: %s eV\n", g(p.Eg))
-	fmt.Fprintf(&b, "growth_prefactor: %s m/s\n", g(p.G0))
-	fmt.Fprintf(&b, "reference_pressure: %s Pa\n", g(p.P0))
+	fmt.Fprintf(&b, "growth_prefactor: %s\n", si(p.G0, "m/s"))
+	fmt.Fprintf(&b, "reference_pressure: %s\n", si(p.P0, "Pa"))
 	if p.Shape != "" {
 		fmt.Fprintf(&b, "shape: %s\n", p.Shape)
 	}
@@ -383,7 +395,7 @@ func FormatParams(p Params) []byte {
 		fmt.Fprintf(&b, "mode: %s\n", p.Mode)
 	}
 	if p.SiteDensity != 0 {
-		fmt.Fprintf(&b, "site_density: %s /m2\n", g(p.SiteDensity))
+		fmt.Fprintf(&b, "site_density: %s\n", si(p.SiteDensity, "/m2"))
 	}
 	if p.Source != "" {
 		fmt.Fprintf(&b, "source: %s\n", strconv.Quote(p.Source))

@@ -2,10 +2,12 @@ package kinetics
 
 import (
 	"errors"
+	"fmt"
 	"math"
 	"os"
 	"path/filepath"
 	"reflect"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -76,9 +78,9 @@ func TestParamsStrict(t *testing.T) {
 			`load params "p.yaml": line 8 col 1: unknown field "growth_energie" in the params file
   hint: known fields: nucleation_energy, nucleation_prefactor, methane_order, hydrogen_order, growth_energy, growth_prefactor, reference_pressure, shape, mode, site_density, source, runs, date, covariance`},
 		{"bad unit", strings.Replace(goodParams, "4.5 eV", "4.5 eJ", 1),
-			`load params "p.yaml": line 5 col 16: growth_energy "4.5 eJ" has unknown unit "eJ", want an energy such as "1.2 eV" (units: eV, meV, kJ/mol)`},
+			`load params "p.yaml": line 5 col 16: growth_energy "4.5 eJ" has unknown unit "eJ", want a energy such as "1.2 eV" (units: eV, meV, kJ/mol, J)`},
 		{"no unit", strings.Replace(goodParams, "1.1e11 m/s", "1.1e11", 1),
-			`load params "p.yaml": line 6 col 19: growth_prefactor "1.1e11" has no unit, want a speed such as "1e11 m/s" (units: m/s, mm/s, um/s, nm/s, um/min, mm/min)`},
+			`load params "p.yaml": line 6 col 19: growth_prefactor "1.1e11" has no unit, want a speed such as "2 um/min" (units: m/s, mm/s, um/s, nm/s, um/min, mm/min)`},
 		{"bad number", strings.Replace(goodParams, "2.5", "two", 1),
 			`load params "p.yaml": line 3 col 16: methane_order "two" is not a finite number
   hint: write a plain number such as 2`},
@@ -175,10 +177,13 @@ func FuzzParseParams(f *testing.F) {
 	})
 }
 
-// Fuzz: ParseAxis never panics, and an accepted axis has Steps values from
-// From to To.
+// Fuzz: ParseAxis never panics, and an accepted axis has Steps finite
+// values, the first From and the last To exactly, all within the range.
+// The corpus under testdata/fuzz/FuzzParseAxis holds the inputs CI's
+// fuzzing found (a last value of −1.06e-22 below the range; From = +Inf).
 func FuzzParseAxis(f *testing.F) {
-	for _, s := range []string{"temperature=950C:1050C:11", "CH4=1sccm:40sccm:10", "duration=1min:30min:12", "pressure=100mTorr:2Torr:8", "x=::"} {
+	for _, s := range []string{"temperature=950C:1050C:11", "CH4=1sccm:40sccm:10", "duration=1min:30min:12", "pressure=100mTorr:2Torr:8", "x=::",
+		"CH4=1sccm:0sccm:14", "duration=1e308h:1h:2", "time=1min:2min:3"} {
 		f.Add(s)
 	}
 	f.Fuzz(func(t *testing.T, spec string) {
@@ -186,9 +191,76 @@ func FuzzParseAxis(f *testing.F) {
 		if err != nil {
 			return
 		}
-		v := a.Values()
-		if len(v) != a.Steps || v[0] != a.From || math.Abs(v[len(v)-1]-a.To) > 1e-9*math.Abs(a.To) {
-			t.Fatalf("%q: values %v for %g..%g ×%d", spec, v, a.From, a.To, a.Steps)
+		if err := checkAxisValues(a); err != "" {
+			t.Fatalf("%q: %s", spec, err)
+		}
+	})
+}
+
+// checkAxisValues returns what is wrong with an axis's values, or "".
+func checkAxisValues(a Axis) string {
+	v := a.Values()
+	lo, hi := math.Min(a.From, a.To), math.Max(a.From, a.To)
+	if len(v) != a.Steps || v[0] != a.From || v[len(v)-1] != a.To {
+		return fmt.Sprintf("values %v for %g..%g ×%d", v, a.From, a.To, a.Steps)
+	}
+	for i, x := range v {
+		if math.IsNaN(x) || math.IsInf(x, 0) || x < lo || x > hi {
+			return fmt.Sprintf("value %d is %g, outside %g..%g", i, x, lo, hi)
+		}
+	}
+	return ""
+}
+
+// Fuzz: ParseTarget never panics; an accepted target is finite and in its
+// domain, and written back in SI units it parses to the same target.
+func FuzzParseTarget(f *testing.F) {
+	for _, s := range []string{"coverage>=0.99", "coverage>=99%", "coverage>=95 %", "domain_size>=40um", "nuclei_density<=100/mm2",
+		"nuclei_density<=1e308/um2", "domain-size>=1mm", "coverage=0.9", ">=", "coverage>=1e-320"} {
+		f.Add(s)
+	}
+	unit := map[string]string{MetricCoverage: "", MetricDomainSize: " m", MetricNucleiDensity: " /m2"}
+	f.Fuzz(func(t *testing.T, s string) {
+		tg, err := ParseTarget(s)
+		if err != nil {
+			return
+		}
+		if math.IsNaN(tg.Value) || math.IsInf(tg.Value, 0) || !(tg.Value > 0) || tg.Quantity == MetricCoverage && !(tg.Value < 1) {
+			t.Fatalf("%q: accepted %+v", s, tg)
+		}
+		op := "<="
+		if tg.AtLeast {
+			op = ">="
+		}
+		text := tg.Quantity + op + strconv.FormatFloat(tg.Value, 'g', -1, 64) + unit[tg.Quantity]
+		back, err := ParseTarget(text)
+		if err != nil || back.Quantity != tg.Quantity || back.AtLeast != tg.AtLeast || back.Value != tg.Value {
+			t.Fatalf("%q → %q: got %+v, %v, want %+v", s, text, back, err, tg)
+		}
+	})
+}
+
+// Fuzz: ParseFix never panics; an accepted value is finite (positive for
+// prefactors), and KEY=VALUE written back as a plain number in the file's
+// unit parses to the same key and value.
+func FuzzParseFix(f *testing.F) {
+	for _, s := range []string{"Eg=1.9", "growth_energy=1.9 eV", "en=-150 meV", "I0=5 /cm2/s", "b=2", "G0=2um/min", "N0=1e4 mm-2",
+		"Ea=1", "Eg", "G0=-1", "a=x", "En=1e308 kJ/mol", "=", "a=nan"} {
+		f.Add(s)
+	}
+	f.Fuzz(func(t *testing.T, s string) {
+		key, v, err := ParseFix(s)
+		if err != nil {
+			return
+		}
+		i := fitIndex(key)
+		if i < 0 || math.IsNaN(v) || math.IsInf(v, 0) || FitParameters[i].Log && !(v > 0) {
+			t.Fatalf("%q: accepted %s = %g", s, key, v)
+		}
+		text := key + "=" + strconv.FormatFloat(v, 'g', -1, 64)
+		k2, v2, err := ParseFix(text)
+		if err != nil || k2 != key || v2 != v {
+			t.Fatalf("%q → %q: got %s = %g, %v, want %s = %g", s, text, k2, v2, err, key, v)
 		}
 	})
 }

@@ -102,11 +102,12 @@ func DefaultParams() Params {
 // Kappa returns κ of the parameters' domain shape.
 func (p Params) Kappa() float64 { return p.Shape.Kappa() }
 
-// Validate reports the first parameter that is out of its domain.
+// Validate reports the first parameter that is out of its domain, as an
+// *InputError of kind KindParams (wrapping ErrParams).
 func (p Params) Validate() error {
 	finite := func(name string, v float64) error {
 		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return fmt.Errorf("kinetics parameters: %s %g is not a finite number", name, v)
+			return inputErr(KindParams, "kinetics parameters: %s %g is not a finite number", name, v)
 		}
 		return nil
 	}
@@ -115,7 +116,7 @@ func (p Params) Validate() error {
 			return err
 		}
 		if !(v > 0) {
-			return fmt.Errorf("kinetics parameters: %s %g must be greater than zero", name, v)
+			return inputErr(KindParams, "kinetics parameters: %s %g must be greater than zero", name, v)
 		}
 		return nil
 	}
@@ -140,7 +141,7 @@ func (p Params) Validate() error {
 	switch p.Shape {
 	case Round, Hexagonal, "":
 	default:
-		return fmt.Errorf("kinetics parameters: unknown shape %q, want round or hexagonal", string(p.Shape))
+		return inputErr(KindParams, "kinetics parameters: unknown shape %q, want round or hexagonal", string(p.Shape))
 	}
 	switch p.Mode {
 	case Continuous, "":
@@ -149,7 +150,7 @@ func (p Params) Validate() error {
 			return err
 		}
 	default:
-		return fmt.Errorf("kinetics parameters: unknown mode %q, want continuous or site-saturated", string(p.Mode))
+		return inputErr(KindParams, "kinetics parameters: unknown mode %q, want continuous or site-saturated", string(p.Mode))
 	}
 	return nil
 }

@@ -238,13 +238,7 @@ func WindowIntervals(plan *recipe.Plan, m *Map, p Params, opts Options, s Interv
 		return nil, err
 	}
 	r := plan.Recipe
-	grow := -1
-	for i, st := range r.Steps {
-		if st.Kind == recipe.KindGrow {
-			grow = i
-			break
-		}
-	}
+	grow := r.FirstStep(recipe.KindGrow)
 	if grow < 0 {
 		return nil, fmt.Errorf("window: recipe %q has no grow step to vary", r.Name)
 	}

@@ -1,7 +1,6 @@
 package kinetics
 
 import (
-	"errors"
 	"fmt"
 	"math"
 	"runtime"
@@ -13,26 +12,6 @@ import (
 	"github.com/foilrun/foilrun/recipe/gas"
 )
 
-// The grow-step parameters a window can vary besides gas flows.
-const (
-	ParamTemperature = "temperature"
-	ParamPressure    = "pressure"
-	ParamDuration    = "duration"
-)
-
-// ErrAxis is wrapped by every error about a window axis (its text, or its
-// range against the furnace), so callers can report it as bad input.
-var ErrAxis = errors.New("bad window axis")
-
-// axisError is an error about a window axis; it wraps ErrAxis without
-// adding to the message.
-type axisError struct{ msg string }
-
-func (e *axisError) Error() string { return e.msg }
-func (e *axisError) Unwrap() error { return ErrAxis }
-
-func axisErr(format string, args ...any) error { return &axisError{fmt.Sprintf(format, args...)} }
-
 // Axis is one grow-step parameter varied over a linear range.
 type Axis struct {
 	Param    string           // ParamTemperature, ParamPressure, ParamDuration or a gas symbol such as "CH4"
@@ -42,12 +21,21 @@ type Axis struct {
 	Text     string           // as written, e.g. "temperature=950C:1050C:11"
 }
 
-// Values returns the Steps values from From to To, evenly spaced.
+// MaxAxisSteps is the most values ParseAxis accepts on one axis (a
+// window of 10⁴ × 10⁴ points already takes hours).
+const MaxAxisSteps = 10000
+
+// Values returns the Steps values from From to To, evenly spaced: the
+// first is From and the last To exactly, and every value lies between
+// them.
 func (a Axis) Values() []float64 {
 	v := make([]float64, a.Steps)
+	lo, hi := math.Min(a.From, a.To), math.Max(a.From, a.To)
 	for i := range v {
-		v[i] = a.From + (a.To-a.From)*float64(i)/float64(a.Steps-1)
+		x := a.From + (a.To-a.From)*(float64(i)/float64(a.Steps-1))
+		v[i] = math.Min(math.Max(x, lo), hi)
 	}
+	v[0], v[len(v)-1] = a.From, a.To
 	return v
 }
 
@@ -80,48 +68,44 @@ func (a Axis) Label() string {
 
 // ParseAxis reads PARAM=FROM:TO:STEPS, e.g. "temperature=950C:1050C:11",
 // "CH4=1sccm:40sccm:10", "duration=1min:30min:12" or
-// "pressure=100mTorr:2Torr:8". PARAM is temperature, pressure, duration or a
-// gas name (its flow in the grow step). FROM and TO carry units; STEPS ≥ 2.
-// Errors wrap ErrAxis.
+// "pressure=100mTorr:2Torr:8". PARAM is temperature, duration, pressure or
+// a gas name (its flow in the grow step); the old name "time" is refused
+// with a message naming "duration". FROM and TO carry units and are
+// finite; 2 ≤ STEPS ≤ MaxAxisSteps. Errors are *InputError of kind
+// KindAxis (wrapping ErrAxis).
 func ParseAxis(spec string) (Axis, error) {
 	a := Axis{Text: spec}
+	ctx := fmt.Sprintf("axis %q", spec)
 	name, rng, ok := strings.Cut(spec, "=")
 	parts := strings.Split(rng, ":")
 	if !ok || len(parts) != 3 {
-		return a, axisErr("window axis %q: want PARAM=FROM:TO:STEPS, e.g. \"temperature=950C:1050C:11\"", spec)
+		return a, inputErr(KindAxis, "%s: want PARAM=FROM:TO:STEPS, e.g. \"temperature=950C:1050C:11\"", ctx)
 	}
-	name = strings.TrimSpace(name)
-	switch strings.ToLower(name) {
-	case ParamTemperature:
-		a.Param, a.Dim = ParamTemperature, recipe.Temperature
-	case ParamPressure:
-		a.Param, a.Dim = ParamPressure, recipe.Pressure
-	case ParamDuration:
-		a.Param, a.Dim = ParamDuration, recipe.Duration
-	default:
-		g, err := gas.Lookup(name)
-		if err != nil {
-			return a, axisErr("window axis %q: unknown parameter %q, want temperature, pressure, duration or a gas such as CH4", spec, name)
-		}
-		a.Param, a.Dim = g.Symbol, recipe.Flow
+	param, dim, err := parameterOf(KindAxis, ctx, strings.TrimSpace(name))
+	if err != nil {
+		return a, err
 	}
+	a.Param, a.Dim = param, dim
 	from, err := recipe.Parse(parts[0], a.Dim)
 	if err != nil {
-		return a, axisErr("window axis %q: from %v", spec, err)
+		return a, inputErr(KindAxis, "%s: from %v", ctx, err)
 	}
 	to, err := recipe.Parse(parts[1], a.Dim)
 	if err != nil {
-		return a, axisErr("window axis %q: to %v", spec, err)
+		return a, inputErr(KindAxis, "%s: to %v", ctx, err)
 	}
 	n, err := strconv.Atoi(strings.TrimSpace(parts[2]))
 	if err != nil {
-		return a, axisErr("window axis %q: steps %q is not a whole number", spec, parts[2])
+		return a, inputErr(KindAxis, "%s: steps %q is not a whole number", ctx, parts[2])
 	}
-	if n < 2 {
-		return a, axisErr("window axis %q: want at least 2 steps, got %d", spec, n)
+	if n < 2 || n > MaxAxisSteps {
+		return a, inputErr(KindAxis, "%s: want 2 to %d steps, got %d", ctx, MaxAxisSteps, n)
 	}
 	if from.SI == to.SI {
-		return a, axisErr("window axis %q: the range is empty (from equals to)", spec)
+		return a, inputErr(KindAxis, "%s: the range is empty (from equals to)", ctx)
+	}
+	if d := to.SI - from.SI; math.IsInf(d, 0) || math.IsNaN(d) || math.IsInf(from.SI, 0) || math.IsInf(to.SI, 0) {
+		return a, inputErr(KindAxis, "%s: the range is too wide to hold", ctx)
 	}
 	a.From, a.To, a.Steps = from.SI, to.SI, n
 	return a, nil
@@ -134,39 +118,39 @@ func ParseAxis(spec string) (Axis, error) {
 // positive.
 func (a Axis) checkLimits(f *recipe.Furnace) error {
 	lo, hi := math.Min(a.From, a.To), math.Max(a.From, a.To)
-	c := func(k float64) string { return fmt.Sprintf("%.4g C", k-273.15) }
+	c := func(k float64) string { return fmt.Sprintf("%.4g C", recipe.Celsius(k)) }
 	switch a.Dim {
 	case recipe.Temperature:
 		if lo <= 0 {
-			return axisErr("window axis %q: %s is at or below absolute zero", a.Text, c(lo))
+			return inputErr(KindAxis, "axis %q: %s is at or below absolute zero", a.Text, c(lo))
 		}
 		if hi > f.Heater.MaxTemperature.SI {
-			return axisErr("window axis %q: %s is above the heater's maximum %s on furnace %q", a.Text, c(hi), c(f.Heater.MaxTemperature.SI), f.Name)
+			return inputErr(KindAxis, "axis %q: %s is above the heater's maximum %s on furnace %q", a.Text, c(hi), c(f.Heater.MaxTemperature.SI), f.Name)
 		}
 		if hi > f.Tube.ServiceLimit.SI {
-			return axisErr("window axis %q: %s is above the tube's service limit %s on furnace %q", a.Text, c(hi), c(f.Tube.ServiceLimit.SI), f.Name)
+			return inputErr(KindAxis, "axis %q: %s is above the tube's service limit %s on furnace %q", a.Text, c(hi), c(f.Tube.ServiceLimit.SI), f.Name)
 		}
 	case recipe.Pressure:
 		if lo < f.Vacuum.BasePressure.SI {
-			return axisErr("window axis %q: %.4g Pa is below the base pressure %.4g Pa on furnace %q", a.Text, lo, f.Vacuum.BasePressure.SI, f.Name)
+			return inputErr(KindAxis, "axis %q: %.4g Pa is below the base pressure %.4g Pa on furnace %q", a.Text, lo, f.Vacuum.BasePressure.SI, f.Name)
 		}
 		if hi > gas.StandardAtmosphere {
-			return axisErr("window axis %q: %.6g Pa is above one atmosphere (101325 Pa)", a.Text, hi)
+			return inputErr(KindAxis, "axis %q: %.6g Pa is above one atmosphere (101325 Pa)", a.Text, hi)
 		}
 	case recipe.Duration:
 		if !(lo > 0) {
-			return axisErr("window axis %q: durations must be greater than zero", a.Text)
+			return inputErr(KindAxis, "axis %q: durations must be greater than zero", a.Text)
 		}
 	case recipe.Flow:
 		if lo < 0 {
-			return axisErr("window axis %q: flows must not be negative", a.Text)
+			return inputErr(KindAxis, "axis %q: flows must not be negative", a.Text)
 		}
 		line := f.LineFor(a.Param)
 		if line == nil {
-			return axisErr("window axis %q: furnace %q has no gas line for %s", a.Text, f.Name, a.Param)
+			return inputErr(KindAxis, "axis %q: furnace %q has no gas line for %s", a.Text, f.Name, a.Param)
 		}
 		if fs := line.FullScaleOfGas(); hi > fs*(1+1e-9) {
-			return axisErr("window axis %q: %.4g sccm is above the %s line's full scale %.4g sccm on furnace %q",
+			return inputErr(KindAxis, "axis %q: %.4g sccm is above the %s line's full scale %.4g sccm on furnace %q",
 				a.Text, hi/gas.MolPerSCCMPerSecond, a.Param, fs/gas.MolPerSCCMPerSecond, f.Name)
 		}
 	}
@@ -224,23 +208,17 @@ func Window(plan *recipe.Plan, spec WindowSpec) (*Map, error) {
 		return nil, err
 	}
 	if spec.X.Param == spec.Y.Param {
-		return nil, axisErr("window axes %q and %q vary the same parameter %s", spec.X.Text, spec.Y.Text, spec.X.Param)
+		return nil, inputErr(KindAxis, "axes %q and %q vary the same parameter %s", spec.X.Text, spec.Y.Text, spec.X.Param)
 	}
 	for _, a := range []Axis{spec.X, spec.Y} {
 		if a.Steps < 2 {
-			return nil, axisErr("window axis %q: want at least 2 steps, got %d", a.Text, a.Steps)
+			return nil, inputErr(KindAxis, "axis %q: want at least 2 steps, got %d", a.Text, a.Steps)
 		}
 		if err := a.checkLimits(f); err != nil {
 			return nil, err
 		}
 	}
-	grow := -1
-	for i, s := range r.Steps {
-		if s.Kind == recipe.KindGrow {
-			grow = i
-			break
-		}
-	}
+	grow := r.FirstStep(recipe.KindGrow)
 	if grow < 0 {
 		return nil, fmt.Errorf("window: recipe %q has no grow step to vary", r.Name)
 	}
@@ -249,6 +227,15 @@ func Window(plan *recipe.Plan, spec WindowSpec) (*Map, error) {
 	for iy := range m.Points {
 		m.Points[iy] = make([]Point, len(m.Xs))
 	}
+	if err := m.fill(r, f, grow, spec); err != nil {
+		return nil, err
+	}
+	return m, nil
+}
+
+// fill predicts every point of the map on spec.Workers goroutines and
+// returns the first error.
+func (m *Map) fill(r *recipe.Recipe, f *recipe.Furnace, grow int, spec WindowSpec) error {
 	total := len(m.Xs) * len(m.Ys)
 	workers := spec.Workers
 	if workers <= 0 {
@@ -287,10 +274,7 @@ func Window(plan *recipe.Plan, spec WindowSpec) (*Map, error) {
 	}
 	close(jobs)
 	wg.Wait()
-	if firstErr != nil {
-		return nil, firstErr
-	}
-	return m, nil
+	return firstErr
 }
 
 // windowPoint predicts one grid point on a copy of the recipe.

@@ -3,6 +3,7 @@ package kinetics
 import (
 	"errors"
 	"math"
+	"strings"
 	"testing"
 )
 
@@ -33,18 +34,47 @@ func TestParseAxis(t *testing.T) {
 // Bad axes get exact messages, and every one wraps ErrAxis.
 func TestBadAxis(t *testing.T) {
 	for _, c := range []struct{ spec, want string }{
-		{"tempreature=950C:1050C:11", `window axis "tempreature=950C:1050C:11": unknown parameter "tempreature", want temperature, pressure, duration or a gas such as CH4`},
-		{"temperature=950C:1050C:0", `window axis "temperature=950C:1050C:0": want at least 2 steps, got 0`},
-		{"temperature=1000C:1000C:5", `window axis "temperature=1000C:1000C:5": the range is empty (from equals to)`},
-		{"temperature=950C:1050C", `window axis "temperature=950C:1050C": want PARAM=FROM:TO:STEPS, e.g. "temperature=950C:1050C:11"`},
-		{"temperature=950:1050C:3", `window axis "temperature=950:1050C:3": from "950" has no unit, want a temperature such as "1000 C" (units: C, K)`},
-		{"CH4=1sccm:5Torr:3", `window axis "CH4=1sccm:5Torr:3": to "5Torr" is a pressure, want a flow such as "20 sccm"`},
-		{"duration=1min:3min:x", `window axis "duration=1min:3min:x": steps "x" is not a whole number`},
+		{"tempreature=950C:1050C:11", `axis "tempreature=950C:1050C:11": unknown parameter "tempreature", want temperature, duration, pressure or a gas such as CH4`},
+		{"temperature=950C:1050C:0", `axis "temperature=950C:1050C:0": want 2 to 10000 steps, got 0`},
+		{"temperature=1000C:1000C:5", `axis "temperature=1000C:1000C:5": the range is empty (from equals to)`},
+		{"temperature=950C:1050C", `axis "temperature=950C:1050C": want PARAM=FROM:TO:STEPS, e.g. "temperature=950C:1050C:11"`},
+		{"temperature=950:1050C:3", `axis "temperature=950:1050C:3": from "950" has no unit, want a temperature such as "1000 C" (units: C, K)`},
+		{"CH4=1sccm:5Torr:3", `axis "CH4=1sccm:5Torr:3": to "5Torr" is a pressure, want a flow such as "20 sccm"`},
+		{"duration=1min:3min:x", `axis "duration=1min:3min:x": steps "x" is not a whole number`},
 	} {
 		_, err := ParseAxis(c.spec)
 		if err == nil || err.Error() != c.want || !errors.Is(err, ErrAxis) {
 			t.Errorf("%s:\ngot  %v\nwant %s", c.spec, err, c.want)
 		}
+	}
+}
+
+// Axis values hit both ends exactly and stay inside the range, and
+// non-finite ends are refused: the inputs CI's fuzzing found (also in
+// testdata/fuzz/FuzzParseAxis).
+func TestAxisValuesExact(t *testing.T) {
+	for _, c := range []struct{ name, spec, wantErr string }{
+		{"falling to zero flow", "CH4=1sccm:0sccm:14", ""},
+		{"falling temperature", "temperature=1050C:950C:7", ""},
+		{"many steps", "duration=1s:1e7s:9999", ""},
+		{"infinite from", "duration=1e308h:1h:2", "too large to hold"},
+		{"too many steps", "duration=1min:2min:10001", "want 2 to 10000 steps"},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			a, err := ParseAxis(c.spec)
+			if c.wantErr != "" {
+				if err == nil || !strings.Contains(err.Error(), c.wantErr) || !errors.Is(err, ErrAxis) {
+					t.Errorf("got %v, want an ErrAxis containing %q", err, c.wantErr)
+				}
+				return
+			}
+			if err != nil {
+				t.Fatal(err)
+			}
+			if msg := checkAxisValues(a); msg != "" {
+				t.Error(msg)
+			}
+		})
 	}
 }
 
@@ -64,11 +94,11 @@ func TestWindowLimits(t *testing.T) {
 	plan := loadTemplate(t, "lowpressure")
 	dur := mustAxis(t, "duration=5min:15min:3")
 	for _, c := range []struct{ spec, want string }{
-		{"temperature=950C:1150C:5", `window axis "temperature=950C:1150C:5": 1150 C is above the tube's service limit 1100 C on furnace "tube-1"`},
-		{"CH4=1sccm:80sccm:5", `window axis "CH4=1sccm:80sccm:5": 80 sccm is above the CH4 line's full scale 36 sccm on furnace "tube-1"`},
-		{"C2H2=1sccm:5sccm:3", `window axis "C2H2=1sccm:5sccm:3": furnace "tube-1" has no gas line for C2H2`},
-		{"pressure=1mTorr:1Torr:3", `window axis "pressure=1mTorr:1Torr:3": 0.1333 Pa is below the base pressure 0.6666 Pa on furnace "tube-1"`},
-		{"pressure=1Torr:2atm:3", `window axis "pressure=1Torr:2atm:3": 202650 Pa is above one atmosphere (101325 Pa)`},
+		{"temperature=950C:1150C:5", `axis "temperature=950C:1150C:5": 1150 C is above the tube's service limit 1100 C on furnace "tube-1"`},
+		{"CH4=1sccm:80sccm:5", `axis "CH4=1sccm:80sccm:5": 80 sccm is above the CH4 line's full scale 36 sccm on furnace "tube-1"`},
+		{"C2H2=1sccm:5sccm:3", `axis "C2H2=1sccm:5sccm:3": furnace "tube-1" has no gas line for C2H2`},
+		{"pressure=1mTorr:1Torr:3", `axis "pressure=1mTorr:1Torr:3": 0.1333 Pa is below the base pressure 0.6666 Pa on furnace "tube-1"`},
+		{"pressure=1Torr:2atm:3", `axis "pressure=1Torr:2atm:3": 202650 Pa is above one atmosphere (101325 Pa)`},
 	} {
 		_, err := Window(plan, WindowSpec{X: mustAxis(t, c.spec), Y: dur, Params: DefaultParams()})
 		if err == nil || err.Error() != c.want || !errors.Is(err, ErrAxis) {
@@ -76,7 +106,7 @@ func TestWindowLimits(t *testing.T) {
 		}
 	}
 	_, err := Window(plan, WindowSpec{X: dur, Y: mustAxis(t, "duration=1min:2min:2"), Params: DefaultParams()})
-	if want := `window axes "duration=5min:15min:3" and "duration=1min:2min:2" vary the same parameter duration`; err == nil || err.Error() != want {
+	if want := `axes "duration=5min:15min:3" and "duration=1min:2min:2" vary the same parameter duration`; err == nil || err.Error() != want {
 		t.Errorf("same parameter twice:\ngot  %v\nwant %s", err, want)
 	}
 }

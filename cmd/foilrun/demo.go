@@ -147,7 +147,7 @@ func demoRun(ctx context.Context, o *demoOptions) error {
 		{"9. Which parameters gave good coverage?", []string{db, "runs", "best", "--metric", "coverage", "--min", "0.95", "--by", "ch4_flow_sccm,growth_time_min", "--bins", "3"}, 0},
 		{"10. Which parameters matter most?", []string{db, "runs", "rank", "--metric", "coverage", "--min", "0.95"}, 0},
 		{"11. Calibrate the kinetics from the log", []string{db, "fit", "--metric", "coverage,density", "--where", `status = "done"`, "--furnace", paths.furnaceA, "-o", fitted, "--plot", filepath.Join(paths.plots, "parity.png")}, 0},
-		{"12. Plan the next recipe", []string{"suggest", paths.recipe, "--params", fitted, "--target", "coverage>=0.99", "--target", "domain-size>=15um", "--vary", "temperature=950C:1050C,CH4,time", "-o", suggested}, 0},
+		{"12. Plan the next recipe", []string{"suggest", paths.recipe, "--params", fitted, "--target", "coverage>=0.99", "--target", "domain_size>=15um", "--vary", "temperature=950C:1050C,CH4,duration", "-o", suggested}, 0},
 		{"13. Check the suggested recipe", []string{"check", suggested}, 0},
 	}
 	if _, err := o.walk(steps); err != nil {

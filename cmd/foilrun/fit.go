@@ -289,9 +289,10 @@ func fitRun(ctx context.Context, opts *fitOptions) error {
 	if err != nil {
 		if errors.Is(err, kinetics.ErrFitInput) {
 			hint := "log outcomes with foilrun outcome add, or widen --where"
-			if strings.Contains(err.Error(), "one temperature") {
+			var ie *kinetics.InputError
+			if errors.As(err, &ie) && ie.Reason == kinetics.ReasonOneTemperature {
 				hint = "fix the energies with --fix En=VALUE --fix Eg=VALUE, or add runs grown at other temperatures"
-			} else if strings.Contains(err.Error(), "unknown parameter") {
+			} else if errors.As(err, &ie) && ie.Reason == kinetics.ReasonUnknownName {
 				hint = "parameters: En, I0, a, b, Eg, G0, N0"
 			}
 			return withHint(usageError{err}, hint)

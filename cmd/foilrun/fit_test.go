@@ -223,7 +223,7 @@ func TestSuggestCommand(t *testing.T) {
 	dir := t.TempDir()
 	out := filepath.Join(dir, "fast.yaml")
 	code, stdout, errs := runCLI(t, "suggest", "../../templates/recipe-lowpressure.yaml", "--target", "coverage>=0.99",
-		"--vary", "temperature=950C:1050C,CH4,time", "-o", out)
+		"--vary", "temperature=950C:1050C,CH4,duration", "-o", out)
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
@@ -235,7 +235,7 @@ func TestSuggestCommand(t *testing.T) {
 	if !strings.Contains(string(written), "pretreatment: acetic acid dip 10 min") || !strings.Contains(string(written), "# pass figure") {
 		t.Errorf("the written recipe lost the user's fields or comments:\n%s", written)
 	}
-	code, stdout, errs = runCLI(t, "suggest", "../../templates/recipe-lowpressure.yaml", "--target", "domain-size>=5mm")
+	code, stdout, errs = runCLI(t, "suggest", "../../templates/recipe-lowpressure.yaml", "--target", "domain_size>=5mm")
 	if code != 2 {
 		t.Errorf("impossible target: exit %d, want 2", code)
 	}

@@ -156,11 +156,11 @@ func TestWindowBadInput(t *testing.T) {
 		want string
 	}{
 		{"unknown parameter", []string{"--vary", "tempreature=950C:1050C:11", "--vary", "CH4=5sccm:35sccm:3"},
-			`foilrun: window axis "tempreature=950C:1050C:11": unknown parameter "tempreature", want temperature, pressure, duration or a gas such as CH4` + "\n" + hint},
+			`foilrun: axis "tempreature=950C:1050C:11": unknown parameter "tempreature", want temperature, duration, pressure or a gas such as CH4` + "\n" + hint},
 		{"zero steps", []string{"--vary", "temperature=950C:1050C:0", "--vary", "CH4=5sccm:35sccm:3"},
-			`foilrun: window axis "temperature=950C:1050C:0": want at least 2 steps, got 0` + "\n" + hint},
+			`foilrun: axis "temperature=950C:1050C:0": want 2 to 10000 steps, got 0` + "\n" + hint},
 		{"outside limits", []string{"--vary", "temperature=950C:1150C:5", "--vary", "CH4=5sccm:35sccm:3"},
-			`foilrun: window axis "temperature=950C:1150C:5": 1150 C is above the tube's service limit 1100 C on furnace "tube-1"` + "\n"},
+			`foilrun: axis "temperature=950C:1150C:5": 1150 C is above the tube's service limit 1100 C on furnace "tube-1"` + "\n"},
 		{"one axis", []string{"--vary", "temperature=950C:1050C:5"}, "foilrun: want exactly two --vary PARAM=FROM:TO:STEPS, got 1\n"},
 		{"show", []string{"--vary", "temperature=950C:1050C:5", "--vary", "CH4=5sccm:35sccm:3", "--show", "speed"},
 			`foilrun: --show "speed": want coverage, nuclei_density, domain_size, time_to_99` + "\n"},

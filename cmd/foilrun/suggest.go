@@ -246,9 +246,9 @@ func candidateTable(cs []suggestCandidateJSON, targets []kinetics.Target) table 
 
 func targetText(tg kinetics.Target, v float64) string {
 	switch tg.Quantity {
-	case kinetics.TargetDomainSize:
+	case kinetics.MetricDomainSize:
 		return num(v*1e6, 4) + " um"
-	case kinetics.TargetNucleiDensity:
+	case kinetics.MetricNucleiDensity:
 		return num(v*1e-6, 4) + " /mm2"
 	}
 	return fixed(v*100, 3) + " %"

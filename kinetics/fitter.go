@@ -1,0 +1,226 @@
+package kinetics
+
+import (
+	"fmt"
+	"math"
+	"sync"
+
+	"gonum.org/v1/gonum/mat"
+
+	"github.com/foilrun/foilrun/kinetics/internal/lm"
+)
+
+func sq(x float64) float64 { return x * x }
+
+type fitRow struct {
+	obs     int
+	density bool
+	y       float64 // measured value on the fit scale
+}
+
+type fitter struct {
+	s        FitSettings
+	start    Params
+	mode     Mode
+	v0       fitVec
+	lo, hi   fitVec
+	fixed    [nFit]bool
+	free     []int
+	all      []Observation
+	obs      []int // indexes of used observations
+	rows     []fitRow
+	sc, sd   float64
+	xlo, xhi float64
+	warnings []string
+	status   FitStatus
+	iters    int
+	evals    int
+	jac      *mat.Dense
+	idx      [][2]int // rows of each used observation
+}
+
+func (f *fitter) warn(format string, args ...any) {
+	f.warnings = append(f.warnings, fmt.Sprintf(format, args...))
+}
+
+// cloglog returns ln X of a coverage clipped to [ε, 1 − ε].
+func (f *fitter) cloglog(theta float64) float64 {
+	return f.clogX(-math.Log1p(-math.Min(theta, 1-f.s.Epsilon)))
+}
+
+func (f *fitter) clogX(X float64) float64 { return math.Log(math.Min(math.Max(X, f.xlo), f.xhi)) }
+
+func (f *fitter) vec(x []float64) fitVec {
+	v := f.v0
+	for j, i := range f.free {
+		v[i] = x[j]
+	}
+	return v
+}
+
+// outputs returns cloglog θ and ln N of a prepared run.
+func (f *fitter) outputs(pr *Prepared, v *fitVec, iso []float64) (c, lnN float64) {
+	X, N := pr.final(v, iso, -1, math.NaN())
+	return f.clogX(X), math.Log(math.Max(N, 1))
+}
+
+// parallel calls fn(k) for every used observation index position k.
+func (f *fitter) parallel(fn func(k int)) {
+	n := len(f.obs)
+	w := f.s.Workers
+	if n < 64 || w <= 1 {
+		for k := range n {
+			fn(k)
+		}
+		return
+	}
+	var wg sync.WaitGroup
+	chunk := (n + w - 1) / w
+	for lo := 0; lo < n; lo += chunk {
+		hi := min(lo+chunk, n)
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for k := lo; k < hi; k++ {
+				fn(k)
+			}
+		}()
+	}
+	wg.Wait()
+}
+
+// rowIndex returns the row indexes of each used observation (at most two).
+func (f *fitter) rowIndex() [][2]int {
+	idx := make([][2]int, len(f.obs))
+	pos := map[int]int{}
+	for k, o := range f.obs {
+		pos[o] = k
+		idx[k] = [2]int{-1, -1}
+	}
+	for r, row := range f.rows {
+		k := pos[row.obs]
+		if row.density {
+			idx[k][1] = r
+		} else {
+			idx[k][0] = r
+		}
+	}
+	return idx
+}
+
+func (f *fitter) residuals(r, x []float64) {
+	v := f.vec(x)
+	idx := f.idx
+	f.parallel(func(k int) {
+		c, lnN := f.outputs(f.all[f.obs[k]].Prepared, &v, nil)
+		if i := idx[k][0]; i >= 0 {
+			r[i] = (f.rows[i].y - c) / f.sc
+		}
+		if i := idx[k][1]; i >= 0 {
+			r[i] = (f.rows[i].y - lnN) / f.sd
+		}
+	})
+	f.evals++
+}
+
+// jacobian fills J (rows × free) with ∂r/∂x.
+func (f *fitter) jacobian(J *mat.Dense, x []float64) {
+	v := f.vec(x)
+	idx := f.idx
+	const h = 1e-6
+	f.parallel(func(k int) {
+		pr := f.all[f.obs[k]].Prepared
+		var gc, gn fitVec // ∂(cloglog θ)/∂v, ∂(ln N)/∂v
+		if pr.closed() {
+			f.closedGrad(pr, &v, &gc, &gn)
+			f.setRows(J, idx[k], &gc, &gn)
+			return
+		}
+		ch := pr.isoChannels(&v, make([]float64, 0, 2*pr.nIso))
+		c0, n0 := f.outputs(pr, &v, ch)
+		for c := range ch {
+			save := ch[c]
+			ch[c] += h
+			c1, n1 := f.outputs(pr, &v, ch)
+			ch[c] = save
+			pr.channelGrad(c, (c1-c0)/h, &gc)
+			pr.channelGrad(c, (n1-n0)/h, &gn)
+		}
+		// Parameters that reach the model other than through the
+		// constant-temperature channels: all of them on ramps, N0 always.
+		ramps := pr.nIso < len(pr.segs)
+		for _, i := range f.free {
+			if !ramps && i != fitLnN0 {
+				continue
+			}
+			w := v
+			w[i] += h
+			c1, n1 := f.outputs(pr, &w, ch)
+			gc[i] += (c1 - c0) / h
+			gn[i] += (n1 - n0) / h
+		}
+		f.setRows(J, idx[k], &gc, &gn)
+	})
+	f.evals++
+}
+
+// setRows writes one run's gradients into its Jacobian rows.
+func (f *fitter) setRows(J *mat.Dense, rows [2]int, gc, gn *fitVec) {
+	for j, i := range f.free {
+		if r := rows[0]; r >= 0 {
+			J.Set(r, j, -gc[i]/f.sc)
+		}
+		if r := rows[1]; r >= 0 {
+			J.Set(r, j, -gn[i]/f.sd)
+		}
+	}
+}
+
+// closedGrad gives the analytic gradients of cloglog θ and ln N for a
+// closed-form run (see closedForm): ∂ln X/∂ln I = 1, ∂ln X/∂ln G = 2 inside
+// the clip, 0 outside.
+func (f *fitter) closedGrad(pr *Prepared, v *fitVec, gc, gn *fitVec) {
+	ps := &pr.segs[0]
+	if ps.iso.etch {
+		return
+	}
+	X, N, dI, dG := closedForm(pr.Shape.Kappa(), ps.iso.lnI(v), ps.iso.lnG(v), ps.duration)
+	cI, cG := 1.0, 2.0
+	if X <= f.xlo || X >= f.xhi {
+		cI, cG = 0, 0
+	}
+	if N <= 1 {
+		dI, dG = 0, 0
+	}
+	pr.channelGrad(0, cI, gc)
+	pr.channelGrad(1, cG, gc)
+	pr.channelGrad(0, dI, gn)
+	pr.channelGrad(1, dG, gn)
+}
+
+// minimize runs Levenberg–Marquardt (package lm) from x within the bounds
+// and returns the best point; the status, iterations and final Jacobian
+// are kept for the result.
+func (f *fitter) minimize(x []float64) []float64 {
+	lo, hi := make([]float64, len(x)), make([]float64, len(x))
+	for j, i := range f.free {
+		lo[j], hi[j] = f.lo[i], f.hi[i]
+	}
+	s := lm.Settings{MaxIterations: f.s.MaxIterations}
+	if f.s.Progress != nil {
+		done := f.iters
+		s.Progress = func(it int, cost float64) { f.s.Progress(done+it, 2*cost) }
+	}
+	res := lm.Minimize(lm.Problem{M: len(f.rows), Residuals: f.residuals, Jacobian: f.jacobian, Lower: lo, Upper: hi}, x, s)
+	f.iters += res.Iterations
+	f.jac = res.Jacobian
+	switch {
+	case res.Status.Converged():
+		f.status = Converged
+	case res.Status == lm.IterationLimit:
+		f.status = IterationLimit
+	default:
+		f.status = Stalled
+	}
+	return res.X
+}

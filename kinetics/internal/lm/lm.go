@@ -1,0 +1,344 @@
+package lm
+
+import (
+	"fmt"
+	"math"
+
+	"gonum.org/v1/gonum/mat"
+)
+
+// Problem is a least-squares problem: M residuals of len(x) parameters.
+type Problem struct {
+	// M is the number of residuals, ≥ 1.
+	M int
+	// Residuals writes r(x) into r (length M). It must not keep x or r.
+	Residuals func(r, x []float64)
+	// Jacobian writes J = ∂r/∂x (M × len(x)) at x into J. Nil means
+	// forward differences of Residuals (ForwardJacobian).
+	Jacobian func(J *mat.Dense, x []float64)
+	// Lower and Upper, when not nil, bound every parameter (length
+	// len(x), Lower[j] ≤ Upper[j]); steps are projected onto the box.
+	// Nil means unbounded.
+	Lower, Upper []float64
+}
+
+// Settings tunes Minimize. The zero value works: every zero field takes
+// its default.
+type Settings struct {
+	// MaxIterations bounds the iterations (Jacobian evaluations after the
+	// first), ≥ 1; default 200.
+	MaxIterations int
+	// GradientTolerance stops when max|g_j| ≤ GradientTolerance·(1 + F),
+	// g = Jᵀr, in units of F per unit of x; > 0, default 1e-12.
+	GradientTolerance float64
+	// StepTolerance stops when an accepted step has ‖Δx‖ ≤
+	// StepTolerance·(‖x‖ + StepTolerance), relative; > 0, default 1e-10.
+	StepTolerance float64
+	// CostTolerance stops when an accepted step lowers F by no more than
+	// CostTolerance·F, relative; > 0, default 1e-12.
+	CostTolerance float64
+	// StallTolerance: when no step lowers F, the point still counts as
+	// converged (PrecisionLimit) if max|g_j| ≤ StallTolerance·(1 + F);
+	// > 0, default 1e-6.
+	StallTolerance float64
+	// InitialDamping is τ in λ₀ = τ·max_j (JᵀJ)_jj, dimensionless; > 0,
+	// default 1e-3 (Madsen, Nielsen & Tingleff 2004 suggest 1e-6 to 1
+	// depending on how good the start is).
+	InitialDamping float64
+	// Progress, when not nil, is called after each accepted iteration with
+	// its number (from 1) and the cost F.
+	Progress func(iteration int, cost float64)
+}
+
+func (s Settings) withDefaults() Settings {
+	def := func(v *float64, d float64) {
+		if *v <= 0 {
+			*v = d
+		}
+	}
+	if s.MaxIterations <= 0 {
+		s.MaxIterations = 200
+	}
+	def(&s.GradientTolerance, 1e-12)
+	def(&s.StepTolerance, 1e-10)
+	def(&s.CostTolerance, 1e-12)
+	def(&s.StallTolerance, 1e-6)
+	def(&s.InitialDamping, 1e-3)
+	return s
+}
+
+// Status says why Minimize stopped.
+type Status int
+
+// The statuses; see the package comment for the rules.
+const (
+	GradientConvergence Status = iota + 1
+	StepConvergence
+	CostConvergence
+	PrecisionLimit
+	IterationLimit
+	Stalled
+)
+
+var statusNames = map[Status]string{
+	GradientConvergence: "gradient convergence",
+	StepConvergence:     "step convergence",
+	CostConvergence:     "cost convergence",
+	PrecisionLimit:      "no step lowers the cost; gradient small (precision limit)",
+	IterationLimit:      "iteration limit reached",
+	Stalled:             "stalled: no step lowers the cost",
+}
+
+// String names the status in words.
+func (s Status) String() string {
+	if n, ok := statusNames[s]; ok {
+		return n
+	}
+	return fmt.Sprintf("Status(%d)", int(s))
+}
+
+// Converged reports whether the status is one of the convergence tests
+// (gradient, step, cost, precision limit).
+func (s Status) Converged() bool { return s >= GradientConvergence && s <= PrecisionLimit }
+
+// Result is where Minimize stopped: always the best point reached.
+type Result struct {
+	X         []float64  // parameters
+	Cost      float64    // F = ½·Σ r² at X
+	Residuals []float64  // r at X
+	Jacobian  *mat.Dense // J at X (M × len(X))
+	Status    Status
+	// Iterations counts the iterations; Evaluations the calls of
+	// Residuals and JacobianEvaluations those of Jacobian (or of the
+	// forward differences).
+	Iterations, Evaluations, JacobianEvaluations int
+}
+
+// Minimize runs Levenberg–Marquardt from x0 (which it does not change)
+// and returns the best point reached with a Status. It panics when p.M < 1,
+// len(x0) < 1, p.Residuals is nil, or the bounds have the wrong length or
+// Lower[j] > Upper[j].
+func Minimize(p Problem, x0 []float64, s Settings) Result {
+	n := len(x0)
+	p.mustBeValid(n)
+	s = s.withDefaults()
+	m := &minimizer{p: p, s: s, n: n}
+	return m.run(x0)
+}
+
+func (p Problem) mustBeValid(n int) {
+	if p.M < 1 || n < 1 {
+		panic(fmt.Sprintf("lm: Minimize with %d residuals and %d parameters", p.M, n))
+	}
+	if p.Residuals == nil {
+		panic("lm: Minimize with a nil Residuals function")
+	}
+	for _, b := range [][]float64{p.Lower, p.Upper} {
+		if b != nil && len(b) != n {
+			panic(fmt.Sprintf("lm: bounds of length %d for %d parameters", len(b), n))
+		}
+	}
+	if p.Lower != nil && p.Upper != nil {
+		for j := range n {
+			if p.Lower[j] > p.Upper[j] {
+				panic(fmt.Sprintf("lm: lower bound %g above upper bound %g for parameter %d", p.Lower[j], p.Upper[j], j))
+			}
+		}
+	}
+}
+
+type minimizer struct {
+	p   Problem
+	s   Settings
+	n   int
+	res Result
+}
+
+func (m *minimizer) residuals(r, x []float64) {
+	m.p.Residuals(r, x)
+	m.res.Evaluations++
+}
+
+func (m *minimizer) jacobian(J *mat.Dense, x []float64) {
+	if m.p.Jacobian != nil {
+		m.p.Jacobian(J, x)
+	} else {
+		ForwardJacobian(J, m.p.Residuals, x)
+	}
+	m.res.JacobianEvaluations++
+}
+
+// clamp projects x onto the box.
+func (m *minimizer) clamp(x []float64) {
+	for j := range x {
+		if m.p.Lower != nil {
+			x[j] = math.Max(x[j], m.p.Lower[j])
+		}
+		if m.p.Upper != nil {
+			x[j] = math.Min(x[j], m.p.Upper[j])
+		}
+	}
+}
+
+func (m *minimizer) run(x0 []float64) Result {
+	M, n := m.p.M, m.n
+	x := append([]float64(nil), x0...)
+	m.clamp(x)
+	r, rn := make([]float64, M), make([]float64, M)
+	m.residuals(r, x)
+	cost := dot(r, r) / 2
+	J := mat.NewDense(M, n, nil)
+	m.jacobian(J, x)
+	var A mat.SymDense
+	A.SymOuterK(1, J.T())
+	lambda := 0.0
+	for j := range n {
+		lambda = math.Max(lambda, A.At(j, j))
+	}
+	lambda *= m.s.InitialDamping
+	nu := 2.0
+	status := IterationLimit
+	g := mat.NewVecDense(n, nil)
+	for it := 1; it <= m.s.MaxIterations; it++ {
+		m.res.Iterations++
+		A.SymOuterK(1, J.T())
+		g.MulVec(J.T(), mat.NewVecDense(M, r))
+		gmax := 0.0
+		for j := range n {
+			gmax = math.Max(gmax, math.Abs(g.AtVec(j)))
+		}
+		if gmax <= m.s.GradientTolerance*(1+cost) {
+			status = GradientConvergence
+			break
+		}
+		st := m.step(&A, g, J, x, r, rn, cost, &lambda, &nu)
+		if !st.accepted {
+			status = Stalled
+			if gmax <= m.s.StallTolerance*(1+cost) {
+				status = PrecisionLimit
+			}
+			break
+		}
+		r, rn = rn, r
+		cost = st.cost
+		m.jacobian(J, x)
+		if m.s.Progress != nil {
+			m.s.Progress(it, cost)
+		}
+		if st.status != 0 {
+			status = st.status
+			break
+		}
+	}
+	m.res.X, m.res.Cost, m.res.Residuals, m.res.Jacobian, m.res.Status = x, cost, r, J, status
+	return m.res
+}
+
+// stepResult is the outcome of one iteration's search for a step.
+type stepResult struct {
+	accepted bool
+	cost     float64
+	status   Status // StepConvergence or CostConvergence, else 0
+}
+
+// step tries damped steps from x until one lowers the cost; on success it
+// writes the new point into x and its residuals into rn.
+func (m *minimizer) step(A *mat.SymDense, g *mat.VecDense, J *mat.Dense, x, r, rn []float64, cost float64, lambda, nu *float64) stepResult {
+	n := m.n
+	xn := make([]float64, n)
+	dx := make([]float64, n)
+	D := mat.NewSymDense(n, nil)
+	for try := 0; try < 40; try++ {
+		D.CopySym(A)
+		for j := range n {
+			D.SetSym(j, j, A.At(j, j)+*lambda*math.Max(A.At(j, j), 1e-12))
+		}
+		var ch mat.Cholesky
+		var h mat.VecDense
+		if !ch.Factorize(D) || ch.SolveVecTo(&h, g) != nil {
+			*lambda *= *nu
+			*nu *= 2
+			continue
+		}
+		for j := range n {
+			xn[j] = x[j] - h.AtVec(j)
+		}
+		m.clamp(xn)
+		m.residuals(rn, xn)
+		costn := dot(rn, rn) / 2
+		if costn < cost && !math.IsNaN(costn) {
+			for j := range n {
+				dx[j] = xn[j] - x[j]
+			}
+			rho := (cost - costn) / math.Max(predicted(J, r, dx), 1e-300)
+			*lambda *= math.Max(1.0/3, 1-math.Pow(2*rho-1, 3))
+			*nu = 2
+			res := stepResult{accepted: true, cost: costn}
+			switch {
+			case math.Sqrt(dot(dx, dx)) <= m.s.StepTolerance*(math.Sqrt(dot(x, x))+m.s.StepTolerance):
+				res.status = StepConvergence
+			case cost-costn <= m.s.CostTolerance*cost || costn <= 1e-300:
+				res.status = CostConvergence
+			}
+			copy(x, xn)
+			return res
+		}
+		*lambda *= *nu
+		*nu *= 2
+		if *lambda > 1e300 {
+			break
+		}
+	}
+	return stepResult{}
+}
+
+// predicted returns the reduction of the linear model for step dx,
+// L(0) − L(dx) = ½·(‖r‖² − ‖r + J·dx‖²).
+func predicted(J *mat.Dense, r, dx []float64) float64 {
+	var d mat.VecDense
+	d.MulVec(J, mat.NewVecDense(len(dx), dx))
+	pred := 0.0
+	for i := range r {
+		pred += r[i]*r[i] - (r[i]+d.AtVec(i))*(r[i]+d.AtVec(i))
+	}
+	return pred / 2
+}
+
+func dot(a, b []float64) float64 {
+	s := 0.0
+	for i := range a {
+		s += a[i] * b[i]
+	}
+	return s
+}
+
+// ForwardJacobian writes the forward-difference Jacobian of residuals at x
+// into J (rows the residuals, columns the parameters),
+//
+//	J_ij ≈ (r_i(x + h_j·e_j) − r_i(x)) / h_j,  h_j = √ε·|x_j| (√ε when x_j = 0),
+//
+// ε the float64 machine epsilon (truncation error O(h), rounding error
+// O(ε·|r|/h); Nocedal & Wright, Numerical Optimization, 2nd ed., Springer
+// (2006), §8.1). It panics if J does not have len(x) columns.
+func ForwardJacobian(J *mat.Dense, residuals func(r, x []float64), x []float64) {
+	M, n := J.Dims()
+	if n != len(x) {
+		panic(fmt.Sprintf("lm: ForwardJacobian with %d columns for %d parameters", n, len(x)))
+	}
+	r0, r1 := make([]float64, M), make([]float64, M)
+	residuals(r0, x)
+	w := append([]float64(nil), x...)
+	for j := range n {
+		h := math.Sqrt(0x1p-52) * math.Abs(x[j])
+		if h == 0 {
+			h = math.Sqrt(0x1p-52)
+		}
+		w[j] = x[j] + h
+		h = w[j] - x[j] // the step actually taken
+		residuals(r1, w)
+		for i := range M {
+			J.Set(i, j, (r1[i]-r0[i])/h)
+		}
+		w[j] = x[j]
+	}
+}
