@@ -73,17 +73,20 @@ const (
 // InputError is an error about what a caller gave the package: a parse
 // error of a command-line style value, or data a computation cannot use.
 // Msg is a lowercase context chain with the bad value quoted and names no
-// command-line flag; Hint, when not empty, says what to do and fits on a
-// second line. It unwraps to the sentinel of its Kind (ErrAxis,
+// command-line flag; Advice, when not empty, says what to do and fits on a
+// second line (Hint returns it, for callers that print hints of any error). It unwraps to the sentinel of its Kind (ErrAxis,
 // ErrSuggest, ErrFitInput, ErrMetric or ErrParams).
 type InputError struct {
 	Kind   InputKind
 	Reason Reason // "" unless a caller may want to branch on it
 	Msg    string
-	Hint   string
+	Advice string
 }
 
 func (e *InputError) Error() string { return e.Msg }
+
+// Hint returns what to do about the error, or "".
+func (e *InputError) Hint() string { return e.Advice }
 
 // Unwrap returns the sentinel of the error's kind.
 func (e *InputError) Unwrap() error {
@@ -109,7 +112,7 @@ func inputErr(kind InputKind, format string, args ...any) *InputError {
 
 // hinted sets the error's hint and returns it.
 func (e *InputError) hinted(hint string) *InputError {
-	e.Hint = hint
+	e.Advice = hint
 	return e
 }
 

@@ -45,8 +45,8 @@ func TestOldSpellingsRefused(t *testing.T) {
 			if !errors.As(err, &ie) || err.Error() != c.want {
 				t.Fatalf("got %v, want %s", err, c.want)
 			}
-			if ie.Kind != c.kind || ie.Reason != ReasonRenamed || !errors.Is(err, c.sentinel) || ie.Hint == "" {
-				t.Errorf("got kind %s reason %q hint %q (wraps %v: %v), want kind %s, reason %q, a hint", ie.Kind, ie.Reason, ie.Hint, c.sentinel, errors.Is(err, c.sentinel), c.kind, ReasonRenamed)
+			if ie.Kind != c.kind || ie.Reason != ReasonRenamed || !errors.Is(err, c.sentinel) || ie.Advice == "" {
+				t.Errorf("got kind %s reason %q hint %q (wraps %v: %v), want kind %s, reason %q, a hint", ie.Kind, ie.Reason, ie.Advice, c.sentinel, errors.Is(err, c.sentinel), c.kind, ReasonRenamed)
 			}
 		})
 	}
@@ -88,7 +88,7 @@ func TestInputError(t *testing.T) {
 		{KindSuggest, ErrSuggest, "suggest"}, {KindFix, ErrFitInput, "fix"}, {KindFit, ErrFitInput, "fit"},
 		{KindMetric, ErrMetric, "metric"}, {KindParams, ErrParams, "params"},
 	} {
-		err := error(&InputError{Kind: c.kind, Msg: "m", Hint: "h"})
+		err := error(&InputError{Kind: c.kind, Msg: "m", Advice: "h"})
 		if !errors.Is(err, c.sentinel) || err.Error() != "m" || c.kind.String() != c.name {
 			t.Errorf("%s: Is(%v) %v, Error %q, String %q", c.name, c.sentinel, errors.Is(err, c.sentinel), err.Error(), c.kind.String())
 		}
