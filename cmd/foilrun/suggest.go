@@ -108,15 +108,15 @@ type suggestResultJSON struct {
 }
 
 func candidateJSON(c kinetics.Candidate, grow recipe.Step) suggestCandidateJSON {
-	j := suggestCandidateJSON{TemperatureC: round6(c.Temperature - 273.15), FlowsSCCM: map[string]float64{}, DurationMin: round6(c.Duration / 60),
-		Coverage: round6(c.Coverage), NucleiPerMM2: round6(c.NucleiDensity * 1e-6), DomainUm: round6(c.DomainSize * 1e6), Margins: c.Margins}
+	j := suggestCandidateJSON{TemperatureC: round6(recipe.Celsius(c.Temperature)), FlowsSCCM: map[string]float64{}, DurationMin: round6(inUnit(c.Duration, "min")),
+		Coverage: round6(c.Coverage), NucleiPerMM2: round6(inUnit(c.NucleiDensity, "1/mm2")), DomainUm: round6(inUnit(c.DomainSize, "um")), Margins: c.Margins}
 	for _, fl := range grow.Flows {
-		j.FlowsSCCM[fl.Gas] = round6(fl.Flow.SI / gas.MolPerSCCMPerSecond)
+		j.FlowsSCCM[fl.Gas] = round6(inUnit(fl.Flow.SI, "sccm"))
 	}
 	for k, v := range c.Flows {
-		j.FlowsSCCM[k] = round6(v / gas.MolPerSCCMPerSecond)
+		j.FlowsSCCM[k] = round6(inUnit(v, "sccm"))
 	}
-	j.MethaneSCC = round6(j.FlowsSCCM["CH4"] * c.Duration / 60)
+	j.MethaneSCC = round6(j.FlowsSCCM["CH4"] * inUnit(c.Duration, "min"))
 	for _, b := range c.Bounds {
 		j.Bounds = append(j.Bounds, round6(b))
 	}
@@ -247,9 +247,9 @@ func candidateTable(cs []suggestCandidateJSON, targets []kinetics.Target) table 
 func targetText(tg kinetics.Target, v float64) string {
 	switch tg.Quantity {
 	case kinetics.TargetDomainSize:
-		return num(v*1e6, 4) + " um"
+		return num(inUnit(v, "um"), 4) + " um"
 	case kinetics.TargetNucleiDensity:
-		return num(v*1e-6, 4) + " /mm2"
+		return num(inUnit(v, "1/mm2"), 4) + " /mm2"
 	}
 	return fixed(v*100, 3) + " %"
 }
