@@ -4,8 +4,8 @@
 // demo draws its invented foil with them.
 //
 // A Scene is a field of regular hexagonal domains on copper, lit with a
-// linear brightness gradient, modulated by a texture and blurred by
-// Gaussian noise. Rendering is deterministic: every random draw comes from
+// linear brightness gradient, modulated by a texture, with Gaussian noise
+// added. Rendering is deterministic: every random draw comes from
 // the *rand.Rand the caller passes in. Lengths are in pixels; pixel (i, j)
 // covers [i, i+1) × [j, j+1). Gray levels are on the 0–255 scale.
 //
