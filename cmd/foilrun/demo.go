@@ -12,9 +12,7 @@ import (
 
 	"github.com/spf13/cobra"
 
-	"github.com/foilrun/foilrun/kinetics"
-	"github.com/foilrun/foilrun/recipe"
-	"github.com/foilrun/foilrun/store/sqlite"
+	"github.com/foilrun/foilrun/cmd/foilrun/internal/demolab"
 )
 
 type demoOptions struct {
@@ -70,69 +68,30 @@ func demoRun(ctx context.Context, o *demoOptions) error {
 			return withHint(usagef("%s is not empty", o.dir), "give an empty or new folder, or pass --force to reuse an earlier demo")
 		}
 	}
-	paths, err := layDemoLab(o.dir)
+	paths, err := demolab.Lay(o.dir)
 	if err != nil {
 		return err
-	}
-	for _, suffix := range []string{"", "-wal", "-shm"} {
-		_ = os.Remove(paths.db + suffix)
 	}
 	out := o.io.Out
 	fmt.Fprintf(out, "foilrun demo: an invented lab in %s (no real people, labs or products)\n", o.dir)
-
-	// Seed the run log.
-	log, err := sqlite.Open(ctx, paths.db)
+	if err := demolab.SeedLog(ctx, paths, o.runs); err != nil {
+		return err
+	}
+	fmt.Fprintf(out, "seeded %s with %d invented runs (outcomes from the kinetics model plus noise)\n", paths.DB, o.runs)
+	short, err := demolab.WriteShortRun(paths)
 	if err != nil {
-		return err
-	}
-	if err := seedRuns(ctx, log, paths, o.runs); err != nil {
-		log.Close()
-		return fmt.Errorf("seed the demo run log: %w", err)
-	}
-	if err := log.Close(); err != nil {
-		return err
-	}
-	fmt.Fprintf(out, "seeded %s with %d invented runs (outcomes from the kinetics model plus noise)\n", paths.db, o.runs)
-
-	// The run the walk-through logs is a short nucleation run on the same
-	// recipe, stopped at about 20 % coverage so the domains can be counted:
-	// its recipe, furnace log and micrograph.
-	f, err := recipe.LoadFurnace(paths.furnaceA)
-	if err != nil {
-		return err
-	}
-	minutes, res, err := shortGrowth(f, 0.2)
-	if err != nil {
-		return err
-	}
-	shortRecipe := filepath.Join(paths.recipes, "lowpressure-nucleation.yaml")
-	if err := os.WriteFile(shortRecipe, []byte(demoRecipe(1000, nucleationCH4, minutes)), 0o644); err != nil {
-		return err
-	}
-	r, err := recipe.LoadRecipe(shortRecipe)
-	if err != nil {
-		return err
-	}
-	plan := recipe.Derive(r, f)
-	furnaceLog := filepath.Join(paths.logs, "tube-a-run.csv")
-	if err := writeFurnaceLog(furnaceLog, plan); err != nil {
-		return err
-	}
-	const pixel = 0.2e-6
-	micrograph := filepath.Join(paths.images, "foil-nucleation.png")
-	if _, err := writeDemoMicrograph(micrograph, pixel, res.NucleiDensity, res.Coverage); err != nil {
 		return err
 	}
 
-	db := "--db=" + paths.db
-	fitted := filepath.Join(paths.dir, "params-fitted.yaml")
-	suggested := filepath.Join(paths.recipes, "suggested.yaml")
+	db := "--db=" + paths.DB
+	fitted := filepath.Join(paths.Dir, "params-fitted.yaml")
+	suggested := filepath.Join(paths.Recipes, "suggested.yaml")
 	steps := []demoStep{
-		{"1. Check the recipe against the furnace", []string{"check", paths.recipe}, 0},
-		{"2. Hazards of the recipe in this room", []string{"safety", paths.recipe}, 0},
-		{"3. Print the pre-run checklist", []string{"checklist", paths.recipe, "--format", "markdown", "-o", filepath.Join(paths.dir, "checklist.md")}, 0},
-		{"4. Predict coverage and domain size", []string{"predict", paths.recipe, "--plot", filepath.Join(paths.plots, "predict.png")}, 0},
-		{"5. Log a short nucleation run: start it", []string{db, "run", "start", shortRecipe, "--operator", "operator A", "--lot", "demo-lot-4"}, 0},
+		{"1. Check the recipe against the furnace", []string{"check", paths.Recipe}, 0},
+		{"2. Hazards of the recipe in this room", []string{"safety", paths.Recipe}, 0},
+		{"3. Print the pre-run checklist", []string{"checklist", paths.Recipe, "--format", "markdown", "-o", filepath.Join(paths.Dir, "checklist.md")}, 0},
+		{"4. Predict coverage and domain size", []string{"predict", paths.Recipe, "--plot", filepath.Join(paths.Plots, "predict.png")}, 0},
+		{"5. Log a short nucleation run: start it", []string{db, "run", "start", short.Recipe, "--operator", "operator A", "--lot", "demo-lot-4"}, 0},
 	}
 	code, err := o.walk(steps)
 	if err != nil {
@@ -141,21 +100,21 @@ func demoRun(ctx context.Context, o *demoOptions) error {
 	runCode := strings.TrimSpace(code)
 	steps = []demoStep{
 		{"6. Add a note while it runs", []string{db, "run", "note", runCode, "foil placed at the centre of the hot zone"}, 0},
-		{"7. Finish it with the furnace controller's log", []string{db, "run", "finish", runCode, "--furnace-log", furnaceLog}, 0},
-		{"8. Measure the foil: micrograph, transmittance, Raman", []string{db, "outcome", "measure", runCode, "--image", micrograph, "--pixel", "0.2um",
-			"--polarity", "darker", "--overlay", filepath.Join(paths.images, "foil-nucleation-overlay.png"), "--transmittance", "97.6%", "--raman", "2d/g=2.4,d/g=0.06"}, 0},
+		{"7. Finish it with the furnace controller's log", []string{db, "run", "finish", runCode, "--furnace-log", short.FurnaceLog}, 0},
+		{"8. Measure the foil: micrograph, transmittance, Raman", []string{db, "outcome", "measure", runCode, "--image", short.Micrograph, "--pixel", "0.2um",
+			"--polarity", "darker", "--overlay", filepath.Join(paths.Images, "foil-nucleation-overlay.png"), "--transmittance", "97.6%", "--raman", "2d/g=2.4,d/g=0.06"}, 0},
 		{"9. Which parameters gave good coverage?", []string{db, "runs", "best", "--metric", "coverage", "--min", "0.95", "--by", "ch4_flow_sccm,growth_time_min", "--bins", "3"}, 0},
 		{"10. Which parameters matter most?", []string{db, "runs", "rank", "--metric", "coverage", "--min", "0.95"}, 0},
-		{"11. Calibrate the kinetics from the log", []string{db, "fit", "--metric", "coverage,density", "--where", `status = "done"`, "--furnace", paths.furnaceA, "-o", fitted, "--plot", filepath.Join(paths.plots, "parity.png")}, 0},
-		{"12. Plan the next recipe", []string{"suggest", paths.recipe, "--params", fitted, "--target", "coverage>=0.99", "--target", "domain_size>=15um", "--vary", "temperature=950C:1050C,CH4,duration", "-o", suggested}, 0},
+		{"11. Calibrate the kinetics from the log", []string{db, "fit", "--metric", "coverage,nuclei_density", "--where", `status = "done"`, "--furnace", paths.FurnaceA, "-o", fitted, "--plot", filepath.Join(paths.Plots, "parity.png")}, 0},
+		{"12. Plan the next recipe", []string{"suggest", paths.Recipe, "--params", fitted, "--target", "coverage>=0.99", "--target", "domain_size>=15um", "--vary", "temperature=950C:1050C,CH4,duration", "-o", suggested}, 0},
 		{"13. Check the suggested recipe", []string{"check", suggested}, 0},
 	}
 	if _, err := o.walk(steps); err != nil {
 		return err
 	}
 	fmt.Fprintf(out, "\nDone in %.1f s. Files in %s:\n", time.Since(began).Seconds(), o.dir)
-	for _, p := range []string{paths.site, paths.furnaceA, paths.furnaceB, paths.recipe, shortRecipe, suggested, fitted, furnaceLog, micrograph,
-		filepath.Join(paths.dir, "checklist.md"), filepath.Join(paths.plots, "predict.png"), filepath.Join(paths.plots, "parity.png"), paths.db} {
+	for _, p := range []string{paths.Site, paths.FurnaceA, paths.FurnaceB, paths.Recipe, short.Recipe, suggested, fitted, short.FurnaceLog, short.Micrograph,
+		filepath.Join(paths.Dir, "checklist.md"), filepath.Join(paths.Plots, "predict.png"), filepath.Join(paths.Plots, "parity.png"), paths.DB} {
 		fmt.Fprintf(out, "  %s\n", p)
 	}
 	fmt.Fprintf(out, "Every safety output supports, and does not replace, the site's gas-safety review,\nthe local fire and compressed-gas codes, and the people licensed to approve the set-up.\n")
@@ -184,28 +143,4 @@ func (o *demoOptions) walk(steps []demoStep) (string, error) {
 		last = buf.String()
 	}
 	return last, nil
-}
-
-// nucleationCH4 is the CH4 flow (sccm) of the demo's short nucleation run:
-// low, so domains grow slowly enough to stop the run while they are apart.
-const nucleationCH4 = 5
-
-// shortGrowth finds the grow time (0.1 min steps) at which the lab's
-// kinetics reach the target coverage on the demo recipe.
-func shortGrowth(f *recipe.Furnace, target float64) (float64, kinetics.Result, error) {
-	var res kinetics.Result
-	for tenths := 1; tenths <= 150; tenths++ {
-		minutes := float64(tenths) / 10
-		r, err := recipe.ParseRecipe("lowpressure-nucleation.yaml", []byte(demoRecipe(1000, nucleationCH4, minutes)))
-		if err != nil {
-			return 0, res, err
-		}
-		if res, err = kinetics.Predict(recipe.Derive(r, f), demoTruth(), kinetics.Options{}); err != nil {
-			return 0, res, err
-		}
-		if res.Coverage >= target {
-			return minutes, res, nil
-		}
-	}
-	return 15, res, nil
 }

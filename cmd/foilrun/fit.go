@@ -7,7 +7,6 @@ import (
 	"io"
 	"math"
 	"os"
-	"path/filepath"
 	"sort"
 	"strings"
 	"time"
@@ -16,6 +15,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"github.com/foilrun/foilrun/cmd/foilrun/internal/chart"
+	"github.com/foilrun/foilrun/cmd/foilrun/internal/lab"
 	"github.com/foilrun/foilrun/kinetics"
 	"github.com/foilrun/foilrun/recipe"
 	"github.com/foilrun/foilrun/store"
@@ -100,142 +100,24 @@ func parseMetrics(s string) (coverage, density bool, err error) {
 	return coverage, density, nil
 }
 
-// fitRunData is what the log gives for one run.
-type fitRunData struct {
-	code     string
-	coverage float64 // NaN if absent
-	density  float64 // 1/m², NaN if absent
-	prof     kinetics.Profile
-}
-
-// furnaceSource loads furnaces once per path and says which were used.
-type furnaceSource struct {
-	flag   string
-	loaded map[string]*recipe.Furnace
-	used   map[string]int // path → runs
-}
-
-func (fs *furnaceSource) forRecipe(code string, r *recipe.Recipe, snap store.Snapshot) (*recipe.Furnace, string, error) {
-	path := fs.flag
-	if path == "" {
-		if r.Furnace == "" {
-			return nil, "", withHint(fmt.Errorf("fit: run %s: recipe %q names no furnace", code, r.Name), "pass --furnace FILE")
-		}
-		path = r.Furnace
-		if !filepath.IsAbs(path) && snap.File != "" {
-			path = filepath.Join(filepath.Dir(snap.File), path)
-		}
-		if _, err := os.Stat(path); err != nil {
-			return nil, "", withHint(fmt.Errorf("fit: run %s: recipe %q names furnace %q, not found at %s (the log keeps recipe snapshots, not furnace files)", code, r.Name, r.Furnace, path), "pass --furnace FILE")
-		}
-	}
-	if f, ok := fs.loaded[path]; ok {
-		return f, path, nil
-	}
-	f, err := recipe.LoadFurnace(path)
-	if err != nil {
-		return nil, "", err
-	}
-	fs.loaded[path] = f
-	return f, path, nil
-}
-
-func meanOutcome(rec store.RunRecord, metric string) float64 {
-	sum, n := 0.0, 0
-	for _, o := range rec.Outcomes {
-		if o.Metric == metric {
-			sum += o.Value
-			n++
-		}
-	}
-	if n == 0 {
-		return math.NaN()
-	}
-	return sum / float64(n)
-}
-
-// nucleiPerM2 converts the log's nuclei_density to 1/m².
-func nucleiPerM2(v float64, unit string) float64 {
-	switch unit {
-	case "1/m2":
-		return v
-	case "1/cm2":
-		return v * 1e4
-	case "1/um2":
-		return v * 1e12
-	}
-	return v * 1e6 // 1/mm2, the log's canonical unit
-}
-
-func (opts *fitOptions) collect(ctx context.Context, wantCov, wantDen bool) ([]fitRunData, []string, *furnaceSource, error) {
+// collect reads the fit's observations from the run log.
+func (opts *fitOptions) collect(ctx context.Context, m lab.Metrics, start kinetics.Params) (lab.Observations, error) {
 	l, err := opts.f.runLog(ctx)
 	if err != nil {
-		return nil, nil, nil, err
+		return lab.Observations{}, err
 	}
-	fs := &furnaceSource{flag: opts.furnace, loaded: map[string]*recipe.Furnace{}, used: map[string]int{}}
-	if opts.furnace != "" {
-		if _, _, err := fs.forRecipe("", nil, store.Snapshot{}); err != nil {
-			return nil, nil, nil, err
-		}
-	}
-	type planned struct {
-		prof kinetics.Profile
-		path string
-	}
-	plans := map[string]planned{}
-	var runs []fitRunData
-	var skipped []string
-	denUnit := "1/mm2"
-	if m, ok := store.MetricByName("nuclei_density"); ok {
-		denUnit = m.Unit
-	}
-	err = l.Export(ctx, store.Filter{Where: opts.where}, func(rec store.RunRecord) error {
-		d := fitRunData{code: rec.Code, coverage: math.NaN(), density: math.NaN()}
-		if wantCov {
-			d.coverage = meanOutcome(rec, "coverage")
-		}
-		if wantDen {
-			if v := meanOutcome(rec, "nuclei_density"); !math.IsNaN(v) {
-				d.density = nucleiPerM2(v, denUnit)
-			}
-		}
-		if math.IsNaN(d.coverage) && math.IsNaN(d.density) {
-			return nil
-		}
-		if rec.RecipeHash == "" {
-			skipped = append(skipped, rec.Code+": logged without a recipe snapshot")
-			return nil
-		}
-		pl, ok := plans[rec.RecipeHash]
-		if !ok {
-			snap, err := l.Snapshot(ctx, rec.RecipeHash)
-			if err != nil {
-				return fmt.Errorf("fit: run %s: %w", rec.Code, err)
-			}
-			name := snap.File
-			if name == "" {
-				name = snap.Name
-			}
-			r, err := recipe.ParseRecipe(name, snap.Content)
-			if err != nil {
-				return fmt.Errorf("fit: run %s: recipe snapshot: %w", rec.Code, err)
-			}
-			fu, path, err := fs.forRecipe(rec.Code, r, snap)
-			if err != nil {
-				return err
-			}
-			pl = planned{prof: kinetics.NewProfile(recipe.Derive(r, fu)), path: path}
-			plans[rec.RecipeHash] = pl
-		}
-		fs.used[pl.path]++
-		d.prof = pl.prof
-		runs = append(runs, d)
-		return nil
-	})
+	b, err := lab.NewRebuilder(l, opts.furnace)
 	if err != nil {
-		return nil, nil, nil, err
+		return lab.Observations{}, err
 	}
-	return runs, skipped, fs, nil
+	obs, err := lab.Collect(ctx, b, store.Filter{Where: opts.where}, m, start)
+	if errors.Is(err, lab.ErrNoFurnace) {
+		return obs, withHint(fmt.Errorf("fit: %w", err), "pass --furnace FILE")
+	}
+	if err != nil {
+		return obs, fmt.Errorf("fit: %w", err)
+	}
+	return obs, nil
 }
 
 func fitRun(ctx context.Context, opts *fitOptions) error {
@@ -255,29 +137,16 @@ func fitRun(ctx context.Context, opts *fitOptions) error {
 	if err != nil {
 		return err
 	}
-	runs, skipped, fs, err := opts.collect(ctx, wantCov, wantDen)
+	col, err := opts.collect(ctx, lab.Metrics{Coverage: wantCov, Density: wantDen}, start)
 	if err != nil {
 		return err
 	}
-	var obs []kinetics.Observation
-	for _, r := range runs {
-		pr, err := kinetics.Prepare(r.prof, start, kinetics.Options{})
-		if err != nil {
-			skipped = append(skipped, r.code+": "+err.Error())
-			continue
-		}
-		obs = append(obs, kinetics.Observation{Label: r.code, Prepared: pr, Coverage: r.coverage, NucleiDensity: r.density})
+	obs := col.Observations
+	for _, u := range col.Furnaces {
+		fmt.Fprintf(opts.io.Err, "furnace %q from %s for %d runs\n", u.Name, u.Path, u.Runs)
 	}
-	paths := make([]string, 0, len(fs.used))
-	for path := range fs.used {
-		paths = append(paths, path)
-	}
-	sort.Strings(paths)
-	for _, path := range paths {
-		fmt.Fprintf(opts.io.Err, "furnace %q from %s for %d runs\n", fs.loaded[path].Name, path, fs.used[path])
-	}
-	for _, s := range skipped {
-		fmt.Fprintln(opts.io.Err, "skipped "+s)
+	for _, s := range col.Skipped {
+		fmt.Fprintln(opts.io.Err, "skipped "+s.String())
 	}
 	if opts.io.ErrTTY {
 		bar := progressbar.NewOptions(200, progressbar.OptionSetWriter(opts.io.Err), progressbar.OptionSetDescription("fitting"),
@@ -416,7 +285,7 @@ func fitJSON(res *kinetics.FitResult, codes []string) fitResultJSON {
 	for _, r := range res.Residuals {
 		j := fitResidualJSON{Run: r.Label, Metric: r.Metric, Measured: round6(r.Measured), Predicted: round6(r.Predicted), Residual: round6(r.Raw), Weighted: round6(r.Weighted)}
 		if r.Metric == "nuclei_density" {
-			j.Measured, j.Predicted, j.Unit = round6(r.Measured*1e-6), round6(r.Predicted*1e-6), "1/mm2"
+			j.Measured, j.Predicted, j.Unit = round6(inUnit(r.Measured, "1/mm2")), round6(inUnit(r.Predicted, "1/mm2")), "1/mm2"
 		} else {
 			j.Unit = "1"
 		}
@@ -509,12 +378,12 @@ func writeParity(path string, res *kinetics.FitResult) error {
 			panels[r.Metric] = pn
 			names = append(names, r.Metric)
 		}
-		scale := 100.0 // coverage fraction to %
+		unit := "%" // coverage, a fraction
 		if r.Metric == "nuclei_density" {
-			scale = 1e-6 // 1/m² to 1/mm²
+			unit = "1/mm2"
 		}
-		pn.Measured = append(pn.Measured, r.Measured*scale)
-		pn.Predicted = append(pn.Predicted, r.Predicted*scale)
+		pn.Measured = append(pn.Measured, inUnit(r.Measured, unit))
+		pn.Predicted = append(pn.Predicted, inUnit(r.Predicted, unit))
 	}
 	if len(names) == 0 {
 		return nil
@@ -525,6 +394,16 @@ func writeParity(path string, res *kinetics.FitResult) error {
 		fig.Panels = append(fig.Panels, *panels[n])
 	}
 	return chart.WriteParity(path, fig)
+}
+
+// inUnit expresses an SI value in a unit for output (recipe.In); NaN when
+// there is no finite value to show.
+func inUnit(si float64, unit string) float64 {
+	v, err := recipe.In(si, unit)
+	if err != nil {
+		return math.NaN()
+	}
+	return v
 }
 
 // intervalJSON is a 90 % (or other level) interval in display units, shown
@@ -542,8 +421,8 @@ type intervalJSON struct {
 func toIntervalJSON(u kinetics.Uncertainty) *intervalJSON {
 	return &intervalJSON{Level: u.Level, Method: u.Method, Samples: u.Samples, Seed: u.Seed,
 		Coverage:     [2]float64{round6(u.Coverage.Lo), round6(u.Coverage.Hi)},
-		NucleiPerMM2: [2]float64{round6(u.NucleiDensity.Lo * 1e-6), round6(u.NucleiDensity.Hi * 1e-6)},
-		DomainUm:     [2]float64{round6(u.DomainSize.Lo * 1e6), round6(u.DomainSize.Hi * 1e6)}}
+		NucleiPerMM2: [2]float64{round6(inUnit(u.NucleiDensity.Lo, "1/mm2")), round6(inUnit(u.NucleiDensity.Hi, "1/mm2"))},
+		DomainUm:     [2]float64{round6(inUnit(u.DomainSize.Lo, "um")), round6(inUnit(u.DomainSize.Hi, "um"))}}
 }
 
 // predictInterval returns the 90 % interval of a plan's prediction when

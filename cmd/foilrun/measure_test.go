@@ -8,11 +8,13 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"github.com/foilrun/foilrun/cmd/foilrun/internal/demolab"
 )
 
 func writeSynth(t *testing.T, n int, r float64) (string, float64) {
 	t.Helper()
-	img, cov := synthMicrograph(512, 512, n, r, 7)
+	img, cov := demolab.Micrograph(512, 512, n, r, 7)
 	path := filepath.Join(t.TempDir(), "m.png")
 	fh, err := os.Create(path)
 	if err != nil {

@@ -3,6 +3,7 @@ package main
 import (
 	"bytes"
 	"context"
+	"errors"
 	"fmt"
 	"io"
 	"os"
@@ -12,6 +13,7 @@ import (
 
 	"github.com/spf13/cobra"
 
+	"github.com/foilrun/foilrun/cmd/foilrun/internal/lab"
 	"github.com/foilrun/foilrun/recipe"
 	"github.com/foilrun/foilrun/store"
 	"github.com/foilrun/foilrun/store/furnacelog"
@@ -289,25 +291,23 @@ func runFinishRun(ctx context.Context, o *runFinishOptions) error {
 	return printDeviations(o.f.io.Out, o.code, fin.Deviations)
 }
 
-// planOfRun derives the plan of a logged run from its recipe snapshot.
+// planOfRun rebuilds the plan of a logged run from its recipe snapshot,
+// on the furnace file given or else the one the recipe names.
 func planOfRun(ctx context.Context, l store.RunLog, rec store.RunRecord, furnace string) (*recipe.Plan, error) {
-	if rec.RecipeHash == "" {
-		return nil, fmt.Errorf("run %s has no recipe snapshot to match the log against", rec.Code)
-	}
-	sn, err := l.Snapshot(ctx, rec.RecipeHash)
+	b, err := lab.NewRebuilder(l, furnace)
 	if err != nil {
 		return nil, err
 	}
-	r, err := recipe.ParseRecipe(sn.File, sn.Content)
-	if err != nil {
-		return nil, err
-	}
-	r.Site = "" // the site plays no part in matching a log
-	f, _, err := recipe.Resolve(r, furnace, "")
-	if err != nil {
+	rb, err := b.Rebuild(ctx, rec)
+	switch {
+	case errors.Is(err, lab.ErrNoSnapshot):
+		return nil, withHint(err, "a run logged without a recipe cannot be matched to a furnace log")
+	case errors.Is(err, lab.ErrNoFurnace):
 		return nil, withHint(err, "pass --furnace FILE")
+	case err != nil:
+		return nil, err
 	}
-	return recipe.Derive(r, f), nil
+	return rb.Plan, nil
 }
 
 type runShowOptions struct {
@@ -416,17 +416,17 @@ func actualTable(as []store.Actual) table {
 	t := table{Header: []string{"step", "quantity", "unit", "planned", "mean", "min", "max", "samples"},
 		Numeric: []bool{false, false, false, true, true, true, true, true}}
 	sort.SliceStable(as, func(i, j int) bool { return as[i].Step < as[j].Step })
+	shown := map[string]string{"K": "°C", "Pa": "Torr", "mol/s": "sccm", "s": "min"}
 	for _, a := range as {
-		unit, conv := a.Unit, func(v float64) float64 { return v }
-		switch {
-		case a.Unit == "K":
-			unit, conv = "°C", func(v float64) float64 { return v - 273.15 }
-		case a.Unit == "Pa":
-			unit, conv = "Torr", func(v float64) float64 { x, _ := recipe.ConvertTo(v, "Torr"); return x }
-		case a.Unit == "mol/s":
-			unit, conv = "sccm", func(v float64) float64 { x, _ := recipe.ConvertTo(v, "sccm"); return x }
-		case a.Unit == "s":
-			unit, conv = "min", func(v float64) float64 { return v / 60 }
+		unit := a.Unit
+		if u, ok := shown[a.Unit]; ok {
+			unit = u
+		}
+		conv := func(v float64) float64 {
+			if x, err := recipe.In(v, unit); err == nil {
+				return x
+			}
+			return v // a unit recipe does not know, or no value
 		}
 		planned := ""
 		if a.Planned.Valid() {

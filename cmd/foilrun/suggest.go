@@ -1,21 +1,16 @@
 package main
 
 import (
-	"bytes"
 	"errors"
 	"fmt"
 	"io"
-	"math"
 	"os"
-	"path/filepath"
 	"strings"
 
 	"github.com/spf13/cobra"
-	"gopkg.in/yaml.v3"
 
 	"github.com/foilrun/foilrun/kinetics"
 	"github.com/foilrun/foilrun/recipe"
-	"github.com/foilrun/foilrun/recipe/gas"
 )
 
 type suggestOptions struct {
@@ -108,15 +103,15 @@ type suggestResultJSON struct {
 }
 
 func candidateJSON(c kinetics.Candidate, grow recipe.Step) suggestCandidateJSON {
-	j := suggestCandidateJSON{TemperatureC: round6(c.Temperature - 273.15), FlowsSCCM: map[string]float64{}, DurationMin: round6(c.Duration / 60),
-		Coverage: round6(c.Coverage), NucleiPerMM2: round6(c.NucleiDensity * 1e-6), DomainUm: round6(c.DomainSize * 1e6), Margins: c.Margins}
+	j := suggestCandidateJSON{TemperatureC: round6(recipe.Celsius(c.Temperature)), FlowsSCCM: map[string]float64{}, DurationMin: round6(inUnit(c.Duration, "min")),
+		Coverage: round6(c.Coverage), NucleiPerMM2: round6(inUnit(c.NucleiDensity, "1/mm2")), DomainUm: round6(inUnit(c.DomainSize, "um")), Margins: c.Margins}
 	for _, fl := range grow.Flows {
-		j.FlowsSCCM[fl.Gas] = round6(fl.Flow.SI / gas.MolPerSCCMPerSecond)
+		j.FlowsSCCM[fl.Gas] = round6(inUnit(fl.Flow.SI, "sccm"))
 	}
 	for k, v := range c.Flows {
-		j.FlowsSCCM[k] = round6(v / gas.MolPerSCCMPerSecond)
+		j.FlowsSCCM[k] = round6(inUnit(v, "sccm"))
 	}
-	j.MethaneSCC = round6(j.FlowsSCCM["CH4"] * c.Duration / 60)
+	j.MethaneSCC = round6(j.FlowsSCCM["CH4"] * inUnit(c.Duration, "min"))
 	for _, b := range c.Bounds {
 		j.Bounds = append(j.Bounds, round6(b))
 	}
@@ -173,9 +168,9 @@ func suggestRun(opts *suggestOptions) error {
 		if err != nil {
 			return err
 		}
-		written, err = editGrowStep(data, sug.Step, sug.Changes, opts.recipe, opts.outFile)
+		written, err = recipe.EditRecipe(data, recipe.Edit{Step: sug.Step, Changes: stepEdits(sug.Changes), From: opts.recipe, To: opts.outFile})
 		if err != nil {
-			return err
+			return fmt.Errorf("suggest: %w", err)
 		}
 		// The written recipe must pass check.
 		name := opts.outFile
@@ -247,9 +242,9 @@ func candidateTable(cs []suggestCandidateJSON, targets []kinetics.Target) table 
 func targetText(tg kinetics.Target, v float64) string {
 	switch tg.Quantity {
 	case kinetics.MetricDomainSize:
-		return num(v*1e6, 4) + " um"
+		return num(inUnit(v, "um"), 4) + " um"
 	case kinetics.MetricNucleiDensity:
-		return num(v*1e-6, 4) + " /mm2"
+		return num(inUnit(v, "1/mm2"), 4) + " /mm2"
 	}
 	return fixed(v*100, 3) + " %"
 }
@@ -311,139 +306,25 @@ func printSuggest(w io.Writer, r suggestResultJSON, targets []kinetics.Target) e
 	return nil
 }
 
-// editGrowStep rewrites the grow step's fields in the recipe YAML node
-// tree, so comments, order and the rest of the file stay, and points
-// relative furnace and site paths at the same files from the output's
-// folder.
-func editGrowStep(data []byte, step int, changes []kinetics.Change, from, to string) ([]byte, error) {
-	var doc yaml.Node
-	if err := yaml.Unmarshal(data, &doc); err != nil || len(doc.Content) != 1 {
-		return nil, fmt.Errorf("suggest: re-read recipe %q: %v", from, err)
-	}
-	root := doc.Content[0]
-	steps := mapValue(root, "steps")
-	if steps == nil || steps.Kind != yaml.SequenceNode || step >= len(steps.Content) {
-		return nil, fmt.Errorf("suggest: recipe %q: cannot find step %d", from, step+1)
-	}
-	st := steps.Content[step]
-	oldT := ""
-	if n := mapValue(st, "temperature"); n != nil {
-		oldT = n.Value
-	}
+// stepEdits turns the suggestion's changes into recipe edits: the value in
+// SI, written with 5 significant digits for a temperature (0.1 K at
+// 1000 °C), 3 for a flow and 4 for a duration.
+func stepEdits(changes []kinetics.Change) []recipe.StepEdit {
+	var out []recipe.StepEdit
 	for _, c := range changes {
-		if c.Field == "temperature" {
-			followTemperature(steps.Content[:step], oldT, c.Text)
+		e := recipe.StepEdit{Field: c.Field, SI: c.SI}
+		if g, ok := strings.CutPrefix(c.Field, "flows."); ok {
+			e.Field, e.Gas = recipe.EditFlow, g
 		}
-		if gasName, ok := strings.CutPrefix(c.Field, "flows."); ok {
-			flows := mapValue(st, "flows")
-			if flows == nil {
-				flows = &yaml.Node{Kind: yaml.MappingNode, Style: yaml.FlowStyle}
-				setMapValue(st, "flows", flows)
-			}
-			key := gasName
-			for i := 0; i+1 < len(flows.Content); i += 2 {
-				if g, err := gas.Lookup(flows.Content[i].Value); err == nil && g.Symbol == gasName {
-					key = flows.Content[i].Value
-				}
-			}
-			setScalar(flows, key, c.Text)
-			continue
-		}
-		setScalar(st, c.Field, c.Text)
-	}
-	if to != "" {
-		for _, k := range []string{"furnace", "site"} {
-			n := mapValue(root, k)
-			if n == nil || n.Kind != yaml.ScalarNode || n.Value == "" || filepath.IsAbs(n.Value) {
-				continue
-			}
-			abs, err1 := filepath.Abs(filepath.Join(filepath.Dir(from), n.Value))
-			outDir, err2 := filepath.Abs(filepath.Dir(to))
-			if err1 != nil || err2 != nil {
-				continue
-			}
-			if rel, err := filepath.Rel(outDir, abs); err == nil {
-				n.Value = filepath.ToSlash(rel)
-			}
-		}
-	}
-	var b bytes.Buffer
-	enc := yaml.NewEncoder(&b)
-	enc.SetIndent(2)
-	if err := enc.Encode(&doc); err != nil {
-		return nil, err
-	}
-	if err := enc.Close(); err != nil {
-		return nil, err
-	}
-	return b.Bytes(), nil
-}
-
-// followTemperature moves the anneal and ramp steps just before the grow
-// step that sat at its old temperature to the new one, so the furnace is
-// at the growth temperature when the carbon source comes on (the checks
-// warn otherwise).
-func followTemperature(before []*yaml.Node, oldText, newText string) {
-	old, err := recipe.Parse(oldText, recipe.Temperature)
-	if err != nil {
-		return
-	}
-	for i := len(before) - 1; i >= 0; i-- {
-		st := before[i]
-		kind := mapValue(st, "kind")
-		if kind == nil {
-			return
-		}
-		key := ""
-		switch kind.Value {
-		case "anneal", "grow":
-			key = "temperature"
-		case "ramp":
-			key = "to"
+		switch e.Field {
+		case recipe.EditTemperature:
+			e.Digits = 5
+		case recipe.EditFlow:
+			e.Digits = 3
 		default:
-			return
+			e.Digits = 4
 		}
-		n := mapValue(st, key)
-		if n == nil {
-			return
-		}
-		q, err := recipe.Parse(n.Value, recipe.Temperature)
-		if err != nil || math.Abs(q.SI-old.SI) > 0.01 {
-			return
-		}
-		n.Value = newText
-		if kind.Value == "ramp" {
-			return // the ramp brings the furnace there; steps before it are colder
-		}
+		out = append(out, e)
 	}
-}
-
-func mapValue(m *yaml.Node, key string) *yaml.Node {
-	if m == nil || m.Kind != yaml.MappingNode {
-		return nil
-	}
-	for i := 0; i+1 < len(m.Content); i += 2 {
-		if m.Content[i].Value == key {
-			return m.Content[i+1]
-		}
-	}
-	return nil
-}
-
-func setMapValue(m *yaml.Node, key string, v *yaml.Node) {
-	for i := 0; i+1 < len(m.Content); i += 2 {
-		if m.Content[i].Value == key {
-			m.Content[i+1] = v
-			return
-		}
-	}
-	m.Content = append(m.Content, &yaml.Node{Kind: yaml.ScalarNode, Value: key}, v)
-}
-
-func setScalar(m *yaml.Node, key, text string) {
-	if v := mapValue(m, key); v != nil && v.Kind == yaml.ScalarNode {
-		v.Value, v.Tag, v.Style = text, "!!str", 0
-		return
-	}
-	setMapValue(m, key, &yaml.Node{Kind: yaml.ScalarNode, Value: text})
+	return out
 }

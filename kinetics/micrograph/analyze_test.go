@@ -16,9 +16,9 @@ const testPixel = 0.25e-6 // m; any positive size works, sizes scale with it
 // baseSynth is a 640×480 field of 8×6 well-separated domains plus one on
 // each border; the copper level is 150 of 255 with a ±15 % gradient,
 // a 4 % grain texture and noise of σ = 4 gray levels.
-func baseSynth(contrast float64, seed uint64) (synth, int) {
+func baseSynth(contrast float64, seed uint64) (scene, int) {
 	ds, edge := separated(640, 480, 8, 6, seed, true)
-	return synth{w: 640, h: 480, domains: ds, bare: 150, contrast: contrast,
+	return scene{w: 640, h: 480, domains: ds, bare: 150, contrast: contrast,
 		gradient: 0.5, texture: 0.04, noise: 4, seed: seed}, edge
 }
 

@@ -17,7 +17,7 @@ var (
 func benchImage() *image.Gray {
 	benchOnce.Do(func() {
 		ds, _ := separated(4096, 4096, 64, 64, 71, true)
-		s := synth{w: 4096, h: 4096, domains: ds, bare: 150, contrast: 0.75, gradient: 0.5, texture: 0.04, noise: 4, seed: 72}
+		s := scene{w: 4096, h: 4096, domains: ds, bare: 150, contrast: 0.75, gradient: 0.5, texture: 0.04, noise: 4, seed: 72}
 		benchImg, _ = s.gray8()
 	})
 	return benchImg

@@ -4,6 +4,8 @@ import (
 	"bytes"
 	"image"
 	"testing"
+
+	"github.com/foilrun/foilrun/kinetics/micrograph/synth"
 )
 
 // FuzzDecode: Decode and Analyze never panic on any bytes; a decoded image
@@ -12,7 +14,7 @@ import (
 func FuzzDecode(f *testing.F) {
 	s, _ := baseSynth(0.75, 61)
 	s.w, s.h = 48, 40
-	s.domains = []hex{{cx: 20, cy: 20, r: 10}}
+	s.domains = []synth.Hexagon{{X: 20, Y: 20, R: 10}}
 	img, _ := s.gray8()
 	good := encodePNG(f, img)
 	f.Add(good)

@@ -6,15 +6,17 @@ import (
 	"math"
 	"math/rand/v2"
 	"testing"
+
+	"github.com/foilrun/foilrun/kinetics/micrograph/synth"
 )
 
 // TestOnePeak: a field with no domains, or one fully covered, has a
 // one-peaked histogram. Without a reference Analyze must refuse; with one
 // it must say which phase fills the field.
 func TestOnePeak(t *testing.T) {
-	bareOnly := synth{w: 320, h: 240, bare: 150, contrast: 0.75, gradient: 0.5, texture: 0.04, noise: 4, seed: 21}
+	bareOnly := scene{w: 320, h: 240, bare: 150, contrast: 0.75, gradient: 0.5, texture: 0.04, noise: 4, seed: 21}
 	covered := bareOnly
-	covered.domains = []hex{{cx: 160, cy: 120, r: 1000}} // covers everything
+	covered.domains = []synth.Hexagon{{X: 160, Y: 120, R: 1000}} // covers everything
 	bareImg, _ := bareOnly.gray8()
 	covImg, cov := covered.gray8()
 	if cov != 1 {
@@ -62,15 +64,15 @@ func TestOnePeak(t *testing.T) {
 // resolves it. Domains overlap here, so only coverage is checked (±0.01).
 func TestBareRegionFixesAutoPolarity(t *testing.T) {
 	rng := rand.New(rand.NewPCG(31, 1))
-	var ds []hex
+	var ds []synth.Hexagon
 	for len(ds) < 260 {
-		d := hex{cx: rng.Float64() * 640, cy: rng.Float64() * 480, r: 18 + 10*rng.Float64(), theta: rng.Float64()}
-		if d.cx < 120 && d.cy < 120 { // keep the top-left corner bare
+		d := synth.Hexagon{X: rng.Float64() * 640, Y: rng.Float64() * 480, R: 18 + 10*rng.Float64(), Theta: rng.Float64()}
+		if d.X < 120 && d.Y < 120 { // keep the top-left corner bare
 			continue
 		}
 		ds = append(ds, d)
 	}
-	s := synth{w: 640, h: 480, domains: ds, bare: 150, contrast: 1.3, gradient: 0.5, texture: 0.04, noise: 4, seed: 32}
+	s := scene{w: 640, h: 480, domains: ds, bare: 150, contrast: 1.3, gradient: 0.5, texture: 0.04, noise: 4, seed: 32}
 	img, truth := s.gray8()
 	if truth < 0.55 {
 		t.Fatalf("generator: coverage %g, want above 0.55 for this test", truth)
@@ -126,7 +128,7 @@ func TestSizesAndDensity(t *testing.T) {
 	}
 	var want []float64
 	for _, d := range s.domains[:len(s.domains)-edge] {
-		want = append(want, 2*math.Sqrt(d.area()/math.Pi)*testPixel)
+		want = append(want, 2*math.Sqrt(d.Area()/math.Pi)*testPixel)
 	}
 	ws := summarise(want)
 	for _, q := range []struct {

@@ -1,0 +1,141 @@
+package lab
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"math"
+	"strconv"
+
+	"github.com/foilrun/foilrun/kinetics"
+	"github.com/foilrun/foilrun/recipe"
+	"github.com/foilrun/foilrun/store"
+)
+
+// Metrics chooses the measured metrics a fit uses; a run counts when it
+// has at least one of the chosen ones.
+type Metrics struct {
+	Coverage bool // "coverage", a fraction
+	Density  bool // "nuclei_density", stored per mm²
+}
+
+// Skip is a run left out of a fit, and why.
+type Skip struct {
+	Code   string
+	Reason string
+}
+
+// String is "CODE: reason".
+func (s Skip) String() string { return s.Code + ": " + s.Reason }
+
+// Observations is what Collect found in the run log.
+type Observations struct {
+	// Observations are the runs to fit, oldest first, labelled by run
+	// code, with measured values in SI and NaN where not measured.
+	Observations []kinetics.Observation
+	// Skipped are the runs with a chosen metric that cannot be fitted:
+	// those logged without a recipe snapshot, then those whose profile
+	// cannot be prepared.
+	Skipped []Skip
+	// Furnaces are the furnace files the plans were rebuilt on.
+	Furnaces []FurnaceUse
+}
+
+// Collect reads the runs that pass filter, keeps those with a measured
+// coverage and/or nuclei density as chosen (the mean of the run's
+// measurements, converted to SI by recipe from the unit stored beside
+// each), rebuilds each run's plan with b, and prepares its kinetics
+// profile with the fit's start parameters. A run whose plan cannot be
+// rebuilt for want of a snapshot is skipped; any other failure to rebuild
+// one (a missing furnace, a bad snapshot) is returned as an error.
+func Collect(ctx context.Context, b *Rebuilder, filter store.Filter, m Metrics, start kinetics.Params) (Observations, error) {
+	var out Observations
+	type run struct {
+		obs  kinetics.Observation
+		prof kinetics.Profile
+	}
+	var runs []run
+	profiles := map[*Rebuilt]kinetics.Profile{}
+	err := b.log.Export(ctx, filter, func(rec store.RunRecord) error {
+		o := kinetics.Observation{Label: rec.Code, Coverage: math.NaN(), NucleiDensity: math.NaN()}
+		var err error
+		if m.Coverage {
+			if o.Coverage, err = meanSI(rec, "coverage", recipe.Fraction); err != nil {
+				return err
+			}
+		}
+		if m.Density {
+			if o.NucleiDensity, err = meanSI(rec, "nuclei_density", recipe.AreaDensity); err != nil {
+				return err
+			}
+		}
+		if math.IsNaN(o.Coverage) && math.IsNaN(o.NucleiDensity) {
+			return nil
+		}
+		rb, err := b.Rebuild(ctx, rec)
+		if errors.Is(err, ErrNoSnapshot) {
+			out.Skipped = append(out.Skipped, Skip{Code: rec.Code, Reason: ErrNoSnapshot.Error()})
+			return nil
+		}
+		if err != nil {
+			return err
+		}
+		prof, ok := profiles[rb]
+		if !ok {
+			prof = kinetics.NewProfile(rb.Plan)
+			profiles[rb] = prof
+		}
+		runs = append(runs, run{o, prof})
+		return nil
+	})
+	if err != nil {
+		return Observations{}, err
+	}
+	for _, r := range runs {
+		pr, err := kinetics.Prepare(r.prof, start, kinetics.Options{})
+		if err != nil {
+			out.Skipped = append(out.Skipped, Skip{Code: r.obs.Label, Reason: err.Error()})
+			continue
+		}
+		r.obs.Prepared = pr
+		out.Observations = append(out.Observations, r.obs)
+	}
+	out.Furnaces = b.Used()
+	return out, nil
+}
+
+// meanSI returns the mean of a run's measurements of a metric in SI, NaN
+// when it has none. Each value is read with the unit stored beside it (the
+// metric's canonical unit when none is stored) through recipe.Parse in the
+// given dimension; a plain number ("1" or no unit) of a fraction is the
+// fraction itself.
+func meanSI(rec store.RunRecord, metric string, dim recipe.Dimension) (float64, error) {
+	canonical := ""
+	if info, ok := store.MetricByName(metric); ok {
+		canonical = info.Unit
+	}
+	sum, n := 0.0, 0
+	for _, o := range rec.Outcomes {
+		if o.Metric != metric {
+			continue
+		}
+		unit := o.Unit
+		if unit == "" {
+			unit = canonical
+		}
+		v := o.Value
+		if dim != recipe.Fraction || (unit != "1" && unit != "") {
+			q, err := recipe.Parse(strconv.FormatFloat(o.Value, 'g', -1, 64)+" "+unit, dim)
+			if err != nil {
+				return 0, fmt.Errorf("run %s: %s: %w", rec.Code, metric, err)
+			}
+			v = q.SI
+		}
+		sum += v
+		n++
+	}
+	if n == 0 {
+		return math.NaN(), nil
+	}
+	return sum / float64(n), nil
+}
