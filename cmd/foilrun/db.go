@@ -13,7 +13,6 @@ import (
 
 	"github.com/foilrun/foilrun/store"
 	"github.com/foilrun/foilrun/store/postgres"
-	"github.com/foilrun/foilrun/store/sqldb"
 )
 
 func newDBCmd(f *factory) *cobra.Command {
@@ -118,12 +117,6 @@ func dbCopyRun(ctx context.Context, o *dbCopyOptions) error {
 	if err != nil {
 		return err
 	}
-	sb, okS := src.(interface{ Base() *sqldb.DB })
-	db, okD := dst.(interface{ Base() *sqldb.DB })
-	if !okS || !okD {
-		dst.Close()
-		return fmt.Errorf("db copy: unsupported back end")
-	}
 	var bar *progressbar.ProgressBar
 	progress := func(done, total int) {
 		if bar == nil {
@@ -135,14 +128,14 @@ func dbCopyRun(ctx context.Context, o *dbCopyOptions) error {
 	if !o.io.ErrTTY {
 		progress = nil
 	}
-	dg, err := sqldb.Copy(ctx, db.Base(), sb.Base(), progress)
+	dg, err := src.CopyTo(ctx, dst, progress)
 	if bar != nil {
 		bar.Finish()
 	}
 	if err == nil {
 		// afterwards, from a fresh read of the committed target
-		var after sqldb.Digest
-		if after, err = db.Base().Digest(ctx); err == nil && after.Diff(dg) != "" {
+		var after store.Digest
+		if after, err = dst.Digest(ctx); err == nil && after.Diff(dg) != "" {
 			err = fmt.Errorf("db copy: the committed copy reads back differently: %s", after.Diff(dg))
 		}
 	}
