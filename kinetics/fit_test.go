@@ -142,8 +142,8 @@ func TestPreparedMatchesPredict(t *testing.T) {
 }
 
 // The Jacobian by channel differences must agree with plain central
-// differences on the parameters (finite-difference check, STYLE.md habit
-// 8): tolerance 1e-4 relative to the row's largest entry.
+// differences on the parameters (a finite-difference check of the
+// derivatives): tolerance 1e-4 relative to the row's largest entry.
 func TestFitJacobian(t *testing.T) {
 	ramp, _ := rampProfile()
 	for _, c := range []struct {

@@ -63,8 +63,8 @@ func TestAvramiConstantConditions(t *testing.T) {
 }
 
 // The final nuclei density at constant conditions, N∞ =
-// Γ(4/3)·(3/κ)^(1/3)·(I/G)^(2/3), from ∫ I·exp(−κIG²t³/3) dt (DESIGN.md,
-// Kinetics; Christian ch. 1). Tolerance 1e-6 relative.
+// Γ(4/3)·(3/κ)^(1/3)·(I/G)^(2/3), from ∫ I·exp(−κIG²t³/3) dt (Christian
+// ch. 1). Tolerance 1e-6 relative.
 func TestFinalNucleiDensity(t *testing.T) {
 	const T, pC, pH = 1273.15, 50.0, 30.0
 	for _, shape := range []Shape{Round, Hexagonal} {

@@ -8,7 +8,9 @@
 //
 // Back ends live in sub-packages: store/sqldb holds the database/sql
 // implementation shared by every SQL back end (its dialect differences are
-// one Dialect value), store/sqlite is the embedded default. The --where
+// one Dialect value), store/sqlite is the embedded default, store/postgres
+// the shared lab server; every run log is a Copier, so a log moves whole
+// between back ends. The --where
 // language is store/query; the furnace controller's CSV log is read by
 // store/furnacelog.
 //
@@ -17,6 +19,6 @@
 // metrics in the canonical unit of each known metric (see Metrics);
 // furnace-log actuals in SI (K, Pa, mol/s, s). Times are UTC.
 //
-// Entry points: RunLog, RunRecord, ParseOutcome, Best, Rank, WriteJSON,
+// Entry points: RunLog, Copier, RunRecord, ParseOutcome, Best, Rank, WriteJSON,
 // ReadJSON, WriteCSV, ReadCSV.
 package store

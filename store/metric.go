@@ -1,60 +1,49 @@
 package store
 
 import (
+	"errors"
 	"fmt"
-	"github.com/foilrun/foilrun/recipe"
 	"math"
-	"sort"
 	"strconv"
 	"strings"
+
+	"github.com/foilrun/foilrun/recipe"
 )
 
 // MetricInfo describes a known outcome metric: its canonical unit, the
-// units it may be written in (factor to the canonical unit), the range of
-// sensible values, and a one-line description.
+// dimension its values are parsed in (through recipe, so every unit of
+// that dimension is accepted), the range of sensible values, and a
+// one-line description.
 type MetricInfo struct {
 	Name        string
-	Unit        string // canonical unit; "1" for a plain number
+	Unit        string           // canonical unit, as stored; "1" for a plain number or a fraction
+	Dim         recipe.Dimension // recipe.Dimensionless: a bare number only
 	Description string
-	Min, Max    float64 // sensible range in the canonical unit
-	LowerBetter bool    // smaller values are better (D/G, sheet resistance, nuclei density)
-	units       map[string]float64
+	Min, Max    float64  // sensible range in the canonical unit
+	LowerBetter bool     // smaller values are better (D/G, sheet resistance, nuclei density)
+	units       []string // common spellings, for messages and listings
 }
 
-// Units lists the units the metric may be written in.
-func (m MetricInfo) Units() []string {
-	var us []string
-	for u := range m.units {
-		if u == "" {
-			us = append(us, "(none)")
-			continue
-		}
-		us = append(us, u)
-	}
-	sort.Strings(us)
-	return us
-}
+// Units lists common units the metric may be written in, "(none)" for a
+// bare number. Every other unit of the metric's dimension is accepted too.
+func (m MetricInfo) Units() []string { return append([]string(nil), m.units...) }
 
-var (
-	fractionUnits = map[string]float64{"": 1, "%": 0.01}
-	numberUnits   = map[string]float64{"": 1}
-)
-
-// metrics are the known outcome metrics. Unit factors are exact SI prefix
-// conversions (common practice).
+// metrics are the known outcome metrics. Their canonical units are those
+// the log has always stored them in, so stored values keep their meaning.
 var metrics = []MetricInfo{
-	{Name: "coverage", Unit: "1", Description: "area fraction of the foil covered by graphene", Min: 0, Max: 1, units: fractionUnits},
-	{Name: "nuclei_density", Unit: "1/mm2", Description: "domains (nuclei) per area", Min: 0, LowerBetter: true, Max: math.Inf(1),
-		units: map[string]float64{"1/mm2": 1, "/mm2": 1, "1/mm²": 1, "/mm²": 1, "mm-2": 1, "1/cm2": 1e-2, "/cm2": 1e-2, "1/cm²": 1e-2, "/cm²": 1e-2, "cm-2": 1e-2,
-			"1/um2": 1e6, "/um2": 1e6, "1/µm2": 1e6, "1/µm²": 1e6, "um-2": 1e6, "1/m2": 1e-6, "/m2": 1e-6, "m-2": 1e-6}},
-	{Name: "domain_size", Unit: "um", Description: "typical domain size (area-equivalent diameter)", Min: 0, Max: math.Inf(1),
-		units: map[string]float64{"um": 1, "µm": 1, "μm": 1, "nm": 1e-3, "mm": 1e3, "m": 1e6}},
-	{Name: "layers", Unit: "1", Description: "number of graphene layers", Min: 0, Max: 100, units: numberUnits},
-	{Name: "raman_2d_g", Unit: "1", Description: "Raman 2D/G intensity ratio", Min: 0, Max: math.Inf(1), units: numberUnits},
-	{Name: "raman_d_g", Unit: "1", Description: "Raman D/G intensity ratio", Min: 0, LowerBetter: true, Max: math.Inf(1), units: numberUnits},
-	{Name: "sheet_resistance", Unit: "ohm/sq", Description: "sheet resistance after transfer", Min: 0, LowerBetter: true, Max: math.Inf(1),
-		units: map[string]float64{"ohm/sq": 1, "Ω/sq": 1, "ohm/□": 1, "Ω/□": 1, "ohm": 1, "kohm/sq": 1e3, "kΩ/sq": 1e3}},
-	{Name: "transmittance_550", Unit: "1", Description: "optical transmittance at 550 nm", Min: 0, Max: 1, units: fractionUnits},
+	{Name: "coverage", Unit: "1", Dim: recipe.Fraction, Description: "area fraction of the foil covered by graphene", Min: 0, Max: 1,
+		units: []string{"(none)", "%", "ppm"}},
+	{Name: "nuclei_density", Unit: "1/mm2", Dim: recipe.AreaDensity, Description: "domains (nuclei) per area", Min: 0, LowerBetter: true, Max: math.Inf(1),
+		units: []string{"1/mm2", "/mm2", "mm-2", "/cm2", "/um2", "/m2"}},
+	{Name: "domain_size", Unit: "um", Dim: recipe.Length, Description: "typical domain size (area-equivalent diameter)", Min: 0, Max: math.Inf(1),
+		units: []string{"um", "µm", "nm", "mm", "m"}},
+	{Name: "layers", Unit: "1", Dim: recipe.Dimensionless, Description: "number of graphene layers", Min: 0, Max: 100, units: []string{"(none)"}},
+	{Name: "raman_2d_g", Unit: "1", Dim: recipe.Dimensionless, Description: "Raman 2D/G intensity ratio", Min: 0, Max: math.Inf(1), units: []string{"(none)"}},
+	{Name: "raman_d_g", Unit: "1", Dim: recipe.Dimensionless, Description: "Raman D/G intensity ratio", Min: 0, LowerBetter: true, Max: math.Inf(1), units: []string{"(none)"}},
+	{Name: "sheet_resistance", Unit: "ohm/sq", Dim: recipe.SheetResistance, Description: "sheet resistance after transfer", Min: 0, LowerBetter: true, Max: math.Inf(1),
+		units: []string{"ohm/sq", "Ω/sq", "kohm/sq", "kΩ/sq"}},
+	{Name: "transmittance_550", Unit: "1", Dim: recipe.Fraction, Description: "optical transmittance at 550 nm", Min: 0, Max: 1,
+		units: []string{"(none)", "%", "ppm"}},
 }
 
 // Metrics lists the known outcome metrics.
@@ -71,10 +60,12 @@ func MetricByName(name string) (MetricInfo, bool) {
 }
 
 // ParseOutcome reads "metric=value[unit]" such as "coverage=93%",
-// "nuclei_density=120/mm2" or "domain_size=15 um". A known metric must use
-// one of its units (its value is converted to the canonical unit and
-// checked against the metric's range); any other metric is free-form and
-// keeps the unit it was written with. Metric names are lower snake case
+// "nuclei_density=120/mm2" or "domain_size=15 um". A known metric takes any
+// unit of its dimension that recipe.Parse reads (a fraction also a bare
+// number or a percentage, recipe.ParseFraction); its value is converted to
+// the canonical unit with recipe.In and checked against the metric's
+// range. Any other metric is free-form and keeps the unit it was written
+// with. Metric names are lower snake case
 // and must not be a recipe parameter name (isParam).
 func ParseOutcome(s string, isParam func(string) bool) (Outcome, error) {
 	name, val, ok := strings.Cut(s, "=")
@@ -104,14 +95,14 @@ func ParseOutcome(s string, isParam func(string) bool) (Outcome, error) {
 		}
 		return o, nil
 	}
-	f, ok := m.units[unit]
-	if !ok && unit == m.Unit {
-		f, ok = 1, true
+	o.Unit = m.Unit
+	if o.Value, err = m.canonical(val, v, unit); err != nil {
+		var ue *recipe.UnitError
+		if errors.As(err, &ue) || m.Dim == recipe.Dimensionless {
+			return Outcome{}, fmt.Errorf("outcome %q: %s %s, not %s (units: %s): %w", s, name, m.kind(), written(unit), strings.Join(m.units, ", "), ErrInvalid)
+		}
+		return Outcome{}, fmt.Errorf("outcome %q: %s: %v: %w", s, name, err, ErrInvalid)
 	}
-	if !ok {
-		return Outcome{}, fmt.Errorf("outcome %q: %s is in %s, not %q (units: %s): %w", s, name, m.Unit, unit, strings.Join(m.Units(), ", "), ErrInvalid)
-	}
-	o.Value, o.Unit = v*f, m.Unit
 	if o.Value < m.Min || o.Value > m.Max {
 		hint := ""
 		if m.Max == 1 && unit == "" && v > 1 && v <= 100 {
@@ -120,6 +111,43 @@ func ParseOutcome(s string, isParam func(string) bool) (Outcome, error) {
 		return Outcome{}, fmt.Errorf("outcome %q: %s %g %s is outside %g to %g%s: %w", s, name, o.Value, m.Unit, m.Min, m.Max, hint, ErrInvalid)
 	}
 	return o, nil
+}
+
+// canonical returns a value of the metric, written as text (number v in
+// unit), in the metric's canonical unit. A value written in the canonical
+// unit (or a bare number where that is a plain number) is kept as written,
+// not sent through SI and back, so a stored value re-parses to itself.
+func (m MetricInfo) canonical(text string, v float64, unit string) (float64, error) {
+	switch {
+	case unit == m.Unit || unit == "" && m.Dim == recipe.Dimensionless:
+		return v, nil
+	case m.Dim == recipe.Fraction:
+		return recipe.ParseFraction(text)
+	}
+	q, err := recipe.Parse(text, m.Dim)
+	if err != nil {
+		return 0, err
+	}
+	return recipe.In(q.SI, m.Unit)
+}
+
+// kind says what values of the metric are, for messages.
+func (m MetricInfo) kind() string {
+	switch m.Dim {
+	case recipe.Dimensionless:
+		return "is a plain number"
+	case recipe.Fraction:
+		return "is a fraction (a bare number or a percentage)"
+	}
+	return "is in " + m.Unit
+}
+
+// written names the unit a value was written in, for messages.
+func written(unit string) string {
+	if unit == "" {
+		return "a bare number"
+	}
+	return strconv.Quote(unit)
 }
 
 // validName reports whether s is a lower snake-case name.

@@ -6,7 +6,7 @@ import (
 	"io"
 )
 
-// RunLog is the run log. Every back end (store/sqlite, later PostgreSQL)
+// RunLog is the run log. Every back end (store/sqlite, store/postgres)
 // implements it; every method takes a context and every write that touches
 // more than one row happens in one transaction, so it lands whole or not
 // at all.
@@ -20,7 +20,9 @@ type RunLog interface {
 	// AddNote adds a timestamped note to a run.
 	AddNote(ctx context.Context, code string, n Note) error
 	// FinishRun ends a planned or running run: status, end time, actuals
-	// and deviations from the furnace log.
+	// and deviations from the furnace log, a closing note and the files
+	// that belong to the run (the furnace log itself), all in one
+	// transaction.
 	FinishRun(ctx context.Context, code string, f Finish) error
 	// AddOutcomes adds measured outcomes to a run, all or none.
 	AddOutcomes(ctx context.Context, code string, outcomes []Outcome) error
@@ -57,7 +59,24 @@ type RunLog interface {
 	// found (none: an empty slice).
 	Check(ctx context.Context) ([]string, error)
 
+	Copier
 	io.Closer
+}
+
+// Copier copies a whole run log into another, empty one, of the same back
+// end or another (`db copy`, a PostgreSQL backup to a SQLite file), and
+// sums a log up to check a copy.
+type Copier interface {
+	// CopyTo copies every snapshot, run and code counter into dst, which
+	// must hold no runs and no snapshots (ErrConflict otherwise), in one
+	// transaction on dst that commits only when the copy, read back
+	// inside it, has the source's Digest. progress, when not nil, is
+	// called with the runs copied so far. It returns the digest both
+	// sides share. A dst of a back end that cannot take a copy is
+	// ErrInvalid.
+	CopyTo(ctx context.Context, dst RunLog, progress func(done, total int)) (Digest, error)
+	// Digest sums up the whole log from one consistent read.
+	Digest(ctx context.Context) (Digest, error)
 }
 
 // Filter selects runs. Where holds expressions of the --where language

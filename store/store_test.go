@@ -8,8 +8,6 @@ import (
 	"os"
 	"strings"
 	"testing"
-
-	"github.com/foilrun/foilrun/recipe"
 )
 
 // TestSpearmanScipy compares Spearman and Quantile with values computed by
@@ -64,43 +62,6 @@ func TestBest(t *testing.T) {
 	if lo.Count != 5 || lo.Hi[0] != 4.5 || math.Abs(lo.Mean-0.2) > 1e-12 || lo.Meeting != 1 || lo.Share != 0.2 ||
 		hi.Count != 5 || hi.Hi[0] != 9 || hi.Min != 0.5 || hi.Max != 0.9 || hi.Share != 1 {
 		t.Errorf("bins %+v %+v", lo, hi)
-	}
-}
-
-func TestParseOutcome(t *testing.T) {
-	tests := []struct {
-		in    string
-		value float64
-		unit  string
-		err   string
-	}{
-		{"coverage=0.93", 0.93, "1", ""},
-		{"coverage=93%", 0.93, "1", ""},
-		{"nuclei_density=120/mm2", 120, "1/mm2", ""},
-		{"nuclei_density=1.2e4 1/cm2", 120, "1/mm2", ""}, // 1 mm² = 0.01 cm² (SI prefixes)
-		{"domain_size=15 um", 15, "um", ""},
-		{"domain_size=0.2mm", 200, "um", ""},
-		{"sheet_resistance=0.45 kohm/sq", 450, "ohm/sq", ""},
-		{"layers=1", 1, "1", ""},
-		{"peak_shift=3.5 cm-1", 3.5, "cm-1", ""},
-		{"domain_size=15 ohm/sq", 0, "", `domain_size is in um, not "ohm/sq"`},
-		{"coverage=93", 0, "", "write 93% for a percentage"},
-		{"coverage", 0, "", "want metric=value[unit]"},
-		{"coverage=high", 0, "", "not a finite number"},
-		{"Coverage=1", 0, "", "lower case"},
-		{"growth_time_min=3", 0, "", "is a recipe parameter"},
-	}
-	for _, tt := range tests {
-		o, err := ParseOutcome(tt.in, recipe.IsParameter)
-		if tt.err != "" {
-			if err == nil || !strings.Contains(err.Error(), tt.err) || !errors.Is(err, ErrInvalid) {
-				t.Errorf("ParseOutcome(%q) = %v, want error containing %q", tt.in, err, tt.err)
-			}
-			continue
-		}
-		if err != nil || math.Abs(o.Value-tt.value) > 1e-9*tt.value || o.Unit != tt.unit {
-			t.Errorf("ParseOutcome(%q) = %+v, %v; want %g %s", tt.in, o, err, tt.value, tt.unit)
-		}
 	}
 }
 

@@ -150,11 +150,12 @@ type RunRecord struct {
 
 // Finish is what `run finish` adds to a running run.
 type Finish struct {
-	Status     Status // Done or Aborted
-	Ended      time.Time
-	Actuals    []Actual
-	Deviations []Deviation
-	Note       string // optional closing note
+	Status      Status // Done or Aborted
+	Ended       time.Time
+	Actuals     []Actual
+	Deviations  []Deviation
+	Note        string       // optional closing note
+	Attachments []Attachment // files of the run, such as the furnace log the actuals came from
 }
 
 // Name is a parameter or metric name known to the log, with its unit.

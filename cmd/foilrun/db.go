@@ -11,7 +11,6 @@ import (
 
 	"github.com/foilrun/foilrun/store"
 	"github.com/foilrun/foilrun/store/postgres"
-	"github.com/foilrun/foilrun/store/sqldb"
 )
 
 func newDBCmd(f *factory) *cobra.Command {
@@ -143,19 +142,13 @@ func dbCopyRun(ctx context.Context, o *dbCopyOptions) error {
 	if err != nil {
 		return err
 	}
-	sb, okS := src.(interface{ Base() *sqldb.DB })
-	db, okD := dst.(interface{ Base() *sqldb.DB })
-	if !okS || !okD {
-		dst.Close()
-		return fmt.Errorf("db copy: unsupported back end")
-	}
 	bar := o.f.io.progress("copying runs")
-	dg, err := sqldb.Copy(ctx, db.Base(), sb.Base(), bar.report())
+	dg, err := src.CopyTo(ctx, dst, bar.report())
 	bar.finish()
 	if err == nil {
 		// afterwards, from a fresh read of the committed target
-		var after sqldb.Digest
-		if after, err = db.Base().Digest(ctx); err == nil && after.Diff(dg) != "" {
+		var after store.Digest
+		if after, err = dst.Digest(ctx); err == nil && after.Diff(dg) != "" {
 			err = fmt.Errorf("db copy: the committed copy reads back differently: %s", after.Diff(dg))
 		}
 	}

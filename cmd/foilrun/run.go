@@ -267,7 +267,6 @@ func runFinishRun(ctx context.Context, o *runFinishOptions) error {
 	if rec.Status.Finished() {
 		return fmt.Errorf("run %q is already %s: %w", o.code, rec.Status, store.ErrConflict)
 	}
-	var att *store.Attachment
 	if o.log != "" {
 		plan, err := planOfRun(ctx, l, rec, o.flags.furnace)
 		if err != nil {
@@ -277,15 +276,10 @@ func runFinishRun(ctx context.Context, o *runFinishOptions) error {
 		if err != nil {
 			return err
 		}
-		fin.Actuals, fin.Deviations, att = res.Actuals, res.Deviations, &a
+		fin.Actuals, fin.Deviations, fin.Attachments = res.Actuals, res.Deviations, []store.Attachment{a}
 	}
 	if err := l.FinishRun(ctx, o.code, fin); err != nil {
 		return err
-	}
-	if att != nil {
-		if err := l.AddAttachment(ctx, o.code, *att); err != nil {
-			return err
-		}
 	}
 	fmt.Fprintf(o.f.io.Out, "run %s %s\n", o.code, fin.Status)
 	return printDeviations(o.f.io.Out, o.code, fin.Deviations)

@@ -1,14 +1,16 @@
 package main
 
 import (
+	"image"
+	"image/color"
+	"image/png"
 	"os"
 	"path/filepath"
+	"regexp"
+	"strconv"
 	"testing"
-	"time"
 
 	"github.com/rogpeppe/go-internal/testscript"
-
-	"github.com/foilrun/foilrun/store"
 )
 
 // TestMain lets the testscript files below run "foilrun" as a command in
@@ -22,7 +24,8 @@ func TestMain(m *testing.M) {
 // TestScripts runs the end-to-end command scripts in testdata/script:
 // each pins a user-visible behaviour (exit status, message, output) of the
 // real binary entry point, in a fresh working folder with the templates
-// copied in as $TEMPLATES.
+// copied in as $TEMPLATES. Besides testscript's own commands a script may
+// use runcode and squares (below).
 func TestScripts(t *testing.T) {
 	tmpl, err := filepath.Abs("../../templates")
 	if err != nil {
@@ -34,10 +37,72 @@ func TestScripts(t *testing.T) {
 			env.Setenv("TEMPLATES", tmpl)
 			env.Setenv("XDG_DATA_HOME", filepath.Join(env.WorkDir, "xdg"))
 			env.Setenv("FOILRUN_DB", "")
-			// Run codes carry the year they were logged in.
-			env.Setenv("RUN1", store.FormatCode(time.Now(), 1))
-			env.Setenv("RUN9999", store.FormatCode(time.Now(), 9999))
 			return nil
 		},
+		Cmds: map[string]func(ts *testscript.TestScript, neg bool, args []string){
+			"runcode": cmdRunCode,
+			"squares": cmdSquares,
+		},
 	})
+}
+
+// runCodePattern matches a run code as the log hands them out (store.FormatCode).
+var runCodePattern = regexp.MustCompile(`\bG[0-9]{2}-[0-9]{4,}\b`)
+
+// cmdRunCode is "runcode NAME": it sets $NAME to the first run code in
+// the standard output of the last command, so scripts name the runs they
+// log by what foilrun printed, whatever year the clock says.
+func cmdRunCode(ts *testscript.TestScript, neg bool, args []string) {
+	if neg || len(args) != 1 {
+		ts.Fatalf("usage: runcode NAME")
+	}
+	code := runCodePattern.FindString(ts.ReadFile("stdout"))
+	if code == "" {
+		ts.Fatalf("runcode: no run code in the last command's standard output")
+	}
+	ts.Setenv(args[0], code)
+}
+
+// cmdSquares is "squares FILE SIZE N SIDE": it writes a SIZE×SIZE 8-bit
+// gray PNG micrograph with an N×N grid of dark (gray 60) squares of SIDE
+// pixels on bright (gray 200) copper, each centred in its cell. By
+// construction the coverage is N²·SIDE²/SIZE², there are N² domains, none
+// touching the border, each of SIDE² pixels.
+func cmdSquares(ts *testscript.TestScript, neg bool, args []string) {
+	if neg || len(args) != 4 {
+		ts.Fatalf("usage: squares FILE SIZE N SIDE")
+	}
+	var v [3]int
+	for i, a := range args[1:] {
+		n, err := strconv.Atoi(a)
+		if err != nil || n <= 0 {
+			ts.Fatalf("squares: %q is not a positive whole number", a)
+		}
+		v[i] = n
+	}
+	size, n, side := v[0], v[1], v[2]
+	cell := size / n
+	if side >= cell {
+		ts.Fatalf("squares: %d squares of %d px do not fit apart in %d px", n, side, size)
+	}
+	img := image.NewGray(image.Rect(0, 0, size, size))
+	for y := 0; y < size; y++ {
+		for x := 0; x < size; x++ {
+			img.SetGray(x, y, color.Gray{Y: 200})
+		}
+	}
+	off := (cell - side) / 2
+	for i := 0; i < n; i++ {
+		for j := 0; j < n; j++ {
+			for y := 0; y < side; y++ {
+				for x := 0; x < side; x++ {
+					img.SetGray(j*cell+off+x, i*cell+off+y, color.Gray{Y: 60})
+				}
+			}
+		}
+	}
+	f, err := os.Create(ts.MkAbs(args[0]))
+	ts.Check(err)
+	ts.Check(png.Encode(f, img))
+	ts.Check(f.Close())
 }

@@ -54,7 +54,7 @@ func TestCopperRecessionRate(t *testing.T) {
 	// REFERENCES.md: in vacuum a copper foil near 1050 °C can lose on the
 	// order of 10 µm per hour per free face. Computed 10.4 µm/h; tolerance
 	// a factor of 2 ("on the order of").
-	got := CopperRecessionRate(1050+273.15) * 3600 * 1e6 // µm/h
+	got := CopperRecessionRate(1050+ZeroCelsius) * 3600 * 1e6 // µm/h
 	if got < 5 || got > 20 {
 		t.Errorf("at 1050 °C: got %.3g µm/h, want about 10", got)
 	}

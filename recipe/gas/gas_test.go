@@ -33,7 +33,7 @@ func TestConstants(t *testing.T) {
 		// Pa·m³/s per sccm at 273.15 K: 1.68875e-3 (REFERENCES.md, derived).
 		{"Pa m3/s per sccm", StandardAtmosphere * 1e-6 / 60, 1.68875e-3, 1e-5},
 		// ITS-90 copper point 1084.62 °C.
-		{"copper point in C", CopperMeltingPoint - 273.15, 1084.62, 1e-9},
+		{"copper point in C", CopperMeltingPoint - ZeroCelsius, 1084.62, 1e-9},
 		// k_B·N_A = R (exact SI 2019 definitions).
 		{"kB NA = R", Boltzmann * Avogadro, R, 1e-9},
 	}
@@ -173,8 +173,8 @@ func TestFlammability(t *testing.T) {
 		{"C2H4", IEC60079, 2.3, 36, 440},
 		{"C2H2", NFPA497, 2.5, 100, 305},
 		{"C2H2", IEC60079, 2.3, 100, 305},
-		{"Ar", NFPA497, 0, 0, -273.15},
-		{"N2", IEC60079, 0, 0, -273.15},
+		{"Ar", NFPA497, 0, 0, -ZeroCelsius},
+		{"N2", IEC60079, 0, 0, -ZeroCelsius},
 	}
 	for _, tt := range tests {
 		t.Run(tt.gas+" "+tt.c.String(), func(t *testing.T) {
@@ -185,7 +185,7 @@ func TestFlammability(t *testing.T) {
 			}
 			wantAIT := 0.0
 			if tt.lfl > 0 {
-				wantAIT = tt.ait + 273.15
+				wantAIT = tt.ait + ZeroCelsius
 				if string(lfl.Source) != tt.c.String() || string(ait.Source) != tt.c.String() {
 					t.Errorf("sources %q, %q, want %q", lfl.Source, ait.Source, tt.c.String())
 				}

@@ -22,8 +22,8 @@ const (
 	polyatomic = 0.880
 )
 
-// celsius converts °C to K.
-func celsius(c float64) float64 { return c + 273.15 }
+// kelvin converts °C to K.
+func kelvin(c float64) float64 { return c + ZeroCelsius }
 
 // v builds a Value.
 func v(x float64, s Source) Value { return Value{V: x, Source: s} }
@@ -40,7 +40,7 @@ func visc(mu300, mu600 float64) ViscosityData {
 // flam builds both compilations' limits from percentages and °C.
 func flam(nfpa, iec [3]float64) [compilationCount]FlammabilityLimits {
 	mk := func(x [3]float64, s Source) FlammabilityLimits {
-		return FlammabilityLimits{LFL: v(x[0]/100, s), UFL: v(x[1]/100, s), AutoIgnition: v(celsius(x[2]), s)}
+		return FlammabilityLimits{LFL: v(x[0]/100, s), UFL: v(x[1]/100, s), AutoIgnition: v(kelvin(x[2]), s)}
 	}
 	var out [compilationCount]FlammabilityLimits
 	out[NFPA497] = mk(nfpa, srcNFPA)

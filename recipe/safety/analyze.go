@@ -57,7 +57,7 @@ func Analyze(p *recipe.Plan, s *recipe.Site, o Options) (*Report, error) {
 		Recipe: p.Recipe.Name, Furnace: p.Furnace.Name, Site: s.Name, GasCode: s.GasCode,
 		Compilation: o.Compilation.String(), TubeLitres: p.Furnace.TubeVolume() * 1000,
 		VentilationM3H: s.Room.AirChanges.SI * s.Room.Volume.SI * 3600,
-		OpenBelowC:     recipe.VentTemperature - 273.15, Options: o, Disclaimer: Disclaimer,
+		OpenBelowC:     recipe.Celsius(recipe.VentTemperature), Options: o, Disclaimer: Disclaimer,
 	}
 	for i := range p.Steps {
 		a.mixture(&p.Steps[i])
@@ -124,12 +124,10 @@ func pct(x float64) string { return trim(fmt.Sprintf("%.3g", x*100)) + " %" }
 
 func trim(s string) string { return strings.TrimSpace(s) }
 
-func celsius(k float64) float64 { return k - 273.15 }
-
 func slm(molPerS float64) float64 { return molPerS / gas.MolPerSCCMPerSecond / 1000 }
 
 func (a *analysis) mixture(sp *recipe.StepPlan) {
-	st := StepSafety{Step: sp.Index + 1, Label: sp.Label, MaxTempC: celsius(sp.MaxTemperature())}
+	st := StepSafety{Step: sp.Index + 1, Label: sp.Label, MaxTempC: recipe.Celsius(sp.MaxTemperature())}
 	defer func() { a.r.Steps = append(a.r.Steps, st) }()
 	phi, _, _, lfl, ufl := a.fuelMix(sp.Flows)
 	if phi == 0 {

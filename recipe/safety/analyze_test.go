@@ -165,7 +165,7 @@ func TestRoomLeakStop(t *testing.T) {
 	}
 	for _, rel := range rep.Releases {
 		if rel.Gas == "H2" && rel.Source == "site max_release" {
-			want := 30e-3 / 60 * (101325.0 / 273.15 * 293.15 / 101325) / (2 * 20.0 / 3600)
+			want := 30e-3 / 60 * (101325.0 / recipe.Kelvin(0) * recipe.Kelvin(20) / 101325) / (2 * 20.0 / 3600)
 			near(t, "H2 steady state", rel.Steady, want, 1e-6)
 		}
 	}

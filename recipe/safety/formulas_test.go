@@ -39,7 +39,7 @@ func TestGasLimitsAgainstCompilations(t *testing.T) {
 			l, u, ait := g.Limits(c.comp)
 			near(t, "LFL", l.V*100, c.lfl, 1e-12)
 			near(t, "UFL", u.V*100, c.ufl, 1e-12)
-			near(t, "AIT °C", ait.V-273.15, c.aitC, 1e-12)
+			near(t, "AIT °C", ait.V-gas.ZeroCelsius, c.aitC, 1e-12)
 		})
 	}
 }

@@ -97,11 +97,11 @@ func (a *analysis) sequence() {
 		for _, g := range hotFuels {
 			gg, _ := gas.Lookup(g)
 			_, _, ait := a.limits(gg)
-			parts = append(parts, fmt.Sprintf("%s %.0f °C", g, celsius(ait)))
+			parts = append(parts, fmt.Sprintf("%s %.0f °C", g, recipe.Celsius(ait)))
 		}
 		a.add(Note, hotStep, "ignition.autoignition", "keep air out of the hot tube: leak check, purge, and keep a positive inert flow on any opening",
 			"flammable gas meets %.0f °C, above its autoignition temperature (%s, %s): air reaching the hot zone ignites it without a spark",
-			celsius(hotStep.MaxTemperature()), strings.Join(parts, ", "), a.r.Compilation)
+			recipe.Celsius(hotStep.MaxTemperature()), strings.Join(parts, ", "), a.r.Compilation)
 	}
 	t := tube{P: gas.StandardAtmosphere, O2: airOxygen}
 	leak, purged, fuelSeen := false, false, false
@@ -214,14 +214,14 @@ func (a *analysis) firstFuel(sp *recipe.StepPlan, sev Severity, leak, purged boo
 
 // vent judges the tube when it is opened.
 func (a *analysis) vent(sp *recipe.StepPlan, t tube, purged, fuelSeen bool) {
-	a.r.VentStep, a.r.VentTempC = sp.Index+1, celsius(sp.T0)
+	a.r.VentStep, a.r.VentTempC = sp.Index+1, recipe.Celsius(sp.T0)
 	if sp.T0 > recipe.HotTemperature {
-		a.add(Stop, sp, "sequence.vent-hot", fmt.Sprintf("cool below %.0f °C under inert gas before venting and opening", celsius(recipe.VentTemperature)),
-			"the tube is vented and opened at %.0f °C: air meets hot copper and any fuel left in the tube", celsius(sp.T0)).
-			num("temperature", celsius(sp.T0), "°C")
+		a.add(Stop, sp, "sequence.vent-hot", fmt.Sprintf("cool below %.0f °C under inert gas before venting and opening", recipe.Celsius(recipe.VentTemperature)),
+			"the tube is vented and opened at %.0f °C: air meets hot copper and any fuel left in the tube", recipe.Celsius(sp.T0)).
+			num("temperature", recipe.Celsius(sp.T0), "°C")
 	} else if sp.T0 > recipe.VentTemperature {
-		a.add(Warning, sp, "sequence.vent-warm", fmt.Sprintf("cool below %.0f °C before opening", celsius(recipe.VentTemperature)),
-			"the tube is vented at %.0f °C", celsius(sp.T0)).num("temperature", celsius(sp.T0), "°C")
+		a.add(Warning, sp, "sequence.vent-warm", fmt.Sprintf("cool below %.0f °C before opening", recipe.Celsius(recipe.VentTemperature)),
+			"the tube is vented at %.0f °C", recipe.Celsius(sp.T0)).num("temperature", recipe.Celsius(sp.T0), "°C")
 	}
 	if !fuelSeen {
 		return

@@ -49,7 +49,7 @@ func synth(p *recipe.Plan, stretch map[int]float64, change func(step int, into f
 			if change != nil {
 				change(j, into, &T, &P, fl)
 			}
-			fmt.Fprintf(&b, "%g,%.3f,%.6g,%g,%g,%g\n", t, T-273.15, P/(101325.0/760), fl["Ar"], fl["H2"], fl["CH4"])
+			fmt.Fprintf(&b, "%g,%.3f,%.6g,%g,%g,%g\n", t, recipe.Celsius(T), P/(101325.0/760), fl["Ar"], fl["H2"], fl["CH4"])
 			t += 10
 		}
 	}

@@ -143,7 +143,7 @@ func Match(p *recipe.Plan, lg *Log) Result {
 				worst = st.min
 			}
 			if math.Abs(worst-sp.T0) > TemperatureTolerance {
-				dev("temperature", "K", sp.T0, worst, TemperatureTolerance, "temperature reached %.1f °C, set %.1f °C (±%.0f K)", worst-273.15, sp.T0-273.15, TemperatureTolerance)
+				dev("temperature", "K", sp.T0, worst, TemperatureTolerance, "temperature reached %.1f °C, set %.1f °C (±%.0f K)", recipe.Celsius(worst), recipe.Celsius(sp.T0), TemperatureTolerance)
 			}
 		}
 		// pressure

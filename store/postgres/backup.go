@@ -6,7 +6,6 @@ import (
 	"fmt"
 	"os"
 
-	"github.com/foilrun/foilrun/store/sqldb"
 	"github.com/foilrun/foilrun/store/sqlite"
 )
 
@@ -24,7 +23,7 @@ func (s *DB) Backup(ctx context.Context, path string) error {
 	if err != nil {
 		return fmt.Errorf("backup %q: %w", path, err)
 	}
-	_, err = sqldb.Copy(ctx, dst.Base(), s.Base(), nil)
+	_, err = s.CopyTo(ctx, dst, nil)
 	err = errors.Join(err, dst.Close())
 	if err != nil {
 		for _, suffix := range []string{"", "-wal", "-shm"} {

@@ -10,7 +10,6 @@ import (
 	"time"
 
 	"github.com/foilrun/foilrun/store"
-	"github.com/foilrun/foilrun/store/sqldb"
 	"github.com/foilrun/foilrun/store/sqlite"
 	"github.com/foilrun/foilrun/store/storetest"
 )
@@ -108,11 +107,11 @@ func BenchmarkCopy100k(b *testing.B) {
 		}
 		b.StartTimer()
 		t0 := time.Now()
-		if _, err := sqldb.Copy(ctx, pg.Base(), src.Base(), nil); err != nil {
+		if _, err := src.CopyTo(ctx, pg, nil); err != nil {
 			b.Fatal(err)
 		}
 		t1 := time.Now()
-		if _, err := sqldb.Copy(ctx, back.Base(), pg.Base(), nil); err != nil {
+		if _, err := pg.CopyTo(ctx, back, nil); err != nil {
 			b.Fatal(err)
 		}
 		t2 := time.Now()

@@ -10,7 +10,6 @@ import (
 	"testing"
 
 	"github.com/foilrun/foilrun/store"
-	"github.com/foilrun/foilrun/store/sqldb"
 	"github.com/foilrun/foilrun/store/sqlite"
 	"github.com/foilrun/foilrun/store/storetest"
 )
@@ -181,7 +180,7 @@ func TestCopyRoundTrip(t *testing.T) {
 		t.Fatal(err)
 	}
 	pg, _ := openFresh(t)
-	d1, err := sqldb.Copy(ctx, pg.Base(), a.Base(), nil)
+	d1, err := a.CopyTo(ctx, pg, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -190,7 +189,7 @@ func TestCopyRoundTrip(t *testing.T) {
 		t.Fatal(err)
 	}
 	defer b.Close()
-	d2, err := sqldb.Copy(ctx, b.Base(), pg.Base(), nil)
+	d2, err := pg.CopyTo(ctx, b, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -212,7 +211,7 @@ func TestCopyRoundTrip(t *testing.T) {
 		t.Errorf("next code on the copy: got %q, %v; want %q, as on the source", next, err, want)
 	}
 	before := storetest.Fingerprint(t, b)
-	if _, err := sqldb.Copy(ctx, b.Base(), pg.Base(), nil); !errors.Is(err, store.ErrConflict) || !strings.Contains(err.Error(), "only into an empty log") {
+	if _, err := pg.CopyTo(ctx, b, nil); !errors.Is(err, store.ErrConflict) || !strings.Contains(err.Error(), "only into an empty log") {
 		t.Errorf("copy into a full log: got %v, want ErrConflict", err)
 	}
 	if storetest.Fingerprint(t, b) != before {

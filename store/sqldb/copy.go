@@ -9,41 +9,9 @@ import (
 	"fmt"
 	"hash"
 	"sort"
-	"strings"
 
 	"github.com/foilrun/foilrun/store"
 )
-
-// Digest sums up a whole log so that two logs holding the same runs agree
-// on it whatever their back end: row counts per table and a SHA-256 over
-// the canonical JSON (encoding/json, map keys sorted) of every run in
-// export order, then of every snapshot in hash order.
-type Digest struct {
-	Counts map[string]int // rows per table
-	SHA256 string
-}
-
-// Runs is the number of runs.
-func (d Digest) Runs() int { return d.Counts["runs"] }
-
-// String is "N runs, M snapshots, sha256 0123456789ab".
-func (d Digest) String() string {
-	return fmt.Sprintf("%d runs, %d snapshots, sha256 %.12s", d.Counts["runs"], d.Counts["snapshots"], d.SHA256)
-}
-
-// Diff describes how d and e differ ("" when equal).
-func (d Digest) Diff(e Digest) string {
-	var out []string
-	for _, t := range copyTables {
-		if d.Counts[t] != e.Counts[t] {
-			out = append(out, fmt.Sprintf("%s %d against %d", t, d.Counts[t], e.Counts[t]))
-		}
-	}
-	if d.SHA256 != e.SHA256 {
-		out = append(out, fmt.Sprintf("content sha256 %.12s against %.12s", d.SHA256, e.SHA256))
-	}
-	return strings.Join(out, ", ")
-}
 
 // copyTables are the tables whose rows a copy must carry over one for one.
 var copyTables = []string{"runs", "snapshots", "run_params", "run_notes", "outcomes", "run_actuals", "run_deviations", "attachments", "names"}
@@ -66,15 +34,15 @@ func (g *digester) add(v any) error {
 
 // digest reads the whole log through q (one consistent read or the
 // writer's transaction) and sums it up.
-func (s *DB) digest(ctx context.Context, q Querier) (Digest, error) {
+func (s *DB) digest(ctx context.Context, q Querier) (store.Digest, error) {
 	g := newDigester()
 	if err := s.export(ctx, q, "", nil, 0, func(rec store.RunRecord) error { return g.add(rec) }); err != nil {
-		return Digest{}, err
+		return store.Digest{}, err
 	}
 	if err := readSnapshots(ctx, q, s.d, func(sn store.Snapshot) error { return g.add(sn) }); err != nil {
-		return Digest{}, err
+		return store.Digest{}, err
 	}
-	d := Digest{Counts: map[string]int{}, SHA256: hex.EncodeToString(g.h.Sum(nil))}
+	d := store.Digest{Counts: map[string]int{}, SHA256: hex.EncodeToString(g.h.Sum(nil))}
 	for _, t := range copyTables {
 		var n int
 		if err := q.QueryRowContext(ctx, "SELECT COUNT(*) FROM "+t).Scan(&n); err != nil {
@@ -86,10 +54,10 @@ func (s *DB) digest(ctx context.Context, q Querier) (Digest, error) {
 }
 
 // Digest sums up the whole log from one consistent read.
-func (s *DB) Digest(ctx context.Context) (Digest, error) {
+func (s *DB) Digest(ctx context.Context) (store.Digest, error) {
 	q, end, err := s.d.Read(ctx, s.db)
 	if err != nil {
-		return Digest{}, err
+		return store.Digest{}, err
 	}
 	defer end()
 	return s.digest(ctx, q)
@@ -125,31 +93,31 @@ func readSnapshots(ctx context.Context, q Querier, d Dialect, each func(store.Sn
 // written, and a killed process leaves dst as empty as it was. progress,
 // when not nil, is called with the runs copied so far. It returns the
 // digest both sides share.
-func Copy(ctx context.Context, dst, src *DB, progress func(done, total int)) (Digest, error) {
+func Copy(ctx context.Context, dst, src *DB, progress func(done, total int)) (store.Digest, error) {
 	q, end, err := src.d.Read(ctx, src.db)
 	if err != nil {
-		return Digest{}, fmt.Errorf("copy: read the source: %w", err)
+		return store.Digest{}, fmt.Errorf("copy: read the source: %w", err)
 	}
 	defer end()
 	var total int
 	if err := q.QueryRowContext(ctx, `SELECT COUNT(*) FROM runs`).Scan(&total); err != nil {
-		return Digest{}, fmt.Errorf("copy: read the source: %w", err)
+		return store.Digest{}, fmt.Errorf("copy: read the source: %w", err)
 	}
 	w, err := dst.begin(ctx)
 	if err != nil {
-		return Digest{}, fmt.Errorf("copy: %w", err)
+		return store.Digest{}, fmt.Errorf("copy: %w", err)
 	}
 	defer w.rollback()
 	var runs, snaps int
 	if err := w.tx.QueryRowContext(ctx, `SELECT (SELECT COUNT(*) FROM runs), (SELECT COUNT(*) FROM snapshots)`).Scan(&runs, &snaps); err != nil {
-		return Digest{}, fmt.Errorf("copy: %w", err)
+		return store.Digest{}, fmt.Errorf("copy: %w", err)
 	}
 	if runs > 0 || snaps > 0 {
-		return Digest{}, fmt.Errorf("copy: the target already holds %d runs and %d recipe snapshots; db copy writes only into an empty log: %w", runs, snaps, store.ErrConflict)
+		return store.Digest{}, fmt.Errorf("copy: the target already holds %d runs and %d recipe snapshots; db copy writes only into an empty log: %w", runs, snaps, store.ErrConflict)
 	}
 	endBulk, err := dst.d.Bulk(ctx, w.tx, total)
 	if err != nil {
-		return Digest{}, fmt.Errorf("copy: %w", err)
+		return store.Digest{}, fmt.Errorf("copy: %w", err)
 	}
 	// snapshots first, hashed in hash order
 	var snapList []store.Snapshot
@@ -157,7 +125,7 @@ func Copy(ctx context.Context, dst, src *DB, progress func(done, total int)) (Di
 		snapList = append(snapList, sn)
 		return w.putSnapshot(ctx, sn)
 	}); err != nil {
-		return Digest{}, fmt.Errorf("copy snapshots: %w", err)
+		return store.Digest{}, fmt.Errorf("copy snapshots: %w", err)
 	}
 	// runs, hashed as they pass
 	g := newDigester()
@@ -176,47 +144,47 @@ func Copy(ctx context.Context, dst, src *DB, progress func(done, total int)) (Di
 		return ctx.Err()
 	})
 	if err != nil {
-		return Digest{}, fmt.Errorf("copy: %w", err)
+		return store.Digest{}, fmt.Errorf("copy: %w", err)
 	}
 	if _, err := w.flushRuns(ctx); err != nil {
-		return Digest{}, fmt.Errorf("copy: %w", err)
+		return store.Digest{}, fmt.Errorf("copy: %w", err)
 	}
 	for _, sn := range snapList {
 		if err := g.add(sn); err != nil {
-			return Digest{}, err
+			return store.Digest{}, err
 		}
 	}
 	if err := copyCounters(ctx, q, w); err != nil {
-		return Digest{}, fmt.Errorf("copy counters: %w", err)
+		return store.Digest{}, fmt.Errorf("copy counters: %w", err)
 	}
 	for _, bt := range w.batches() {
 		if err := bt.flush(ctx); err != nil {
-			return Digest{}, fmt.Errorf("copy: %w", err)
+			return store.Digest{}, fmt.Errorf("copy: %w", err)
 		}
 	}
 	if err := endBulk(ctx); err != nil {
-		return Digest{}, fmt.Errorf("copy: %w", err)
+		return store.Digest{}, fmt.Errorf("copy: %w", err)
 	}
-	want := Digest{Counts: map[string]int{}, SHA256: hex.EncodeToString(g.h.Sum(nil))}
+	want := store.Digest{Counts: map[string]int{}, SHA256: hex.EncodeToString(g.h.Sum(nil))}
 	for _, t := range copyTables {
 		var n int
 		if err := q.QueryRowContext(ctx, "SELECT COUNT(*) FROM "+t).Scan(&n); err != nil {
-			return Digest{}, fmt.Errorf("copy: count source %s: %w", t, err)
+			return store.Digest{}, fmt.Errorf("copy: count source %s: %w", t, err)
 		}
 		want.Counts[t] = n
 	}
 	got, err := dst.digest(ctx, w.tx)
 	if err != nil {
-		return Digest{}, fmt.Errorf("copy: read the copy back: %w", err)
+		return store.Digest{}, fmt.Errorf("copy: read the copy back: %w", err)
 	}
 	if diff := want.Diff(got); diff != "" {
-		return Digest{}, fmt.Errorf("copy: the copy differs from the source (%s); nothing was written", diff)
+		return store.Digest{}, fmt.Errorf("copy: the copy differs from the source (%s); nothing was written", diff)
 	}
 	if progress != nil {
 		progress(done, total)
 	}
 	if err := w.commit(ctx); err != nil {
-		return Digest{}, fmt.Errorf("copy: commit: %w", err)
+		return store.Digest{}, fmt.Errorf("copy: commit: %w", err)
 	}
 	return got, nil
 }

@@ -32,10 +32,22 @@ func Open(ctx context.Context, db *sql.DB, d Dialect) (*DB, error) {
 // SQL returns the underlying database, for back-end specific tests.
 func (s *DB) SQL() *sql.DB { return s.db }
 
-// Base returns s itself; back ends that embed *DB thereby give the
-// shared implementation to code that knows them only by interface (Copy,
-// the shared tests).
-func (s *DB) Base() *DB { return s }
+// sqlLog is a run log built on DB: every back end embeds *DB, and with it
+// this unexported method, so CopyTo can find the DB behind a store.RunLog
+// without anyone outside the package asserting on it.
+type sqlLog interface{ sqlDB() *DB }
+
+func (s *DB) sqlDB() *DB { return s }
+
+// CopyTo copies the whole log into dst, a run log on any back end built on
+// DB; see Copy and store.Copier.
+func (s *DB) CopyTo(ctx context.Context, dst store.RunLog, progress func(done, total int)) (store.Digest, error) {
+	d, ok := dst.(sqlLog)
+	if !ok {
+		return store.Digest{}, fmt.Errorf("copy: the target %T is not a SQL run log: %w", dst, store.ErrInvalid)
+	}
+	return Copy(ctx, d.sqlDB(), s, progress)
+}
 
 // SetClock replaces the clock for created and note times (nil: time.Now).
 func (s *DB) SetClock(now func() time.Time) {

@@ -3,11 +3,13 @@
 // share ("?" placeholders, INSERT … ON CONFLICT … DO NOTHING/UPDATE,
 // RETURNING); what differs between back ends is one Dialect value: how
 // placeholders are written, the migration files (DDL), a consistent read,
-// backup and integrity checks. store/sqlite supplies the SQLite dialect.
+// backup and integrity checks. store/sqlite and store/postgres supply the
+// dialects. Copy (and DB.CopyTo, store.Copier) moves a whole log between
+// any two of them.
 //
 // Every write that touches more than one row runs in one transaction.
 // Times are stored as fixed-width UTC text (2006-01-02T15:04:05.000000Z),
 // so they sort as text; missing numbers and times are NULL.
 //
-// Entry points: Open, Migrate, Latest.
+// Entry points: Open, Migrate, Latest, Copy.
 package sqldb

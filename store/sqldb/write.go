@@ -436,6 +436,9 @@ func (w *writer) addActuals(ctx context.Context, id int64, as []store.Actual, ds
 }
 
 func (w *writer) addAttachment(ctx context.Context, id int64, a store.Attachment) error {
+	if strings.TrimSpace(a.Path) == "" {
+		return fmt.Errorf("attachment of kind %q has no path: give the file's path: %w", a.Kind, store.ErrInvalid)
+	}
 	added := a.Added
 	if added.IsZero() {
 		added = w.s.now()
@@ -484,7 +487,8 @@ func (s *DB) AddAttachment(ctx context.Context, code string, a store.Attachment)
 	return s.onRun(ctx, code, func(w *writer, id int64, _ store.Status) error { return w.addAttachment(ctx, id, a) })
 }
 
-// FinishRun ends a planned or running run.
+// FinishRun ends a planned or running run, with its actuals, deviations,
+// closing note and attachments, in one transaction.
 func (s *DB) FinishRun(ctx context.Context, code string, f store.Finish) error {
 	if f.Status != store.Done && f.Status != store.Aborted {
 		return fmt.Errorf("finish run %q: status %q: want done or aborted: %w", code, f.Status, store.ErrInvalid)
@@ -502,6 +506,11 @@ func (s *DB) FinishRun(ctx context.Context, code string, f store.Finish) error {
 		}
 		if f.Note != "" {
 			if err := w.addNote(ctx, id, store.Note{At: ended, Text: f.Note}); err != nil {
+				return err
+			}
+		}
+		for _, a := range f.Attachments {
+			if err := w.addAttachment(ctx, id, a); err != nil {
 				return err
 			}
 		}

@@ -41,8 +41,9 @@ type DB struct {
 var _ store.RunLog = (*DB)(nil)
 
 // dsn returns the data source name with the settings every connection of
-// the pool gets (see LIBRARIES.md: misspelled keys are ignored silently,
-// so Open checks the PRAGMAs afterwards).
+// the pool gets (github.com/mattn/go-sqlite3 ignores a misspelled key
+// silently: _foreign_key=on leaves foreign_keys off, so Open checks the
+// PRAGMAs afterwards).
 func dsn(path string) string {
 	return fmt.Sprintf("file:%s?_journal_mode=WAL&_busy_timeout=%d&_foreign_keys=on&_txlock=immediate", path, BusyTimeoutMS)
 }

@@ -72,7 +72,7 @@ func Migrations(t *testing.T, d sqldb.Dialect, fresh Fresh) {
 			if err != nil || len(runs) != 1 {
 				t.Errorf("where over migrated data: got %d runs, %v; want 1", len(runs), err)
 			}
-			Base(t, l).SetClock(func() time.Time { return time.Date(2026, 5, 1, 0, 0, 0, 0, time.UTC) })
+			Backend(t, l).SetClock(func() time.Time { return time.Date(2026, 5, 1, 0, 0, 0, 0, time.UTC) })
 			code, err := l.CreateRun(ctx, store.RunRecord{Run: store.Run{RecipeName: "x"}}, nil)
 			if err != nil || code != "G26-0008" {
 				t.Errorf("next code after migration: got %q, %v; want G26-0008 (counter kept)", code, err)
@@ -92,7 +92,7 @@ func SchemaTooNew(t *testing.T, l store.RunLog, reopen func() (store.RunLog, err
 	if _, err := l.CreateRun(ctx, GenRecord(1, ""), nil); err != nil {
 		t.Fatal(err)
 	}
-	raw := Base(t, l).SQL()
+	raw := Backend(t, l).SQL()
 	if _, err := raw.ExecContext(ctx, `INSERT INTO schema_version (version, applied_at) VALUES (99, '2030-01-01T00:00:00.000000Z')`); err != nil {
 		t.Fatal(err)
 	}

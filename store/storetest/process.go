@@ -14,7 +14,6 @@ import (
 	"time"
 
 	"github.com/foilrun/foilrun/store"
-	"github.com/foilrun/foilrun/store/sqldb"
 )
 
 // childEnv makes the test binary act as a separate logging process.
@@ -37,7 +36,7 @@ func Main(open OpenFunc) {
 //	log TARGET N           N runs, one transaction each
 //	import TARGET N PAUSE  one N-run import that prints "halfway" half-way
 //	                       through and, when PAUSE is 1, then waits to be killed
-//	copy SRC DST PAUSE     sqldb.Copy from SRC to DST, the same way
+//	copy SRC DST PAUSE     CopyTo from SRC to DST, the same way
 func child(open OpenFunc, f []string) int {
 	ctx := context.Background()
 	fail := func(err error) int {
@@ -85,7 +84,7 @@ func child(open OpenFunc, f []string) int {
 		}
 		defer dst.Close()
 		said := false
-		_, err = sqldb.Copy(ctx, Base(nil, dst), Base(nil, l), func(done, total int) {
+		_, err = l.CopyTo(ctx, dst, func(done, total int) {
 			if !said && done >= total/2 {
 				said = true
 				halfway(f[3])
@@ -251,7 +250,7 @@ func KilledCopy(t *testing.T, open OpenFunc, src, dst string, n int) {
 	if probs, err := d.Check(ctx); err != nil || len(probs) != 0 {
 		t.Errorf("check after killed copy: got %v, %v; want no problems", probs, err)
 	}
-	dg, err := sqldb.Copy(ctx, Base(t, d), Base(t, s), nil)
+	dg, err := s.CopyTo(ctx, d, nil)
 	if err != nil {
 		t.Fatal(err)
 	}

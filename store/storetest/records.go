@@ -3,13 +3,13 @@ package storetest
 import (
 	"bytes"
 	"context"
+	"database/sql"
 	"fmt"
 	"math"
 	"testing"
 	"time"
 
 	"github.com/foilrun/foilrun/store"
-	"github.com/foilrun/foilrun/store/sqldb"
 )
 
 // TestRecipe is a recipe file's bytes with what a byte-exact store must
@@ -72,18 +72,23 @@ func Records(n int, hash string) []store.RunRecord {
 // Tables are the run log's tables, for row counts.
 var Tables = []string{"runs", "snapshots", "run_params", "run_notes", "outcomes", "run_actuals", "run_deviations", "attachments", "names", "counters", "schema_version"}
 
-// Base returns the shared SQL implementation behind a back end's log
-// (every back end embeds *sqldb.DB); t may be nil outside a test, where
-// a log of another kind panics.
-func Base(t testing.TB, l store.RunLog) *sqldb.DB {
-	b, ok := l.(interface{ Base() *sqldb.DB })
+// SQLBacked is what the shared tests need of a back end beyond
+// store.RunLog: its clock, and its database for row counts and for
+// tampering with the schema. Every back end built on store/sqldb has both.
+type SQLBacked interface {
+	SetClock(now func() time.Time)
+	SQL() *sql.DB
+}
+
+// Backend returns the log as a SQLBacked; a log without those methods
+// fails the test.
+func Backend(t testing.TB, l store.RunLog) SQLBacked {
+	t.Helper()
+	b, ok := l.(SQLBacked)
 	if !ok {
-		if t == nil {
-			panic(fmt.Sprintf("storetest: run log %T does not embed *sqldb.DB", l))
-		}
-		t.Fatalf("run log %T does not embed *sqldb.DB", l)
+		t.Fatalf("run log %T has no SetClock and SQL methods (is it built on store/sqldb?)", l)
 	}
-	return b.Base()
+	return b
 }
 
 // Fingerprint is the whole content of a log as JSON plus row counts of
@@ -105,7 +110,7 @@ func Fingerprint(t testing.TB, l store.RunLog) string {
 func Count(t testing.TB, l store.RunLog, table string) int {
 	t.Helper()
 	var n int
-	if err := Base(t, l).SQL().QueryRowContext(context.Background(), "SELECT COUNT(*) FROM "+table).Scan(&n); err != nil {
+	if err := Backend(t, l).SQL().QueryRowContext(context.Background(), "SELECT COUNT(*) FROM "+table).Scan(&n); err != nil {
 		t.Fatalf("count %s: %v", table, err)
 	}
 	return n

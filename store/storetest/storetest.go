@@ -46,6 +46,7 @@ func Run(t *testing.T, open Opener) {
 		{"ExportImportCSV", testExportImportCSV},
 		{"ConcurrentWriters", testConcurrentWriters},
 		{"Check", testCheck},
+		{"CopyTo", testCopy},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) { tt.fn(t, open) })
@@ -53,7 +54,7 @@ func Run(t *testing.T, open Opener) {
 }
 
 func setClock(t *testing.T, l store.RunLog, at time.Time) {
-	Base(t, l).SetClock(func() time.Time { return at })
+	Backend(t, l).SetClock(func() time.Time { return at })
 }
 
 func must(t *testing.T, err error) {
@@ -88,7 +89,8 @@ func testSnapshot(t *testing.T, open Opener) {
 	}
 }
 
-// testLifecycle: start, note, finish, outcomes, attachment, show.
+// testLifecycle: start, note, finish with the furnace log attached,
+// outcomes, attachment, show; a finish that fails leaves nothing behind.
 func testLifecycle(t *testing.T, open Opener) {
 	l := open(t)
 	ctx := context.Background()
@@ -102,20 +104,42 @@ func testLifecycle(t *testing.T, open Opener) {
 	}
 	must(t, l.AddNote(ctx, c1, store.Note{Text: "foil looked oxidised"}))
 	fin := store.Finish{Status: store.Done, Ended: T0.Add(time.Hour), Note: "cooled",
-		Actuals:    []store.Actual{{Step: 1, Label: "1 grow", Quantity: "temperature", Unit: "K", Planned: 1273.15, Mean: 1272, Min: 1270, Max: 1275, Samples: 60}},
-		Deviations: []store.Deviation{{Step: 1, Label: "1 grow", Quantity: "duration", Unit: "s", Planned: 900, Actual: 1100, Tolerance: 90, Message: "long"}}}
+		Actuals:     []store.Actual{{Step: 1, Label: "1 grow", Quantity: "temperature", Unit: "K", Planned: 1273.15, Mean: 1272, Min: 1270, Max: 1275, Samples: 60}},
+		Deviations:  []store.Deviation{{Step: 1, Label: "1 grow", Quantity: "duration", Unit: "s", Planned: 900, Actual: 1100, Tolerance: 90, Message: "long"}},
+		Attachments: []store.Attachment{{Path: "tube-1.csv", SHA256: "cd", Kind: "furnace-log"}}}
 	must(t, l.FinishRun(ctx, c1, fin))
 	if err := l.FinishRun(ctx, c1, fin); !errors.Is(err, store.ErrConflict) {
 		t.Errorf("second finish: got %v, want ErrConflict", err)
+	}
+	if n := Count(t, l, "attachments"); n != 1 {
+		t.Errorf("attachments after a finish and a refused second one: got %d, want 1", n)
+	}
+	// The attachment is written in the finish's transaction: a bad one
+	// (no path) undoes the status, note and actuals written before it.
+	before := Fingerprint(t, l)
+	bad := fin
+	bad.Attachments = []store.Attachment{{Path: "", SHA256: "ef", Kind: "furnace-log"}}
+	if err := l.FinishRun(ctx, c2, bad); !errors.Is(err, store.ErrInvalid) || !strings.Contains(err.Error(), "no path") {
+		t.Errorf("finish with an attachment without a path: got %v, want ErrInvalid naming the missing path", err)
+	}
+	if Fingerprint(t, l) != before {
+		t.Errorf("a refused finish changed the log")
 	}
 	must(t, l.AddOutcomes(ctx, c1, []store.Outcome{{Metric: "coverage", Value: 0.95, Unit: "1"}}))
 	must(t, l.AddAttachment(ctx, c1, store.Attachment{Path: "m.png", SHA256: "ab", Kind: "micrograph"}))
 	rec, err := l.Record(ctx, c1)
 	must(t, err)
 	if rec.Status != store.Done || !rec.Ended.Equal(T0.Add(time.Hour)) || len(rec.Notes) != 2 || len(rec.Actuals) != 1 ||
-		len(rec.Deviations) != 1 || len(rec.Outcomes) != 1 || len(rec.Attachments) != 1 || rec.Actuals[0].Planned != 1273.15 ||
+		len(rec.Deviations) != 1 || len(rec.Outcomes) != 1 || len(rec.Attachments) != 2 || rec.Actuals[0].Planned != 1273.15 ||
 		rec.Notes[0].Text != "foil looked oxidised" || rec.Notes[1].Text != "cooled" || rec.Furnace != "tube-1" || !rec.Started.Equal(T0) {
 		t.Errorf("record: got %+v", rec)
+	}
+	kinds := map[string]string{}
+	for _, a := range rec.Attachments {
+		kinds[a.Kind] = a.Path + " " + a.SHA256
+	}
+	if kinds["furnace-log"] != "tube-1.csv cd" || kinds["micrograph"] != "m.png ab" {
+		t.Errorf("attachments: got %+v, want the furnace log from the finish and the micrograph", rec.Attachments)
 	}
 	runs, err := l.List(ctx, store.Filter{})
 	must(t, err)
@@ -232,6 +256,40 @@ func testBadInput(t *testing.T, open Opener) {
 	}
 	if n := Count(t, l, "runs"); n != 1 {
 		t.Errorf("runs table after injection attempts: got %d runs, want 1", n)
+	}
+}
+
+// testCopy: CopyTo carries every row into an empty log of the same back
+// end, agrees with the target's own Digest, and refuses a target that
+// holds runs (ErrConflict) or is not on SQL (ErrInvalid).
+func testCopy(t *testing.T, open Opener) {
+	ctx := context.Background()
+	src := open(t)
+	sn := store.NewSnapshot("demo", "demo.yaml", TestRecipe)
+	_, err := src.CreateRun(ctx, FullRecord(0, sn.SHA256), &sn)
+	must(t, err)
+	importRecords(t, src, []store.RunRecord{FullRecord(1, sn.SHA256), FullRecord(2, "")})
+	dst := open(t)
+	dg, err := src.CopyTo(ctx, dst, nil)
+	must(t, err)
+	after, err := dst.Digest(ctx)
+	must(t, err)
+	if dg.Runs() != 3 || dg.Counts["attachments"] != 3 || after.Diff(dg) != "" {
+		t.Errorf("copy: got digest %v, target reads back %v (%s); want 3 runs with their 3 attachments on both sides", dg, after, after.Diff(dg))
+	}
+	if a, b := ExportJSON(t, src), ExportJSON(t, dst); a != b {
+		t.Errorf("export of the copy differs from the source's")
+	}
+	before := Fingerprint(t, dst)
+	if _, err := src.CopyTo(ctx, dst, nil); !errors.Is(err, store.ErrConflict) || !strings.Contains(err.Error(), "only into an empty log") {
+		t.Errorf("copy into a log with runs: got %v, want ErrConflict", err)
+	}
+	if Fingerprint(t, dst) != before {
+		t.Errorf("a refused copy changed the target")
+	}
+	notSQL := struct{ store.RunLog }{open(t)}
+	if _, err := src.CopyTo(ctx, notSQL, nil); !errors.Is(err, store.ErrInvalid) || !strings.Contains(err.Error(), "not a SQL run log") {
+		t.Errorf("copy into a log not on SQL: got %v, want ErrInvalid", err)
 	}
 }
 
