@@ -35,7 +35,7 @@ var testParams = Params{En: 1, I0: 1e11, A: 1, B: 1, Eg: 2, G0: 0.1, P0: 100}
 
 // The Avrami result for constant nucleation and growth rates from t = 0:
 // θ = 1 − exp(−κ·I·G²·t³/3) (Avrami 1939–41; Christian, Theory of
-// Transformations, ch. 1; REFERENCES.md "Kinetics"). Tolerance 1e-6 relative
+// Transformations, ch. 1). Tolerance 1e-6 relative
 // (the figure); the moments are closed-form, so far tighter holds.
 func TestAvramiConstantConditions(t *testing.T) {
 	const T, pC, pH = 1273.15, 50.0, 30.0
@@ -134,7 +134,7 @@ func avramiSlope(t *testing.T, p Params, t1, t2 float64) float64 {
 }
 
 // Avrami exponents: 3 for continuous nucleation, 2 for site saturation
-// (REFERENCES.md "Kinetics": θ = 1 − exp(−π·N·G²·t²)). Tolerance 1e-6.
+// (site saturation: θ = 1 − exp(−π·N·G²·t²), Avrami 1939–41; Christian). Tolerance 1e-6.
 func TestAvramiExponents(t *testing.T) {
 	cont := testParams
 	site := testParams

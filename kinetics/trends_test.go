@@ -6,7 +6,7 @@ import (
 )
 
 // The default parameters against what labs commonly report for the three
-// recipe templates (common practice; REFERENCES.md "Kinetics"):
+// recipe templates (common practice):
 // low-pressure polycrystalline growth near 1000 °C covers the foil in
 // minutes with domains of micrometres to tens of micrometres; slow
 // low-methane growth gives domains of hundreds of micrometres over an hour

@@ -25,7 +25,7 @@ func TestParseConversions(t *testing.T) {
 		{"kilopascal", "101.325 kPa", Pressure, 101325, 1e-12, "SI prefix"},
 		{"atmosphere", "1 atm", Pressure, 101325, 1e-12, "standard atmosphere 101325 Pa (exact, CGPM 1954)"},
 		{"psi", "14.6959 psi", Pressure, 101325, 1e-5, "1 psi = 6894.757 Pa (NIST SP 811)"},
-		{"sccm", "1 sccm", Flow, 4.461503e-5 / 60, 1e-6, "1 sccm = 4.461503e-5 mol/min at 0 °C, 101.325 kPa (REFERENCES: SEMI convention)"},
+		{"sccm", "1 sccm", Flow, 4.461503e-5 / 60, 1e-6, "1 sccm = 4.461503e-5 mol/min at 0 °C, 101.325 kPa (SEMI convention as stated in MFC makers' documents; derived)"},
 		{"sccm no space", "35sccm", Flow, 35 * 4.461503e-5 / 60, 1e-6, "as above"},
 		{"slm", "1.2 slm", Flow, 1200 * 4.461503e-5 / 60, 1e-6, "1 slm = 1000 sccm"},
 		{"ramp", "15 C/min", TemperatureRate, 0.25, 1e-12, "15 K per 60 s"},

@@ -10,7 +10,7 @@ import (
 
 // TestClassifyRaman: cases on either side of each common-practice
 // threshold (2D/G ≥ 2 with FWHM ≤ 35 cm⁻¹ monolayer-like; D/G ≥ 0.3
-// defective), as listed in REFERENCES.md (common practice).
+// defective) (common practice).
 func TestClassifyRaman(t *testing.T) {
 	cases := []struct {
 		name string

@@ -6,7 +6,7 @@ import (
 )
 
 func TestCopperVapourPressure(t *testing.T) {
-	// Sources: CRC Handbook vapour-pressure table (from memory, REFERENCES.md):
+	// Sources: CRC Handbook vapour-pressure table (from memory):
 	// 1 Pa at about 1509 K, 10 Pa at about 1661 K; about 0.06–0.07 Pa at the
 	// melting point (data sets differ by 20 %). Tolerance ±25 %.
 	// Computed: 0.0582 Pa at 1357.77 K, 0.978 Pa at 1509 K, 9.87 Pa at 1661 K
@@ -51,7 +51,7 @@ func TestHertzKnudsenFlux(t *testing.T) {
 }
 
 func TestCopperRecessionRate(t *testing.T) {
-	// REFERENCES.md: in vacuum a copper foil near 1050 °C can lose on the
+	// Hertz–Knudsen (Kolasinski, Surface Science, 3rd ed.) order of magnitude, from memory: in vacuum a copper foil near 1050 °C can lose on the
 	// order of 10 µm per hour per free face. Computed 10.4 µm/h; tolerance
 	// a factor of 2 ("on the order of").
 	got := CopperRecessionRate(1050+ZeroCelsius) * 3600 * 1e6 // µm/h

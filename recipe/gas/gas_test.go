@@ -21,7 +21,7 @@ func mustLookup(t testing.TB, name string) Gas {
 }
 
 func TestConstants(t *testing.T) {
-	// Source: REFERENCES.md "Flow and vacuum", derived from sccm at 0 °C and
+	// Source: derived from sccm at 0 °C and
 	// 101 325 Pa (SEMI convention): 1 sccm = 7.435839e-7 mol/s = 4.461503e-5 mol/min.
 	tests := []struct {
 		name      string
@@ -30,7 +30,7 @@ func TestConstants(t *testing.T) {
 	}{
 		{"mol/s per sccm", MolPerSCCMPerSecond, 7.435839e-7, 1e-6},
 		{"mol/min per sccm", MolPerSCCMPerSecond * 60, 4.461503e-5, 1e-6},
-		// Pa·m³/s per sccm at 273.15 K: 1.68875e-3 (REFERENCES.md, derived).
+		// Pa·m³/s per sccm at 273.15 K: 1.68875e-3 (derived from the SEMI convention).
 		{"Pa m3/s per sccm", StandardAtmosphere * 1e-6 / 60, 1.68875e-3, 1e-5},
 		// ITS-90 copper point 1084.62 °C.
 		{"copper point in C", CopperMeltingPoint - ZeroCelsius, 1084.62, 1e-9},
@@ -44,7 +44,7 @@ func TestConstants(t *testing.T) {
 			}
 		})
 	}
-	// Cu density 8.96 g/cm³ at 20 °C, ±0.5 % (REFERENCES.md, handbook values).
+	// Cu density 8.96 g/cm³ at 20 °C, ±0.5 % (handbook values; other sources give 8.89–8.94).
 	if !closeRel(CopperDensity, 8960, 0.005) {
 		t.Errorf("CopperDensity = %g, want 8960 ±0.5 %%", CopperDensity)
 	}
@@ -131,7 +131,7 @@ func TestKnownStableAndIndependent(t *testing.T) {
 
 func TestMolarMass(t *testing.T) {
 	// Source: IUPAC 1995 standard atomic weights; NASA Glenn thermo data
-	// (REFERENCES.md, read). C2H4, C2H2 and O2: sums of IUPAC atomic weights
+	// (read). C2H4, C2H2 and O2: sums of IUPAC atomic weights
 	// C 12.0107, H 1.00794, O 15.9994 (from memory). Air: NASA Glenn dry air
 	// 28.9651 g/mol (from memory). Tolerance 1e-6 relative.
 	tests := []struct {
@@ -157,7 +157,7 @@ func TestMolarMass(t *testing.T) {
 }
 
 func TestFlammability(t *testing.T) {
-	// Source: REFERENCES.md flammability table, NFPA 497 (2008) and
+	// Source: NFPA 497 (2008) and
 	// IEC 60079-20-1 (2010), read in the "chemicals" library data files.
 	// Percent by volume in air and °C; tolerance 1e-9.
 	tests := []struct {
@@ -222,9 +222,9 @@ func TestRoles(t *testing.T) {
 		}
 	}
 	if !mustLookup(t, "C2H2").Decomposes {
-		t.Errorf("C2H2 Decomposes = false, want true (REFERENCES.md: decomposes without air)")
+		t.Errorf("C2H2 Decomposes = false, want true (NFPA 497 (2008): decomposes without air)")
 	}
-	// NASA Glenn air composition 20.9476 % O2 (REFERENCES.md).
+	// NASA Glenn air composition 20.9476 % O2 (McBride, Zehe & Gordon, NASA/TP-2002-211556).
 	if got := mustLookup(t, "air").OxygenFraction; got != 0.209476 {
 		t.Errorf("air O2 fraction got %g, want 0.209476", got)
 	}

@@ -6,8 +6,7 @@ import (
 )
 
 func TestMixtureMFCFactorWorkedExample(t *testing.T) {
-	// Source: a thermal-MFC maker's manual worked example (REFERENCES.md,
-	// read): Ar 150 sccm + N2 50 sccm gives GCF 1.302. Tolerance ±0.0005
+	// Source: a thermal-MFC maker's manual worked example (read): Ar 150 sccm + N2 50 sccm gives GCF 1.302. Tolerance ±0.0005
 	// (the manual rounds to three decimals).
 	ar, n2 := mustLookup(t, "Ar"), mustLookup(t, "N2")
 	if got := MixtureMFCFactor([]Gas{ar, n2}, []float64{150, 50}); math.Abs(got-1.302) > 5e-4 {
@@ -20,7 +19,7 @@ func TestMixtureMFCFactorWorkedExample(t *testing.T) {
 }
 
 func TestFormulaAgainstTables(t *testing.T) {
-	// Source: the formula GCF = 0.3106·s/(d·c_p) (REFERENCES.md) against the
+	// Source: the formula GCF = 0.3106·s/(d·c_p) (thermal-MFC makers' manuals) against the
 	// tabulated factors (makers' tables, from memory). For diatomic and
 	// polyatomic gases the two agree within 1 %; for monatomic gases the
 	// tables carry an empirical correction (Ar: formula 1.443, tables 1.39),
@@ -41,7 +40,7 @@ func TestFormulaAgainstTables(t *testing.T) {
 }
 
 func TestTabulatedMFCFactors(t *testing.T) {
-	// Source: REFERENCES.md "Flow and vacuum": CH4 0.72 (or 0.77), Ar 1.39
+	// Source: CH4 0.72 (or 0.77), Ar 1.39
 	// (or 1.40), H2 1.01, N2 1 by definition (makers' tables, read).
 	tests := []struct {
 		gas  string
@@ -57,7 +56,7 @@ func TestTabulatedMFCFactors(t *testing.T) {
 }
 
 func TestRelativeMFCFactor(t *testing.T) {
-	// REFERENCES.md: for an MFC calibrated on gas X, factor = GCF_gas / GCF_X.
+	// Thermal-MFC makers' manuals: for an MFC calibrated on gas X, factor = GCF_gas / GCF_X.
 	ch4, ar, n2 := mustLookup(t, "CH4"), mustLookup(t, "Ar"), mustLookup(t, "N2")
 	tests := []struct {
 		name    string

@@ -25,8 +25,8 @@ type shomate struct {
 	a, b, c, d, e, f, g, h float64
 }
 
-// NIST Chemistry WebBook Shomate coefficients (values as listed in
-// REFERENCES.md; CH4 1300–6000 K F and G from memory, continuity at 1300 K
+// NIST Chemistry WebBook Shomate coefficients (CH4 298–1300 K and H2 read;
+// CH4 1300–6000 K F and G from memory, continuity at 1300 K
 // checked: ΔH 0.013 kJ/mol, ΔS 0.01 J/(mol·K)).
 var (
 	methaneShomate = []shomate{

@@ -7,7 +7,7 @@ import (
 
 func TestMethaneGibbsFormationJANAF(t *testing.T) {
 	// Source: NIST-JANAF Thermochemical Tables, 4th ed. (1998), CH4 ΔfG°.
-	// 1000, 1200, 1400 K from REFERENCES.md (from memory, reproduced by a
+	// 1000, 1200, 1400 K (from memory, reproduced by a
 	// Shomate calculation); the others from memory. Tolerance 0.3 kJ/mol:
 	// JANAF and the NASA Glenn graphite data differ by up to 0.5 kJ/mol; we
 	// agree to about 0.01 kJ/mol.

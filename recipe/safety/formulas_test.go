@@ -16,7 +16,8 @@ func near(t *testing.T, name string, got, want, relTol float64) {
 }
 
 // The flammable limits and autoignition temperatures the analysis uses,
-// against the two compilations as listed in REFERENCES.md.
+// against the two compilations, NFPA 497 (2008) and IEC 60079-20-1 (2010),
+// as read in the data files of the `chemicals` library (chemicals/Safety).
 func TestGasLimitsAgainstCompilations(t *testing.T) {
 	cases := []struct {
 		gas       string
@@ -47,7 +48,7 @@ func TestGasLimitsAgainstCompilations(t *testing.T) {
 // Crowl & Louvar, Chemical Process Safety, 2nd ed. (2001), worked example of
 // Le Chatelier's rule: 24 % hexane (1.2/7.5), 61 % methane (5.3/15), 15 %
 // ethylene (3.1/32) gives LFL 2.7512 % and UFL 12.928 % (values as read in
-// the `chemicals` library's docstring; REFERENCES.md). Tolerance: the
+// the `chemicals` library's docstring). Tolerance: the
 // published five digits.
 func TestLeChatelierCrowlLouvar(t *testing.T) {
 	y := []float64{0.24, 0.61, 0.15}
@@ -121,7 +122,8 @@ func TestRoomDilution(t *testing.T) {
 	}
 }
 
-// Purging, Crowl & Louvar (sweep-through and vacuum purging; REFERENCES.md):
+// Purging, Crowl & Louvar, Chemical Process Safety, 2nd ed. (2001), sweep-through
+// and vacuum purging:
 // air (21 % O2) to 1 % O2 takes ln 21 = 3.04 volume changes; vacuum cycles
 // to 0.5 atm take 21 % to below 1 % in 5 cycles (4 are not enough).
 func TestPurgeFormulas(t *testing.T) {
