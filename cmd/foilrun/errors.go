@@ -67,15 +67,6 @@ func withHint(err error, hint string) error {
 	return &cliError{kind: kindOf(err), err: err, hint: hint}
 }
 
-// usageError is the older spelling of asUsage, kept so that fit.go and
-// suggest.go, which build it as usageError{err}, compile until they are
-// converted; it is reported like asUsage(err).
-type usageError struct{ err error }
-
-func (e usageError) Error() string      { return e.err.Error() }
-func (e usageError) Unwrap() error      { return e.err }
-func (e usageError) exitKind() exitKind { return kindUsage }
-
 // inputSentinels are the library errors that mean "the user's data is
 // wrong": anything wrapping one of them is an input error.
 var inputSentinels = []error{

@@ -30,7 +30,6 @@ func TestExitStatus(t *testing.T) {
 		{"wrapped findings", fmt.Errorf("check: %w", errFindings), kindFindings, exitFindings},
 		{"usage", usagef("--bins %d: want 1 to 100", 0), kindUsage, exitUsage},
 		{"library error as usage", asUsage(plain), kindUsage, exitUsage},
-		{"older usageError", usageError{plain}, kindUsage, exitUsage},
 		{"input", inputError(plain), kindInput, exitUsage},
 		{"recipe.ErrInvalid", fmt.Errorf("load: %w", recipe.ErrInvalid), kindInput, exitUsage},
 		{"recipe.LoadError", &recipe.LoadError{What: "recipe", File: "a.yaml"}, kindInput, exitUsage},

@@ -9,9 +9,7 @@ import (
 	"os"
 	"sort"
 	"strings"
-	"time"
 
-	"github.com/schollz/progressbar/v3"
 	"github.com/spf13/cobra"
 
 	"github.com/foilrun/foilrun/cmd/foilrun/internal/chart"
@@ -22,26 +20,25 @@ import (
 )
 
 type fitOptions struct {
-	io      *streams
 	f       *factory
-	metrics string
+	metrics lab.Metrics // --metric, parsed
 	where   []string
 	fix     []string
 	furnace string
 	params  string
 	outFile string
 	plot    string
-	output  string
-	now     func() time.Time
+	output  outputFormat
 }
 
 func newFitCmd(f *factory) *cobra.Command {
-	opts := &fitOptions{io: f.io, f: f, now: time.Now}
+	opts := &fitOptions{f: f}
+	var metrics string
 	cmd := &cobra.Command{
 		Use:   "fit",
 		Short: "Calibrate the kinetics parameters from logged runs",
 		Long: `Fit the nucleation and growth model to logged runs that have a measured
-coverage and/or nuclei density, by weighted nonlinear least squares
+coverage and/or nuclei_density, by weighted nonlinear least squares
 (Levenberg–Marquardt): coverage on the complementary log-log scale
 ln(−ln(1−θ)), with θ clipped to [0.001, 0.999], nuclei density as ln N,
 prefactors fitted as logarithms. When both metrics are fitted each gets the
@@ -61,114 +58,127 @@ fixed settings (reference pressure, shape, mode); default the illustrative
 parameters.`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, args []string) error {
-			if err := checkFormat(opts.output); err != nil {
-				return err
-			}
 			if opts.plot != "" {
 				if err := checkPlotPath(opts.plot); err != nil {
 					return err
 				}
 			}
-			if _, _, err := parseMetrics(opts.metrics); err != nil {
+			m, err := fitMetrics(metrics)
+			if err != nil {
 				return err
 			}
+			opts.metrics = m
 			return fitRun(cmd.Context(), opts)
 		},
 	}
-	cmd.Flags().StringVar(&opts.metrics, "metric", "coverage,density", "metrics to fit: coverage, density or both (comma-separated)")
+	cmd.Flags().StringVar(&metrics, "metric", kinetics.MetricCoverage+","+kinetics.MetricNucleiDensity,
+		"metrics to fit: coverage, nuclei_density or both (comma-separated)")
 	cmd.Flags().StringArrayVar(&opts.where, "where", nil, "select runs, as in runs list (repeatable; all must hold)")
 	cmd.Flags().StringArrayVar(&opts.fix, "fix", nil, "hold a parameter fixed, NAME=VALUE such as Eg=1.9 (repeatable)")
 	cmd.Flags().StringVar(&opts.furnace, "furnace", "", "furnace file for every run (default: each recipe's own furnace path)")
 	cmd.Flags().StringVar(&opts.params, "params", "", "start parameter file (default: illustrative parameters)")
 	cmd.Flags().StringVarP(&opts.outFile, "output-file", "o", "", "write the calibrated parameter file here")
 	cmd.Flags().StringVar(&opts.plot, "plot", "", "write a parity plot (measured against predicted) to this .png or .svg file")
-	cmd.Flags().StringVar(&opts.output, "output", formatTable, "output format: table, csv or json")
+	addOutputFlag(cmd, &opts.output)
 	return cmd
 }
 
-func parseMetrics(s string) (coverage, density bool, err error) {
-	for _, m := range strings.Split(s, ",") {
-		switch strings.TrimSpace(m) {
-		case "coverage":
-			coverage = true
-		case "density", "nuclei_density", "nuclei-density":
-			density = true
+// fitMetrics reads --metric: coverage, nuclei_density or both,
+// comma-separated, spelled as stored (kinetics.ParseMetric). An old
+// spelling is refused naming the new one; domain_size is refused because
+// it follows from the other two.
+func fitMetrics(s string) (lab.Metrics, error) {
+	var m lab.Metrics
+	for _, part := range strings.Split(s, ",") {
+		name, err := kinetics.ParseMetric(part)
+		var ie *kinetics.InputError
+		if errors.As(err, &ie) && ie.Reason == kinetics.ReasonRenamed {
+			return m, onFlag(err)
+		}
+		switch name {
+		case kinetics.MetricCoverage:
+			m.Coverage = true
+		case kinetics.MetricNucleiDensity:
+			m.Density = true
+		case kinetics.MetricDomainSize:
+			return m, withHint(usagef("--metric %q: fit compares coverage and nuclei_density with the model, not domain_size", s),
+				"domain_size follows from the other two; write --metric coverage,nuclei_density")
 		default:
-			return false, false, usagef("--metric %q: want coverage, density or coverage,density", s)
+			return m, usagef("--metric %q: want coverage, nuclei_density or coverage,nuclei_density", s)
 		}
 	}
-	return coverage, density, nil
+	return m, nil
 }
 
-// collect reads the fit's observations from the run log.
-func (opts *fitOptions) collect(ctx context.Context, m lab.Metrics, start kinetics.Params) (lab.Observations, error) {
+// settings are the fit's settings from the flags: the metrics and the
+// parameters held fixed.
+func (opts *fitOptions) settings() (kinetics.FitSettings, error) {
+	s := kinetics.FitSettings{Coverage: opts.metrics.Coverage, Density: opts.metrics.Density, Fixed: map[string]float64{}}
+	for _, text := range opts.fix {
+		key, v, err := kinetics.ParseFix(text)
+		if err != nil {
+			return s, onFlag(err)
+		}
+		s.Fixed[key] = v
+	}
+	return s, nil
+}
+
+// collect reads the fit's observations from the run log and says on
+// stderr which furnaces the plans were rebuilt on and which runs were
+// skipped.
+func (opts *fitOptions) collect(ctx context.Context, start kinetics.Params) ([]kinetics.Observation, error) {
 	l, err := opts.f.runLog(ctx)
 	if err != nil {
-		return lab.Observations{}, err
+		return nil, err
 	}
 	b, err := lab.NewRebuilder(l, opts.furnace)
 	if err != nil {
-		return lab.Observations{}, err
+		return nil, err
 	}
-	obs, err := lab.Collect(ctx, b, store.Filter{Where: opts.where}, m, start)
+	col, err := lab.Collect(ctx, b, store.Filter{Where: opts.where}, opts.metrics, start)
 	if errors.Is(err, lab.ErrNoFurnace) {
-		return obs, withHint(fmt.Errorf("fit: %w", err), "pass --furnace FILE")
+		return nil, withHint(fmt.Errorf("fit: %w", err), "pass --furnace FILE")
 	}
 	if err != nil {
-		return obs, fmt.Errorf("fit: %w", err)
+		return nil, fmt.Errorf("fit: %w", err)
 	}
-	return obs, nil
+	for _, u := range col.Furnaces {
+		fmt.Fprintf(opts.f.io.Err, "furnace %q from %s for %d runs\n", u.Name, u.Path, u.Runs)
+	}
+	for _, s := range col.Skipped {
+		fmt.Fprintln(opts.f.io.Err, "skipped "+s.String())
+	}
+	return col.Observations, nil
 }
 
+// fitIterations is the iteration limit the progress bar counts to: the
+// default of kinetics.FitSettings.MaxIterations, set explicitly so the two
+// agree.
+const fitIterations = 200
+
 func fitRun(ctx context.Context, opts *fitOptions) error {
-	if ctx == nil {
-		ctx = context.Background()
-	}
-	wantCov, wantDen, _ := parseMetrics(opts.metrics)
-	settings := kinetics.FitSettings{Coverage: wantCov, Density: wantDen, Fixed: map[string]float64{}}
-	for _, s := range opts.fix {
-		key, v, err := kinetics.ParseFix(s)
-		if err != nil {
-			return usageError{err}
-		}
-		settings.Fixed[key] = v
+	settings, err := opts.settings()
+	if err != nil {
+		return err
 	}
 	start, err := loadParams(opts.params)
 	if err != nil {
 		return err
 	}
-	col, err := opts.collect(ctx, lab.Metrics{Coverage: wantCov, Density: wantDen}, start)
+	obs, err := opts.collect(ctx, start)
 	if err != nil {
 		return err
 	}
-	obs := col.Observations
-	for _, u := range col.Furnaces {
-		fmt.Fprintf(opts.io.Err, "furnace %q from %s for %d runs\n", u.Name, u.Path, u.Runs)
-	}
-	for _, s := range col.Skipped {
-		fmt.Fprintln(opts.io.Err, "skipped "+s.String())
-	}
-	if opts.io.ErrTTY {
-		bar := progressbar.NewOptions(200, progressbar.OptionSetWriter(opts.io.Err), progressbar.OptionSetDescription("fitting"),
-			progressbar.OptionThrottle(50*time.Millisecond), progressbar.OptionClearOnFinish())
-		settings.Progress = func(it int, _ float64) { _ = bar.Set(min(it, 200)) }
-		defer bar.Finish()
-	}
+	bar := opts.f.io.progress("fitting")
+	settings.MaxIterations = fitIterations
+	settings.Progress = func(it int, _ float64) { bar.update(min(it, fitIterations), fitIterations) }
 	res, err := kinetics.Fit(obs, start, settings)
+	bar.finish()
 	if err != nil {
-		if errors.Is(err, kinetics.ErrFitInput) {
-			hint := "log outcomes with foilrun outcome add, or widen --where"
-			var ie *kinetics.InputError
-			if errors.As(err, &ie) && ie.Reason == kinetics.ReasonOneTemperature {
-				hint = "fix the energies with --fix En=VALUE --fix Eg=VALUE, or add runs grown at other temperatures"
-			} else if errors.As(err, &ie) && ie.Reason == kinetics.ReasonUnknownName {
-				hint = "parameters: En, I0, a, b, Eg, G0, N0"
-			}
-			return withHint(usageError{err}, hint)
-		}
-		return err
+		return fitError(err)
 	}
-	res.Params.Date = opts.now().Format("2006-01-02")
+	res.Params.Date = opts.f.now().Format("2006-01-02")
 	codes := make([]string, len(obs))
 	for i, o := range obs {
 		codes[i] = o.Label
@@ -176,15 +186,38 @@ func fitRun(ctx context.Context, opts *fitOptions) error {
 	out := fitJSON(res, codes)
 	switch opts.output {
 	case formatJSON:
-		err = writeJSON(opts.io.Out, out)
+		err = writeJSON(opts.f.io.Out, out)
 	case formatCSV:
-		err = writeCSV(opts.io.Out, estimateTable(out))
+		err = writeCSV(opts.f.io.Out, estimateTable(out))
 	default:
-		err = printFit(opts.io.Out, out)
+		err = printFit(opts.f.io.Out, out)
 	}
 	if err != nil {
 		return err
 	}
+	return opts.writeFiles(res, codes)
+}
+
+// fitError is a fit the data or the settings refused, with what to do: the
+// library's hint, with the flag that does it where one does.
+func fitError(err error) error {
+	var ie *kinetics.InputError
+	switch {
+	case !errors.As(err, &ie):
+		return err
+	case ie.Reason == kinetics.ReasonOneTemperature:
+		return withHint(inputError(err), ie.Hint()+"; --fix NAME=VALUE holds a parameter fixed")
+	case ie.Hint() != "":
+		return inputError(err)
+	case ie.Kind == kinetics.KindFix:
+		return onFlag(err)
+	}
+	return withHint(inputError(err), "log outcomes with foilrun outcome add, or widen --where")
+}
+
+// writeFiles writes the parameter file (-o) and the parity plot (--plot)
+// when asked for.
+func (opts *fitOptions) writeFiles(res *kinetics.FitResult, codes []string) error {
 	if opts.outFile != "" {
 		data := fitParamsFile(res.Params, codes)
 		if err := os.WriteFile(opts.outFile, data, 0o644); err != nil {
@@ -193,13 +226,13 @@ func fitRun(ctx context.Context, opts *fitOptions) error {
 		if _, err := kinetics.ParseParams(opts.outFile, data); err != nil {
 			return fmt.Errorf("fit: the params file written does not read back: %w", err)
 		}
-		fmt.Fprintf(opts.io.Err, "wrote %s\n", opts.outFile)
+		fmt.Fprintf(opts.f.io.Err, "wrote %s\n", opts.outFile)
 	}
 	if opts.plot != "" {
 		if err := writeParity(opts.plot, res); err != nil {
 			return err
 		}
-		fmt.Fprintf(opts.io.Err, "wrote %s\n", opts.plot)
+		fmt.Fprintf(opts.f.io.Err, "wrote %s\n", opts.plot)
 	}
 	return nil
 }

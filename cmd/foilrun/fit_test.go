@@ -29,15 +29,7 @@ func fitLab(t *testing.T, n int, oneTemperature bool) (db, dir string) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	for _, f := range []string{"furnace.yaml", "site.yaml"} {
-		b, err := os.ReadFile("../../templates/" + f)
-		if err != nil {
-			t.Fatal(err)
-		}
-		if err := os.WriteFile(filepath.Join(dir, f), b, 0o644); err != nil {
-			t.Fatal(err)
-		}
-	}
+	copyTemplates(t, dir, "furnace.yaml", "site.yaml")
 	db = filepath.Join(dir, "runs.db")
 	ctx := context.Background()
 	l, err := sqlite.Open(ctx, db)
@@ -88,10 +80,23 @@ func fitLab(t *testing.T, n int, oneTemperature bool) (db, dir string) {
 	return db, dir
 }
 
+// copyTemplates copies the named files of templates/ into dir.
+func copyTemplates(t *testing.T, dir string, names ...string) {
+	t.Helper()
+	for _, f := range names {
+		b, err := os.ReadFile("../../templates/" + f)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if err := os.WriteFile(filepath.Join(dir, f), b, 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+}
+
 // fit recovers the truth from the log (within 3 SE: the CLI test checks the
-// wiring; kinetics.TestFitRecovery the statistics), writes a params file
-// that predict and suggest accept, and predict then reports a 90 %
-// interval.
+// wiring; kinetics.TestFitRecovery the statistics) and writes a params file
+// that predict, window and suggest accept with its covariance.
 func TestFitCommand(t *testing.T) {
 	db, dir := fitLab(t, 30, false)
 	params := filepath.Join(dir, "fitted.yaml")
@@ -131,7 +136,15 @@ func TestFitCommand(t *testing.T) {
 	if info, err := os.Stat(plot); err != nil || info.Size() < 1000 {
 		t.Errorf("parity plot: %v", err)
 	}
-	code, out, errs = runCLI(t, "predict", filepath.Join(dir, "r00.yaml"), "--params", params, "--output", "json")
+	t.Run("predict", func(t *testing.T) { checkPredictInterval(t, dir, params) })
+	t.Run("window", func(t *testing.T) { checkWindowIntervals(t, dir, params) })
+	t.Run("suggest", func(t *testing.T) { checkSuggestConfidence(t, dir, params) })
+}
+
+// checkPredictInterval: predict with the fitted file reports a 90 %
+// interval around its coverage.
+func checkPredictInterval(t *testing.T, dir, params string) {
+	code, out, errs := runCLI(t, "predict", filepath.Join(dir, "r00.yaml"), "--params", params, "--output", "json")
 	if code != 0 {
 		t.Fatalf("predict: exit %d: %s", code, errs)
 	}
@@ -145,8 +158,12 @@ func TestFitCommand(t *testing.T) {
 	if pr.Interval == nil || pr.Interval.Level != 0.9 || !(pr.Interval.Coverage[0] <= pr.Coverage && pr.Coverage <= pr.Interval.Coverage[1]) {
 		t.Errorf("predict with fitted params: interval %+v around coverage %g", pr.Interval, pr.Coverage)
 	}
-	// window with the fitted file gives every point an interval.
-	code, out, errs = runCLI(t, "window", filepath.Join(dir, "r00.yaml"), "--params", params, "--output", "json",
+}
+
+// checkWindowIntervals: window with the fitted file gives every point an
+// interval.
+func checkWindowIntervals(t *testing.T, dir, params string) {
+	code, out, errs := runCLI(t, "window", filepath.Join(dir, "r00.yaml"), "--params", params, "--output", "json",
 		"--vary", "temperature=980C:1040C:3", "--vary", "CH4=5sccm:30sccm:2")
 	if code != 0 {
 		t.Fatalf("window: exit %d: %s", code, errs)
@@ -168,13 +185,18 @@ func TestFitCommand(t *testing.T) {
 	if len(win.Points) != 6 {
 		t.Errorf("window: %d points, want 6", len(win.Points))
 	}
-	// suggest --confidence plans longer than the best estimate.
+}
+
+// checkSuggestConfidence: suggest --confidence plans so the interval's
+// bound meets the target, and the recipe it writes to another folder
+// passes check.
+func checkSuggestConfidence(t *testing.T, dir, params string) {
 	base := filepath.Join(dir, "r00.yaml")
 	next := filepath.Join(dir, "next", "suggested.yaml")
 	if err := os.MkdirAll(filepath.Dir(next), 0o755); err != nil {
 		t.Fatal(err)
 	}
-	code, out, errs = runCLI(t, "suggest", base, "--params", params, "--target", "coverage>=0.99", "--confidence", "0.9", "-o", next, "--output", "json")
+	code, out, errs := runCLI(t, "suggest", base, "--params", params, "--target", "coverage>=0.99", "--confidence", "0.9", "-o", next, "--output", "json")
 	if code != 0 {
 		t.Fatalf("suggest --confidence: exit %d: %s", code, errs)
 	}
@@ -247,11 +269,31 @@ func TestSuggestCommand(t *testing.T) {
 	}{
 		{"no target", []string{"suggest", "../../templates/recipe-lowpressure.yaml"}, "give at least one --target"},
 		{"bad target", []string{"suggest", "../../templates/recipe-lowpressure.yaml", "--target", "coverage>=1.2"}, "strictly between 0 and 1"},
+		{"bad minimize", []string{"suggest", "../../templates/recipe-lowpressure.yaml", "--target", "coverage>=0.9", "--minimize", "cost"}, `--minimize "cost": want time or methane`},
 		{"confidence without fit", []string{"suggest", "../../templates/recipe-lowpressure.yaml", "--target", "coverage>=0.9", "--confidence", "0.9"}, "no covariance"},
 	} {
 		code, _, errs := runCLI(t, c.args...)
 		if code != 2 || !strings.Contains(errs, c.want) {
 			t.Errorf("%s: exit %d, stderr %q; want 2 and %q", c.name, code, errs, c.want)
+		}
+	}
+}
+
+// On a terminal the fit draws the one progress bar ("fitting") on stderr;
+// piped, stderr holds only the status lines.
+func TestFitProgressOnTerminal(t *testing.T) {
+	db, _ := fitLab(t, 8, false)
+	for _, tty := range []bool{true, false} {
+		var out, errb strings.Builder
+		code := run([]string{"--db", db, "fit", "--output", "json"}, &streams{In: strings.NewReader(""), Out: &out, Err: &errb, ErrTTY: tty})
+		if code != exitOK {
+			t.Fatalf("terminal %v: exit %d: %s", tty, code, errb.String())
+		}
+		if got := strings.Contains(errb.String(), "fitting"); got != tty {
+			t.Errorf("terminal %v: got a progress bar %v, want %v; stderr %q", tty, got, tty, errb.String())
+		}
+		if strings.Contains(out.String(), "fitting") {
+			t.Errorf("terminal %v: the bar reached stdout", tty)
 		}
 	}
 }

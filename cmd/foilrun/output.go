@@ -50,17 +50,6 @@ func addOutputFlag(cmd *cobra.Command, o *outputFormat) {
 	cmd.Flags().Var(o, "output", "output format: "+strings.Join(outputFormats, ", "))
 }
 
-// checkFormat validates an --output value held as a plain string; it is
-// kept for fit.go, run.go and suggest.go until their flags use
-// addOutputFlag.
-func checkFormat(s string) error {
-	var o outputFormat
-	if err := o.Set(s); err != nil {
-		return asUsage(err)
-	}
-	return nil
-}
-
 // flagValueError is a flag value refused by its type's Set; the root's
 // flag-error function reports it as it is, without the flag library's
 // "invalid argument" wrapping.

@@ -36,7 +36,6 @@ run in one go; "run show" prints everything logged about a run.`,
 // runOptions are the options shared by run start and run add.
 type runOptions struct {
 	f         *factory
-	io        *streams
 	recipe    string
 	flags     recipeFlags
 	operator  string
@@ -57,7 +56,7 @@ func (o *runOptions) register(cmd *cobra.Command) {
 }
 
 func newRunStartCmd(f *factory) *cobra.Command {
-	opts := &runOptions{f: f, io: f.io, startOnly: true}
+	opts := &runOptions{f: f, startOnly: true}
 	cmd := &cobra.Command{
 		Use:   "start RECIPE",
 		Short: "Start a run from a recipe and print its code",
@@ -72,10 +71,13 @@ func newRunStartCmd(f *factory) *cobra.Command {
 }
 
 func newRunAddCmd(f *factory) *cobra.Command {
-	opts := &runOptions{f: f, io: f.io}
+	opts := &runOptions{f: f}
 	cmd := &cobra.Command{
 		Use:   "add RECIPE",
 		Short: "Log a finished run in one go (all or nothing)",
+		Long: `Log a finished run in one go: the recipe snapshot, its outcomes and, with
+--furnace-log, the controller's actuals. Prints the run's code, then any
+deviations from plan the furnace log shows.`,
 		Example: `  foilrun run add growth.yaml --furnace-log run.csv --lot L-17 \
       --outcome coverage=93% --outcome domain_size=12um`,
 		Args: cobra.ExactArgs(1),
@@ -92,7 +94,8 @@ func newRunAddCmd(f *factory) *cobra.Command {
 	return cmd
 }
 
-// runStartRun is run start and run add.
+// runStartRun is run start and run add: it prints the new run's code and,
+// for run add, the deviations from plan (both results, on stdout).
 func runStartRun(ctx context.Context, o *runOptions) error {
 	data, err := os.ReadFile(o.recipe)
 	if err != nil {
@@ -102,7 +105,29 @@ func runStartRun(ctx context.Context, o *runOptions) error {
 	if err != nil {
 		return err
 	}
-	now := time.Now().UTC()
+	now := o.f.now().UTC()
+	rec := o.record(plan, now)
+	if !o.startOnly {
+		if err := o.finished(&rec, plan, now); err != nil {
+			return err
+		}
+	}
+	snap := store.NewSnapshot(plan.Recipe.Name, o.recipe, data)
+	l, err := o.f.runLog(ctx)
+	if err != nil {
+		return err
+	}
+	code, err := l.CreateRun(ctx, rec, &snap)
+	if err != nil {
+		return err
+	}
+	fmt.Fprintln(o.f.io.Out, code)
+	return printDeviations(o.f.io.Out, code, rec.Deviations)
+}
+
+// record is a running run of the plan, started now, with the operator,
+// lot and notes of the flags.
+func (o *runOptions) record(plan *recipe.Plan, now time.Time) store.RunRecord {
 	rec := store.RunRecord{
 		Run: store.Run{Status: store.Running, RecipeName: plan.Recipe.Name, Furnace: plan.Furnace.Name,
 			Operator: o.operator, Lot: o.lot, Started: now},
@@ -117,51 +142,42 @@ func runStartRun(ctx context.Context, o *runOptions) error {
 	for _, n := range o.notes {
 		rec.Notes = append(rec.Notes, store.Note{At: now, Text: n})
 	}
-	var devs []store.Deviation
-	if !o.startOnly {
-		rec.Status = store.Done
-		if o.aborted {
-			rec.Status = store.Aborted
-		}
-		if o.started != "" {
-			t, err := time.Parse(time.RFC3339, o.started)
-			if err != nil {
-				return usagef("--started %q: want a time such as 2026-03-01T09:30:00Z", o.started)
-			}
-			rec.Started = t
-		}
-		rec.Ended = rec.Started.Add(time.Duration(plan.Total * float64(time.Second)))
-		for _, s := range o.outcomes {
-			oc, err := store.ParseOutcome(s, recipe.IsParameter)
-			if err != nil {
-				return err
-			}
-			oc.Measured = now
-			rec.Outcomes = append(rec.Outcomes, oc)
-		}
-		if o.log != "" {
-			res, att, err := readFurnaceLog(o.log, plan)
-			if err != nil {
-				return err
-			}
-			rec.Actuals, rec.Deviations, devs = res.Actuals, res.Deviations, res.Deviations
-			rec.Attachments = append(rec.Attachments, att)
-			rec.Ended = rec.Started.Add(time.Duration(res.Span * float64(time.Second)))
-		}
+	return rec
+}
+
+// finished makes rec the finished run of run add: its status, start and
+// end, outcomes measured now, and the furnace log's actuals and deviations.
+func (o *runOptions) finished(rec *store.RunRecord, plan *recipe.Plan, now time.Time) error {
+	rec.Status = store.Done
+	if o.aborted {
+		rec.Status = store.Aborted
 	}
-	snap := store.NewSnapshot(plan.Recipe.Name, o.recipe, data)
-	l, err := o.f.runLog(ctx)
+	if o.started != "" {
+		t, err := time.Parse(time.RFC3339, o.started)
+		if err != nil {
+			return usagef("--started %q: want a time such as 2026-03-01T09:30:00Z", o.started)
+		}
+		rec.Started = t
+	}
+	rec.Ended = rec.Started.Add(time.Duration(plan.Total * float64(time.Second)))
+	for _, s := range o.outcomes {
+		oc, err := store.ParseOutcome(s, recipe.IsParameter)
+		if err != nil {
+			return err
+		}
+		oc.Measured = now
+		rec.Outcomes = append(rec.Outcomes, oc)
+	}
+	if o.log == "" {
+		return nil
+	}
+	res, att, err := readFurnaceLog(o.log, plan)
 	if err != nil {
 		return err
 	}
-	code, err := l.CreateRun(ctx, rec, &snap)
-	if err != nil {
-		return err
-	}
-	fmt.Fprintln(o.io.Out, code)
-	if !o.startOnly {
-		return printDeviations(o.io.Err, code, devs)
-	}
+	rec.Actuals, rec.Deviations = res.Actuals, res.Deviations
+	rec.Attachments = append(rec.Attachments, att)
+	rec.Ended = rec.Started.Add(time.Duration(res.Span * float64(time.Second)))
 	return nil
 }
 
@@ -215,13 +231,21 @@ func newRunNoteCmd(f *factory) *cobra.Command {
 			if strings.TrimSpace(opts.text) == "" {
 				return usagef("the note is empty")
 			}
-			l, err := opts.f.runLog(cmd.Context())
-			if err != nil {
-				return err
-			}
-			return l.AddNote(cmd.Context(), opts.code, store.Note{At: time.Now(), Text: opts.text})
+			return runNoteRun(cmd.Context(), opts)
 		},
 	}
+}
+
+func runNoteRun(ctx context.Context, o *runNoteOptions) error {
+	l, err := o.f.runLog(ctx)
+	if err != nil {
+		return err
+	}
+	if err := l.AddNote(ctx, o.code, store.Note{At: o.f.now(), Text: o.text}); err != nil {
+		return err
+	}
+	fmt.Fprintf(o.f.io.Err, "run %s: note added\n", o.code)
+	return nil
 }
 
 type runFinishOptions struct {
@@ -260,7 +284,7 @@ func runFinishRun(ctx context.Context, o *runFinishOptions) error {
 	if err != nil {
 		return err
 	}
-	fin := store.Finish{Status: store.Done, Ended: time.Now(), Note: o.note}
+	fin := store.Finish{Status: store.Done, Ended: o.f.now(), Note: o.note}
 	if o.aborted {
 		fin.Status = store.Aborted
 	}
@@ -281,7 +305,7 @@ func runFinishRun(ctx context.Context, o *runFinishOptions) error {
 	if err := l.FinishRun(ctx, o.code, fin); err != nil {
 		return err
 	}
-	fmt.Fprintf(o.f.io.Out, "run %s %s\n", o.code, fin.Status)
+	fmt.Fprintf(o.f.io.Err, "run %s %s\n", o.code, fin.Status)
 	return printDeviations(o.f.io.Out, o.code, fin.Deviations)
 }
 
@@ -307,7 +331,7 @@ func planOfRun(ctx context.Context, l store.RunLog, rec store.RunRecord, furnace
 type runShowOptions struct {
 	f      *factory
 	code   string
-	output string
+	output outputFormat
 }
 
 func newRunShowCmd(f *factory) *cobra.Command {
@@ -318,13 +342,10 @@ func newRunShowCmd(f *factory) *cobra.Command {
 		Args:  cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			opts.code = args[0]
-			if err := checkFormat(opts.output); err != nil {
-				return err
-			}
 			return runShowRun(cmd.Context(), opts)
 		},
 	}
-	cmd.Flags().StringVar(&opts.output, "output", formatTable, "output format: table, csv or json")
+	addOutputFlag(cmd, &opts.output)
 	return cmd
 }
 
@@ -344,20 +365,20 @@ func runShowRun(ctx context.Context, o *runShowOptions) error {
 	case formatCSV:
 		return writeCSV(w, paramTable(rec))
 	}
+	return printRun(w, rec)
+}
+
+// printRun prints a run for people: its header and parameters, then each
+// section the log holds.
+func printRun(w io.Writer, rec store.RunRecord) error {
 	fmt.Fprintf(w, "run %s  %s\n", rec.Code, rec.Status)
 	fmt.Fprintf(w, "recipe    %s (sha256 %.12s)\nfurnace   %s\noperator  %s\nfoil lot  %s\nstarted   %s\nended     %s\n",
 		rec.RecipeName, rec.RecipeHash, rec.Furnace, rec.Operator, rec.Lot, when(rec.Started), when(rec.Ended))
-	heading(w, "Recipe parameters")
-	if err := writeTable(w, paramTable(rec)); err != nil {
+	if err := section(w, "Recipe parameters", paramTable(rec)); err != nil {
 		return err
 	}
 	if len(rec.Outcomes) > 0 {
-		heading(w, "Outcomes")
-		t := table{Header: []string{"metric", "value", "unit", "entered", "method", "measured"}, Numeric: []bool{false, true}}
-		for _, oc := range rec.Outcomes {
-			t.add(oc.Metric, num(oc.Value, 4), oc.Unit, oc.Entered, oc.Method, when(oc.Measured))
-		}
-		if err := writeTable(w, t); err != nil {
+		if err := section(w, "Outcomes", outcomeTable(rec.Outcomes)); err != nil {
 			return err
 		}
 	}
@@ -368,14 +389,12 @@ func runShowRun(ctx context.Context, o *runShowOptions) error {
 		}
 	}
 	if len(rec.Actuals) > 0 {
-		heading(w, "Furnace log: actuals per step")
-		if err := writeTable(w, actualTable(rec.Actuals)); err != nil {
+		if err := section(w, "Furnace log: actuals per step", actualTable(rec.Actuals)); err != nil {
 			return err
 		}
 	}
 	if len(rec.Deviations) > 0 {
-		heading(w, "Deviations from plan")
-		if err := writeTable(w, deviationTable(rec.Deviations)); err != nil {
+		if err := section(w, "Deviations from plan", deviationTable(rec.Deviations)); err != nil {
 			return err
 		}
 	}
@@ -386,6 +405,20 @@ func runShowRun(ctx context.Context, o *runShowOptions) error {
 		}
 	}
 	return nil
+}
+
+// section prints a heading and a table under it.
+func section(w io.Writer, title string, t table) error {
+	heading(w, title)
+	return writeTable(w, t)
+}
+
+func outcomeTable(ocs []store.Outcome) table {
+	t := table{Header: []string{"metric", "value", "unit", "entered", "method", "measured"}, Numeric: []bool{false, true}}
+	for _, oc := range ocs {
+		t.add(oc.Metric, num(oc.Value, 4), oc.Unit, oc.Entered, oc.Method, when(oc.Measured))
+	}
+	return t
 }
 
 func paramTable(rec store.RunRecord) table {

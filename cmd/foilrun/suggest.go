@@ -4,7 +4,9 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"maps"
 	"os"
+	"slices"
 	"strings"
 
 	"github.com/spf13/cobra"
@@ -14,7 +16,7 @@ import (
 )
 
 type suggestOptions struct {
-	io         *streams
+	f          *factory
 	recipe     string
 	flags      recipeFlags
 	targets    []string
@@ -23,39 +25,39 @@ type suggestOptions struct {
 	params     string
 	confidence float64
 	outFile    string
-	output     string
+	output     outputFormat
 }
 
 func newSuggestCmd(f *factory) *cobra.Command {
-	opts := &suggestOptions{io: f.io}
+	opts := &suggestOptions{f: f}
 	cmd := &cobra.Command{
 		Use:   "suggest RECIPE",
-		Short: "Find the grow step that meets coverage and domain-size targets at least cost",
+		Short: "Find the grow step that meets coverage and domain size targets at least cost",
 		Long: `Search the recipe's first grow step for the cheapest settings whose predicted
 outcome meets every --target, within the furnace's limits and with no error
-from foilrun check. Targets: coverage>=0.99 (or 99%), domain-size>=40um,
-nuclei-density<=100/mm2. --vary lists what may change: temperature, time and
-gas flows such as CH4 or H2, each optionally with a range
-(temperature=950C:1060C, CH4=2sccm:20sccm, time=1min:2h); default
-temperature,CH4,time. --minimize time (the grow time, default) or methane
-(CH4 used in the grow step).
+from foilrun check. Targets name a metric as stored: coverage>=0.99 (or 99%),
+domain_size>=40um, nuclei_density<=100/mm2. --vary lists what may change:
+temperature, duration, pressure and gas flows such as CH4 or H2, each
+optionally with a range (temperature=950C:1060C, CH4=2sccm:20sccm,
+duration=1min:2h); default temperature,CH4,duration. --minimize time (the
+grow step's duration, default) or methane (CH4 used in the grow step).
 
-For every grid point of temperature and flows the grow time is solved for
-exactly; the grid is refined around the best point. Prints the best few
-candidates with their predictions and margins to the limits; -o FILE writes
-the recipe with the grow step changed (the rest of the file kept as far as
-YAML allows). With --confidence 0.9 and a fitted --params file, the lower
-bound of the 90 % interval (upper for <= targets) must meet each target.
-Says plainly, and exits with status 2, when nothing in range meets the
-targets, naming the limits that bind.`,
+For every grid point of temperature and flows the grow step's duration is
+solved for exactly; the grid is refined around the best point. Prints the
+best few candidates with their predictions and margins to the limits;
+-o FILE writes the recipe with the grow step changed (the rest of the file
+kept as far as YAML allows). With --confidence 0.9 and a fitted --params
+file, the lower bound of the 90 % interval (upper for <= targets) must meet
+each target. Says plainly, and exits with status 2, when nothing in range
+meets the targets, naming the limits that bind.`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			opts.recipe = args[0]
-			if err := checkFormat(opts.output); err != nil {
-				return err
-			}
 			if len(opts.targets) == 0 {
 				return usagef("give at least one --target, e.g. --target coverage>=0.99")
+			}
+			if opts.minimize != kinetics.MinimizeTime && opts.minimize != kinetics.MinimizeMethane {
+				return usagef("--minimize %q: want %s or %s", opts.minimize, kinetics.MinimizeTime, kinetics.MinimizeMethane)
 			}
 			if opts.confidence != 0 && (opts.confidence <= 0 || opts.confidence >= 1) {
 				return usagef("--confidence %g: want a level between 0 and 1, e.g. 0.9", opts.confidence)
@@ -64,13 +66,13 @@ targets, naming the limits that bind.`,
 		},
 	}
 	opts.flags.register(cmd)
-	cmd.Flags().StringArrayVar(&opts.targets, "target", nil, "required outcome, e.g. coverage>=0.99 or domain-size>=40um (repeatable)")
-	cmd.Flags().StringSliceVar(&opts.vary, "vary", nil, "grow-step parameters to search: temperature, time, gas names, with optional =FROM:TO ranges (default temperature,CH4,time)")
-	cmd.Flags().StringVar(&opts.minimize, "minimize", kinetics.MinimizeTime, "what to minimise: time or methane")
+	cmd.Flags().StringArrayVar(&opts.targets, "target", nil, "required outcome METRIC>=VALUE or METRIC<=VALUE, e.g. coverage>=99% or domain_size>=40um (repeatable)")
+	cmd.Flags().StringSliceVar(&opts.vary, "vary", nil, "grow-step parameters to search: temperature, duration, pressure, gas symbols, with optional =FROM:TO ranges (default temperature,CH4,duration)")
+	cmd.Flags().StringVar(&opts.minimize, "minimize", kinetics.MinimizeTime, "what to minimise: time (the grow step's duration) or methane")
 	cmd.Flags().StringVar(&opts.params, "params", "", "kinetics parameter file (default: illustrative parameters)")
 	cmd.Flags().Float64Var(&opts.confidence, "confidence", 0, "plan so the targets hold at this interval's bound (needs a fitted params file)")
 	cmd.Flags().StringVarP(&opts.outFile, "output-file", "o", "", "write the changed recipe here")
-	cmd.Flags().StringVar(&opts.output, "output", formatTable, "output format: table, csv or json")
+	addOutputFlag(cmd, &opts.output)
 	return cmd
 }
 
@@ -134,22 +136,54 @@ func suggestRun(opts *suggestOptions) error {
 	for _, s := range opts.targets {
 		tg, err := kinetics.ParseTarget(s)
 		if err != nil {
-			return usageError{err}
+			return onFlag(err)
 		}
 		spec.Targets = append(spec.Targets, tg)
 	}
 	sug, err := kinetics.Suggest(plan, spec)
+	if errors.Is(err, kinetics.ErrNoCovariance) {
+		return withHint(inputError(err), "fit the parameters with foilrun fit -o params.yaml and pass --params params.yaml")
+	}
 	if err != nil {
-		if errors.Is(err, kinetics.ErrSuggest) {
-			return usageError{err}
+		return onFlag(err)
+	}
+	out := suggestResult(plan, sug, opts.targets)
+	var written []byte
+	if sug.Met {
+		if written, err = opts.changedRecipe(plan, sug, &out); err != nil {
+			return err
 		}
-		if errors.Is(err, kinetics.ErrNoCovariance) {
-			return withHint(usageError{err}, "fit the parameters with foilrun fit -o params.yaml and pass --params params.yaml")
-		}
+	}
+	w := opts.f.io.Out
+	switch opts.output {
+	case formatJSON:
+		err = writeJSON(w, out)
+	case formatCSV:
+		err = writeCSV(w, candidateTable(out.Candidates, spec.Targets))
+	default:
+		err = printSuggest(w, out, spec.Targets)
+	}
+	if err != nil {
 		return err
 	}
+	if !sug.Met {
+		return withHint(fmt.Errorf("suggest: no recipe within the search range meets %s; binding: %s", strings.Join(opts.targets, " and "), strings.Join(sug.Binding, "; ")),
+			"relax the target, widen the --vary ranges, or vary more parameters (e.g. --vary temperature,CH4,H2,duration)")
+	}
+	if opts.outFile != "" {
+		if err := os.WriteFile(opts.outFile, written, 0o644); err != nil {
+			return fmt.Errorf("suggest: %w", err)
+		}
+		fmt.Fprintf(opts.f.io.Err, "wrote %s\n", opts.outFile)
+	}
+	return nil
+}
+
+// suggestResult is the JSON form of a suggestion, without the check
+// warnings of the changed recipe (changedRecipe adds them).
+func suggestResult(plan *recipe.Plan, sug *kinetics.Suggestion, targets []string) suggestResultJSON {
 	grow := plan.Recipe.Steps[sug.Step]
-	out := suggestResultJSON{Recipe: plan.Recipe.Name, Furnace: plan.Furnace.Name, Step: grow.Label(sug.Step), Targets: opts.targets,
+	out := suggestResultJSON{Recipe: plan.Recipe.Name, Furnace: plan.Furnace.Name, Step: grow.Label(sug.Step), Targets: targets,
 		Minimize: sug.Minimize, Method: sug.Method, Met: sug.Met, Changes: sug.Changes, Binding: sug.Binding, Evaluated: sug.Evaluated,
 		Candidates: []suggestCandidateJSON{}, Warnings: []string{}}
 	if out.Changes == nil {
@@ -162,57 +196,38 @@ func suggestRun(opts *suggestOptions) error {
 		c := candidateJSON(*sug.Closest, grow)
 		out.Closest = &c
 	}
-	var written []byte
-	if sug.Met {
-		data, err := os.ReadFile(opts.recipe)
-		if err != nil {
-			return err
-		}
-		written, err = recipe.EditRecipe(data, recipe.Edit{Step: sug.Step, Changes: stepEdits(sug.Changes), From: opts.recipe, To: opts.outFile})
-		if err != nil {
-			return fmt.Errorf("suggest: %w", err)
-		}
-		// The written recipe must pass check.
-		name := opts.outFile
-		if name == "" {
-			name = opts.recipe
-		}
-		r, err := recipe.ParseRecipe(name, written)
-		if err != nil {
-			return fmt.Errorf("suggest: the changed recipe does not load: %w", err)
-		}
-		fu := plan.Furnace
-		for _, fd := range recipe.Check(recipe.Derive(r, fu)) {
-			switch fd.Severity {
-			case recipe.Error:
-				return fmt.Errorf("suggest: the changed recipe fails check: %s: %s", fd.Rule, fd.Message)
-			case recipe.Warning:
-				out.Warnings = append(out.Warnings, fd.StepName+": "+fd.Message)
-			}
-		}
-	}
-	switch opts.output {
-	case formatJSON:
-		err = writeJSON(opts.io.Out, out)
-	case formatCSV:
-		err = writeCSV(opts.io.Out, candidateTable(out.Candidates, spec.Targets))
-	default:
-		err = printSuggest(opts.io.Out, out, spec.Targets)
-	}
+	return out
+}
+
+// changedRecipe is the recipe file with the suggestion's grow step, checked
+// on the plan's furnace: a check error fails the suggestion, warnings are
+// added to out.
+func (opts *suggestOptions) changedRecipe(plan *recipe.Plan, sug *kinetics.Suggestion, out *suggestResultJSON) ([]byte, error) {
+	data, err := os.ReadFile(opts.recipe)
 	if err != nil {
-		return err
+		return nil, err
 	}
-	if !sug.Met {
-		return withHint(fmt.Errorf("suggest: no recipe within the search range meets %s; binding: %s", strings.Join(opts.targets, " and "), strings.Join(sug.Binding, "; ")),
-			"relax the target, widen the --vary ranges, or vary more parameters (e.g. --vary temperature,CH4,H2,time)")
+	written, err := recipe.EditRecipe(data, recipe.Edit{Step: sug.Step, Changes: stepEdits(sug.Changes), From: opts.recipe, To: opts.outFile})
+	if err != nil {
+		return nil, fmt.Errorf("suggest: %w", err)
 	}
-	if opts.outFile != "" {
-		if err := os.WriteFile(opts.outFile, written, 0o644); err != nil {
-			return fmt.Errorf("suggest: %w", err)
+	name := opts.outFile
+	if name == "" {
+		name = opts.recipe
+	}
+	r, err := recipe.ParseRecipe(name, written)
+	if err != nil {
+		return nil, fmt.Errorf("suggest: the changed recipe does not load: %w", err)
+	}
+	for _, fd := range recipe.Check(recipe.Derive(r, plan.Furnace)) {
+		switch fd.Severity {
+		case recipe.Error:
+			return nil, fmt.Errorf("suggest: the changed recipe fails check: %s: %s", fd.Rule, fd.Message)
+		case recipe.Warning:
+			out.Warnings = append(out.Warnings, fd.StepName+": "+fd.Message)
 		}
-		fmt.Fprintf(opts.io.Err, "wrote %s\n", opts.outFile)
 	}
-	return nil
+	return written, nil
 }
 
 func candidateTable(cs []suggestCandidateJSON, targets []kinetics.Target) table {
@@ -226,7 +241,7 @@ func candidateTable(cs []suggestCandidateJSON, targets []kinetics.Target) table 
 	}
 	for i, c := range cs {
 		var fl []string
-		for _, k := range sortedKeys(c.FlowsSCCM) {
+		for _, k := range slices.Sorted(maps.Keys(c.FlowsSCCM)) {
 			fl = append(fl, k+" "+num(c.FlowsSCCM[k], 3))
 		}
 		row := []string{fmt.Sprint(i + 1), fixed(c.TemperatureC, 1), strings.Join(fl, ", "), fixed(c.DurationMin, 2), num(c.MethaneSCC, 4),
@@ -247,21 +262,6 @@ func targetText(tg kinetics.Target, v float64) string {
 		return num(inUnit(v, "1/mm2"), 4) + " /mm2"
 	}
 	return fixed(v*100, 3) + " %"
-}
-
-func sortedKeys(m map[string]float64) []string {
-	var ks []string
-	for k := range m {
-		ks = append(ks, k)
-	}
-	for i := range ks {
-		for j := i + 1; j < len(ks); j++ {
-			if ks[j] < ks[i] {
-				ks[i], ks[j] = ks[j], ks[i]
-			}
-		}
-	}
-	return ks
 }
 
 func printSuggest(w io.Writer, r suggestResultJSON, targets []kinetics.Target) error {
