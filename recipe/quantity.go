@@ -99,6 +99,34 @@ type unit struct {
 	offset float64
 }
 
+// toSI converts a value written in the unit to SI. A scale that is the
+// reciprocal of a whole number (%, ppm, per minute, per hour, milli-) is
+// applied by dividing by that number, which IEEE arithmetic rounds
+// correctly: "95 %" is exactly 0.95, not 0.9500000000000001.
+func (u unit) toSI(v float64) float64 {
+	if n, ok := u.divisor(); ok {
+		return v/n + u.offset
+	}
+	return v*u.scale + u.offset
+}
+
+// fromSI is the inverse of toSI.
+func (u unit) fromSI(si float64) float64 {
+	if n, ok := u.divisor(); ok {
+		return (si - u.offset) * n
+	}
+	return (si - u.offset) / u.scale
+}
+
+// divisor returns 1/scale when it is a whole number above 1.
+func (u unit) divisor() (float64, bool) {
+	if u.scale >= 1 || u.scale <= 0 {
+		return 0, false
+	}
+	n := math.Round(1 / u.scale)
+	return n, math.Abs(n*u.scale-1) < 1e-12
+}
+
 // molPerSCCMSecond is the molar flow of 1 sccm in mol/s: 1 cm³/min of ideal
 // gas at 0 °C and 101325 Pa (the SEMI convention stated by MFC makers).
 const molPerSCCMSecond = gas.MolPerSCCMPerSecond
@@ -309,7 +337,7 @@ func Parse(text string, want Dimension) (Quantity, error) {
 	if un.dim != want {
 		return Quantity{}, &UnitError{Text: s, Want: want, Got: un.dim, Unit: u}
 	}
-	si := v*un.scale + un.offset
+	si := un.toSI(v)
 	if math.IsInf(si, 0) || math.IsNaN(si) {
 		return Quantity{}, fmt.Errorf("%q is too large to hold as a %s", text, want)
 	}
@@ -375,7 +403,7 @@ func ConvertTo(si float64, unitName string) (float64, bool) {
 	if !ok {
 		return 0, false
 	}
-	return (si - u.offset) / u.scale, true
+	return u.fromSI(si), true
 }
 
 // UnitDimension returns the dimension of a unit name such as "sccm".
@@ -406,7 +434,7 @@ func In(si float64, unitName string) (float64, error) {
 	if math.IsNaN(si) || math.IsInf(si, 0) {
 		return 0, fmt.Errorf("%v is not a finite value to write in %s", si, unitName)
 	}
-	return (si - u.offset) / u.scale, nil
+	return u.fromSI(si), nil
 }
 
 // Celsius converts a temperature in K to °C.

@@ -108,7 +108,7 @@ func TestFormatRoundTrip(t *testing.T) {
 	// Format is the inverse of Parse: every unit, several magnitudes.
 	for name, u := range units {
 		for _, v := range []float64{12.5, -3, 1e-7, 4.2e9} {
-			si := v*u.scale + u.offset
+			si := u.toSI(v)
 			text, err := Format(si, name)
 			if err != nil {
 				t.Fatalf("Format(%g, %q): %v", si, name, err)
@@ -136,10 +136,11 @@ func TestParseFraction(t *testing.T) {
 		want float64
 	}{
 		{"0.3", 0.3}, {"30%", 0.3}, {"30 %", 0.3}, {"2500 ppm", 0.0025}, // definitions of per cent and ppm
+		{"95%", 0.95}, {"99%", 0.99}, {"7 %", 0.07}, // exactly the float the decimal fraction names
 	}
 	for _, tt := range tests {
 		got, err := ParseFraction(tt.text)
-		if err != nil || math.Abs(got-tt.want) > 1e-15 {
+		if err != nil || got != tt.want {
 			t.Errorf("ParseFraction(%q) = %v, %v; want %v", tt.text, got, err, tt.want)
 		}
 	}
