@@ -71,7 +71,7 @@ func withHint(err error, hint string) error {
 // wrong": anything wrapping one of them is an input error.
 var inputSentinels = []error{
 	recipe.ErrInvalid, store.ErrInvalid,
-	kinetics.ErrAxis, kinetics.ErrSuggest, kinetics.ErrFitInput, kinetics.ErrNoCovariance,
+	kinetics.ErrAxis, kinetics.ErrSuggest, kinetics.ErrFitInput, kinetics.ErrNoCovariance, kinetics.ErrMetric, kinetics.ErrParams,
 }
 
 // kindOf classifies err: the outermost error that knows its kind wins,
