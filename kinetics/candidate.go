@@ -161,9 +161,9 @@ func (s *searcher) margins(c Candidate) []Margin {
 		m := Margin{Limit: tg.Quantity + " target", Value: c.Bounds[i], Bound: tg.Value}
 		switch tg.Quantity {
 		case MetricDomainSize:
-			m.Value, m.Bound, m.Unit = m.Value*1e6, m.Bound*1e6, "um"
+			m.Value, m.Bound, m.Unit = shownIn(m.Value, "um"), shownIn(m.Bound, "um"), "um"
 		case MetricNucleiDensity:
-			m.Value, m.Bound, m.Unit = m.Value*1e-6, m.Bound*1e-6, "/mm2"
+			m.Value, m.Bound, m.Unit = shownIn(m.Value, "/mm2"), shownIn(m.Bound, "/mm2"), "/mm2"
 		}
 		m.Margin = m.Bound - m.Value
 		if tg.AtLeast {
@@ -275,4 +275,14 @@ func bestPoint(pts []point) *point {
 		}
 	}
 	return best
+}
+
+// shownIn expresses an SI value in a unit for a margin's display
+// (recipe.In); NaN when there is no finite value to show.
+func shownIn(si float64, unit string) float64 {
+	v, err := recipe.In(si, unit)
+	if err != nil {
+		return math.NaN()
+	}
+	return v
 }

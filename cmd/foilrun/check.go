@@ -114,7 +114,7 @@ func numbersOf(p *recipe.Plan) []stepNumbers {
 			OpenToPump: s.OpenToPump, FlowsSCCM: map[string]float64{}, MoleFractions: map[string]float64{},
 			PCH4Pa: s.PCH4, PH2Pa: s.PH2, CH4H2: optional(s.CH4H2Ratio), VolFlowLmin: s.VolumetricFlow * 60000,
 			VelocityMS: s.Velocity, ResidenceS: s.Residence, Reynolds: s.Reynolds, Knudsen: s.Knudsen,
-			Supersaturation: optional(s.Supersaturation), CopperLossUm: s.CopperLoss * 1e6,
+			Supersaturation: optional(s.Supersaturation), CopperLossUm: inUnit(s.CopperLoss, "um"),
 		}
 		for _, fl := range s.Flows {
 			n.FlowsSCCM[fl.Gas.Symbol] = fl.SCCM

@@ -5,7 +5,6 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"math"
 	"os"
 	"sort"
 	"strings"
@@ -427,16 +426,6 @@ func writeParity(path string, res *kinetics.FitResult) error {
 		fig.Panels = append(fig.Panels, *panels[n])
 	}
 	return chart.WriteParity(path, fig)
-}
-
-// inUnit expresses an SI value in a unit for output (recipe.In); NaN when
-// there is no finite value to show.
-func inUnit(si float64, unit string) float64 {
-	v, err := recipe.In(si, unit)
-	if err != nil {
-		return math.NaN()
-	}
-	return v
 }
 
 // intervalJSON is a 90 % (or other level) interval in display units, shown

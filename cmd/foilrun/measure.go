@@ -131,8 +131,8 @@ func (mf *measureFlags) measureImage(errw io.Writer) (*imageResult, []measuremen
 	out := &imageResult{
 		File: mf.image, SHA256: hex.EncodeToString(sum[:]), Format: info.Format, Width: info.Width, Height: info.Height,
 		Coverage: res.Coverage, Domains: res.Count, Interior: res.Interior, Edge: res.Edge, Specks: res.Specks,
-		PerMM2: res.DensityPerMM2(), MeanUm: res.Sizes.Mean * 1e6, MedianUm: res.Sizes.Median * 1e6,
-		P10Um: res.Sizes.P10 * 1e6, P90Um: res.Sizes.P90 * 1e6, Threshold: res.Threshold,
+		PerMM2: res.DensityPerMM2(), MeanUm: inUnit(res.Sizes.Mean, "um"), MedianUm: inUnit(res.Sizes.Median, "um"),
+		P10Um: inUnit(res.Sizes.P10, "um"), P90Um: inUnit(res.Sizes.P90, "um"), Threshold: res.Threshold,
 		Polarity: res.Polarity.String(), Reason: res.PolarityReason, Notes: res.Notes,
 	}
 	if mf.overlay != "" {
@@ -156,7 +156,7 @@ func (mf *measureFlags) measureImage(errw io.Writer) (*imageResult, []measuremen
 		ms = append(ms, measurement{Metric: "nuclei_density", Value: res.DensityPerMM2(), Unit: "1/mm2", Method: method, Text: num(res.DensityPerMM2(), 4) + " /mm²"})
 	}
 	if res.Sizes.N > 0 {
-		ms = append(ms, measurement{Metric: "domain_size", Value: res.Sizes.Mean * 1e6, Unit: "um", Method: method + " (mean area-equivalent diameter, interior domains)", Text: num(res.Sizes.Mean*1e6, 4) + " um"})
+		ms = append(ms, measurement{Metric: "domain_size", Value: inUnit(res.Sizes.Mean, "um"), Unit: "um", Method: method + " (mean area-equivalent diameter, interior domains)", Text: num(inUnit(res.Sizes.Mean, "um"), 4) + " um"})
 	}
 	return out, ms, nil
 }

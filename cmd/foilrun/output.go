@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"fmt"
 	"io"
+	"math"
 	"slices"
 	"strings"
 
@@ -12,6 +13,8 @@ import (
 	"github.com/olekukonko/tablewriter/renderer"
 	"github.com/olekukonko/tablewriter/tw"
 	"github.com/spf13/cobra"
+
+	"github.com/foilrun/foilrun/recipe"
 )
 
 // outputFormat is the value of --output: table (for people), csv or json
@@ -185,4 +188,14 @@ func fixed(v float64, d int) string {
 		return ""
 	}
 	return fmt.Sprintf("%.*f", d, v)
+}
+
+// inUnit expresses an SI value in a unit for output (recipe.In); NaN when
+// there is no finite value to show.
+func inUnit(si float64, unit string) float64 {
+	v, err := recipe.In(si, unit)
+	if err != nil {
+		return math.NaN()
+	}
+	return v
 }

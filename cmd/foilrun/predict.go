@@ -143,7 +143,7 @@ func predictJSON(plan *recipe.Plan, res kinetics.Result, checkErrors int) predic
 	out := predictResult{
 		Recipe: res.Recipe, Furnace: plan.Furnace.Name, ParamsSource: res.Params.Source,
 		Mode: string(res.Mode), Shape: string(res.Shape),
-		Coverage: round6(res.Coverage), NucleiPerMM2: round6(res.NucleiDensity * 1e-6), DomainUm: round6(res.DomainSize * 1e6),
+		Coverage: round6(res.Coverage), NucleiPerMM2: round6(inUnit(res.NucleiDensity, "1/mm2")), DomainUm: round6(inUnit(res.DomainSize, "um")),
 		CarbonStart: opt6(res.CarbonStart / 60), T50Min: opt6(res.T50 / 60), T90Min: opt6(res.T90 / 60), T99Min: opt6(res.T99 / 60),
 		Etching: res.Etching, CheckErrors: checkErrors, Notes: res.Notes,
 	}
@@ -155,8 +155,8 @@ func predictJSON(plan *recipe.Plan, res kinetics.Result, checkErrors int) predic
 			Step: i + 1, Label: s.Label, StartMin: round6(s.Start / 60), DurationMin: round6(s.Duration / 60),
 			T0C: round6(s.T0 - 273.15), T1C: round6(s.T1 - 273.15), PCH4Pa: round6(s.PC), PH2Pa: round6(s.PH),
 			Carbon: s.Carbon, Etching: s.Etching,
-			NucleationMM2S: round6(s.NucleationRate * 1e-6), GrowthUmMin: round6(s.GrowthRate * 6e7),
-			Coverage: round6(s.Coverage), NucleiPerMM2: round6(s.NucleiDensity * 1e-6), DomainUm: round6(s.DomainSize * 1e6),
+			NucleationMM2S: round6(inUnit(s.NucleationRate, "1/mm2/s")), GrowthUmMin: round6(inUnit(s.GrowthRate, "um/min")),
+			Coverage: round6(s.Coverage), NucleiPerMM2: round6(inUnit(s.NucleiDensity, "1/mm2")), DomainUm: round6(inUnit(s.DomainSize, "um")),
 		})
 	}
 	return out
@@ -293,7 +293,7 @@ func predictFigure(res kinetics.Result) chart.TimeFigure {
 	for _, s := range res.Curve {
 		ct = append(ct, s.Time/60)
 		cov = append(cov, s.Coverage*100)
-		dens = append(dens, s.NucleiDensity*1e-6)
+		dens = append(dens, inUnit(s.NucleiDensity, "1/mm2"))
 	}
 	return chart.TimeFigure{
 		Title: res.Recipe + ": recipe profile and predicted growth", XLabel: "time from the recipe start (min)", Steps: steps,

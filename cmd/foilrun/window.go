@@ -72,9 +72,9 @@ computed on all cores; a progress bar shows on a terminal.`,
 func showValue(show string, p kinetics.Point) float64 {
 	switch show {
 	case "nuclei_density":
-		return p.NucleiDensity * 1e-6
+		return inUnit(p.NucleiDensity, "1/mm2")
 	case "domain_size":
-		return p.DomainSize * 1e6
+		return inUnit(p.DomainSize, "um")
 	case "time_to_99":
 		return p.T99 / 60
 	}
@@ -152,7 +152,7 @@ func windowRun(opts *windowOptions) error {
 		for _, p := range row {
 			res.Points = append(res.Points, windowPoint{
 				X: round6(m.X.Display(p.X)), Y: round6(m.Y.Display(p.Y)), Feasible: p.Feasible, Rule: p.Rule, Message: p.Message,
-				Coverage: round6(p.Coverage), NucleiPerMM2: round6(p.NucleiDensity * 1e-6), DomainUm: round6(p.DomainSize * 1e6),
+				Coverage: round6(p.Coverage), NucleiPerMM2: round6(inUnit(p.NucleiDensity, "1/mm2")), DomainUm: round6(inUnit(p.DomainSize, "um")),
 				T99Min: opt6(p.T99 / 60), Etching: p.Etching,
 			})
 		}
