@@ -45,7 +45,7 @@ func TestParseOutcome(t *testing.T) {
 		{"flow as a fraction", "coverage=5sccm", 0, "", `coverage is a fraction (a bare number or a percentage), not "sccm" (units: (none), %, ppm)`},
 		{"percentage without %", "coverage=93", 0, "", "write 93% for a percentage"},
 		{"above 100 %", "coverage=120%", 0, "", "coverage 1.2 1 is outside 0 to 1"},
-		{"negative size", "domain_size=-3 um", 0, "", "outside 0 to +Inf"},
+		{"negative size", "domain_size=-3 um", 0, "", "domain_size -3 um is outside 0 to 1e+06"},
 		{"too large in SI", "nuclei_density=1e303 /um2", 0, "", "too large"},
 		{"no value", "coverage", 0, "", "want metric=value[unit]"},
 		{"not a number", "coverage=high", 0, "", "not a finite number"},

@@ -70,9 +70,15 @@ func (s *DB) Backup(ctx context.Context, path string) error {
 	return s.d.Backup(ctx, s.db, path)
 }
 
-// Check runs the back end's integrity checks.
+// Check runs the back end's integrity checks, then checks the run codes
+// and their counters (see checkCodes).
 func (s *DB) Check(ctx context.Context) ([]string, error) {
-	return s.d.Check(ctx, s.db)
+	probs, err := s.d.Check(ctx, s.db)
+	if err != nil {
+		return nil, err
+	}
+	codes, err := checkCodes(ctx, s.db)
+	return append(probs, codes...), err
 }
 
 func (s *DB) now() time.Time { return s.Now().UTC() }

@@ -53,6 +53,10 @@ func Run(t *testing.T, open Opener) {
 	}
 }
 
+// Attachment hashes of the lifecycle test: SHA-256 of "cd", "ab" and "ef"
+// (crypto/sha256), so they have the 64 hex digits every write checks.
+var hashCD, hashAB, hashEF = store.HashOf([]byte("cd")), store.HashOf([]byte("ab")), store.HashOf([]byte("ef"))
+
 func setClock(t *testing.T, l store.RunLog, at time.Time) {
 	Backend(t, l).SetClock(func() time.Time { return at })
 }
@@ -106,7 +110,7 @@ func testLifecycle(t *testing.T, open Opener) {
 	fin := store.Finish{Status: store.Done, Ended: T0.Add(time.Hour), Note: "cooled",
 		Actuals:     []store.Actual{{Step: 1, Label: "1 grow", Quantity: "temperature", Unit: "K", Planned: 1273.15, Mean: 1272, Min: 1270, Max: 1275, Samples: 60}},
 		Deviations:  []store.Deviation{{Step: 1, Label: "1 grow", Quantity: "duration", Unit: "s", Planned: 900, Actual: 1100, Tolerance: 90, Message: "long"}},
-		Attachments: []store.Attachment{{Path: "tube-1.csv", SHA256: "cd", Kind: "furnace-log"}}}
+		Attachments: []store.Attachment{{Path: "tube-1.csv", SHA256: hashCD, Kind: "furnace-log"}}}
 	must(t, l.FinishRun(ctx, c1, fin))
 	if err := l.FinishRun(ctx, c1, fin); !errors.Is(err, store.ErrConflict) {
 		t.Errorf("second finish: got %v, want ErrConflict", err)
@@ -118,7 +122,7 @@ func testLifecycle(t *testing.T, open Opener) {
 	// (no path) undoes the status, note and actuals written before it.
 	before := Fingerprint(t, l)
 	bad := fin
-	bad.Attachments = []store.Attachment{{Path: "", SHA256: "ef", Kind: "furnace-log"}}
+	bad.Attachments = []store.Attachment{{Path: "", SHA256: hashEF, Kind: "furnace-log"}}
 	if err := l.FinishRun(ctx, c2, bad); !errors.Is(err, store.ErrInvalid) || !strings.Contains(err.Error(), "no path") {
 		t.Errorf("finish with an attachment without a path: got %v, want ErrInvalid naming the missing path", err)
 	}
@@ -126,7 +130,7 @@ func testLifecycle(t *testing.T, open Opener) {
 		t.Errorf("a refused finish changed the log")
 	}
 	must(t, l.AddOutcomes(ctx, c1, []store.Outcome{{Metric: "coverage", Value: 0.95, Unit: "1"}}))
-	must(t, l.AddAttachment(ctx, c1, store.Attachment{Path: "m.png", SHA256: "ab", Kind: "micrograph"}))
+	must(t, l.AddAttachment(ctx, c1, store.Attachment{Path: "m.png", SHA256: hashAB, Kind: "micrograph"}))
 	rec, err := l.Record(ctx, c1)
 	must(t, err)
 	if rec.Status != store.Done || !rec.Ended.Equal(T0.Add(time.Hour)) || len(rec.Notes) != 2 || len(rec.Actuals) != 1 ||
@@ -138,7 +142,7 @@ func testLifecycle(t *testing.T, open Opener) {
 	for _, a := range rec.Attachments {
 		kinds[a.Kind] = a.Path + " " + a.SHA256
 	}
-	if kinds["furnace-log"] != "tube-1.csv cd" || kinds["micrograph"] != "m.png ab" {
+	if kinds["furnace-log"] != "tube-1.csv "+hashCD || kinds["micrograph"] != "m.png "+hashAB {
 		t.Errorf("attachments: got %+v, want the furnace log from the finish and the micrograph", rec.Attachments)
 	}
 	runs, err := l.List(ctx, store.Filter{})
@@ -197,7 +201,7 @@ func testBadInput(t *testing.T, open Opener) {
 		}, store.ErrInvalid, `metric "peak_shift" is logged in "cm-1", not "nm"`},
 		{"metric named like a parameter", func() error {
 			return l.AddOutcomes(ctx, code, []store.Outcome{{Metric: "growth_time_min", Value: 2, Unit: "1"}})
-		}, store.ErrInvalid, "is logged as a param"},
+		}, store.ErrInvalid, `"growth_time_min" is a recipe parameter`},
 		{"where syntax", func() error { _, err := l.List(ctx, store.Filter{Where: []string{"coverage >> 1"}}); return err }, store.ErrInvalid, "col 11"},
 		{"injection", func() error {
 			_, err := l.List(ctx, store.Filter{Where: []string{`x'; DROP TABLE runs; --`}})
@@ -225,7 +229,7 @@ func testBadInput(t *testing.T, open Opener) {
 			return err
 		}, store.ErrConflict, `run code "G20-0005" is already in the log`},
 		{"missing snapshot import", func() error {
-			_, err := l.Import(ctx, store.Bundle{Runs: []store.RunRecord{GenRecord(3, "deadbeef")}}, nil)
+			_, err := l.Import(ctx, store.Bundle{Runs: []store.RunRecord{GenRecord(3, store.HashOf([]byte("absent")))}}, nil)
 			return err
 		}, store.ErrInvalid, "neither given nor in the log"},
 		{"bad status import", func() error {
@@ -233,7 +237,7 @@ func testBadInput(t *testing.T, open Opener) {
 			bad.Status = "cooking"
 			_, err := l.Import(ctx, store.Bundle{Runs: []store.RunRecord{GenRecord(4, ""), bad}}, nil)
 			return err
-		}, store.ErrInvalid, `status "cooking"`},
+		}, store.ErrInvalid, `status: "cooking": want planned, running, done or aborted`},
 		{"tampered snapshot", func() error {
 			bad := sn
 			bad.Content = append([]byte(nil), sn.Content...)
