@@ -150,7 +150,7 @@ func runStartRun(ctx context.Context, o *runOptions) error {
 		}
 	}
 	snap := store.NewSnapshot(plan.Recipe.Name, o.recipe, data)
-	l, err := o.f.runLog(ctx)
+	l, err := o.f.writeLog(ctx)
 	if err != nil {
 		return err
 	}
@@ -215,7 +215,7 @@ func newRunNoteCmd(f *factory) *cobra.Command {
 			if strings.TrimSpace(opts.text) == "" {
 				return usagef("the note is empty")
 			}
-			l, err := opts.f.runLog(cmd.Context())
+			l, err := opts.f.writeLog(cmd.Context())
 			if err != nil {
 				return err
 			}
@@ -252,7 +252,7 @@ func newRunFinishCmd(f *factory) *cobra.Command {
 }
 
 func runFinishRun(ctx context.Context, o *runFinishOptions) error {
-	l, err := o.f.runLog(ctx)
+	l, err := o.f.writeLog(ctx)
 	if err != nil {
 		return err
 	}

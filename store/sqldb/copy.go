@@ -104,7 +104,7 @@ func Copy(ctx context.Context, dst, src *DB, progress func(done, total int)) (st
 	}
 	w, err := dst.begin(ctx)
 	if err != nil {
-		return store.Digest{}, fmt.Errorf("copy: %w", err)
+		return store.Digest{}, fmt.Errorf("copy: %w", dst.refused("copy into the target", err))
 	}
 	defer w.rollback()
 	var runs, snaps int

@@ -27,6 +27,9 @@ type writer struct {
 }
 
 func (s *DB) begin(ctx context.Context) (*writer, error) {
+	if err := s.writable("write"); err != nil {
+		return nil, err
+	}
 	tx, err := s.db.BeginTx(ctx, nil)
 	if err != nil {
 		return nil, err
@@ -417,6 +420,11 @@ func (w *writer) addAttachment(ctx context.Context, id int64, a store.Attachment
 
 // CreateRun logs a new run; see store.RunLog.
 func (s *DB) CreateRun(ctx context.Context, rec store.RunRecord, snap *store.Snapshot) (string, error) {
+	code, err := s.createRun(ctx, rec, snap)
+	return code, s.refused("log the run", err)
+}
+
+func (s *DB) createRun(ctx context.Context, rec store.RunRecord, snap *store.Snapshot) (string, error) {
 	w, err := s.begin(ctx)
 	if err != nil {
 		return "", err
@@ -492,23 +500,31 @@ func (s *DB) FinishRun(ctx context.Context, code string, f store.Finish) error {
 
 // onRun runs fn on the run with the code in one transaction.
 func (s *DB) onRun(ctx context.Context, code string, fn func(w *writer, id int64, st store.Status) error) error {
-	w, err := s.begin(ctx)
-	if err != nil {
-		return err
-	}
-	defer w.rollback()
-	id, st, err := w.runID(ctx, code)
-	if err != nil {
-		return err
-	}
-	if err := fn(w, id, st); err != nil {
-		return err
-	}
-	return w.commit(ctx)
+	err := func() error {
+		w, err := s.begin(ctx)
+		if err != nil {
+			return err
+		}
+		defer w.rollback()
+		id, st, err := w.runID(ctx, code)
+		if err != nil {
+			return err
+		}
+		if err := fn(w, id, st); err != nil {
+			return err
+		}
+		return w.commit(ctx)
+	}()
+	return s.refused("write to run "+code, err)
 }
 
 // Import adds the bundle's snapshots and runs in one transaction.
 func (s *DB) Import(ctx context.Context, b store.Bundle, progress func(int)) (int, error) {
+	n, err := s.importBundle(ctx, b, progress)
+	return n, s.refused("import", err)
+}
+
+func (s *DB) importBundle(ctx context.Context, b store.Bundle, progress func(int)) (int, error) {
 	if err := b.ValidateImport(s.now()); err != nil {
 		return 0, err
 	}
