@@ -70,12 +70,11 @@ func ValidateCode(code string) error {
 	if code == "" || len(code) > MaxCodeLength {
 		return fmt.Errorf("code %s: want 1 to %d characters: %w", quoteShort(code), MaxCodeLength, ErrInvalid)
 	}
-	for i := 0; i < len(code); i++ {
-		c := code[i]
-		ok := c >= 'A' && c <= 'Z' || c >= 'a' && c <= 'z' || c >= '0' && c <= '9' || (i > 0 && (c == '-' || c == '_' || c == '.'))
+	for i, r := range code {
+		ok := r >= 'A' && r <= 'Z' || r >= 'a' && r <= 'z' || r >= '0' && r <= '9' || (i > 0 && (r == '-' || r == '_' || r == '.'))
 		if !ok {
-			return fmt.Errorf("code %s: character %d %q is not a letter, digit, '-', '_' or '.' (codes look like G26-0001): %w",
-				quoteShort(code), i+1, rune(c), ErrInvalid)
+			return fmt.Errorf("code %s: character %U at byte %d is not a letter, digit, '-', '_' or '.' (codes look like G26-0001): %w",
+				quoteShort(code), r, i+1, ErrInvalid)
 		}
 	}
 	if _, _, ours, err := parseOurs(code); ours && err != nil {

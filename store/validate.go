@@ -73,11 +73,10 @@ func (r Range) contains(v float64) bool {
 }
 
 func (r Range) String() string {
-	lo := "from"
 	if r.Open {
-		lo = "above"
+		return fmt.Sprintf("above %g up to %g (%s)", r.Min, r.Max, r.What)
 	}
-	return fmt.Sprintf("%s %g to %g (%s)", lo, r.Min, r.Max, r.What)
+	return fmt.Sprintf("%g to %g (%s)", r.Min, r.Max, r.What)
 }
 
 // ParamRange returns the physical range of a recipe parameter by the unit
@@ -87,7 +86,7 @@ func ParamRange(name string) Range {
 	if unit, ok := paramUnits[name]; ok {
 		switch unit {
 		case "°C":
-			return Range{Min: -273.15, Max: 3000, Open: true, What: "°C, above 0 K and below any tube furnace's limit"}
+			return Range{Min: -273.15, Max: 3000, Open: true, What: "°C: above 0 K, below any tube furnace's limit"}
 		case "min":
 			return Range{Min: 0, Max: maxDurationMin, What: "min, up to 7 days"}
 		case "s":
@@ -180,7 +179,7 @@ func (rec RunRecord) Validate(now time.Time) error {
 	run := runLabel(rec.Code)
 	if rec.Code != "" {
 		if err := ValidateCode(rec.Code); err != nil {
-			return fmt.Errorf("run %s: %w", run, err)
+			return err // names the run by its code
 		}
 	}
 	if rec.Status != "" && !rec.Status.Valid() {
@@ -263,7 +262,7 @@ func CheckParam(name string, v float64) error {
 		return fmt.Errorf("parameter name %s must be lower case letters, digits and _", quoteShort(name))
 	}
 	if r := ParamRange(name); !r.contains(v) {
-		return fmt.Errorf("%g is outside %s", v, r)
+		return fmt.Errorf("%g is out of range: want %s", v, r)
 	}
 	return nil
 }
@@ -305,7 +304,11 @@ func (o Outcome) Validate(now time.Time) error {
 		return fmt.Errorf("%s is in %s, not %q", o.Metric, m.Unit, o.Unit)
 	}
 	if math.IsNaN(o.Value) || math.IsInf(o.Value, 0) || o.Value < m.Min || o.Value > m.Max {
-		return fmt.Errorf("%s %g %s is outside %g to %g", o.Metric, o.Value, m.Unit, m.Min, m.Max)
+		unit := " " + m.Unit
+		if m.Unit == "1" {
+			unit = ""
+		}
+		return fmt.Errorf("%s %g is outside %g to %g%s", o.Metric, o.Value, m.Min, m.Max, unit)
 	}
 	return nil
 }
@@ -355,7 +358,7 @@ func (a Actual) validate() error {
 		v    float64
 	}{{"planned", float64(a.Planned)}, {"mean", a.Mean}, {"min", a.Min}, {"max", a.Max}} {
 		if !math.IsNaN(f.v) && !r.contains(f.v) {
-			return fmt.Errorf("%s %s %g is outside %s", a.Quantity, f.name, f.v, r)
+			return fmt.Errorf("%s %s %g is out of range: want %s", a.Quantity, f.name, f.v, r)
 		}
 	}
 	return nil

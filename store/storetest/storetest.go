@@ -17,6 +17,8 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"os"
+	"path/filepath"
 	"sort"
 	"strings"
 	"sync"
@@ -39,6 +41,8 @@ func Run(t *testing.T, open Opener) {
 		{"SnapshotByteIdentical", testSnapshot},
 		{"RunLifecycle", testLifecycle},
 		{"Codes", testCodes},
+		{"CodeCounters", testCodeCounters},
+		{"ImportValidated", testImportValidated},
 		{"BadInput", testBadInput},
 		{"ListBestRank", testListBestRank},
 		{"TextOrder", testTextOrder},
@@ -171,6 +175,108 @@ func testCodes(t *testing.T, open Opener) {
 	}
 	if _, err := l.Record(ctx, "LAB-7"); err != nil {
 		t.Errorf("imported code of another shape: %v", err)
+	}
+}
+
+// testCodeCounters: an imported code whose number would overflow the
+// counter is refused; a counter planted with SQL outside the range (the
+// largest bigint, what such an import used to leave) or behind the codes
+// logged, and a code planted with SQL, are reported by Check, and the
+// next run still gets the next free code, after which Check is clean.
+func testCodeCounters(t *testing.T, open Opener) {
+	l := open(t)
+	ctx := context.Background()
+	setClock(t, l, time.Date(2026, 6, 1, 8, 0, 0, 0, time.UTC))
+	for i := 0; i < 3; i++ {
+		_, err := l.CreateRun(ctx, store.RunRecord{}, nil)
+		must(t, err)
+	}
+	before := Fingerprint(t, l)
+	huge := store.RunRecord{Run: store.Run{Code: "G26-9223372036854775807", Status: store.Done}}
+	if _, err := l.Import(ctx, store.Bundle{Runs: []store.RunRecord{huge}}, nil); !errors.Is(err, store.ErrInvalid) ||
+		!strings.Contains(err.Error(), `sequence number "9223372036854775807" has 19 digits, want 4 to 6`) {
+		t.Errorf("import of G26-9223372036854775807: got %v, want ErrInvalid naming the 19 digits", err)
+	}
+	if Fingerprint(t, l) != before {
+		t.Errorf("a refused import changed the log")
+	}
+	raw := Backend(t, l).SQL()
+	exec := func(q string) {
+		t.Helper()
+		if _, err := raw.ExecContext(ctx, q); err != nil {
+			t.Fatalf("%s: %v", q, err)
+		}
+	}
+	tests := []struct {
+		name, plant, report, next string
+	}{
+		{"largest bigint", `UPDATE counters SET value = 9223372036854775807 WHERE name = 'run-2026'`,
+			`counter run-2026 holds "9223372036854775807", not a whole number from 0 to 999999`, "G26-0004"},
+		{"negative", `UPDATE counters SET value = -3 WHERE name = 'run-2026'`,
+			`counter run-2026 holds "-3", not a whole number from 0 to 999999`, "G26-0005"},
+		{"behind the codes", `UPDATE counters SET value = 1 WHERE name = 'run-2026'`,
+			"counter run-2026 is at 1 but a run with number 5 is logged", "G26-0006"},
+		{"row deleted", `DELETE FROM counters WHERE name = 'run-2026'`, "", "G26-0007"},
+		{"bad code planted", `UPDATE runs SET code = 'G26-1234567' WHERE code = 'G26-0001'`,
+			`run code "G26-1234567": sequence number "1234567" has 7 digits`, "G26-0008"},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			exec(tt.plant)
+			probs, err := l.Check(ctx)
+			must(t, err)
+			if got := strings.Join(probs, "; "); tt.report != "" && !strings.Contains(got, tt.report) {
+				t.Errorf("Check: got %q, want it to report %q", got, tt.report)
+			}
+			code, err := l.CreateRun(ctx, store.RunRecord{}, nil)
+			if err != nil || code != tt.next {
+				t.Errorf("run add after the planted change: got %q, %v; want %s", code, err, tt.next)
+			}
+			if tt.name == "bad code planted" {
+				exec(`UPDATE runs SET code = 'G26-0001' WHERE code = 'G26-1234567'`)
+			}
+			if probs, err := l.Check(ctx); err != nil || len(probs) != 0 {
+				t.Errorf("Check after run add: got %v, %v; want no problems", probs, err)
+			}
+		})
+	}
+}
+
+// testImportValidated: each bad export under testdata/store/import-bad
+// is refused by Import (or by ReadJSON before it) with its golden message,
+// and the log is left exactly as it was; the good one imports.
+func testImportValidated(t *testing.T, open Opener) {
+	l := open(t)
+	ctx := context.Background()
+	setClock(t, l, time.Date(2026, 12, 1, 12, 0, 0, 0, time.UTC))
+	_, err := l.CreateRun(ctx, GenRecord(1, ""), nil)
+	must(t, err)
+	dirs, err := filepath.Glob("../../testdata/store/import-bad/*")
+	if err != nil || len(dirs) < 10 {
+		t.Fatalf("import-bad cases: got %d, %v; want at least 10", len(dirs), err)
+	}
+	for _, dir := range dirs {
+		t.Run(filepath.Base(dir), func(t *testing.T) {
+			before := Fingerprint(t, l)
+			in, err := os.ReadFile(filepath.Join(dir, "input.json"))
+			must(t, err)
+			want, err := os.ReadFile(filepath.Join(dir, "want.txt"))
+			must(t, err)
+			b, err := store.ReadJSON(bytes.NewReader(in))
+			if err == nil {
+				_, err = l.Import(ctx, b, nil)
+			}
+			got := "ok"
+			if err != nil {
+				got = err.Error()
+			}
+			if got != strings.TrimSpace(string(want)) {
+				t.Errorf("got  %s\nwant %s", got, want)
+			}
+			if got != "ok" && Fingerprint(t, l) != before {
+				t.Errorf("a refused import changed the log")
+			}
+		})
 	}
 }
 
