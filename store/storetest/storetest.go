@@ -309,6 +309,14 @@ func testBadInput(t *testing.T, open Opener) {
 			return l.AddOutcomes(ctx, code, []store.Outcome{{Metric: "growth_time_min", Value: 2, Unit: "1"}})
 		}, store.ErrInvalid, `"growth_time_min" is a recipe parameter`},
 		{"where syntax", func() error { _, err := l.List(ctx, store.Filter{Where: []string{"coverage >> 1"}}); return err }, store.ErrInvalid, "col 11"},
+		{"1500 where flags", func() error {
+			where := make([]string, 1500)
+			for i := range where {
+				where[i] = "coverage > 0"
+			}
+			_, err := l.List(ctx, store.Filter{Where: where})
+			return err
+		}, store.ErrInvalid, "more than 100 comparisons in the 1500 expressions given"},
 		{"injection", func() error {
 			_, err := l.List(ctx, store.Filter{Where: []string{`x'; DROP TABLE runs; --`}})
 			return err
