@@ -3,37 +3,105 @@ package store
 import (
 	"fmt"
 	"strconv"
+	"strings"
 	"time"
 )
 
 // Run codes are short and human: "G" (growth), the two-digit year the run
-// was logged, a dash and a sequence number of at least four digits that
-// restarts each year: G26-0001, G26-0002, … The sequence comes from a
-// counter row updated in the same transaction that inserts the run, so
-// codes stay unique however many processes (or, on a shared server,
-// machines) log at once.
+// was logged, a dash and a sequence number of four to six digits that
+// restarts each year: G26-0001, G26-0002, … G26-999999. The sequence comes
+// from a counter row updated in the same transaction that inserts the
+// run, so codes stay unique however many processes (or, on a shared
+// server, machines) log at once.
+//
+// Codes of another shape (imported from another lab's log, "LAB-7") are
+// kept as they are, provided they match the code pattern (ValidateCode):
+// one to MaxCodeLength letters, digits, '-', '_' or '.', starting with a
+// letter or digit. A code of our shape with a number out of range is
+// refused, so one imported code cannot push the counter past what the
+// next code can hold.
+
+// MaxCodeNumber is the largest sequence number of a run code: six digits,
+// a million runs a year, far beyond what one lab's furnaces can do, and
+// small enough that the counter arithmetic can never overflow.
+const MaxCodeNumber = 999999
+
+// MaxCodeLength is the longest code, of any shape, a run may have.
+const MaxCodeLength = 32
 
 // CodeCounter returns the counter name for runs logged at t.
 func CodeCounter(t time.Time) string { return "run-" + strconv.Itoa(t.UTC().Year()) }
 
-// FormatCode returns the run code for sequence n of the year of t.
+// FormatCode returns the run code for sequence n (1 to MaxCodeNumber) of
+// the year of t.
 func FormatCode(t time.Time, n int64) string {
 	return fmt.Sprintf("G%02d-%04d", t.UTC().Year()%100, n)
 }
 
-// ParseCode splits a code into its counter name and sequence number. ok is
-// false for codes of another shape (for example imported from elsewhere);
-// those are kept as they are.
+// ParseCode splits a code of our shape into its counter name and sequence
+// number. ok is false for codes of another shape (for example imported
+// from elsewhere), which are kept as they are, and for codes of our shape
+// that ValidateCode refuses.
 func ParseCode(code string) (counter string, n int64, ok bool) {
-	if len(code) < 8 || code[0] != 'G' || code[3] != '-' || !digits(code[1:3]) || !digits(code[4:]) {
-		return "", 0, false
-	}
-	yy, _ := strconv.Atoi(code[1:3])
-	n, err := strconv.ParseInt(code[4:], 10, 64)
-	if err != nil || n <= 0 {
+	yy, n, ours, err := parseOurs(code)
+	if !ours || err != nil {
 		return "", 0, false
 	}
 	return "run-" + strconv.Itoa(2000+yy), n, true
+}
+
+// ParseCounter reads a code counter's stored value (as text, whatever
+// the back end's column type). It is an error unless the value is a
+// whole number from 0 to MaxCodeNumber, so a counter changed outside
+// foilrun (a float, a huge number, text) is found, never scanned into an
+// overflow.
+func ParseCounter(stored string) (int64, error) {
+	n, err := strconv.ParseInt(strings.TrimSpace(stored), 10, 64)
+	if err != nil || n < 0 || n > MaxCodeNumber {
+		return 0, fmt.Errorf("holds %q, not a whole number from 0 to %d", stored, MaxCodeNumber)
+	}
+	return n, nil
+}
+
+// ValidateCode checks a run code given by the caller (an import, a copy):
+// the code pattern above, and for a code of our shape a number of four to
+// six digits from 1 to MaxCodeNumber. Errors wrap ErrInvalid.
+func ValidateCode(code string) error {
+	if code == "" || len(code) > MaxCodeLength {
+		return fmt.Errorf("code %s: want 1 to %d characters: %w", quoteShort(code), MaxCodeLength, ErrInvalid)
+	}
+	for i, r := range code {
+		ok := r >= 'A' && r <= 'Z' || r >= 'a' && r <= 'z' || r >= '0' && r <= '9' || (i > 0 && (r == '-' || r == '_' || r == '.'))
+		if !ok {
+			return fmt.Errorf("code %s: character %U at byte %d is not a letter, digit, '-', '_' or '.' (codes look like G26-0001): %w",
+				quoteShort(code), r, i+1, ErrInvalid)
+		}
+	}
+	if _, _, ours, err := parseOurs(code); ours && err != nil {
+		return fmt.Errorf("code %q: %v: %w", code, err, ErrInvalid)
+	}
+	return nil
+}
+
+// parseOurs reads a code of the shape G<yy>-<digits>. ours is true when
+// the code has that shape; err says what is wrong with its number.
+func parseOurs(code string) (yy int, n int64, ours bool, err error) {
+	if len(code) < 5 || code[0] != 'G' || code[3] != '-' || !digits(code[1:3]) || !digits(code[4:]) {
+		return 0, 0, false, nil
+	}
+	yy, _ = strconv.Atoi(code[1:3])
+	num := code[4:]
+	if len(num) < 4 || len(num) > 6 {
+		return yy, 0, true, fmt.Errorf("sequence number %q has %d digits, want 4 to 6 (at most %d)", num, len(num), MaxCodeNumber)
+	}
+	n, _ = strconv.ParseInt(num, 10, 64) // at most six digits: always fits
+	if n < 1 {
+		return yy, 0, true, fmt.Errorf("sequence number %q: runs are numbered from 1", num)
+	}
+	if want := fmt.Sprintf("%04d", n); num != want {
+		return yy, 0, true, fmt.Errorf("sequence number %q: write it %s (four digits, no other leading zeros)", num, want)
+	}
+	return yy, n, true, nil
 }
 
 func digits(s string) bool {
@@ -43,4 +111,14 @@ func digits(s string) bool {
 		}
 	}
 	return s != ""
+}
+
+// quoteShort quotes s for a message, cut to its first 40 bytes (and the
+// length said) when longer, so a 100,000-character value does not fill
+// the screen.
+func quoteShort(s string) string {
+	if len(s) <= 40 {
+		return strconv.QuoteToASCII(s)
+	}
+	return fmt.Sprintf("%s… (%d bytes)", strconv.QuoteToASCII(s[:40]), len(s))
 }

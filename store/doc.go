@@ -19,6 +19,15 @@
 // metrics in the canonical unit of each known metric (see Metrics);
 // furnace-log actuals in SI (K, Pa, mol/s, s). Times are UTC.
 //
-// Entry points: RunLog, Copier, RunRecord, ParseOutcome, Best, Rank, WriteJSON,
-// ReadJSON, WriteCSV, ReadCSV.
+// Validation (validate.go): every write passes RunRecord.Validate (and
+// Note, Outcome, Attachment, Finish), an import Bundle.ValidateImport on
+// top, so an import stores nothing an entry could not; run codes follow
+// ValidateCode and code counters ParseCounter (code.go).
+//
+// Access: a back end opened read-only never migrates or writes, and its
+// write methods fail with ErrReadOnly; a write the database refuses for
+// lack of rights is a *PermissionError whose Hint names what is missing.
+//
+// Entry points: RunLog, Copier, RunRecord, ParseOutcome, ValidateCode,
+// Best, Rank, WriteJSON, ReadJSON, WriteCSV, ReadCSV.
 package store

@@ -1,6 +1,7 @@
 package store
 
 import (
+	"bytes"
 	"context"
 	"encoding/csv"
 	"encoding/json"
@@ -39,10 +40,49 @@ const (
 )
 
 type jsonHeader struct {
-	Format    string      `json:"format"`
-	Version   int         `json:"version"`
-	Runs      []RunRecord `json:"runs"`
-	Snapshots []Snapshot  `json:"snapshots"`
+	Format    string          `json:"format"`
+	Version   int             `json:"version"`
+	Runs      json.RawMessage `json:"runs"`
+	Snapshots []Snapshot      `json:"snapshots"`
+}
+
+// givenTimes are the times of a run as written in the JSON: a pointer is
+// set when the key is there, so a time written as 0001-01-01T00:00:00Z
+// (which decodes to the zero time, "not given") is told from one left out.
+type givenTimes struct {
+	Started, Ended, Created *time.Time
+	Notes                   []struct{ At *time.Time }
+	Outcomes                []struct{ Measured *time.Time }
+	Attachments             []struct{ Added *time.Time }
+}
+
+// zeroTime names the first time of the run written as the zero time.
+func (g givenTimes) zeroTime() string {
+	zero := func(t *time.Time) bool { return t != nil && t.IsZero() }
+	switch {
+	case zero(g.Started):
+		return "started"
+	case zero(g.Ended):
+		return "ended"
+	case zero(g.Created):
+		return "created"
+	}
+	for i, n := range g.Notes {
+		if zero(n.At) {
+			return fmt.Sprintf("notes[%d].at", i)
+		}
+	}
+	for i, o := range g.Outcomes {
+		if zero(o.Measured) {
+			return fmt.Sprintf("outcomes[%d].measured", i)
+		}
+	}
+	for i, a := range g.Attachments {
+		if zero(a.Added) {
+			return fmt.Sprintf("attachments[%d].added", i)
+		}
+	}
+	return ""
 }
 
 // WriteJSON writes the runs that pass the filter, and their snapshots, as
@@ -98,8 +138,10 @@ func WriteJSON(ctx context.Context, w io.Writer, log RunLog, f Filter) (int, err
 	return n, err
 }
 
-// ReadJSON reads a JSON export. It checks the format and version and that
-// every snapshot's content matches its hash; Import checks the rest.
+// ReadJSON reads a JSON export. It checks the format and version, that
+// the document is all there is (trailing data is refused), that no time
+// is written as the zero time (0001-01-01) and that every snapshot's
+// content matches its hash; Import checks the rest (Bundle.ValidateImport).
 func ReadJSON(r io.Reader) (Bundle, error) {
 	var h jsonHeader
 	dec := json.NewDecoder(r)
@@ -110,18 +152,40 @@ func ReadJSON(r io.Reader) (Bundle, error) {
 		}
 		return Bundle{}, fmt.Errorf("read runs JSON: %v: %w", err, ErrInvalid)
 	}
+	end := dec.InputOffset()
+	if _, err := dec.Token(); !errors.Is(err, io.EOF) {
+		return Bundle{}, fmt.Errorf("read runs JSON: trailing data after the document's closing brace at byte %d: %w", end, ErrInvalid)
+	}
 	if h.Format != JSONFormat {
 		return Bundle{}, fmt.Errorf("read runs JSON: format %q, want %q (a file written by foilrun runs export --format json): %w", h.Format, JSONFormat, ErrInvalid)
 	}
 	if h.Version < 1 || h.Version > JSONVersion {
 		return Bundle{}, fmt.Errorf("read runs JSON: version %d, this foilrun reads 1 to %d: %w", h.Version, JSONVersion, ErrInvalid)
 	}
+	var runs []RunRecord
+	var given []givenTimes
+	if len(h.Runs) > 0 {
+		rd := json.NewDecoder(bytes.NewReader(h.Runs))
+		rd.DisallowUnknownFields()
+		if err := rd.Decode(&runs); err != nil {
+			return Bundle{}, fmt.Errorf("read runs JSON: runs: %v: %w", err, ErrInvalid)
+		}
+		if err := json.Unmarshal(h.Runs, &given); err != nil {
+			return Bundle{}, fmt.Errorf("read runs JSON: runs: %v: %w", err, ErrInvalid)
+		}
+	}
+	for i, g := range given {
+		if f := g.zeroTime(); f != "" {
+			return Bundle{}, fmt.Errorf("read runs JSON: run %d (%s): %s: 0001-01-01T00:00:00Z is no date; give the real one or leave the field out: %w",
+				i+1, runLabel(runs[i].Code), f, ErrInvalid)
+		}
+	}
 	for _, s := range h.Snapshots {
 		if err := s.Verify(); err != nil {
 			return Bundle{}, fmt.Errorf("read runs JSON: %v: %w", err, ErrInvalid)
 		}
 	}
-	return Bundle{Snapshots: h.Snapshots, Runs: h.Runs}, nil
+	return Bundle{Snapshots: h.Snapshots, Runs: runs}, nil
 }
 
 // runColumns are the CSV columns of a run, in order.
@@ -304,6 +368,9 @@ func ReadCSV(r io.Reader) (Bundle, error) {
 				v, err := strconv.ParseFloat(cell, 64)
 				if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
 					return Bundle{}, at("%q is not a finite number", cell)
+				}
+				if err := CheckParam(c.param, v); err != nil {
+					return Bundle{}, at("%v", err)
 				}
 				rec.Params[c.param] = v
 			default:

@@ -28,19 +28,44 @@ type MetricInfo struct {
 // bare number. Every other unit of the metric's dimension is accepted too.
 func (m MetricInfo) Units() []string { return append([]string(nil), m.units...) }
 
+// Bounds of the metric ranges that have no natural upper end. They are
+// generous physical limits, there so that every stored value is finite
+// and a mean of any number of them stays finite (1e308 outcomes once
+// averaged to +Inf):
+//
+//   - maxNucleiDensity: one nucleus per carbon atom of a graphene sheet,
+//     2 atoms per hexagonal cell of area (√3/2)·a², a = 0.246 nm (the
+//     graphene lattice constant, from memory; common textbook value):
+//     3.8e19 /m² = 3.8e13 /mm²;
+//   - maxDomainSize: 1 m = 1e6 µm, larger than any foil a tube furnace holds;
+//   - maxRamanRatio: 1000 (measured 2D/G and D/G ratios are below 10;
+//     common practice);
+//   - maxSheetResistance: 1e15 Ω/sq, an insulator;
+//   - MaxFreeValue: the magnitude bound of a free-form metric's value.
+const (
+	maxNucleiDensity   = 3.8e13
+	maxDomainSize      = 1e6
+	maxRamanRatio      = 1000
+	maxSheetResistance = 1e15
+	// MaxFreeValue bounds the magnitude of a free-form metric's value (and
+	// of a parameter foilrun does not know): finite, and a mean of up to
+	// 1e290 of them stays finite.
+	MaxFreeValue = 1e15
+)
+
 // metrics are the known outcome metrics. Their canonical units are those
 // the log has always stored them in, so stored values keep their meaning.
 var metrics = []MetricInfo{
 	{Name: "coverage", Unit: "1", Dim: recipe.Fraction, Description: "area fraction of the foil covered by graphene", Min: 0, Max: 1,
 		units: []string{"(none)", "%", "ppm"}},
-	{Name: "nuclei_density", Unit: "1/mm2", Dim: recipe.AreaDensity, Description: "domains (nuclei) per area", Min: 0, LowerBetter: true, Max: math.Inf(1),
+	{Name: "nuclei_density", Unit: "1/mm2", Dim: recipe.AreaDensity, Description: "domains (nuclei) per area", Min: 0, LowerBetter: true, Max: maxNucleiDensity,
 		units: []string{"1/mm2", "/mm2", "mm-2", "/cm2", "/um2", "/m2"}},
-	{Name: "domain_size", Unit: "um", Dim: recipe.Length, Description: "typical domain size (area-equivalent diameter)", Min: 0, Max: math.Inf(1),
+	{Name: "domain_size", Unit: "um", Dim: recipe.Length, Description: "typical domain size (area-equivalent diameter)", Min: 0, Max: maxDomainSize,
 		units: []string{"um", "µm", "nm", "mm", "m"}},
 	{Name: "layers", Unit: "1", Dim: recipe.Dimensionless, Description: "number of graphene layers", Min: 0, Max: 100, units: []string{"(none)"}},
-	{Name: "raman_2d_g", Unit: "1", Dim: recipe.Dimensionless, Description: "Raman 2D/G intensity ratio", Min: 0, Max: math.Inf(1), units: []string{"(none)"}},
-	{Name: "raman_d_g", Unit: "1", Dim: recipe.Dimensionless, Description: "Raman D/G intensity ratio", Min: 0, LowerBetter: true, Max: math.Inf(1), units: []string{"(none)"}},
-	{Name: "sheet_resistance", Unit: "ohm/sq", Dim: recipe.SheetResistance, Description: "sheet resistance after transfer", Min: 0, LowerBetter: true, Max: math.Inf(1),
+	{Name: "raman_2d_g", Unit: "1", Dim: recipe.Dimensionless, Description: "Raman 2D/G intensity ratio", Min: 0, Max: maxRamanRatio, units: []string{"(none)"}},
+	{Name: "raman_d_g", Unit: "1", Dim: recipe.Dimensionless, Description: "Raman D/G intensity ratio", Min: 0, LowerBetter: true, Max: maxRamanRatio, units: []string{"(none)"}},
+	{Name: "sheet_resistance", Unit: "ohm/sq", Dim: recipe.SheetResistance, Description: "sheet resistance after transfer", Min: 0, LowerBetter: true, Max: maxSheetResistance,
 		units: []string{"ohm/sq", "Ω/sq", "kohm/sq", "kΩ/sq"}},
 	{Name: "transmittance_550", Unit: "1", Dim: recipe.Fraction, Description: "optical transmittance at 550 nm", Min: 0, Max: 1,
 		units: []string{"(none)", "%", "ppm"}},
@@ -92,6 +117,9 @@ func ParseOutcome(s string, isParam func(string) bool) (Outcome, error) {
 		o.Value, o.Unit = v, unit
 		if o.Unit == "" {
 			o.Unit = "1"
+		}
+		if err := checkFreeOutcome(o); err != nil {
+			return Outcome{}, fmt.Errorf("outcome %q: %v: %w", s, err, ErrInvalid)
 		}
 		return o, nil
 	}

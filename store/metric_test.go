@@ -45,7 +45,12 @@ func TestParseOutcome(t *testing.T) {
 		{"flow as a fraction", "coverage=5sccm", 0, "", `coverage is a fraction (a bare number or a percentage), not "sccm" (units: (none), %, ppm)`},
 		{"percentage without %", "coverage=93", 0, "", "write 93% for a percentage"},
 		{"above 100 %", "coverage=120%", 0, "", "coverage 1.2 1 is outside 0 to 1"},
-		{"negative size", "domain_size=-3 um", 0, "", "outside 0 to +Inf"},
+		{"negative size", "domain_size=-3 um", 0, "", "domain_size -3 um is outside 0 to 1e+06"},
+		// 1e308 of anything once averaged to +Inf; the bounds are physical
+		// (store/metric.go names their sources)
+		{"1e20 density", "nuclei_density=1e20/mm2", 0, "", "nuclei_density 1e+20 1/mm2 is outside 0 to 3.8e+13"},
+		{"1e308 size", "domain_size=1e308um", 0, "", "is outside 0 to 1e+06"},
+		{"1e308 free-form", "peak_shift=1e308 cm-1", 0, "", "peak_shift 1e+308 is not a finite number within ±1e+15"},
 		{"too large in SI", "nuclei_density=1e303 /um2", 0, "", "too large"},
 		{"no value", "coverage", 0, "", "want metric=value[unit]"},
 		{"not a number", "coverage=high", 0, "", "not a finite number"},

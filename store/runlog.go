@@ -3,6 +3,7 @@ package store
 import (
 	"context"
 	"errors"
+	"fmt"
 	"io"
 )
 
@@ -113,4 +114,29 @@ var (
 	// ErrConflict: the write clashes with what is logged (a code already
 	// used, a run already finished).
 	ErrConflict = errors.New("conflict")
+	// ErrSchemaBehind: the database's schema is older than this foilrun's
+	// and the log was opened for reading, which never migrates.
+	ErrSchemaBehind = errors.New("database schema is older than this foilrun")
+	// ErrReadOnly: the log was opened for reading only, or the database
+	// refused a write for lack of rights (then as a *PermissionError).
+	ErrReadOnly = errors.New("the run log is read-only")
 )
+
+// PermissionError is a write the database refused for lack of rights: a
+// read-only file, a role without the privilege, a read-only server. It
+// matches ErrReadOnly (errors.Is) and its Hint names what is needed.
+type PermissionError struct {
+	Op   string // what was refused, e.g. "log the run"
+	Need string // the privilege or permission that is missing
+	Err  error  // the database's own error
+}
+
+func (e *PermissionError) Error() string {
+	return fmt.Sprintf("%s: the database refused the write: %v", e.Op, e.Err)
+}
+
+// Unwrap returns the database's error and ErrReadOnly.
+func (e *PermissionError) Unwrap() []error { return []error{e.Err, ErrReadOnly} }
+
+// Hint names the privilege or permission that is missing.
+func (e *PermissionError) Hint() string { return "this needs " + e.Need }

@@ -70,10 +70,69 @@ func TestCodes(t *testing.T) {
 	if !ok || c != "run-2026" || n != 42 {
 		t.Errorf("ParseCode(G26-0042) = %q %d %v", c, n, ok)
 	}
-	for _, bad := range []string{"G26-", "X26-0001", "G2a-0001", "G26-00-1", "G26+0001"} {
+	for _, bad := range []string{"G26-", "X26-0001", "G2a-0001", "G26-00-1", "G26+0001", "G26-9223372036854775807", "G26-1000000", "G26-00042", "G26-0000"} {
 		if _, _, ok := ParseCode(bad); ok {
 			t.Errorf("ParseCode(%q) ok, want not", bad)
 		}
+	}
+}
+
+// TestValidateCode: the code pattern, and for codes of our shape a
+// four-to-six-digit number from 1 to 999999 written without extra zeros.
+func TestValidateCode(t *testing.T) {
+	tests := []struct{ name, code, err string }{
+		{"ours", "G26-0001", ""},
+		{"six digits", "G26-999999", ""},
+		{"another lab's", "LAB-7", ""},
+		{"dots and underscores", "cvd_2024.17", ""},
+		{"largest int64", "G26-9223372036854775807", `has 19 digits, want 4 to 6 (at most 999999)`},
+		{"seven digits", "G26-1000000", "has 7 digits"},
+		{"two digits", "G26-12", "has 2 digits"},
+		{"zero", "G26-0000", "numbered from 1"},
+		{"extra zeros", "G26-00042", "write it 0042"},
+		{"empty", "", "want 1 to 32 characters"},
+		{"too long", strings.Repeat("A", 33), "want 1 to 32 characters"},
+		{"right-to-left override", "G26-0001‮", "character U+202E at byte 9"},
+		{"escape", "G26[31m", "character U+001B at byte 4"},
+		{"space", "G26 0001", "character U+0020"},
+		{"leading dash", "-G26", "character U+002D at byte 1"},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			err := ValidateCode(tt.code)
+			if tt.err == "" && err != nil || tt.err != "" && (!errors.Is(err, ErrInvalid) || !strings.Contains(err.Error(), tt.err)) {
+				t.Errorf("ValidateCode(%q): got %v, want %q", tt.code, err, tt.err)
+			}
+		})
+	}
+}
+
+// TestParseCounter: a stored counter is a whole number from 0 to 999999;
+// what a float overflow, a huge bigint or text leaves is an error.
+func TestParseCounter(t *testing.T) {
+	tests := []struct {
+		name, in string
+		want     int64
+		ok       bool
+	}{
+		{"zero", "0", 0, true},
+		{"some", "42", 42, true},
+		{"largest", "999999", 999999, true},
+		{"one more", "1000000", 0, false},
+		{"largest bigint", "9223372036854775807", 0, false},
+		{"past int64", "9223372036854775808", 0, false},
+		{"float from SQLite's overflow", "9.22337203685478e+18", 0, false},
+		{"negative", "-1", 0, false},
+		{"text", "abc", 0, false},
+		{"empty", "", 0, false},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			got, err := ParseCounter(tt.in)
+			if (err == nil) != tt.ok || got != tt.want {
+				t.Errorf("ParseCounter(%q): got %d, %v; want %d, ok %v", tt.in, got, err, tt.want, tt.ok)
+			}
+		})
 	}
 }
 
@@ -86,6 +145,10 @@ func TestReadCSVErrors(t *testing.T) {
 		{"bad status", "code,status\nG26-0001,finished\n", `status "finished"`},
 		{"short row", "code,status\nG26-0001\n", "wrong number of fields"},
 		{"repeat", "code,lot,lot\n", "repeats column 2"},
+		{"temperature below 0 K", "code,growth_temperature_c\nG26-0001,-99999\n", `line 2 col 2 (growth_temperature_c): -99999 is out of range: want above -273.15`},
+		{"negative flow", "code,ch4_flow_sccm\nG26-0001,-1\n", `line 2 col 2 (ch4_flow_sccm): -1 is out of range: want 0 to`},
+		{"duration over 7 days", "code,growth_time_min\nG26-0001,20000\n", `20000 is out of range: want 0 to 10080 (min, up to 7 days)`},
+		{"huge free metric", "code,peak_shift [cm-1]\nG26-0001,1e308\n", `peak_shift 1e+308 is not a finite number within ±1e+15`},
 	}
 	for _, tt := range tests {
 		_, err := ReadCSV(strings.NewReader(tt.in))

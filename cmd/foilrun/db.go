@@ -16,9 +16,9 @@ import (
 func newDBCmd(f *factory) *cobra.Command {
 	cmd := &cobra.Command{
 		Use:   "db",
-		Short: "Look after the run-log database: backup, check, copy",
+		Short: "Look after the run-log database: backup, check, copy, migrate",
 	}
-	cmd.AddCommand(newDBBackupCmd(f), newDBCheckCmd(f), newDBCopyCmd(f))
+	cmd.AddCommand(newDBBackupCmd(f), newDBCheckCmd(f), newDBCopyCmd(f), newDBMigrateCmd(f))
 	return cmd
 }
 
@@ -133,12 +133,12 @@ func dbCopyRun(ctx context.Context, o *dbCopyOptions) error {
 		_, err := os.Stat(o.to)
 		created = errors.Is(err, fs.ErrNotExist)
 	}
-	src, err := openLog(ctx, o.from)
+	src, err := openLog(ctx, o.from, false)
 	if err != nil {
 		return err
 	}
 	defer src.Close()
-	dst, err := openLog(ctx, o.to)
+	dst, err := openLog(ctx, o.to, true)
 	if err != nil {
 		return err
 	}
@@ -169,5 +169,44 @@ func dbCopyRun(ctx context.Context, o *dbCopyOptions) error {
 	}
 	fmt.Fprintf(o.f.io.Err, "copied %d runs and %d recipe snapshots from %s to %s\n", dg.Counts["runs"], dg.Counts["snapshots"], shown(o.from), shown(o.to))
 	fmt.Fprintf(o.f.io.Err, "verified: row counts equal in %d tables, content sha256 %s on both sides\n", len(dg.Counts), dg.SHA256)
+	return nil
+}
+
+type dbMigrateOptions struct{ f *factory }
+
+func newDBMigrateCmd(f *factory) *cobra.Command {
+	opts := &dbMigrateOptions{f: f}
+	return &cobra.Command{
+		Use:   "migrate",
+		Short: "Bring the run log's schema up to this foilrun's version",
+		Long: `Bring the run log's schema up to this foilrun's version, one numbered migration
+per transaction. Commands that only read never migrate; commands that log
+migrate first. On PostgreSQL, run this as the role that owns the tables (it
+needs CREATE on the schema); readers and writers need no such right.`,
+		Args: cobra.NoArgs,
+		RunE: func(cmd *cobra.Command, args []string) error {
+			return dbMigrateRun(cmd.Context(), opts)
+		},
+	}
+}
+
+func dbMigrateRun(ctx context.Context, o *dbMigrateOptions) error {
+	l, err := o.f.writeLog(ctx)
+	if err != nil {
+		return err
+	}
+	v, err := l.SchemaVersion(ctx)
+	if err != nil {
+		return err
+	}
+	from := v
+	if m, ok := l.(interface{ MigratedFrom() int }); ok {
+		from = m.MigratedFrom()
+	}
+	if from == v {
+		fmt.Fprintf(o.f.io.Err, "schema version %d: up to date\n", v)
+		return nil
+	}
+	fmt.Fprintf(o.f.io.Err, "schema migrated from version %d to %d\n", from, v)
 	return nil
 }

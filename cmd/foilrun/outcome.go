@@ -76,7 +76,7 @@ func outcomeAddRun(ctx context.Context, o *outcomeAddOptions) error {
 		oc.Method, oc.Measured = o.method, at
 		os = append(os, oc)
 	}
-	l, err := o.f.runLog(ctx)
+	l, err := o.f.writeLog(ctx)
 	if err != nil {
 		return err
 	}
@@ -175,7 +175,7 @@ func outcomeMeasureRun(ctx context.Context, o *outcomeMeasureOptions) error {
 		return err
 	}
 	ms, lines = append(ms, fm...), fl
-	l, err := o.f.runLog(ctx)
+	l, err := o.f.writeLog(ctx)
 	if err != nil {
 		return err
 	}

@@ -113,7 +113,7 @@ func runStartRun(ctx context.Context, o *runOptions) error {
 		}
 	}
 	snap := store.NewSnapshot(plan.Recipe.Name, o.recipe, data)
-	l, err := o.f.runLog(ctx)
+	l, err := o.f.writeLog(ctx)
 	if err != nil {
 		return err
 	}
@@ -237,7 +237,7 @@ func newRunNoteCmd(f *factory) *cobra.Command {
 }
 
 func runNoteRun(ctx context.Context, o *runNoteOptions) error {
-	l, err := o.f.runLog(ctx)
+	l, err := o.f.writeLog(ctx)
 	if err != nil {
 		return err
 	}
@@ -276,7 +276,7 @@ func newRunFinishCmd(f *factory) *cobra.Command {
 }
 
 func runFinishRun(ctx context.Context, o *runFinishOptions) error {
-	l, err := o.f.runLog(ctx)
+	l, err := o.f.writeLog(ctx)
 	if err != nil {
 		return err
 	}

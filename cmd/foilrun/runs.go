@@ -465,7 +465,7 @@ func runsImportRun(ctx context.Context, o *runsImportOptions) error {
 	if err != nil {
 		return fmt.Errorf("import %q: %w", o.file, err)
 	}
-	l, err := o.f.runLog(ctx)
+	l, err := o.f.writeLog(ctx)
 	if err != nil {
 		return err
 	}

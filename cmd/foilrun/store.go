@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"io/fs"
 	"os"
 	"path/filepath"
 
@@ -35,55 +36,88 @@ func (f *factory) dbPath() (string, error) {
 	return filepath.Join(dir, "foilrun", "runs.db"), nil
 }
 
-// runLog opens the run log on first use and registers its Close.
+// runLog opens the run log for reading on first use and registers its
+// Close: commands that only read (runs list/best/rank/export, run show,
+// fit, db check, db backup) never migrate or write, so they work on a
+// read-only file (opened with mode=ro) and with a PostgreSQL role that
+// has only SELECT.
 func (f *factory) runLog(ctx context.Context) (store.RunLog, error) {
+	return f.openRunLog(ctx, false)
+}
+
+// writeLog opens the run log for writing (migrating a schema behind the
+// latest) on first use: run start/add/note/finish, outcome add/measure,
+// runs import. A log already opened for reading is closed and opened
+// again for writing.
+func (f *factory) writeLog(ctx context.Context) (store.RunLog, error) {
+	return f.openRunLog(ctx, true)
+}
+
+func (f *factory) openRunLog(ctx context.Context, write bool) (store.RunLog, error) {
 	if f.log != nil {
-		return f.log, nil
+		if ro, ok := f.log.(interface{ ReadOnly() bool }); !write || !ok || !ro.ReadOnly() {
+			return f.log, nil
+		}
+		if err := f.log.Close(); err != nil {
+			return nil, err
+		}
+		f.log = nil
 	}
 	path, err := f.dbPath()
 	if err != nil {
 		return nil, err
 	}
-	l, err := openLog(ctx, path)
+	l, err := openLog(ctx, path, write)
 	if err != nil {
 		return nil, err
 	}
 	f.log = l
 	f.closers = append(f.closers, func() error {
+		if f.log != l {
+			return nil // closed already, replaced by a log opened for writing
+		}
 		f.log = nil
 		return l.Close()
 	})
 	return l, nil
 }
 
-// openLog opens the run log at target: a PostgreSQL database for a
-// postgres:// or postgresql:// URL, else a SQLite file (its folder made
-// when missing). Connection errors get a hint; none shows a password.
-func openLog(ctx context.Context, target string) (store.RunLog, error) {
-	if postgres.IsURL(target) {
-		l, err := postgres.Open(ctx, target)
-		switch {
-		case errors.Is(err, postgres.ErrUnreachable):
-			return nil, withHint(err, "check the host, port or socket folder in the URL, that the server runs and that this machine may reach it")
-		case errors.Is(err, postgres.ErrAuth):
-			return nil, withHint(err, "check the user name and password in the URL (or in ~/.pgpass); the lab's database administrator can reset them")
-		case errors.Is(err, postgres.ErrNoDatabase):
-			return nil, withHint(err, "create the database first (createdb NAME) or correct its name in the URL")
-		case errors.Is(err, store.ErrSchemaTooNew):
-			return nil, withHint(err, "a newer foilrun wrote this database; update foilrun on this machine")
-		case err != nil:
-			return nil, err
-		}
-		return l, nil
+// openLog opens the run log at target, for writing or for reading only:
+// a PostgreSQL database for a postgres:// or postgresql:// URL, else a
+// SQLite file (for writing, its folder made when missing). Connection
+// errors get a hint; none shows a password.
+func openLog(ctx context.Context, target string, write bool) (store.RunLog, error) {
+	l, err := openTarget(ctx, target, write)
+	switch {
+	case errors.Is(err, postgres.ErrUnreachable):
+		return nil, withHint(err, "check the host, port or socket folder in the URL, that the server runs and that this machine may reach it")
+	case errors.Is(err, postgres.ErrAuth):
+		return nil, withHint(err, "check the user name and password in the URL (or in ~/.pgpass); the lab's database administrator can reset them")
+	case errors.Is(err, postgres.ErrNoDatabase):
+		return nil, withHint(err, "create the database first (createdb NAME) or correct its name in the URL")
+	case errors.Is(err, store.ErrSchemaTooNew):
+		return nil, withHint(err, "a newer foilrun wrote this database; update foilrun on this machine")
+	case errors.Is(err, store.ErrSchemaBehind):
+		return nil, withHint(err, "run foilrun db migrate once (as a user or role that may create tables); logging a run migrates too")
+	case errors.Is(err, fs.ErrNotExist):
+		return nil, withHint(fmt.Errorf("no run log at %s: %w", target, err), "log a run first (foilrun run add or run start), or give the log's file with --db or "+dbEnv)
+	}
+	return l, err
+}
+
+func openTarget(ctx context.Context, target string, write bool) (store.RunLog, error) {
+	switch {
+	case postgres.IsURL(target) && write:
+		return postgres.Open(ctx, target)
+	case postgres.IsURL(target):
+		return postgres.OpenReadOnly(ctx, target)
+	case !write:
+		return sqlite.OpenReadOnly(ctx, target)
 	}
 	if err := os.MkdirAll(filepath.Dir(target), 0o755); err != nil {
 		return nil, fmt.Errorf("run log: %w", err)
 	}
-	l, err := sqlite.Open(ctx, target)
-	if errors.Is(err, store.ErrSchemaTooNew) {
-		return nil, withHint(err, "a newer foilrun wrote this file; update foilrun on this machine")
-	}
-	return l, err
+	return sqlite.Open(ctx, target)
 }
 
 // shown is a database location as messages show it (passwords hidden).

@@ -13,7 +13,11 @@
 // orders loggers on every machine; migrations take an advisory lock per
 // schema, so processes that open a new database at once migrate it once.
 //
-// Entry points: Open, Redact.
+// Access: Open runs DDL only when the schema is behind; OpenReadOnly
+// needs nothing but SELECT on the run-log tables (README, "PostgreSQL
+// roles", lists the owner, writer and reader roles and their GRANTs).
+//
+// Entry points: Open, OpenReadOnly, Redact.
 package postgres
 
 import (
@@ -27,8 +31,9 @@ import (
 	"net/url"
 	"strings"
 
+	"github.com/jackc/pgx/v5"
 	"github.com/jackc/pgx/v5/pgconn"
-	_ "github.com/jackc/pgx/v5/stdlib" // registers driver "pgx"
+	"github.com/jackc/pgx/v5/stdlib" // also registers driver "pgx"
 
 	"github.com/foilrun/foilrun/store"
 	"github.com/foilrun/foilrun/store/sqldb"
@@ -63,21 +68,39 @@ func IsURL(s string) bool {
 	return strings.HasPrefix(s, "postgres://") || strings.HasPrefix(s, "postgresql://")
 }
 
-// Open connects to the database at the URL, migrates it to the latest
-// schema (or fails with store.ErrSchemaTooNew, changing nothing) and
-// returns the run log on it. Errors never show the password.
+// Open connects to the database at the URL for writing, migrates a schema
+// behind the latest (an up-to-date one is only read, so a role with
+// INSERT and UPDATE but no CREATE can log), or fails with
+// store.ErrSchemaTooNew, changing nothing, and returns the run log on it.
+// Errors never show the password.
 func Open(ctx context.Context, dbURL string) (*DB, error) {
+	return open(ctx, dbURL, sqldb.Options{})
+}
+
+// OpenReadOnly connects for reading only: every connection runs with
+// default_transaction_read_only on, the schema is never migrated (a
+// schema behind is store.ErrSchemaBehind), and only SELECT on the
+// run-log tables is needed. Write methods fail with store.ErrReadOnly.
+func OpenReadOnly(ctx context.Context, dbURL string) (*DB, error) {
+	return open(ctx, dbURL, sqldb.Options{ReadOnly: true})
+}
+
+func open(ctx context.Context, dbURL string, o sqldb.Options) (*DB, error) {
 	red := Redact(dbURL)
-	db, err := sql.Open("pgx", dbURL)
+	cfg, err := pgx.ParseConfig(dbURL)
 	if err != nil {
 		return nil, fmt.Errorf("open run log %s: %s", red, hide(err, dbURL))
 	}
+	if o.ReadOnly {
+		cfg.RuntimeParams["default_transaction_read_only"] = "on"
+	}
+	db := stdlib.OpenDB(*cfg)
 	db.SetMaxIdleConns(4)
 	if err := db.PingContext(ctx); err != nil {
 		db.Close()
 		return nil, fmt.Errorf("open run log %s: %w", red, classify(err, dbURL))
 	}
-	s, err := migrate(ctx, db)
+	s, err := migrate(ctx, db, o)
 	if err != nil {
 		db.Close()
 		return nil, fmt.Errorf("open run log %s: %w", red, classify(err, dbURL))
@@ -85,10 +108,25 @@ func Open(ctx context.Context, dbURL string) (*DB, error) {
 	return &DB{DB: s, URL: red}, nil
 }
 
-// migrate runs the migrations while holding an advisory lock on one
-// connection, so that processes opening the same new schema at once take
-// turns (CREATE TABLE IF NOT EXISTS alone races on PostgreSQL).
-func migrate(ctx context.Context, db *sql.DB) (*sqldb.DB, error) {
+// migrate opens the log; when the schema is behind and the log is opened
+// for writing it runs the migrations while holding an advisory lock on
+// one connection, so that processes opening the same new schema at once
+// take turns (CREATE TABLE IF NOT EXISTS alone races on PostgreSQL).
+func migrate(ctx context.Context, db *sql.DB, o sqldb.Options) (*sqldb.DB, error) {
+	var schema sql.NullString
+	if err := db.QueryRowContext(ctx, `SELECT current_schema()`).Scan(&schema); err != nil {
+		return nil, err
+	}
+	if !schema.Valid {
+		return nil, fmt.Errorf("no schema to read or create tables in (check search_path and that the schema exists)")
+	}
+	cur, latest, err := sqldb.Versions(ctx, db, dialect{})
+	if err != nil {
+		return nil, err
+	}
+	if o.ReadOnly || cur >= latest {
+		return sqldb.Open(ctx, db, dialect{}, o)
+	}
 	conn, err := db.Conn(ctx)
 	if err != nil {
 		return nil, err
@@ -99,14 +137,7 @@ func migrate(ctx context.Context, db *sql.DB) (*sqldb.DB, error) {
 		return nil, fmt.Errorf("migrate: lock: %w", err)
 	}
 	defer conn.ExecContext(context.WithoutCancel(ctx), `SELECT pg_advisory_unlock(`+key+`)`)
-	var schema sql.NullString
-	if err := conn.QueryRowContext(ctx, `SELECT current_schema()`).Scan(&schema); err != nil {
-		return nil, err
-	}
-	if !schema.Valid {
-		return nil, fmt.Errorf("migrate: no schema to create tables in (check search_path and that the schema exists)")
-	}
-	return sqldb.Open(ctx, db, dialect{})
+	return sqldb.Open(ctx, db, dialect{}, o)
 }
 
 // classify wraps a connection error with ErrUnreachable, ErrAuth or
@@ -127,7 +158,7 @@ func classify(err error, dbURL string) error {
 	if errors.As(err, &ne) || (errors.As(err, &ce) && pe == nil) {
 		return fmt.Errorf("%w: %s", ErrUnreachable, msg)
 	}
-	if errors.Is(err, store.ErrSchemaTooNew) {
+	if errors.Is(err, store.ErrSchemaTooNew) || errors.Is(err, store.ErrSchemaBehind) || errors.Is(err, store.ErrReadOnly) {
 		return err
 	}
 	return errors.New(msg)
@@ -184,6 +215,21 @@ type dialect struct{}
 func (dialect) Name() string      { return "postgres" }
 func (dialect) Migrations() fs.FS { f, _ := fs.Sub(migrationFiles, "migrations"); return f }
 func (dialect) MaxArgs() int      { return 65535 }
+
+// HasTable looks the table up on the search path (to_regclass).
+func (dialect) HasTable(ctx context.Context, q sqldb.Querier, name string) (bool, error) {
+	var ok bool
+	err := q.QueryRowContext(ctx, `SELECT to_regclass($1) IS NOT NULL`, name).Scan(&ok)
+	return ok, err
+}
+
+// Refused reports insufficient_privilege (42501) and
+// read_only_sql_transaction (25006): a role without the privilege, a
+// read-only transaction, role or standby server.
+func (dialect) Refused(err error) bool {
+	var pe *pgconn.PgError
+	return errors.As(err, &pe) && (pe.Code == "42501" || pe.Code == "25006")
+}
 
 // Rebind rewrites "?" placeholders to $1, $2, … outside quoted text and
 // identifiers.
@@ -251,9 +297,10 @@ func (dialect) Backup(ctx context.Context, db *sql.DB, path string) error {
 }
 
 // Check looks for what the server's constraints cannot catch: recipe
-// snapshots whose content no longer hashes to their key, code counters
-// behind the codes logged, and invalid indexes left by an interrupted
-// build. (Foreign keys and unique codes the server enforces itself.)
+// snapshots whose content no longer hashes to their key and invalid
+// indexes left by an interrupted build. (Foreign keys and unique codes the
+// server enforces itself; sqldb checks the codes and their counters on
+// every back end.)
 func (dialect) Check(ctx context.Context, db *sql.DB) ([]string, error) {
 	probs := []string{}
 	add := func(q string, format func(rows *sql.Rows) (string, error)) error {
@@ -275,18 +322,6 @@ func (dialect) Check(ctx context.Context, db *sql.DB) ([]string, error) {
 		var key, got string
 		err := rows.Scan(&key, &got)
 		return fmt.Sprintf("snapshot %.12s: content hashes to %.12s", key, got), err
-	})
-	if err != nil {
-		return nil, err
-	}
-	err = add(`SELECT c.name, c.value, m.n FROM counters c JOIN (
-			SELECT 'run-' || (2000 + CAST(substr(code, 2, 2) AS INTEGER)) AS name, MAX(CAST(substr(code, 5) AS BIGINT)) AS n
-			FROM runs WHERE code ~ '^G[0-9]{2}-[0-9]{4,18}$' GROUP BY 1) m ON m.name = c.name
-		WHERE c.value < m.n`, func(rows *sql.Rows) (string, error) {
-		var name string
-		var v, n int64
-		err := rows.Scan(&name, &v, &n)
-		return fmt.Sprintf("counter %s is at %d but a run with number %d is logged", name, v, n), err
 	})
 	if err != nil {
 		return nil, err

@@ -36,6 +36,57 @@ func Compile(e Expr, s Schema, src string) (string, []any, error) {
 	return b.String(), args, nil
 }
 
+// MaxComparisons bounds the comparisons of one filter, all its
+// expressions together: a hundred conditions is more than a person
+// writes, and far below what the databases refuse (SQLite's expression
+// depth of 1000, which 1,500 repeated --where flags once reached with a
+// raw message).
+const MaxComparisons = 100
+
+// Comparisons counts the comparisons in an expression.
+func Comparisons(e Expr) int {
+	switch e := e.(type) {
+	case *And:
+		return Comparisons(e.L) + Comparisons(e.R)
+	case *Or:
+		return Comparisons(e.L) + Comparisons(e.R)
+	case *Not:
+		return Comparisons(e.X)
+	}
+	return 1
+}
+
+// CompileAll parses and compiles the expressions of one filter (a run
+// passes when it passes all of them) into one SQL condition joined by
+// AND, with its arguments; "" for none. More than MaxComparisons
+// comparisons in all is an error that says how many there are.
+func CompileAll(srcs []string, s Schema) (string, []any, error) {
+	exprs := make([]Expr, len(srcs))
+	n := 0
+	for i, src := range srcs {
+		e, err := Parse(src)
+		if err != nil {
+			return "", nil, err
+		}
+		exprs[i] = e
+		if n += Comparisons(e); n > MaxComparisons {
+			return "", nil, fmt.Errorf("filter: more than %d comparisons in the %d expressions given (the first %d hold %d); combine them with \"or\"/\"and\" and fewer conditions",
+				MaxComparisons, len(srcs), i+1, n)
+		}
+	}
+	var parts []string
+	var args []any
+	for i, e := range exprs {
+		q, a, err := Compile(e, s, srcs[i])
+		if err != nil {
+			return "", nil, err
+		}
+		parts = append(parts, q)
+		args = append(args, a...)
+	}
+	return strings.Join(parts, " AND "), args, nil
+}
+
 // ParseCompile is Parse then Compile.
 func ParseCompile(src string, s Schema) (string, []any, error) {
 	e, err := Parse(src)

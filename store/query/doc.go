@@ -22,5 +22,5 @@
 // fixed text, every value and every parameter or metric name is a bound
 // argument. Errors give the column of the offending token.
 //
-// Entry points: Parse, Compile.
+// Entry points: Parse, Compile, CompileAll.
 package query

@@ -128,3 +128,37 @@ func FuzzParse(f *testing.F) {
 		}
 	})
 }
+
+// TestComparisonLimit: a filter of more than MaxComparisons comparisons,
+// whether many expressions or one long one, is refused with the count;
+// exactly MaxComparisons compiles.
+func TestComparisonLimit(t *testing.T) {
+	s := Schema{Metrics: map[string]bool{"coverage": true}, RunID: "r.id"}
+	many := func(n int) []string {
+		out := make([]string, n)
+		for i := range out {
+			out[i] = "coverage > 0"
+		}
+		return out
+	}
+	tests := []struct {
+		name string
+		srcs []string
+		err  string
+	}{
+		{"100 flags", many(MaxComparisons), ""},
+		{"1500 flags", many(1500), "more than 100 comparisons in the 1500 expressions given (the first 101 hold 101)"},
+		{"one long expression", []string{strings.Repeat("coverage > 0 or ", 120) + "coverage > 0"}, "more than 100 comparisons in the 1 expressions given (the first 1 hold 121)"},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			q, args, err := CompileAll(tt.srcs, s)
+			switch {
+			case tt.err == "" && (err != nil || len(args) != 2*MaxComparisons || strings.Count(q, "?") != len(args)):
+				t.Errorf("got %d arguments, %v; want %d and no error", len(args), err, 2*MaxComparisons)
+			case tt.err != "" && (err == nil || !strings.Contains(err.Error(), tt.err)):
+				t.Errorf("got %v, want an error containing %q", err, tt.err)
+			}
+		})
+	}
+}

@@ -8,7 +8,6 @@ import (
 	"encoding/json"
 	"fmt"
 	"hash"
-	"sort"
 
 	"github.com/foilrun/foilrun/store"
 )
@@ -105,7 +104,7 @@ func Copy(ctx context.Context, dst, src *DB, progress func(done, total int)) (st
 	}
 	w, err := dst.begin(ctx)
 	if err != nil {
-		return store.Digest{}, fmt.Errorf("copy: %w", err)
+		return store.Digest{}, fmt.Errorf("copy: %w", dst.refused("copy into the target", err))
 	}
 	defer w.rollback()
 	var runs, snaps int
@@ -190,9 +189,10 @@ func Copy(ctx context.Context, dst, src *DB, progress func(done, total int)) (st
 }
 
 // copyCounters carries the code counters over (each at least as far as
-// the codes copied already moved it).
+// the codes copied already moved it). A counter that holds no number in
+// range is left behind: the codes copied set the target's counter.
 func copyCounters(ctx context.Context, q Querier, w *writer) error {
-	rows, err := q.QueryContext(ctx, `SELECT name, value FROM counters`)
+	rows, err := q.QueryContext(ctx, `SELECT name, CAST(value AS TEXT) FROM counters ORDER BY name`)
 	if err != nil {
 		return err
 	}
@@ -202,18 +202,20 @@ func copyCounters(ctx context.Context, q Querier, w *writer) error {
 	}
 	var cs []counter
 	for rows.Next() {
-		var c counter
-		if err := rows.Scan(&c.name, &c.v); err != nil {
+		var name string
+		var stored sql.NullString
+		if err := rows.Scan(&name, &stored); err != nil {
 			rows.Close()
 			return err
 		}
-		cs = append(cs, c)
+		if v, err := store.ParseCounter(stored.String); err == nil {
+			cs = append(cs, counter{name, v})
+		}
 	}
 	rows.Close()
 	if err := rows.Err(); err != nil {
 		return err
 	}
-	sort.Slice(cs, func(i, j int) bool { return cs[i].name < cs[j].name })
 	for _, c := range cs {
 		if err := w.raiseCounter(ctx, c.name, c.v); err != nil {
 			return err

@@ -15,18 +15,92 @@ type DB struct {
 	db *sql.DB
 	d  Dialect
 	// Now is the clock for created and note times; time.Now by default.
-	Now func() time.Time
+	Now      func() time.Time
+	readOnly bool
+	from     int // schema version found at open
 }
 
 var _ store.RunLog = (*DB)(nil)
 
-// Open migrates db to the latest schema and returns the run log on it. It
-// takes ownership of db: Close closes it.
-func Open(ctx context.Context, db *sql.DB, d Dialect) (*DB, error) {
-	if err := Migrate(ctx, db, d, 0); err != nil {
+// Options say how a run log is opened. The zero value opens for writing.
+type Options struct {
+	// ReadOnly opens the log for reading only: the schema is read, never
+	// changed (a schema behind the latest is store.ErrSchemaBehind), and
+	// every write method fails with store.ErrReadOnly before it touches
+	// the database. A read-only open needs only SELECT on PostgreSQL.
+	ReadOnly bool
+}
+
+// Open returns the run log on db. Opened for writing, it migrates a
+// schema behind the latest (and runs no DDL on one that is up to date, so
+// a role that may write rows but not create tables can log); opened
+// read-only, it only reads the schema version. It takes ownership of db:
+// Close closes it.
+func Open(ctx context.Context, db *sql.DB, d Dialect, o Options) (*DB, error) {
+	cur, latest, err := Versions(ctx, db, d)
+	if err != nil {
 		return nil, err
 	}
-	return &DB{db: db, d: d, Now: time.Now}, nil
+	s := &DB{db: db, d: d, Now: time.Now, readOnly: o.ReadOnly, from: cur}
+	switch {
+	case cur > latest:
+		return nil, fmt.Errorf("database schema version %d, this foilrun knows up to %d: %w", cur, latest, store.ErrSchemaTooNew)
+	case cur == latest:
+		return s, nil
+	case o.ReadOnly && cur == 0:
+		return nil, fmt.Errorf("the database holds no run log yet (schema version 0, this foilrun needs %d): %w", latest, store.ErrSchemaBehind)
+	case o.ReadOnly:
+		return nil, fmt.Errorf("database schema version %d, this foilrun needs %d: %w", cur, latest, store.ErrSchemaBehind)
+	}
+	if err := Migrate(ctx, db, d, 0); err != nil {
+		return nil, s.refused("migrate the schema", err)
+	}
+	return s, nil
+}
+
+// Versions returns the database's schema version (0 for a database
+// without a run log) and the latest the dialect's migrations reach, with
+// SELECTs only.
+func Versions(ctx context.Context, db *sql.DB, d Dialect) (cur, latest int, err error) {
+	if latest, err = Latest(d); err != nil {
+		return 0, 0, err
+	}
+	ok, err := d.HasTable(ctx, db, "schema_version")
+	if err != nil {
+		return 0, 0, fmt.Errorf("read schema version: %w", err)
+	}
+	if !ok {
+		return 0, latest, nil
+	}
+	if cur, err = currentVersion(ctx, db, d); err != nil {
+		return 0, 0, fmt.Errorf("read schema version: %w", err)
+	}
+	return cur, latest, nil
+}
+
+// ReadOnly reports whether the log was opened for reading only.
+func (s *DB) ReadOnly() bool { return s.readOnly }
+
+// MigratedFrom returns the schema version the database had when it was
+// opened (SchemaVersion afterwards tells where a migration took it).
+func (s *DB) MigratedFrom() int { return s.from }
+
+// refused turns a write the database refused for lack of rights into a
+// store.PermissionError naming what is needed; other errors pass through.
+func (s *DB) refused(op string, err error) error {
+	if err == nil || !s.d.Refused(err) {
+		return err
+	}
+	need := "write access to the run log"
+	switch {
+	case s.d.Name() == "sqlite":
+		need = "write permission on the database file and on its folder (SQLite writes -wal and -shm files beside it)"
+	case op == "migrate the schema":
+		need = "the CREATE privilege on the schema (and ownership of its tables): run foilrun db migrate as the owner role"
+	default:
+		need = "INSERT and UPDATE on the run-log tables and USAGE on their sequences (the writer role), on a server that accepts writes"
+	}
+	return &store.PermissionError{Op: op, Need: need, Err: err}
 }
 
 // SQL returns the underlying database, for back-end specific tests.
@@ -70,9 +144,23 @@ func (s *DB) Backup(ctx context.Context, path string) error {
 	return s.d.Backup(ctx, s.db, path)
 }
 
-// Check runs the back end's integrity checks.
+// Check runs the back end's integrity checks, then checks the run codes
+// and their counters (see checkCodes).
 func (s *DB) Check(ctx context.Context) ([]string, error) {
-	return s.d.Check(ctx, s.db)
+	probs, err := s.d.Check(ctx, s.db)
+	if err != nil {
+		return nil, err
+	}
+	codes, err := checkCodes(ctx, s.db)
+	return append(probs, codes...), err
+}
+
+// writable returns store.ErrReadOnly for a log opened read-only.
+func (s *DB) writable(op string) error {
+	if s.readOnly {
+		return fmt.Errorf("%s: the run log was opened for reading only: %w", op, store.ErrReadOnly)
+	}
+	return nil
 }
 
 func (s *DB) now() time.Time { return s.Now().UTC() }

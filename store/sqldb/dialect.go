@@ -35,4 +35,10 @@ type Dialect interface {
 	Bulk(ctx context.Context, tx *sql.Tx, runs int) (end func(context.Context) error, err error)
 	// MaxArgs is the most bound arguments one statement may take.
 	MaxArgs() int
+	// HasTable reports whether the table exists (in the current schema).
+	HasTable(ctx context.Context, q Querier, name string) (bool, error)
+	// Refused reports whether err is the database refusing a write for
+	// lack of rights: a read-only file, a role without the privilege, a
+	// read-only transaction or server.
+	Refused(err error) bool
 }

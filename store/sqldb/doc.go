@@ -11,5 +11,10 @@
 // Times are stored as fixed-width UTC text (2006-01-02T15:04:05.000000Z),
 // so they sort as text; missing numbers and times are NULL.
 //
-// Entry points: Open, Migrate, Latest, Copy.
+// Opening: Open with Options{ReadOnly: true} reads the schema version and
+// nothing else (no migration, every write refused with store.ErrReadOnly);
+// opened for writing, it migrates only a schema that is behind. Run-code
+// counters are read as text with range checks (counter.go).
+//
+// Entry points: Open, Options, Versions, Migrate, Latest, Copy.
 package sqldb

@@ -63,14 +63,12 @@ func (s *DB) where(ctx context.Context, q Querier, f store.Filter, extra string)
 		if err != nil {
 			return "", nil, err
 		}
-		for _, w := range f.Where {
-			sqlText, a, err := query.ParseCompile(w, sch)
-			if err != nil {
-				return "", nil, fmt.Errorf("%w: %w", err, store.ErrInvalid)
-			}
-			parts = append(parts, sqlText)
-			args = append(args, a...)
+		sqlText, a, err := query.CompileAll(f.Where, sch)
+		if err != nil {
+			return "", nil, fmt.Errorf("%w: %w", err, store.ErrInvalid)
 		}
+		parts = append(parts, sqlText)
+		args = append(args, a...)
 	}
 	if len(parts) == 0 {
 		return "", nil, nil

@@ -5,7 +5,6 @@ import (
 	"database/sql"
 	"errors"
 	"fmt"
-	"math"
 	"sort"
 	"strings"
 
@@ -28,6 +27,9 @@ type writer struct {
 }
 
 func (s *DB) begin(ctx context.Context) (*writer, error) {
+	if err := s.writable("write"); err != nil {
+		return nil, err
+	}
 	tx, err := s.db.BeginTx(ctx, nil)
 	if err != nil {
 		return nil, err
@@ -108,9 +110,6 @@ func (w *writer) register(ctx context.Context, name, kind, unit string) error {
 	if kind == store.NameMetric && recipe.IsParameter(name) {
 		return fmt.Errorf("%q is a recipe parameter, not a measured outcome: %w", name, store.ErrInvalid)
 	}
-	if kind == store.NameParam && (name == "" || strings.ContainsAny(name, " \t\n")) {
-		return fmt.Errorf("parameter name %q: want a snake-case name: %w", name, store.ErrInvalid)
-	}
 	w.names[name] = store.Name{Name: name, Kind: kind, Unit: unit}
 	return w.newNames.add(ctx, name, kind, unit)
 }
@@ -124,28 +123,6 @@ func (w *writer) runID(ctx context.Context, code string) (int64, store.Status, e
 		return 0, "", fmt.Errorf("run %q: %w", code, store.ErrNotFound)
 	}
 	return id, store.Status(st), err
-}
-
-// reserveCodes takes the next k numbers of the year's counter with one
-// upsert, in the writer's transaction (on PostgreSQL the row stays locked
-// until the transaction ends, so other loggers wait; on SQLite the whole
-// database is), and returns the first.
-func (w *writer) reserveCodes(ctx context.Context, counter string, k int) (int64, error) {
-	var last int64
-	err := w.tx.QueryRowContext(ctx, w.s.d.Rebind(`INSERT INTO counters (name, value) VALUES (?, ?)
-		ON CONFLICT (name) DO UPDATE SET value = counters.value + excluded.value RETURNING value`), counter, k).Scan(&last)
-	if err != nil {
-		return 0, fmt.Errorf("next run code: %w", err)
-	}
-	return last - int64(k) + 1, nil
-}
-
-// raiseCounter makes sure a counter is at least n (imported and copied
-// codes move it on).
-func (w *writer) raiseCounter(ctx context.Context, counter string, n int64) error {
-	_, err := w.tx.ExecContext(ctx, w.s.d.Rebind(`INSERT INTO counters (name, value) VALUES (?, ?)
-		ON CONFLICT (name) DO UPDATE SET value = CASE WHEN excluded.value > counters.value THEN excluded.value ELSE counters.value END`), counter, n)
-	return err
 }
 
 func (w *writer) putSnapshot(ctx context.Context, sn store.Snapshot) error {
@@ -196,11 +173,11 @@ type queued struct {
 // queue checks a run and everything in it and queues it for writing; a
 // full queue is written (flushRuns).
 func (w *writer) queue(ctx context.Context, rec store.RunRecord) error {
+	if err := rec.Validate(w.s.now()); err != nil {
+		return err
+	}
 	if rec.Status == "" {
 		rec.Status = store.Running
-	}
-	if !rec.Status.Valid() {
-		return fmt.Errorf("run %q: status %q: want planned, running, done or aborted: %w", rec.Code, rec.Status, store.ErrInvalid)
 	}
 	if rec.RecipeHash != "" {
 		ok, err := w.haveSnapshot(ctx, rec.RecipeHash)
@@ -211,10 +188,7 @@ func (w *writer) queue(ctx context.Context, rec store.RunRecord) error {
 			return fmt.Errorf("run %q: recipe snapshot %.12s is neither given nor in the log: %w", rec.Code, rec.RecipeHash, store.ErrInvalid)
 		}
 	}
-	for name, v := range rec.Params {
-		if math.IsNaN(v) || math.IsInf(v, 0) {
-			continue
-		}
+	for name := range rec.Params {
 		if err := w.register(ctx, name, store.NameParam, ""); err != nil {
 			return fmt.Errorf("run %q: %w", rec.Code, err)
 		}
@@ -354,9 +328,6 @@ func (w *writer) runStmt(ctx context.Context, n int) (*sql.Stmt, error) {
 // addRows queues the rows of a run just inserted with the id.
 func (w *writer) addRows(ctx context.Context, id int64, rec store.RunRecord) error {
 	for name, v := range rec.Params {
-		if math.IsNaN(v) || math.IsInf(v, 0) {
-			continue
-		}
 		if err := w.params.add(ctx, id, name, v); err != nil {
 			return err
 		}
@@ -383,6 +354,9 @@ func (w *writer) addRows(ctx context.Context, id int64, rec store.RunRecord) err
 }
 
 func (w *writer) addNote(ctx context.Context, id int64, n store.Note) error {
+	if err := n.Validate(w.s.now()); err != nil {
+		return fmt.Errorf("note: %v: %w", err, store.ErrInvalid)
+	}
 	at := n.At
 	if at.IsZero() {
 		at = w.s.now()
@@ -390,15 +364,13 @@ func (w *writer) addNote(ctx context.Context, id int64, n store.Note) error {
 	return w.notes.add(ctx, id, formatTime(at), n.Text)
 }
 
-// checkOutcomes checks outcomes (finite values, known metrics in their
-// unit, one unit per metric) and registers new metric names.
+// checkOutcomes checks outcomes (store.Outcome.Validate: names, finite
+// values in range, known metrics in their unit; one unit per metric) and
+// registers new metric names.
 func (w *writer) checkOutcomes(ctx context.Context, code string, os []store.Outcome) error {
 	for _, o := range os {
-		if math.IsNaN(o.Value) || math.IsInf(o.Value, 0) {
-			return fmt.Errorf("run %q: outcome %s: value %g is not finite: %w", code, o.Metric, o.Value, store.ErrInvalid)
-		}
-		if m, ok := store.MetricByName(o.Metric); ok && o.Unit != m.Unit {
-			return fmt.Errorf("run %q: outcome %s is in %s, not %q: %w", code, o.Metric, m.Unit, o.Unit, store.ErrInvalid)
+		if err := o.Validate(w.s.now()); err != nil {
+			return fmt.Errorf("run %q: outcome %s: %v: %w", code, o.Metric, err, store.ErrInvalid)
 		}
 		if err := w.register(ctx, o.Metric, store.NameMetric, o.Unit); err != nil {
 			return fmt.Errorf("run %q: %w", code, err)
@@ -436,8 +408,8 @@ func (w *writer) addActuals(ctx context.Context, id int64, as []store.Actual, ds
 }
 
 func (w *writer) addAttachment(ctx context.Context, id int64, a store.Attachment) error {
-	if strings.TrimSpace(a.Path) == "" {
-		return fmt.Errorf("attachment of kind %q has no path: give the file's path: %w", a.Kind, store.ErrInvalid)
+	if err := a.Validate(w.s.now()); err != nil {
+		return fmt.Errorf("attachment: %v: %w", err, store.ErrInvalid)
 	}
 	added := a.Added
 	if added.IsZero() {
@@ -448,6 +420,11 @@ func (w *writer) addAttachment(ctx context.Context, id int64, a store.Attachment
 
 // CreateRun logs a new run; see store.RunLog.
 func (s *DB) CreateRun(ctx context.Context, rec store.RunRecord, snap *store.Snapshot) (string, error) {
+	code, err := s.createRun(ctx, rec, snap)
+	return code, s.refused("log the run", err)
+}
+
+func (s *DB) createRun(ctx context.Context, rec store.RunRecord, snap *store.Snapshot) (string, error) {
 	w, err := s.begin(ctx)
 	if err != nil {
 		return "", err
@@ -493,6 +470,9 @@ func (s *DB) FinishRun(ctx context.Context, code string, f store.Finish) error {
 	if f.Status != store.Done && f.Status != store.Aborted {
 		return fmt.Errorf("finish run %q: status %q: want done or aborted: %w", code, f.Status, store.ErrInvalid)
 	}
+	if err := f.Validate(code, s.now()); err != nil {
+		return fmt.Errorf("finish: %w", err)
+	}
 	return s.onRun(ctx, code, func(w *writer, id int64, st store.Status) error {
 		if st.Finished() {
 			return fmt.Errorf("run %q is already %s: %w", code, st, store.ErrConflict)
@@ -520,23 +500,34 @@ func (s *DB) FinishRun(ctx context.Context, code string, f store.Finish) error {
 
 // onRun runs fn on the run with the code in one transaction.
 func (s *DB) onRun(ctx context.Context, code string, fn func(w *writer, id int64, st store.Status) error) error {
-	w, err := s.begin(ctx)
-	if err != nil {
-		return err
-	}
-	defer w.rollback()
-	id, st, err := w.runID(ctx, code)
-	if err != nil {
-		return err
-	}
-	if err := fn(w, id, st); err != nil {
-		return err
-	}
-	return w.commit(ctx)
+	err := func() error {
+		w, err := s.begin(ctx)
+		if err != nil {
+			return err
+		}
+		defer w.rollback()
+		id, st, err := w.runID(ctx, code)
+		if err != nil {
+			return err
+		}
+		if err := fn(w, id, st); err != nil {
+			return err
+		}
+		return w.commit(ctx)
+	}()
+	return s.refused("write to run "+code, err)
 }
 
 // Import adds the bundle's snapshots and runs in one transaction.
 func (s *DB) Import(ctx context.Context, b store.Bundle, progress func(int)) (int, error) {
+	n, err := s.importBundle(ctx, b, progress)
+	return n, s.refused("import", err)
+}
+
+func (s *DB) importBundle(ctx context.Context, b store.Bundle, progress func(int)) (int, error) {
+	if err := b.ValidateImport(s.now()); err != nil {
+		return 0, err
+	}
 	w, err := s.begin(ctx)
 	if err != nil {
 		return 0, err

@@ -5,9 +5,11 @@
 // instead of failing with "database is locked"). The queries are those of
 // store/sqldb; this package supplies the dialect: the migrations in
 // migrations/, VACUUM INTO for backups and PRAGMA integrity_check and
-// foreign_key_check for checks.
+// foreign_key_check for checks. OpenReadOnly opens a file with mode=ro
+// for commands that only read: no migration, no journal-mode change, no
+// write of any kind.
 //
-// Entry point: Open.
+// Entry points: Open, OpenReadOnly.
 package sqlite
 
 import (
@@ -20,7 +22,7 @@ import (
 	"os"
 	"strings"
 
-	_ "github.com/mattn/go-sqlite3" // registers driver "sqlite3"
+	"github.com/mattn/go-sqlite3" // registers driver "sqlite3"
 
 	"github.com/foilrun/foilrun/store"
 	"github.com/foilrun/foilrun/store/sqldb"
@@ -43,19 +45,37 @@ var _ store.RunLog = (*DB)(nil)
 // dsn returns the data source name with the settings every connection of
 // the pool gets (github.com/mattn/go-sqlite3 ignores a misspelled key
 // silently: _foreign_key=on leaves foreign_keys off, so Open checks the
-// PRAGMAs afterwards).
-func dsn(path string) string {
+// PRAGMAs afterwards). A read-only connection is opened with mode=ro,
+// which SQLite enforces whatever the file's permissions (root included),
+// and sets no journal mode, which would be a write.
+func dsn(path string, readOnly bool) string {
+	if readOnly {
+		return fmt.Sprintf("file:%s?mode=ro&_busy_timeout=%d&_foreign_keys=on", path, BusyTimeoutMS)
+	}
 	return fmt.Sprintf("file:%s?_journal_mode=WAL&_busy_timeout=%d&_foreign_keys=on&_txlock=immediate", path, BusyTimeoutMS)
 }
 
 // Open opens (creating if needed) the run log in the SQLite file at path
-// and migrates it to the latest schema.
+// for writing, migrating a schema behind the latest.
 func Open(ctx context.Context, path string) (*DB, error) {
-	db, err := open(ctx, path)
+	return openWith(ctx, path, sqldb.Options{})
+}
+
+// OpenReadOnly opens the run log in the existing SQLite file at path for
+// reading only (mode=ro): nothing is written to the file, so a file the
+// user may not write serves reads, and every write method fails with
+// store.ErrReadOnly. A missing file is an error wrapping fs.ErrNotExist;
+// a schema behind the latest is store.ErrSchemaBehind.
+func OpenReadOnly(ctx context.Context, path string) (*DB, error) {
+	return openWith(ctx, path, sqldb.Options{ReadOnly: true})
+}
+
+func openWith(ctx context.Context, path string, o sqldb.Options) (*DB, error) {
+	db, err := open(ctx, path, o.ReadOnly)
 	if err != nil {
 		return nil, err
 	}
-	s, err := sqldb.Open(ctx, db, dialect{})
+	s, err := sqldb.Open(ctx, db, dialect{}, o)
 	if err != nil {
 		db.Close()
 		return nil, fmt.Errorf("open run log %q: %w", path, err)
@@ -64,25 +84,34 @@ func Open(ctx context.Context, path string) (*DB, error) {
 }
 
 // open opens the file and checks the connection settings took effect.
-func open(ctx context.Context, path string) (*sql.DB, error) {
+func open(ctx context.Context, path string, readOnly bool) (*sql.DB, error) {
 	if path == "" {
 		return nil, fmt.Errorf("open run log: empty path")
 	}
 	if strings.ContainsAny(path, "?#") {
 		return nil, fmt.Errorf("open run log %q: the path must not contain ? or #", path)
 	}
-	db, err := sql.Open("sqlite3", dsn(path))
+	if readOnly {
+		fi, err := os.Stat(path)
+		if err != nil {
+			return nil, fmt.Errorf("open run log: %w", err)
+		}
+		if !fi.Mode().IsRegular() {
+			return nil, fmt.Errorf("open run log %q: not a regular file", path)
+		}
+	}
+	db, err := sql.Open("sqlite3", dsn(path, readOnly))
 	if err != nil {
 		return nil, fmt.Errorf("open run log %q: %w", path, err)
 	}
-	if err := checkPragmas(ctx, db); err != nil {
+	if err := checkPragmas(ctx, db, readOnly); err != nil {
 		db.Close()
 		return nil, fmt.Errorf("open run log %q: %w", path, err)
 	}
 	return db, nil
 }
 
-func checkPragmas(ctx context.Context, db *sql.DB) error {
+func checkPragmas(ctx context.Context, db *sql.DB, readOnly bool) error {
 	var mode string
 	var fk, busy int
 	if err := db.QueryRowContext(ctx, "PRAGMA journal_mode").Scan(&mode); err != nil {
@@ -95,7 +124,7 @@ func checkPragmas(ctx context.Context, db *sql.DB) error {
 		return err
 	}
 	switch {
-	case !strings.EqualFold(mode, "wal"):
+	case !readOnly && !strings.EqualFold(mode, "wal"):
 		return fmt.Errorf("journal_mode is %q, want wal (is the file on a network share?)", mode)
 	case fk != 1:
 		return fmt.Errorf("foreign_keys is %d, want 1", fk)
@@ -111,6 +140,21 @@ func (dialect) Name() string           { return "sqlite" }
 func (dialect) Migrations() fs.FS      { f, _ := fs.Sub(migrationFiles, "migrations"); return f }
 func (dialect) Rebind(q string) string { return q }
 func (dialect) MaxArgs() int           { return 32766 }
+
+// HasTable looks the table up in sqlite_master.
+func (dialect) HasTable(ctx context.Context, q sqldb.Querier, name string) (bool, error) {
+	var n int
+	err := q.QueryRowContext(ctx, `SELECT COUNT(*) FROM sqlite_master WHERE type = 'table' AND name = ?`, name).Scan(&n)
+	return n > 0, err
+}
+
+// Refused reports SQLITE_READONLY ("attempt to write a readonly
+// database"): the file, its folder or its -wal/-shm files are not
+// writable.
+func (dialect) Refused(err error) bool {
+	var se sqlite3.Error
+	return errors.As(err, &se) && se.Code == sqlite3.ErrReadonly
+}
 
 // Read takes a connection of its own and opens a deferred transaction on
 // it: in WAL mode its reads see one snapshot and never block writers.

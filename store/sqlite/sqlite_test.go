@@ -28,7 +28,7 @@ func TestPragmas(t *testing.T) {
 func TestMigrations(t *testing.T) {
 	storetest.Migrations(t, dialect{}, func(t *testing.T) (*sql.DB, func() (store.RunLog, error)) {
 		path := filepath.Join(t.TempDir(), "runs.db")
-		raw, err := open(context.Background(), path)
+		raw, err := open(context.Background(), path, false)
 		if err != nil {
 			t.Fatal(err)
 		}

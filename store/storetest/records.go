@@ -56,7 +56,7 @@ func FullRecord(i int, hash string) store.RunRecord {
 		{Step: 2, Label: "2 grow", Quantity: "flow_total", Unit: "mol/s", Planned: 1e-5, Mean: 1e-5, Min: 1e-5, Max: 1e-5, Samples: 10},
 	}
 	rec.Deviations = []store.Deviation{{Step: 2, Label: "2 grow", Quantity: "duration", Unit: "s", Planned: 900, Actual: 1100, Tolerance: 90, Message: "long"}}
-	rec.Attachments = []store.Attachment{{Path: "a.png", SHA256: "00", Kind: "micrograph", Added: T0}}
+	rec.Attachments = []store.Attachment{{Path: "a.png", SHA256: store.HashOf([]byte(rec.Lot)), Kind: "micrograph", Added: T0}}
 	return rec
 }
 

@@ -17,6 +17,8 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"os"
+	"path/filepath"
 	"sort"
 	"strings"
 	"sync"
@@ -39,6 +41,8 @@ func Run(t *testing.T, open Opener) {
 		{"SnapshotByteIdentical", testSnapshot},
 		{"RunLifecycle", testLifecycle},
 		{"Codes", testCodes},
+		{"CodeCounters", testCodeCounters},
+		{"ImportValidated", testImportValidated},
 		{"BadInput", testBadInput},
 		{"ListBestRank", testListBestRank},
 		{"TextOrder", testTextOrder},
@@ -52,6 +56,10 @@ func Run(t *testing.T, open Opener) {
 		t.Run(tt.name, func(t *testing.T) { tt.fn(t, open) })
 	}
 }
+
+// Attachment hashes of the lifecycle test: SHA-256 of "cd", "ab" and "ef"
+// (crypto/sha256), so they have the 64 hex digits every write checks.
+var hashCD, hashAB, hashEF = store.HashOf([]byte("cd")), store.HashOf([]byte("ab")), store.HashOf([]byte("ef"))
 
 func setClock(t *testing.T, l store.RunLog, at time.Time) {
 	Backend(t, l).SetClock(func() time.Time { return at })
@@ -106,7 +114,7 @@ func testLifecycle(t *testing.T, open Opener) {
 	fin := store.Finish{Status: store.Done, Ended: T0.Add(time.Hour), Note: "cooled",
 		Actuals:     []store.Actual{{Step: 1, Label: "1 grow", Quantity: "temperature", Unit: "K", Planned: 1273.15, Mean: 1272, Min: 1270, Max: 1275, Samples: 60}},
 		Deviations:  []store.Deviation{{Step: 1, Label: "1 grow", Quantity: "duration", Unit: "s", Planned: 900, Actual: 1100, Tolerance: 90, Message: "long"}},
-		Attachments: []store.Attachment{{Path: "tube-1.csv", SHA256: "cd", Kind: "furnace-log"}}}
+		Attachments: []store.Attachment{{Path: "tube-1.csv", SHA256: hashCD, Kind: "furnace-log"}}}
 	must(t, l.FinishRun(ctx, c1, fin))
 	if err := l.FinishRun(ctx, c1, fin); !errors.Is(err, store.ErrConflict) {
 		t.Errorf("second finish: got %v, want ErrConflict", err)
@@ -118,7 +126,7 @@ func testLifecycle(t *testing.T, open Opener) {
 	// (no path) undoes the status, note and actuals written before it.
 	before := Fingerprint(t, l)
 	bad := fin
-	bad.Attachments = []store.Attachment{{Path: "", SHA256: "ef", Kind: "furnace-log"}}
+	bad.Attachments = []store.Attachment{{Path: "", SHA256: hashEF, Kind: "furnace-log"}}
 	if err := l.FinishRun(ctx, c2, bad); !errors.Is(err, store.ErrInvalid) || !strings.Contains(err.Error(), "no path") {
 		t.Errorf("finish with an attachment without a path: got %v, want ErrInvalid naming the missing path", err)
 	}
@@ -126,7 +134,7 @@ func testLifecycle(t *testing.T, open Opener) {
 		t.Errorf("a refused finish changed the log")
 	}
 	must(t, l.AddOutcomes(ctx, c1, []store.Outcome{{Metric: "coverage", Value: 0.95, Unit: "1"}}))
-	must(t, l.AddAttachment(ctx, c1, store.Attachment{Path: "m.png", SHA256: "ab", Kind: "micrograph"}))
+	must(t, l.AddAttachment(ctx, c1, store.Attachment{Path: "m.png", SHA256: hashAB, Kind: "micrograph"}))
 	rec, err := l.Record(ctx, c1)
 	must(t, err)
 	if rec.Status != store.Done || !rec.Ended.Equal(T0.Add(time.Hour)) || len(rec.Notes) != 2 || len(rec.Actuals) != 1 ||
@@ -138,7 +146,7 @@ func testLifecycle(t *testing.T, open Opener) {
 	for _, a := range rec.Attachments {
 		kinds[a.Kind] = a.Path + " " + a.SHA256
 	}
-	if kinds["furnace-log"] != "tube-1.csv cd" || kinds["micrograph"] != "m.png ab" {
+	if kinds["furnace-log"] != "tube-1.csv "+hashCD || kinds["micrograph"] != "m.png "+hashAB {
 		t.Errorf("attachments: got %+v, want the furnace log from the finish and the micrograph", rec.Attachments)
 	}
 	runs, err := l.List(ctx, store.Filter{})
@@ -170,6 +178,108 @@ func testCodes(t *testing.T, open Opener) {
 	}
 }
 
+// testCodeCounters: an imported code whose number would overflow the
+// counter is refused; a counter planted with SQL outside the range (the
+// largest bigint, what such an import used to leave) or behind the codes
+// logged, and a code planted with SQL, are reported by Check, and the
+// next run still gets the next free code, after which Check is clean.
+func testCodeCounters(t *testing.T, open Opener) {
+	l := open(t)
+	ctx := context.Background()
+	setClock(t, l, time.Date(2026, 6, 1, 8, 0, 0, 0, time.UTC))
+	for i := 0; i < 3; i++ {
+		_, err := l.CreateRun(ctx, store.RunRecord{}, nil)
+		must(t, err)
+	}
+	before := Fingerprint(t, l)
+	huge := store.RunRecord{Run: store.Run{Code: "G26-9223372036854775807", Status: store.Done}}
+	if _, err := l.Import(ctx, store.Bundle{Runs: []store.RunRecord{huge}}, nil); !errors.Is(err, store.ErrInvalid) ||
+		!strings.Contains(err.Error(), `sequence number "9223372036854775807" has 19 digits, want 4 to 6`) {
+		t.Errorf("import of G26-9223372036854775807: got %v, want ErrInvalid naming the 19 digits", err)
+	}
+	if Fingerprint(t, l) != before {
+		t.Errorf("a refused import changed the log")
+	}
+	raw := Backend(t, l).SQL()
+	exec := func(q string) {
+		t.Helper()
+		if _, err := raw.ExecContext(ctx, q); err != nil {
+			t.Fatalf("%s: %v", q, err)
+		}
+	}
+	tests := []struct {
+		name, plant, report, next string
+	}{
+		{"largest bigint", `UPDATE counters SET value = 9223372036854775807 WHERE name = 'run-2026'`,
+			`counter run-2026 holds "9223372036854775807", not a whole number from 0 to 999999`, "G26-0004"},
+		{"negative", `UPDATE counters SET value = -3 WHERE name = 'run-2026'`,
+			`counter run-2026 holds "-3", not a whole number from 0 to 999999`, "G26-0005"},
+		{"behind the codes", `UPDATE counters SET value = 1 WHERE name = 'run-2026'`,
+			"counter run-2026 is at 1 but a run with number 5 is logged", "G26-0006"},
+		{"row deleted", `DELETE FROM counters WHERE name = 'run-2026'`, "", "G26-0007"},
+		{"bad code planted", `UPDATE runs SET code = 'G26-1234567' WHERE code = 'G26-0001'`,
+			`run code "G26-1234567": sequence number "1234567" has 7 digits`, "G26-0008"},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			exec(tt.plant)
+			probs, err := l.Check(ctx)
+			must(t, err)
+			if got := strings.Join(probs, "; "); tt.report != "" && !strings.Contains(got, tt.report) {
+				t.Errorf("Check: got %q, want it to report %q", got, tt.report)
+			}
+			code, err := l.CreateRun(ctx, store.RunRecord{}, nil)
+			if err != nil || code != tt.next {
+				t.Errorf("run add after the planted change: got %q, %v; want %s", code, err, tt.next)
+			}
+			if tt.name == "bad code planted" {
+				exec(`UPDATE runs SET code = 'G26-0001' WHERE code = 'G26-1234567'`)
+			}
+			if probs, err := l.Check(ctx); err != nil || len(probs) != 0 {
+				t.Errorf("Check after run add: got %v, %v; want no problems", probs, err)
+			}
+		})
+	}
+}
+
+// testImportValidated: each bad export under testdata/store/import-bad
+// is refused by Import (or by ReadJSON before it) with its golden message,
+// and the log is left exactly as it was; the good one imports.
+func testImportValidated(t *testing.T, open Opener) {
+	l := open(t)
+	ctx := context.Background()
+	setClock(t, l, time.Date(2026, 12, 1, 12, 0, 0, 0, time.UTC))
+	_, err := l.CreateRun(ctx, GenRecord(1, ""), nil)
+	must(t, err)
+	dirs, err := filepath.Glob("../../testdata/store/import-bad/*")
+	if err != nil || len(dirs) < 10 {
+		t.Fatalf("import-bad cases: got %d, %v; want at least 10", len(dirs), err)
+	}
+	for _, dir := range dirs {
+		t.Run(filepath.Base(dir), func(t *testing.T) {
+			before := Fingerprint(t, l)
+			in, err := os.ReadFile(filepath.Join(dir, "input.json"))
+			must(t, err)
+			want, err := os.ReadFile(filepath.Join(dir, "want.txt"))
+			must(t, err)
+			b, err := store.ReadJSON(bytes.NewReader(in))
+			if err == nil {
+				_, err = l.Import(ctx, b, nil)
+			}
+			got := "ok"
+			if err != nil {
+				got = err.Error()
+			}
+			if got != strings.TrimSpace(string(want)) {
+				t.Errorf("got  %s\nwant %s", got, want)
+			}
+			if got != "ok" && Fingerprint(t, l) != before {
+				t.Errorf("a refused import changed the log")
+			}
+		})
+	}
+}
+
 // testBadInput: each bad call fails with a clear error and leaves the log
 // exactly as it was.
 func testBadInput(t *testing.T, open Opener) {
@@ -197,8 +307,16 @@ func testBadInput(t *testing.T, open Opener) {
 		}, store.ErrInvalid, `metric "peak_shift" is logged in "cm-1", not "nm"`},
 		{"metric named like a parameter", func() error {
 			return l.AddOutcomes(ctx, code, []store.Outcome{{Metric: "growth_time_min", Value: 2, Unit: "1"}})
-		}, store.ErrInvalid, "is logged as a param"},
+		}, store.ErrInvalid, `"growth_time_min" is a recipe parameter`},
 		{"where syntax", func() error { _, err := l.List(ctx, store.Filter{Where: []string{"coverage >> 1"}}); return err }, store.ErrInvalid, "col 11"},
+		{"1500 where flags", func() error {
+			where := make([]string, 1500)
+			for i := range where {
+				where[i] = "coverage > 0"
+			}
+			_, err := l.List(ctx, store.Filter{Where: where})
+			return err
+		}, store.ErrInvalid, "more than 100 comparisons in the 1500 expressions given"},
 		{"injection", func() error {
 			_, err := l.List(ctx, store.Filter{Where: []string{`x'; DROP TABLE runs; --`}})
 			return err
@@ -225,7 +343,7 @@ func testBadInput(t *testing.T, open Opener) {
 			return err
 		}, store.ErrConflict, `run code "G20-0005" is already in the log`},
 		{"missing snapshot import", func() error {
-			_, err := l.Import(ctx, store.Bundle{Runs: []store.RunRecord{GenRecord(3, "deadbeef")}}, nil)
+			_, err := l.Import(ctx, store.Bundle{Runs: []store.RunRecord{GenRecord(3, store.HashOf([]byte("absent")))}}, nil)
 			return err
 		}, store.ErrInvalid, "neither given nor in the log"},
 		{"bad status import", func() error {
@@ -233,7 +351,7 @@ func testBadInput(t *testing.T, open Opener) {
 			bad.Status = "cooking"
 			_, err := l.Import(ctx, store.Bundle{Runs: []store.RunRecord{GenRecord(4, ""), bad}}, nil)
 			return err
-		}, store.ErrInvalid, `status "cooking"`},
+		}, store.ErrInvalid, `status: "cooking": want planned, running, done or aborted`},
 		{"tampered snapshot", func() error {
 			bad := sn
 			bad.Content = append([]byte(nil), sn.Content...)
