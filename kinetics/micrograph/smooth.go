@@ -71,6 +71,8 @@ type bandSmoother struct {
 	acc    []uint32 // column sums of one output row
 }
 
+// newBandSmoother returns the smoother of band lo … hi−1 of p with taps k
+// of radius r and the band's halo rows, its ring and scratch rows allocated.
 func newBandSmoother(p *plane, k []uint32, r, lo, hi int, halo []uint16) *bandSmoother {
 	shift := uint(2 * r)
 	return &bandSmoother{p: p, k: k, r: r, shift: shift, half: uint32(1) << (shift - 1), lo: lo, hi: hi, halo: halo,
