@@ -38,7 +38,8 @@ var (
 )
 
 // decode fills v (addressable) from n. path is the dotted field path for
-// messages; dim is the dim tag of the field, if any.
+// messages; dim is the dim tag of the field, if any. The schema's own types
+// have their own rules; other values go by their reflect kind.
 func (d *decoder) decode(n *yaml.Node, v reflect.Value, path, dim string) {
 	if n.Kind == yaml.AliasNode {
 		n = n.Alias
@@ -55,17 +56,7 @@ func (d *decoder) decode(n *yaml.Node, v reflect.Value, path, dim string) {
 		d.flows(n, v, path)
 		return
 	case t == kindType:
-		if !d.scalar(n, path, "a step kind such as \"grow\"") {
-			return
-		}
-		k := StepKind(strings.ToLower(n.Value))
-		for _, known := range StepKinds {
-			if k == known {
-				v.Set(reflect.ValueOf(k))
-				return
-			}
-		}
-		d.add(n, path, fmt.Sprintf("unknown step kind %q", n.Value), "use one of: "+kindList()+suggest(n.Value, kindNames()))
+		d.stepKind(n, v, path)
 		return
 	}
 	switch t.Kind() {
@@ -76,28 +67,66 @@ func (d *decoder) decode(n *yaml.Node, v reflect.Value, path, dim string) {
 	case reflect.Struct:
 		d.strukt(n, v, path)
 	case reflect.Slice:
-		if n.Kind != yaml.SequenceNode {
-			d.add(n, path, fmt.Sprintf("%s must be a list (lines starting with \"- \")", last(path)), "")
-			return
-		}
-		s := reflect.MakeSlice(t, len(n.Content), len(n.Content))
-		for i, c := range n.Content {
-			d.decode(c, s.Index(i), fmt.Sprintf("%s[%d]", path, i+1), dim)
-		}
-		v.Set(s)
+		d.list(n, v, path, dim)
 	case reflect.Map:
-		if n.Kind != yaml.MappingNode {
-			d.add(n, path, fmt.Sprintf("%s must be a mapping of name: value lines", last(path)), "")
+		d.mapping(n, v, path, dim)
+	case reflect.String, reflect.Int, reflect.Float64, reflect.Bool:
+		d.plain(n, v, path)
+	default:
+		panic("recipe: decoder has no rule for " + t.String())
+	}
+}
+
+// stepKind fills a StepKind from one of StepKinds, in any case.
+func (d *decoder) stepKind(n *yaml.Node, v reflect.Value, path string) {
+	if !d.scalar(n, path, "a step kind such as \"grow\"") {
+		return
+	}
+	k := StepKind(strings.ToLower(n.Value))
+	for _, known := range StepKinds {
+		if k == known {
+			v.Set(reflect.ValueOf(k))
 			return
 		}
-		m := reflect.MakeMap(t)
-		for i := 0; i+1 < len(n.Content); i += 2 {
-			k, val := n.Content[i], n.Content[i+1]
-			ev := reflect.New(t.Elem()).Elem()
-			d.decode(val, ev, path+"."+k.Value, dim)
-			m.SetMapIndex(reflect.ValueOf(k.Value), ev)
-		}
-		v.Set(m)
+	}
+	d.add(n, path, fmt.Sprintf("unknown step kind %q", n.Value), "use one of: "+kindList()+suggest(n.Value, kindNames()))
+}
+
+// list fills a slice from a YAML sequence; elements are numbered from 1
+// in their paths ("steps[3]").
+func (d *decoder) list(n *yaml.Node, v reflect.Value, path, dim string) {
+	if n.Kind != yaml.SequenceNode {
+		d.add(n, path, fmt.Sprintf("%s must be a list (lines starting with \"- \")", last(path)), "")
+		return
+	}
+	s := reflect.MakeSlice(v.Type(), len(n.Content), len(n.Content))
+	for i, c := range n.Content {
+		d.decode(c, s.Index(i), fmt.Sprintf("%s[%d]", path, i+1), dim)
+	}
+	v.Set(s)
+}
+
+// mapping fills a map keyed by string from a YAML mapping.
+func (d *decoder) mapping(n *yaml.Node, v reflect.Value, path, dim string) {
+	if n.Kind != yaml.MappingNode {
+		d.add(n, path, fmt.Sprintf("%s must be a mapping of name: value lines", last(path)), "")
+		return
+	}
+	t := v.Type()
+	m := reflect.MakeMap(t)
+	for i := 0; i+1 < len(n.Content); i += 2 {
+		k, val := n.Content[i], n.Content[i+1]
+		ev := reflect.New(t.Elem()).Elem()
+		d.decode(val, ev, path+"."+k.Value, dim)
+		m.SetMapIndex(reflect.ValueOf(k.Value), ev)
+	}
+	v.Set(m)
+}
+
+// plain fills a string, int, float64 or bool from a scalar: text as it
+// stands, a whole number, a number, or true/yes and false/no in any case.
+func (d *decoder) plain(n *yaml.Node, v reflect.Value, path string) {
+	switch v.Kind() {
 	case reflect.String:
 		if d.scalar(n, path, "text") {
 			v.SetString(n.Value)
@@ -133,8 +162,6 @@ func (d *decoder) decode(n *yaml.Node, v reflect.Value, path, dim string) {
 		default:
 			d.add(n, path, fmt.Sprintf("%s %q is not true or false", last(path), n.Value), "")
 		}
-	default:
-		panic("recipe: decoder has no rule for " + t.String())
 	}
 }
 

@@ -78,63 +78,96 @@ func Derive(r *Recipe, f *Furnace) *Plan {
 	if !r.StartTemperature.IsZero() {
 		T = r.StartTemperature.SI
 	}
-	pressure, pump := atmosphere, false
+	v := valve{pressure: atmosphere}
 	t := 0.0
 	for i := range r.Steps {
 		s := &r.Steps[i]
 		sp := &p.Steps[i]
 		sp.Index, sp.Step, sp.Label, sp.Start = i, s, s.Label(i), t
-		sp.T0, sp.T1 = T, T
-		switch s.Kind {
-		case KindRamp, KindCool:
-			sp.T1 = s.To.SI
-			if s.Rate.SI > 0 {
-				sp.Duration = math.Abs(sp.T1-sp.T0) / s.Rate.SI
-			}
-		case KindAnneal, KindGrow:
-			sp.T0, sp.T1 = s.Temperature.SI, s.Temperature.SI
-		}
-		if s.Pressure.IsSet() {
-			pump = s.Pressure.Pump
-			if !pump {
-				pressure = s.Pressure.Setpoint.SI
-			}
-		}
-		switch s.Kind {
-		case KindPump:
-			pump = true
-		case KindVent:
-			pump = false
-			if !s.Pressure.IsSet() {
-				pressure = atmosphere
-			}
-		case KindLeakCheck:
-			pump = false
-		}
-		sp.OpenToPump = pump
+		temperatures(sp, T)
+		v.step(s)
+		sp.OpenToPump = v.pump
 		derive(sp, f)
-		if pump {
+		switch {
+		case v.pump:
 			sp.Pressure = sp.PumpLimit
-		} else if s.Kind == KindLeakCheck {
+		case s.Kind == KindLeakCheck:
 			sp.Pressure = p.prevPressure(i)
-		} else {
-			sp.Pressure = pressure
+		default:
+			sp.Pressure = v.pressure
 		}
-		if !s.Duration.IsZero() {
-			sp.Duration = s.Duration.SI
-		} else if s.Kind == KindPump {
-			sp.Duration = f.PumpDownTime(p.prevPressure(i), math.Max(s.Until.SI, sp.PumpLimit*1.05))
-		} else if s.Kind == KindPurge && s.Cycles > 0 {
-			sp.Duration = float64(s.Cycles) * f.cycleTime(s.Backfill.SI, sp.PumpLimit, sp.TotalFlow)
-		} else if s.Kind == KindVent && sp.TotalFlow > 0 {
-			sp.Duration = f.TubeVolume() * math.Max(0, atmosphere-p.prevPressure(i)) / (sp.TotalFlow * gas.R * RoomTemperature)
-		}
+		p.duration(i)
 		gasPhase(sp, f)
 		T = sp.T1
 		t += sp.Duration
 	}
 	p.Total = t
 	return p
+}
+
+// temperatures sets the step's start and end temperatures from the
+// temperature T it starts at, and a ramp's or cool's duration from its
+// rate (0 without one).
+func temperatures(sp *StepPlan, T float64) {
+	s := sp.Step
+	sp.T0, sp.T1 = T, T
+	switch s.Kind {
+	case KindRamp, KindCool:
+		sp.T1 = s.To.SI
+		if s.Rate.SI > 0 {
+			sp.Duration = math.Abs(sp.T1-sp.T0) / s.Rate.SI
+		}
+	case KindAnneal, KindGrow:
+		sp.T0, sp.T1 = s.Temperature.SI, s.Temperature.SI
+	}
+}
+
+// valve is the state the recipe leaves the tube in from step to step:
+// open to the pump or not, and the pressure set-point it holds when not.
+type valve struct {
+	pressure float64 // Pa
+	pump     bool
+}
+
+// step moves the valve state through step s: a pressure setting holds
+// until the next one; a pump step opens to the pump, a vent closes it and
+// (without a pressure of its own) brings the tube to atmosphere, and a
+// leak check closes it.
+func (v *valve) step(s *Step) {
+	if s.Pressure.IsSet() {
+		v.pump = s.Pressure.Pump
+		if !v.pump {
+			v.pressure = s.Pressure.Setpoint.SI
+		}
+	}
+	switch s.Kind {
+	case KindPump:
+		v.pump = true
+	case KindVent:
+		v.pump = false
+		if !s.Pressure.IsSet() {
+			v.pressure = atmosphere
+		}
+	case KindLeakCheck:
+		v.pump = false
+	}
+}
+
+// duration sets the duration of step i when the recipe gives it, or else
+// derives it: a pump step's pump-down to its until pressure (at least 5 %
+// above the pump limit), a cycle purge's cycles, a vent's backfill to
+// atmosphere at its flow. Other steps keep what temperatures set.
+func (p *Plan) duration(i int) {
+	sp, s, f := &p.Steps[i], p.Steps[i].Step, p.Furnace
+	if !s.Duration.IsZero() {
+		sp.Duration = s.Duration.SI
+	} else if s.Kind == KindPump {
+		sp.Duration = f.PumpDownTime(p.prevPressure(i), math.Max(s.Until.SI, sp.PumpLimit*1.05))
+	} else if s.Kind == KindPurge && s.Cycles > 0 {
+		sp.Duration = float64(s.Cycles) * f.cycleTime(s.Backfill.SI, sp.PumpLimit, sp.TotalFlow)
+	} else if s.Kind == KindVent && sp.TotalFlow > 0 {
+		sp.Duration = f.TubeVolume() * math.Max(0, atmosphere-p.prevPressure(i)) / (sp.TotalFlow * gas.R * RoomTemperature)
+	}
 }
 
 func (p *Plan) prevPressure(i int) float64 {

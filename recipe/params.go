@@ -69,73 +69,97 @@ const (
 // and gas-flow ones when the recipe has no grow step, ch4_h2_ratio without
 // H2, and so on. Every value returned is finite.
 func (p *Plan) Parameters() map[string]float64 {
-	out := map[string]float64{}
-	put := func(name string, v float64) {
-		if !math.IsNaN(v) && !math.IsInf(v, 0) {
-			out[name] = v
+	out := paramSet{}
+	k := p.keySteps()
+	if k.grow != nil {
+		out.growth(k.grow, k.growTime)
+	}
+	if k.anneal != nil {
+		out.put("anneal_temperature_c", k.anneal.T0-celsiusOffset)
+		out.put("anneal_time_min", k.annealTime/60)
+		out.put("anneal_pressure_torr", k.anneal.Pressure/torrPa)
+		out.put("anneal_h2_flow_sccm", flowSCCM(k.anneal, "H2"))
+	}
+	if k.ramp != nil && k.ramp.Duration > 0 {
+		out.put("ramp_rate_c_min", math.Abs(k.ramp.T1-k.ramp.T0)/k.ramp.Duration*60)
+	}
+	if k.cool != nil && k.cool.Duration > 0 {
+		out.put("cool_rate_c_min", math.Abs(k.cool.T1-k.cool.T0)/k.cool.Duration*60)
+	}
+	out.put("total_time_min", p.Total/60)
+	if p.Recipe != nil {
+		out.put("foil_thickness_um", p.Recipe.Substrate.Thickness.SI*1e6)
+		if !p.Recipe.Substrate.Purity.IsZero() {
+			out.put("foil_purity_pct", p.Recipe.Substrate.Purity.SI*100)
 		}
 	}
-	var grow, anneal, ramp, cool *StepPlan
-	var growTime, annealTime float64
+	return out
+}
+
+// paramSet collects the parameters Parameters returns.
+type paramSet map[string]float64
+
+// put records v under name when it is finite.
+func (ps paramSet) put(name string, v float64) {
+	if !math.IsNaN(v) && !math.IsInf(v, 0) {
+		ps[name] = v
+	}
+}
+
+// growth records the growth_* and gas parameters of the first grow step;
+// growTime is the summed duration of all grow steps, s.
+func (ps paramSet) growth(grow *StepPlan, growTime float64) {
+	ps.put("growth_temperature_c", grow.T0-celsiusOffset)
+	ps.put("growth_time_min", growTime/60)
+	ps.put("growth_pressure_torr", grow.Pressure/torrPa)
+	ps.put("ch4_partial_pa", grow.PCH4)
+	ps.put("h2_partial_pa", grow.PH2)
+	ps.put("ch4_h2_ratio", grow.CH4H2Ratio)
+	ps.put("ch4_flow_sccm", flowSCCM(grow, "CH4"))
+	ps.put("h2_flow_sccm", flowSCCM(grow, "H2"))
+	ps.put("ar_flow_sccm", flowSCCM(grow, "Ar"))
+	ps.put("total_flow_sccm", grow.TotalFlow/molPerSCCMSecond)
+	ps.put("ch4_supersaturation", grow.Supersaturation)
+	if grow.Residence > 0 {
+		ps.put("growth_residence_s", grow.Residence)
+	}
+}
+
+// keySteps are the steps Parameters reads: the first of each kind (nil
+// when the recipe has none) and the summed durations of the grow and of
+// the anneal steps, s.
+type keySteps struct {
+	grow, anneal, ramp, cool *StepPlan
+	growTime, annealTime     float64
+}
+
+// keySteps finds the plan's key steps.
+func (p *Plan) keySteps() keySteps {
+	var k keySteps
 	for i := range p.Steps {
 		sp := &p.Steps[i]
 		switch sp.Step.Kind {
 		case KindGrow:
-			growTime += sp.Duration
-			if grow == nil {
-				grow = sp
+			k.growTime += sp.Duration
+			if k.grow == nil {
+				k.grow = sp
 			}
 		case KindAnneal:
-			annealTime += sp.Duration
-			if anneal == nil {
-				anneal = sp
+			k.annealTime += sp.Duration
+			if k.anneal == nil {
+				k.anneal = sp
 			}
 		case KindRamp:
-			if ramp == nil {
-				ramp = sp
+			if k.ramp == nil {
+				k.ramp = sp
 			}
 		case KindCool:
-			if cool == nil {
-				cool = sp
+			if k.cool == nil {
+				k.cool = sp
 			}
 		}
 	}
-	if grow != nil {
-		put("growth_temperature_c", grow.T0-celsiusOffset)
-		put("growth_time_min", growTime/60)
-		put("growth_pressure_torr", grow.Pressure/torrPa)
-		put("ch4_partial_pa", grow.PCH4)
-		put("h2_partial_pa", grow.PH2)
-		put("ch4_h2_ratio", grow.CH4H2Ratio)
-		put("ch4_flow_sccm", flowSCCM(grow, "CH4"))
-		put("h2_flow_sccm", flowSCCM(grow, "H2"))
-		put("ar_flow_sccm", flowSCCM(grow, "Ar"))
-		put("total_flow_sccm", grow.TotalFlow/molPerSCCMSecond)
-		put("ch4_supersaturation", grow.Supersaturation)
-		if grow.Residence > 0 {
-			put("growth_residence_s", grow.Residence)
-		}
-	}
-	if anneal != nil {
-		put("anneal_temperature_c", anneal.T0-celsiusOffset)
-		put("anneal_time_min", annealTime/60)
-		put("anneal_pressure_torr", anneal.Pressure/torrPa)
-		put("anneal_h2_flow_sccm", flowSCCM(anneal, "H2"))
-	}
-	if ramp != nil && ramp.Duration > 0 {
-		put("ramp_rate_c_min", math.Abs(ramp.T1-ramp.T0)/ramp.Duration*60)
-	}
-	if cool != nil && cool.Duration > 0 {
-		put("cool_rate_c_min", math.Abs(cool.T1-cool.T0)/cool.Duration*60)
-	}
-	put("total_time_min", p.Total/60)
-	if p.Recipe != nil {
-		put("foil_thickness_um", p.Recipe.Substrate.Thickness.SI*1e6)
-		if !p.Recipe.Substrate.Purity.IsZero() {
-			put("foil_purity_pct", p.Recipe.Substrate.Purity.SI*100)
-		}
-	}
-	return out
+	return k
 }
 
 // flowSCCM returns the step's set-point of the gas (canonical symbol) in

@@ -54,6 +54,8 @@ func (ps *problems) gasName(name string, p Pos, field string) string {
 	return g.Symbol
 }
 
+// validateRecipe checks a decoded recipe: the substrate and start
+// temperature, then every step (step).
 func validateRecipe(r *Recipe) []Problem {
 	var ps problems
 	ps.positive(r.Substrate.Thickness, "thickness")
@@ -63,79 +65,93 @@ func validateRecipe(r *Recipe) []Problem {
 		ps.at(r.Pos, "steps", "the recipe has no steps", "add at least a ramp, a grow and a cool step")
 	}
 	for i := range r.Steps {
-		s := &r.Steps[i]
-		label := s.Label(i)
-		need := func(q Quantity, field, example string) {
-			if q.IsZero() {
-				ps.at(s.Pos, field, fmt.Sprintf("step %s needs %q", label, field), fmt.Sprintf("add \"%s: %s\"", field, example))
-			}
-		}
-		forbid := func(q Quantity, field string) {
-			if !q.IsZero() {
-				ps.at(q.Pos, field, fmt.Sprintf("step %s: %q does not apply to a %s step", label, field, s.Kind), "")
-			}
-		}
-		ps.positive(s.Duration, "duration")
-		ps.positive(s.Until, "until")
-		ps.absolute(s.Temperature, "temperature")
-		ps.absolute(s.To, "to")
-		ps.positive(s.Rate, "rate")
-		ps.positive(s.Pressure.Setpoint, "pressure")
-		ps.positive(s.Backfill, "backfill")
-		ps.nonNegative(s.MaxRise, "max_rise")
-		if s.Cycles < 0 {
-			ps.at(s.Pos, "cycles", fmt.Sprintf("step %s: cycles %d must not be negative", label, s.Cycles), "")
-		}
-		for j := range s.Flows {
-			f := &s.Flows[j]
-			f.Gas = ps.gasName(f.Gas, f.Pos, "flows")
-			if f.Flow.SI < 0 {
-				ps.at(f.Flow.Pos, "flows", fmt.Sprintf("step %s: flow of %s %q must not be negative", label, f.Gas, f.Flow.Text), "write 0 sccm or leave the gas out")
-			}
-		}
-		switch s.Kind {
-		case KindPump:
-			if s.Duration.IsZero() && s.Until.IsZero() {
-				ps.at(s.Pos, "until", fmt.Sprintf("step %s needs \"until\" (a pressure) or \"duration\"", label), "add \"until: 20 mTorr\"")
-			}
-			forbid(s.To, "to")
-			forbid(s.Temperature, "temperature")
-		case KindLeakCheck:
-			need(s.Duration, "duration", "5 min")
-			need(s.MaxRise, "max_rise", "5 mTorr/min")
-			if len(s.Flows) > 0 {
-				ps.at(s.Flows[0].Pos, "flows", fmt.Sprintf("step %s: a leak check is done with the valves closed and no flow", label), "remove the flows")
-			}
-		case KindPurge:
-			if s.Duration.IsZero() && s.Cycles == 0 {
-				ps.at(s.Pos, "duration", fmt.Sprintf("step %s needs \"duration\" (flow-through purge) or \"cycles\" (pump and backfill)", label), "add \"duration: 10 min\"")
-			}
-			if s.Cycles > 0 && s.Backfill.IsZero() {
-				need(s.Backfill, "backfill", "1 atm")
-			}
-			if len(s.Flows) == 0 {
-				ps.at(s.Pos, "flows", fmt.Sprintf("step %s: a purge needs an inert gas flow", label), "add \"flows: {Ar: 500 sccm}\"")
-			}
-		case KindRamp, KindCool:
-			need(s.To, "to", "1000 C")
-			need(s.Rate, "rate", "15 C/min")
-			forbid(s.Temperature, "temperature")
-		case KindAnneal, KindGrow:
-			need(s.Temperature, "temperature", "1000 C")
-			need(s.Duration, "duration", "30 min")
-			forbid(s.To, "to")
-		case KindVent:
-			forbid(s.Temperature, "temperature")
-		}
-		if s.Kind != KindPurge {
-			if s.Cycles != 0 {
-				ps.at(s.Pos, "cycles", fmt.Sprintf("step %s: \"cycles\" applies only to a purge step", label), "")
-			}
-		}
+		ps.step(&r.Steps[i], r.Steps[i].Label(i))
 	}
 	return ps
 }
 
+// step checks one step: the ranges of its quantities, its gases (resolved
+// to their canonical symbols in place) and flows, and the fields its kind
+// needs and refuses (stepKind). label names the step in messages.
+func (ps *problems) step(s *Step, label string) {
+	ps.positive(s.Duration, "duration")
+	ps.positive(s.Until, "until")
+	ps.absolute(s.Temperature, "temperature")
+	ps.absolute(s.To, "to")
+	ps.positive(s.Rate, "rate")
+	ps.positive(s.Pressure.Setpoint, "pressure")
+	ps.positive(s.Backfill, "backfill")
+	ps.nonNegative(s.MaxRise, "max_rise")
+	if s.Cycles < 0 {
+		ps.at(s.Pos, "cycles", fmt.Sprintf("step %s: cycles %d must not be negative", label, s.Cycles), "")
+	}
+	for j := range s.Flows {
+		f := &s.Flows[j]
+		f.Gas = ps.gasName(f.Gas, f.Pos, "flows")
+		if f.Flow.SI < 0 {
+			ps.at(f.Flow.Pos, "flows", fmt.Sprintf("step %s: flow of %s %q must not be negative", label, f.Gas, f.Flow.Text), "write 0 sccm or leave the gas out")
+		}
+	}
+	ps.stepKind(s, label)
+	if s.Kind != KindPurge {
+		if s.Cycles != 0 {
+			ps.at(s.Pos, "cycles", fmt.Sprintf("step %s: \"cycles\" applies only to a purge step", label), "")
+		}
+	}
+}
+
+// stepKind checks the fields a step's kind needs and those that do not
+// apply to it (see the table on Step).
+func (ps *problems) stepKind(s *Step, label string) {
+	need := func(q Quantity, field, example string) {
+		if q.IsZero() {
+			ps.at(s.Pos, field, fmt.Sprintf("step %s needs %q", label, field), fmt.Sprintf("add \"%s: %s\"", field, example))
+		}
+	}
+	forbid := func(q Quantity, field string) {
+		if !q.IsZero() {
+			ps.at(q.Pos, field, fmt.Sprintf("step %s: %q does not apply to a %s step", label, field, s.Kind), "")
+		}
+	}
+	switch s.Kind {
+	case KindPump:
+		if s.Duration.IsZero() && s.Until.IsZero() {
+			ps.at(s.Pos, "until", fmt.Sprintf("step %s needs \"until\" (a pressure) or \"duration\"", label), "add \"until: 20 mTorr\"")
+		}
+		forbid(s.To, "to")
+		forbid(s.Temperature, "temperature")
+	case KindLeakCheck:
+		need(s.Duration, "duration", "5 min")
+		need(s.MaxRise, "max_rise", "5 mTorr/min")
+		if len(s.Flows) > 0 {
+			ps.at(s.Flows[0].Pos, "flows", fmt.Sprintf("step %s: a leak check is done with the valves closed and no flow", label), "remove the flows")
+		}
+	case KindPurge:
+		if s.Duration.IsZero() && s.Cycles == 0 {
+			ps.at(s.Pos, "duration", fmt.Sprintf("step %s needs \"duration\" (flow-through purge) or \"cycles\" (pump and backfill)", label), "add \"duration: 10 min\"")
+		}
+		if s.Cycles > 0 && s.Backfill.IsZero() {
+			need(s.Backfill, "backfill", "1 atm")
+		}
+		if len(s.Flows) == 0 {
+			ps.at(s.Pos, "flows", fmt.Sprintf("step %s: a purge needs an inert gas flow", label), "add \"flows: {Ar: 500 sccm}\"")
+		}
+	case KindRamp, KindCool:
+		need(s.To, "to", "1000 C")
+		need(s.Rate, "rate", "15 C/min")
+		forbid(s.Temperature, "temperature")
+	case KindAnneal, KindGrow:
+		need(s.Temperature, "temperature", "1000 C")
+		need(s.Duration, "duration", "30 min")
+		forbid(s.To, "to")
+	case KindVent:
+		forbid(s.Temperature, "temperature")
+	}
+}
+
+// validateFurnace checks a decoded furnace: tube and heater, gas lines,
+// vacuum, exhaust and controller log, resolving gas names to their
+// canonical symbols in place.
 func validateFurnace(f *Furnace) []Problem {
 	var ps problems
 	ps.positive(f.Tube.InnerDiameter, "inner_diameter")
@@ -152,9 +168,24 @@ func validateFurnace(f *Furnace) []Problem {
 	if len(f.Lines) == 0 {
 		ps.at(f.Pos, "gas_lines", "the furnace has no gas lines", "add one line per gas: \"- {gas: H2, full_scale: 100 sccm}\"")
 	}
+	ps.gasLines(f.Lines)
+	ps.vacuum(f.Vacuum)
+	ps.nonNegative(f.Exhaust.DilutionFlow, "dilution_flow")
+	if f.Exhaust.DilutionGas != "" {
+		f.Exhaust.DilutionGas = ps.gasName(f.Exhaust.DilutionGas, f.Exhaust.Pos, "dilution_gas")
+	}
+	if f.Log != nil {
+		ps.controllerLog(f.Log)
+	}
+	return ps
+}
+
+// gasLines checks the furnace's gas lines: one per gas, known gases, and
+// the ranges of their figures.
+func (ps *problems) gasLines(lines []GasLine) {
 	seen := map[string]bool{}
-	for i := range f.Lines {
-		l := &f.Lines[i]
+	for i := range lines {
+		l := &lines[i]
 		l.Gas = ps.gasName(l.Gas, l.Pos, "gas")
 		if seen[l.Gas] {
 			ps.at(l.Pos, "gas", fmt.Sprintf("two gas lines for %s; foilrun needs one line per gas", l.Gas), "merge them or remove one")
@@ -167,7 +198,10 @@ func validateFurnace(f *Furnace) []Problem {
 		ps.fraction(l.LowEnd, "low_end")
 		ps.positive(l.CorrectionFactor, "correction_factor")
 	}
-	v := f.Vacuum
+}
+
+// vacuum checks the pump, its line and the gauge range.
+func (ps *problems) vacuum(v Vacuum) {
 	ps.positive(v.PumpSpeed, "pump_speed")
 	ps.positive(v.BasePressure, "base_pressure")
 	ps.positive(v.LineDiameter, "line_diameter")
@@ -177,31 +211,29 @@ func validateFurnace(f *Furnace) []Problem {
 	if v.GaugeMin.SI > 0 && v.GaugeMax.SI > 0 && v.GaugeMin.SI >= v.GaugeMax.SI {
 		ps.at(v.GaugeMax.Pos, "gauge_max", fmt.Sprintf("gauge_max %q must be above gauge_min %q", v.GaugeMax.Text, v.GaugeMin.Text), "")
 	}
-	ps.nonNegative(f.Exhaust.DilutionFlow, "dilution_flow")
-	if f.Exhaust.DilutionGas != "" {
-		f.Exhaust.DilutionGas = ps.gasName(f.Exhaust.DilutionGas, f.Exhaust.Pos, "dilution_gas")
+}
+
+// controllerLog checks the units of the controller log's columns and keys
+// its flow columns by canonical gas symbol.
+func (ps *problems) controllerLog(log *LogLayout) {
+	checkColumn := func(c LogColumn, field string, want Dimension) {
+		d, ok := UnitDimension(c.Unit)
+		if !ok || (d != want && !(want == Temperature && d == Temperature)) {
+			ps.at(c.Pos, field, fmt.Sprintf("controller_log %s: unit %q is not a %s unit", field, c.Unit, want), "use one of: "+unitsOf[want])
+		}
 	}
-	if f.Log != nil {
-		checkColumn := func(c LogColumn, field string, want Dimension) {
-			d, ok := UnitDimension(c.Unit)
-			if !ok || (d != want && !(want == Temperature && d == Temperature)) {
-				ps.at(c.Pos, field, fmt.Sprintf("controller_log %s: unit %q is not a %s unit", field, c.Unit, want), "use one of: "+unitsOf[want])
-			}
-		}
-		checkColumn(f.Log.Time, "time", Duration)
-		checkColumn(f.Log.Temperature, "temperature", Temperature)
-		if f.Log.Pressure.Column != "" {
-			checkColumn(f.Log.Pressure, "pressure", Pressure)
-		}
-		canon := map[string]LogColumn{}
-		for g, c := range f.Log.Flows {
-			sym := ps.gasName(g, c.Pos, "flows")
-			checkColumn(c, "flows."+g, Flow)
-			canon[sym] = c
-		}
-		f.Log.Flows = canon
+	checkColumn(log.Time, "time", Duration)
+	checkColumn(log.Temperature, "temperature", Temperature)
+	if log.Pressure.Column != "" {
+		checkColumn(log.Pressure, "pressure", Pressure)
 	}
-	return ps
+	canon := map[string]LogColumn{}
+	for g, c := range log.Flows {
+		sym := ps.gasName(g, c.Pos, "flows")
+		checkColumn(c, "flows."+g, Flow)
+		canon[sym] = c
+	}
+	log.Flows = canon
 }
 
 func validateSite(s *Site) []Problem {

@@ -91,21 +91,9 @@ func Analyze(img image.Image, s Settings) (*Result, error) {
 	if res.BitDepth == 8 {
 		unit = 257
 	}
-	maxGray := 65535 / unit
-
-	var bg *background
-	if s.BackgroundDegree > 0 {
-		if bg = fitBackground(img, s.BackgroundDegree); bg == nil {
-			res.Notes = append(res.Notes, "illumination surface could not be fitted; image left unflattened")
-		}
-	}
-	p, lo, hi := toPlane(img, bg)
-	if lo == hi {
-		return nil, fmt.Errorf("analyze micrograph: %w: every pixel is gray %g of %g; a blank, black or saturated frame has nothing to measure",
-			ErrUniform, float64(lo)/unit, maxGray)
-	}
-	if s.SmoothRadius > 0 {
-		smooth(p, s.SmoothRadius)
+	p, err := flattenSmoothed(img, s, res, unit)
+	if err != nil {
+		return nil, fmt.Errorf("analyze micrograph: %w", err)
 	}
 	hist := histogram(p)
 	t, ok := Otsu(hist)
@@ -124,7 +112,7 @@ func Analyze(img image.Image, s Settings) (*Result, error) {
 		if !haveBare {
 			return nil, fmt.Errorf("analyze micrograph: %w", &OnePeakError{
 				Peak: float64(pk.peak) / unit, Spread: pk.spread / unit, ValleyRatio: pk.valleyRatio,
-				MaxValley: s.MaxValleyRatio, MaxGray: maxGray})
+				MaxValley: s.MaxValleyRatio, MaxGray: 65535 / unit})
 		}
 		onePhase(res, pk, bare, bareWhat, unit)
 		return res, nil
@@ -145,6 +133,28 @@ func Analyze(img image.Image, s Settings) (*Result, error) {
 			100*(1-res.Coverage)))
 	}
 	return res, nil
+}
+
+// flattenSmoothed returns the 16-bit plane of img divided by its fitted
+// illumination (when s.BackgroundDegree > 0; a note on res when the fit
+// fails) and smoothed with radius s.SmoothRadius. unit is 16-bit levels per
+// native level. A uniform image returns an error wrapping ErrUniform.
+func flattenSmoothed(img image.Image, s Settings, res *Result, unit float64) (*plane, error) {
+	var bg *background
+	if s.BackgroundDegree > 0 {
+		if bg = fitBackground(img, s.BackgroundDegree); bg == nil {
+			res.Notes = append(res.Notes, "illumination surface could not be fitted; image left unflattened")
+		}
+	}
+	p, lo, hi := toPlane(img, bg)
+	if lo == hi {
+		return nil, fmt.Errorf("%w: every pixel is gray %g of %g; a blank, black or saturated frame has nothing to measure",
+			ErrUniform, float64(lo)/unit, 65535/unit)
+	}
+	if s.SmoothRadius > 0 {
+		smooth(p, s.SmoothRadius)
+	}
+	return p, nil
 }
 
 // bareLevel returns the bare-copper level in 16-bit units from the bare

@@ -91,9 +91,31 @@ func fitBackground(img image.Image, deg int) *background {
 	if h > 1 {
 		bg.scaleV = 2 / float64(h-1)
 	}
+	xs, ys, zs := sampleLogLuma(img)
+	rows := bg.design(xs, ys)
+	coef, resid := alternateFit(rows, zs)
+	if coef == nil {
+		return nil
+	}
+	bg.coef = coef
+	// Mean of Q over the sample grid, which covers the image evenly.
+	sum := 0.0
+	for i := range zs {
+		sum += zs[i] - resid[i]
+	}
+	bg.mean = sum / float64(len(zs))
+	bg.gainGrid()
+	return bg
+}
+
+// sampleLogLuma samples img on a grid of about fitGrid×fitGrid pixels
+// (cell centres) and returns their coordinates in pixels from the image's
+// corner and ln(1 + luma), luma in 16-bit levels.
+func sampleLogLuma(img image.Image) (xs, ys, zs []float64) {
+	b := img.Bounds()
+	w, h := b.Dx(), b.Dy()
 	stepX := max(1, w/fitGrid)
 	stepY := max(1, h/fitGrid)
-	var xs, ys, zs []float64
 	row := make([]uint16, w)
 	for y := stepY / 2; y < h; y += stepY {
 		convertRow(img, b.Min.X, b.Min.Y+y, row)
@@ -103,32 +125,38 @@ func fitBackground(img image.Image, deg int) *background {
 			zs = append(zs, math.Log1p(float64(row[x])))
 		}
 	}
-	n := len(zs)
-	nt := numTerms(deg)
-	rows := make([][]float64, n)
-	flat := make([]float64, n*nt)
+	return xs, ys, zs
+}
+
+// design returns the least-squares design matrix of the samples: one row
+// of monomials u^i·v^j (basis) per sample, in one backing array.
+func (bg *background) design(xs, ys []float64) [][]float64 {
+	nt := numTerms(bg.deg)
+	rows := make([][]float64, len(xs))
+	flat := make([]float64, len(xs)*nt)
 	for i := range rows {
 		rows[i] = flat[i*nt : (i+1)*nt]
 		u, v := bg.uv(xs[i], ys[i])
-		basis(deg, u, v, rows[i])
+		basis(bg.deg, u, v, rows[i])
 	}
+	return rows
+}
+
+// alternateFit runs the fitRounds rounds of the fit: least squares for the
+// surface (and, from the second round on, the class step c when both
+// classes hold more samples than the surface has terms), then the classes
+// split anew by Otsu's threshold on the residuals. It returns the surface
+// coefficients and the last residuals z − Q, or nil coefficients when the
+// normal equations are singular.
+func alternateFit(rows [][]float64, zs []float64) (coef, resid []float64) {
+	n, nt := len(zs), len(rows[0])
 	m := make([]bool, n)
-	resid := make([]float64, n)
-	var coef []float64
+	resid = make([]float64, n)
 	for round := range fitRounds {
-		withStep := round > 0
-		if withStep {
-			ones := 0
-			for _, b := range m {
-				if b {
-					ones++
-				}
-			}
-			withStep = ones > nt && n-ones > nt
-		}
+		withStep := round > 0 && bothClassesFit(m, nt)
 		c := solveLeastSquares(rows, zs, m, withStep)
 		if c == nil {
-			return nil
+			return nil, nil
 		}
 		coef = c[:nt]
 		for i := range zs {
@@ -140,15 +168,19 @@ func fitBackground(img image.Image, deg int) *background {
 		}
 		splitResiduals(resid, m)
 	}
-	bg.coef = coef
-	// Mean of Q over the sample grid, which covers the image evenly.
-	sum := 0.0
-	for i := range zs {
-		sum += zs[i] - resid[i]
+	return coef, resid
+}
+
+// bothClassesFit reports whether both classes of m hold more than nt
+// samples, enough to fit the class step beside a surface of nt terms.
+func bothClassesFit(m []bool, nt int) bool {
+	ones := 0
+	for _, b := range m {
+		if b {
+			ones++
+		}
 	}
-	bg.mean = sum / float64(n)
-	bg.gainGrid()
-	return bg
+	return ones > nt && len(m)-ones > nt
 }
 
 // gainGrid evaluates the gain exp(Q̄ − Q) on knots every knotStride

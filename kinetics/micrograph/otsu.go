@@ -118,8 +118,22 @@ func shape(hist []uint64, t int) peaks {
 		pk.valleyRatio = 1
 		return pk
 	}
-	const bins = 128
-	width := float64(hi-lo+1) / bins
+	width := float64(hi-lo+1) / shapeBins
+	sm := smoothedCoarse(hist, lo, hi, width)
+	pk.valleyRatio = valleyRatio(&sm, min(int(float64(t-lo)/width), shapeBins-1))
+	return pk
+}
+
+// shapeBins is the number of coarse bins shape regroups a histogram into.
+const shapeBins = 128
+
+// smoothedCoarse regroups hist[lo…hi] into shapeBins bins of the given
+// width (in levels) and smooths them with a Gaussian of σ = 2 bins cut at
+// 3σ, renormalised where the window meets the ends:
+//
+//	s_i = Σ_j w_ij·c_j / Σ_j w_ij,   w_ij = exp(−(i−j)²/(2σ²)),   |i−j| ≤ 3σ
+func smoothedCoarse(hist []uint64, lo, hi int, width float64) [shapeBins]float64 {
+	const bins = shapeBins
 	var coarse [bins]float64
 	for i := lo; i <= hi; i++ {
 		coarse[min(int(float64(i-lo)/width), bins-1)] += float64(hist[i])
@@ -135,18 +149,24 @@ func shape(hist []uint64, t int) peaks {
 		}
 		sm[i] = s / ws
 	}
-	tb := min(int(float64(t-lo)/width), bins-1)
+	return sm
+}
+
+// valleyRatio returns the lowest of the smoothed counts sm between the
+// highest bin at or below tb (the threshold's bin) and the highest bin
+// above it, divided by the lower of those two peaks; 1 when there is no
+// bin above tb or the lower peak is empty.
+func valleyRatio(sm *[shapeBins]float64, tb int) float64 {
 	left, right := 0, tb+1
 	for i := 0; i <= tb; i++ {
 		if sm[i] > sm[left] {
 			left = i
 		}
 	}
-	if right >= bins {
-		pk.valleyRatio = 1
-		return pk
+	if right >= shapeBins {
+		return 1
 	}
-	for i := tb + 1; i < bins; i++ {
+	for i := tb + 1; i < shapeBins; i++ {
 		if sm[i] > sm[right] {
 			right = i
 		}
@@ -157,9 +177,7 @@ func shape(hist []uint64, t int) peaks {
 	}
 	lower := min(sm[left], sm[right])
 	if lower <= 0 {
-		pk.valleyRatio = 1
-		return pk
+		return 1
 	}
-	pk.valleyRatio = valley / lower
-	return pk
+	return valley / lower
 }

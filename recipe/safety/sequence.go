@@ -87,109 +87,161 @@ func (a *analysis) runsHot() (names []string, first *recipe.StepPlan) {
 // sequence follows the tube's gas through the recipe: leak check and purge
 // before the first fuel, purge before vent, venting hot, cooling under H2.
 func (a *analysis) sequence() {
-	p, f := a.p, a.p.Furnace
-	V := f.TubeVolume()
+	st := sequenceState{
+		sev:             a.autoignition(),
+		t:               tube{P: gas.StandardAtmosphere, O2: airOxygen},
+		purgedSinceFuel: true,
+		minFuelFlow:     math.Inf(1),
+	}
+	for i := range a.p.Steps {
+		a.sequenceStep(&st, i)
+	}
+	a.sequenceEnd(&st)
+}
+
+// sequenceState is what sequence carries from step to step.
+type sequenceState struct {
+	sev             Severity // of the rules before the first fuel: Stop when a fuel meets its AIT
+	t               tube
+	leak            bool    // a leak check has been done
+	purged          bool    // an inert purge has been done
+	fuelSeen        bool    // a flammable gas has flowed
+	purgedSinceFuel bool    // an inert purge since the last flammable gas (or none yet)
+	minFuelFlow     float64 // smallest total flow of a flammable step, mol/s
+}
+
+// autoignition notes the first step where a fuel meets its autoignition
+// temperature and returns the severity of the sequence rules: Stop then,
+// else Warning (the rules still apply, less urgently).
+func (a *analysis) autoignition() Severity {
 	hotFuels, hotStep := a.runsHot()
-	sev := Warning // fuel that never meets its AIT: the rules still apply, less urgently
-	if hotStep != nil {
-		sev = Stop
-		var parts []string
-		for _, g := range hotFuels {
-			gg, _ := gas.Lookup(g)
-			_, _, ait := a.limits(gg)
-			parts = append(parts, fmt.Sprintf("%s %.0f °C", g, recipe.Celsius(ait)))
-		}
-		a.add(Note, hotStep, "ignition.autoignition", "keep air out of the hot tube: leak check, purge, and keep a positive inert flow on any opening",
-			"flammable gas meets %.0f °C, above its autoignition temperature (%s, %s): air reaching the hot zone ignites it without a spark",
-			recipe.Celsius(hotStep.MaxTemperature()), strings.Join(parts, ", "), a.r.Compilation)
+	if hotStep == nil {
+		return Warning
 	}
-	t := tube{P: gas.StandardAtmosphere, O2: airOxygen}
-	leak, purged, fuelSeen := false, false, false
-	purgedSinceFuel := true
-	minFuelFlow := math.Inf(1)
-	for i := range p.Steps {
-		sp := &p.Steps[i]
-		s := sp.Step
-		o2f, fuelf := feedOf(sp.Flows)
-		P := sp.Pressure
-		if s.Kind == recipe.KindPump && !s.Until.IsZero() {
-			P = math.Max(P, s.Until.SI)
-		}
-		if sp.Flammable {
-			minFuelFlow = math.Min(minFuelFlow, sp.TotalFlow)
-		}
-		// The O2 the fuel meets, once the step is at its pressure.
-		if sp.Flammable && !fuelSeen {
-			fuelSeen = true
-			probe := t
-			probe.fill(P, o2f, fuelf)
-			a.r.FirstFuelStep, a.r.OxygenAtFuel = sp.Index+1, probe.O2
-			a.firstFuel(sp, sev, leak, purged, probe.O2)
-		}
-		switch {
-		case s.Kind == recipe.KindLeakCheck:
-			if !leak {
-				a.r.LeakCheckStep, a.r.LeakCheckPass, a.r.LeakCheckTime = sp.Index+1, s.MaxRise.String(), s.Duration.String()
-			}
-			leak = true
-		case s.Kind == recipe.KindPurge && s.Cycles > 0:
-			high := s.Backfill.SI
-			low := math.Max(10*sp.PumpLimit, 10*f.Vacuum.BasePressure.SI)
-			factor := 1.0
-			for c := 0; c < s.Cycles; c++ {
-				lo := low
-				if c == 0 {
-					lo = math.Min(t.P, low)
-				}
-				t.P = lo
-				t.fill(high, o2f, fuelf)
-				factor *= lo / high
-			}
-			a.r.Purges = append(a.r.Purges, Purge{Step: sp.Index + 1, Label: sp.Label, Cycles: s.Cycles, LowPa: low, HighPa: high,
-				Factor: factor, OxygenAfter: t.O2, FuelAfter: t.Fuel})
-		case sp.TotalFlow > 0:
-			P0 := t.P
-			t.fill(P, o2f, fuelf)
-			nTube := P * V / (gas.R * recipe.RoomTemperature)
-			nFill := math.Max(0, P-P0) * V / (gas.R * recipe.RoomTemperature)
-			N := 0.0
-			if s.Kind != recipe.KindVent && nTube > 0 {
-				N = math.Max(0, sp.TotalFlow*sp.Duration-nFill) / nTube
-			}
-			t.sweep(N, o2f, fuelf)
-			if s.Kind == recipe.KindPurge {
-				a.r.Purges = append(a.r.Purges, Purge{Step: sp.Index + 1, Label: sp.Label, Exchanges: N,
-					Factor: SweepFraction(N), OxygenAfter: t.O2, FuelAfter: t.Fuel})
-			}
-		default:
-			t.P = P
-		}
-		if s.Kind == recipe.KindPurge && inertOnly(sp) {
-			purged = true
-			purgedSinceFuel = true
-		}
-		if sp.Flammable {
-			purgedSinceFuel = false
-			t.LFL = a.r.Steps[i].LFL
-		}
-		if s.Kind == recipe.KindVent {
-			a.vent(sp, t, purgedSinceFuel, fuelSeen)
-		}
-		if s.Kind == recipe.KindCool && sp.PH2 > 0 && !sp.OpenToPump && sp.Pressure >= 0.5*gas.StandardAtmosphere {
-			a.add(Warning, sp, "sequence.cool-under-h2", "keep the flows on through the cool-down, check the exhaust cannot draw air back (bubbler or check valve), or cool under argon",
-				"cooling under hydrogen at %.0f kPa: the gas contracts as the tube cools and an atmospheric-pressure tube can draw air in through a leak or the exhaust while H2 and hot copper are present",
-				sp.Pressure/1000).num("H2 partial pressure", sp.PH2/1000, "kPa")
-		}
+	var parts []string
+	for _, g := range hotFuels {
+		gg, _ := gas.Lookup(g)
+		_, _, ait := a.limits(gg)
+		parts = append(parts, fmt.Sprintf("%s %.0f °C", g, recipe.Celsius(ait)))
 	}
-	if fuelSeen && a.r.VentStep == 0 {
+	a.add(Note, hotStep, "ignition.autoignition", "keep air out of the hot tube: leak check, purge, and keep a positive inert flow on any opening",
+		"flammable gas meets %.0f °C, above its autoignition temperature (%s, %s): air reaching the hot zone ignites it without a spark",
+		recipe.Celsius(hotStep.MaxTemperature()), strings.Join(parts, ", "), a.r.Compilation)
+	return Stop
+}
+
+// sequenceStep follows the tube's gas through step i and judges the
+// moments that matter: the first fuel, the vent, a cool under H2.
+func (a *analysis) sequenceStep(st *sequenceState, i int) {
+	sp := &a.p.Steps[i]
+	s := sp.Step
+	o2f, fuelf := feedOf(sp.Flows)
+	P := sp.Pressure
+	if s.Kind == recipe.KindPump && !s.Until.IsZero() {
+		P = math.Max(P, s.Until.SI)
+	}
+	if sp.Flammable {
+		st.minFuelFlow = math.Min(st.minFuelFlow, sp.TotalFlow)
+	}
+	// The O2 the fuel meets, once the step is at its pressure.
+	if sp.Flammable && !st.fuelSeen {
+		st.fuelSeen = true
+		probe := st.t
+		probe.fill(P, o2f, fuelf)
+		a.r.FirstFuelStep, a.r.OxygenAtFuel = sp.Index+1, probe.O2
+		a.firstFuel(sp, st.sev, st.leak, st.purged, probe.O2)
+	}
+	switch {
+	case s.Kind == recipe.KindLeakCheck:
+		if !st.leak {
+			a.r.LeakCheckStep, a.r.LeakCheckPass, a.r.LeakCheckTime = sp.Index+1, s.MaxRise.String(), s.Duration.String()
+		}
+		st.leak = true
+	case s.Kind == recipe.KindPurge && s.Cycles > 0:
+		a.cyclePurge(&st.t, sp, o2f, fuelf)
+	case sp.TotalFlow > 0:
+		a.flowThrough(&st.t, sp, P, o2f, fuelf)
+	default:
+		st.t.P = P
+	}
+	if s.Kind == recipe.KindPurge && inertOnly(sp) {
+		st.purged = true
+		st.purgedSinceFuel = true
+	}
+	if sp.Flammable {
+		st.purgedSinceFuel = false
+		st.t.LFL = a.r.Steps[i].LFL
+	}
+	if s.Kind == recipe.KindVent {
+		a.vent(sp, st.t, st.purgedSinceFuel, st.fuelSeen)
+	}
+	if s.Kind == recipe.KindCool && sp.PH2 > 0 && !sp.OpenToPump && sp.Pressure >= 0.5*gas.StandardAtmosphere {
+		a.add(Warning, sp, "sequence.cool-under-h2", "keep the flows on through the cool-down, check the exhaust cannot draw air back (bubbler or check valve), or cool under argon",
+			"cooling under hydrogen at %.0f kPa: the gas contracts as the tube cools and an atmospheric-pressure tube can draw air in through a leak or the exhaust while H2 and hot copper are present",
+			sp.Pressure/1000).num("H2 partial pressure", sp.PH2/1000, "kPa")
+	}
+}
+
+// cyclePurge runs the pump-and-backfill cycles of purge step sp on the
+// tube and records the purge. Each cycle pumps to P_low (ten times the
+// higher of the pump limit and the base pressure; the first from the
+// tube's pressure if lower) and backfills to P_high with the feed o2, fuel;
+// what is left of the old gas is the product of P_low/P_high.
+func (a *analysis) cyclePurge(t *tube, sp *recipe.StepPlan, o2, fuel float64) {
+	s := sp.Step
+	high := s.Backfill.SI
+	low := math.Max(10*sp.PumpLimit, 10*a.p.Furnace.Vacuum.BasePressure.SI)
+	factor := 1.0
+	for c := 0; c < s.Cycles; c++ {
+		lo := low
+		if c == 0 {
+			lo = math.Min(t.P, low)
+		}
+		t.P = lo
+		t.fill(high, o2, fuel)
+		factor *= lo / high
+	}
+	a.r.Purges = append(a.r.Purges, Purge{Step: sp.Index + 1, Label: sp.Label, Cycles: s.Cycles, LowPa: low, HighPa: high,
+		Factor: factor, OxygenAfter: t.O2, FuelAfter: t.Fuel})
+}
+
+// flowThrough fills the tube to the step's pressure P with its feed (o2,
+// fuel fractions) and sweeps it with the rest of the step's gas,
+//
+//	N = max(0, ṅ·t − n_fill) / n_tube   volume changes, n = P·V/(R·T_room)
+//
+// (none for a vent); a purge step is recorded.
+func (a *analysis) flowThrough(t *tube, sp *recipe.StepPlan, P, o2, fuel float64) {
+	s, V := sp.Step, a.p.Furnace.TubeVolume()
+	P0 := t.P
+	t.fill(P, o2, fuel)
+	nTube := P * V / (gas.R * recipe.RoomTemperature)
+	nFill := math.Max(0, P-P0) * V / (gas.R * recipe.RoomTemperature)
+	N := 0.0
+	if s.Kind != recipe.KindVent && nTube > 0 {
+		N = math.Max(0, sp.TotalFlow*sp.Duration-nFill) / nTube
+	}
+	t.sweep(N, o2, fuel)
+	if s.Kind == recipe.KindPurge {
+		a.r.Purges = append(a.r.Purges, Purge{Step: sp.Index + 1, Label: sp.Label, Exchanges: N,
+			Factor: SweepFraction(N), OxygenAfter: t.O2, FuelAfter: t.Fuel})
+	}
+}
+
+// sequenceEnd judges the end of the run (no vent after fuel) and
+// estimates the O2 a leak at the leak check's pass figure would bring into
+// the smallest fuel flow: ṅ_leak = (dP/dt)·V/(R·T_room) of air.
+func (a *analysis) sequenceEnd(st *sequenceState) {
+	p := a.p
+	if st.fuelSeen && a.r.VentStep == 0 {
 		last := &p.Steps[len(p.Steps)-1]
 		a.add(Warning, last, "sequence.no-vent", "end with an inert purge and a vent step so the tube is opened without fuel in it",
-			"the recipe has no vent step; at its end the tube holds %s fuel", pct(t.Fuel))
+			"the recipe has no vent step; at its end the tube holds %s fuel", pct(st.t.Fuel))
 	}
-	if fuelSeen && a.r.LeakCheckStep > 0 && !math.IsInf(minFuelFlow, 1) {
+	if st.fuelSeen && a.r.LeakCheckStep > 0 && !math.IsInf(st.minFuelFlow, 1) {
 		s := p.Steps[a.r.LeakCheckStep-1].Step
-		leakIn := s.MaxRise.SI * V / (gas.R * recipe.RoomTemperature) // mol/s of air at the pass figure
-		a.r.LeakOxygenPPM = leakIn * airOxygen / minFuelFlow * 1e6
+		leakIn := s.MaxRise.SI * p.Furnace.TubeVolume() / (gas.R * recipe.RoomTemperature) // mol/s of air at the pass figure
+		a.r.LeakOxygenPPM = leakIn * airOxygen / st.minFuelFlow * 1e6
 	}
 }
 

@@ -35,78 +35,105 @@ func NewSheet(p *recipe.Plan, s *recipe.Site, r *Report) Sheet {
 		}
 	}
 	fuels, inerts := gasesOf(p)
-	add := func(list *[]string, format string, args ...any) { *list = append(*list, fmt.Sprintf(format, args...)) }
+	sh.before(p, s, r, fuels, inerts)
+	sh.during(s, fuels, inerts)
+	sh.after(r)
+	sh.numbers(s, r)
+	return sh
+}
 
-	// Before the run.
+// item appends one formatted item to a list of the sheet.
+func item(list *[]string, format string, args ...any) {
+	*list = append(*list, fmt.Sprintf(format, args...))
+}
+
+// before words the items to tick before the run: leak check, the purges
+// up to the first fuel, the tube's O2 then, the detectors, the exhaust,
+// the cylinders and the people.
+func (sh *Sheet) before(p *recipe.Plan, s *recipe.Site, r *Report, fuels, inerts []string) {
 	if r.LeakCheckStep > 0 {
-		add(&sh.Before, "Leak check (step %d): valves closed, pressure rise at most %s over %s; do not go on if it fails", r.LeakCheckStep, r.LeakCheckPass, r.LeakCheckTime)
+		item(&sh.Before, "Leak check (step %d): valves closed, pressure rise at most %s over %s; do not go on if it fails", r.LeakCheckStep, r.LeakCheckPass, r.LeakCheckTime)
 	} else {
-		add(&sh.Before, "Leak check: the recipe has none; add one before any flammable gas")
+		item(&sh.Before, "Leak check: the recipe has none; add one before any flammable gas")
 	}
 	for _, pg := range r.Purges {
 		if r.FirstFuelStep > 0 && pg.Step > r.FirstFuelStep {
 			break
 		}
-		add(&sh.Before, "Purge, step %s: %s; tube O2 left %s", pg.Label, purgeText(pg), ppm(pg.OxygenAfter))
+		item(&sh.Before, "Purge, step %s: %s; tube O2 left %s", pg.Label, purgeText(pg), ppm(pg.OxygenAfter))
 	}
 	if r.FirstFuelStep > 0 {
-		add(&sh.Before, "Tube O2 when fuel first enters (step %d): %s (target at most %s)", r.FirstFuelStep, ppm(r.OxygenAtFuel), pct(r.Options.PurgeTarget))
+		item(&sh.Before, "Tube O2 when fuel first enters (step %d): %s (target at most %s)", r.FirstFuelStep, ppm(r.OxygenAtFuel), pct(r.Options.PurgeTarget))
 	}
 	for _, d := range s.Detectors {
-		unit := " LFL"
-		if d.Gas == "O2" {
-			unit = " O2"
-		}
-		var als []string
-		for _, a := range d.Alarms {
-			als = append(als, pct(a.SI)+unit)
-		}
-		at := ""
-		if d.Where != "" {
-			at = " (" + d.Where + ")"
-		}
-		add(&sh.Before, "%s detector%s working and in calibration; alarms at %s", d.Gas, at, strings.Join(als, ", "))
+		sh.Before = append(sh.Before, detectorItem(d))
 	}
 	ex := p.Furnace.Exhaust
 	need := 0.0
 	for _, st := range r.Steps {
 		need = math.Max(need, st.DilutionSLM)
 	}
-	add(&sh.Before, "Exhaust to %s drawing; dilution %s flowing at %.3g slm (at least %.3g slm needed)", s.Exhaust, orN2(ex.DilutionGas), slm(ex.DilutionFlow.SI), need)
-	add(&sh.Before, "Cylinders: only %s open, secured, regulators and fittings leak-tested", strings.Join(append(fuels, inerts...), ", "))
-	add(&sh.Before, "People told: the contacts below and everyone in the room know the gases, the times and the alarm actions")
+	item(&sh.Before, "Exhaust to %s drawing; dilution %s flowing at %.3g slm (at least %.3g slm needed)", s.Exhaust, orN2(ex.DilutionGas), slm(ex.DilutionFlow.SI), need)
+	item(&sh.Before, "Cylinders: only %s open, secured, regulators and fittings leak-tested", strings.Join(append(fuels, inerts...), ", "))
+	item(&sh.Before, "People told: the contacts below and everyone in the room know the gases, the times and the alarm actions")
+}
 
-	// During.
-	add(&sh.During, "Watch temperature, pressure and each flow against the plan; shut the fuel on any unexplained pressure rise")
-	add(&sh.During, "Keep the exhaust dilution on whenever flammable gas flows")
+// detectorItem words the check of one gas detector and its alarm points
+// (in % of LFL, or % O2 for an oxygen detector).
+func detectorItem(d recipe.Detector) string {
+	unit := " LFL"
+	if d.Gas == "O2" {
+		unit = " O2"
+	}
+	var als []string
+	for _, a := range d.Alarms {
+		als = append(als, pct(a.SI)+unit)
+	}
+	at := ""
+	if d.Where != "" {
+		at = " (" + d.Where + ")"
+	}
+	return fmt.Sprintf("%s detector%s working and in calibration; alarms at %s", d.Gas, at, strings.Join(als, ", "))
+}
+
+// during words what to watch during the run and what to do on an alarm.
+func (sh *Sheet) during(s *recipe.Site, fuels, inerts []string) {
+	item(&sh.During, "Watch temperature, pressure and each flow against the plan; shut the fuel on any unexplained pressure rise")
+	item(&sh.During, "Keep the exhaust dilution on whenever flammable gas flows")
 	if len(fuels) > 0 {
-		add(&sh.During, "On a fuel (%s) alarm: shut the fuel cylinder valves, keep inert flow and ventilation on, leave, call the contacts", strings.Join(fuels, "/"))
+		item(&sh.During, "On a fuel (%s) alarm: shut the fuel cylinder valves, keep inert flow and ventilation on, leave, call the contacts", strings.Join(fuels, "/"))
 	}
 	if len(inerts) > 0 || s.Detectors != nil {
-		add(&sh.During, "On an oxygen alarm: leave the room at once; re-enter only when the site allows")
+		item(&sh.During, "On an oxygen alarm: leave the room at once; re-enter only when the site allows")
 	}
+}
 
-	// After.
+// after words the purges after the first fuel, the cool-down and vent,
+// and the closing of the cylinders.
+func (sh *Sheet) after(r *Report) {
 	for _, pg := range r.Purges {
 		if r.FirstFuelStep > 0 && pg.Step > r.FirstFuelStep {
-			add(&sh.After, "Purge, step %s: %s; fuel left %s", pg.Label, purgeText(pg), ppm(pg.FuelAfter))
+			item(&sh.After, "Purge, step %s: %s; fuel left %s", pg.Label, purgeText(pg), ppm(pg.FuelAfter))
 		}
 	}
 	if r.VentStep > 0 {
-		add(&sh.After, "Cool below %.0f °C before venting and opening (vent planned at %.0f °C); fuel at opening %.2g %% of LFL (limit %.0f %%)",
+		item(&sh.After, "Cool below %.0f °C before venting and opening (vent planned at %.0f °C); fuel at opening %.2g %% of LFL (limit %.0f %%)",
 			r.OpenBelowC, r.VentTempC, r.FuelAtOpen*100, r.Options.VentTarget*100)
 	} else {
-		add(&sh.After, "Cool below %.0f °C and purge with inert gas before opening (the recipe has no vent step)", r.OpenBelowC)
+		item(&sh.After, "Cool below %.0f °C and purge with inert gas before opening (the recipe has no vent step)", r.OpenBelowC)
 	}
-	add(&sh.After, "Close the fuel cylinders, leave the inert line as the site requires, log the run")
+	item(&sh.After, "Close the fuel cylinders, leave the inert line as the site requires, log the run")
+}
 
-	// Numbers.
-	add(&sh.Numbers, "tube volume %.3g L; room %.0f m3 ventilated at %.0f m3/h (well mixed); limits from %s", r.TubeLitres, s.Room.Volume.SI, r.VentilationM3H, r.Compilation)
+// numbers words the computed figures the items rely on: tube and room,
+// each release, the exhaust outlet, the leak's O2 and the purge rule.
+func (sh *Sheet) numbers(s *recipe.Site, r *Report) {
+	item(&sh.Numbers, "tube volume %.3g L; room %.0f m3 ventilated at %.0f m3/h (well mixed); limits from %s", r.TubeLitres, s.Room.Volume.SI, r.VentilationM3H, r.Compilation)
 	for _, rel := range r.Releases {
 		if rel.ShareOfLFL > 0 {
-			add(&sh.Numbers, "%s leak at %.3g slm (%s): room steady state %.3g %% of LFL%s", rel.Gas, rel.FlowSLM, rel.Source, rel.ShareOfLFL*100, firstAlarm(rel))
+			item(&sh.Numbers, "%s leak at %.3g slm (%s): room steady state %.3g %% of LFL%s", rel.Gas, rel.FlowSLM, rel.Source, rel.ShareOfLFL*100, firstAlarm(rel))
 		} else {
-			add(&sh.Numbers, "%s leak at %.3g slm (%s): room O2 falls to %s", rel.Gas, rel.FlowSLM, rel.Source, pct(rel.Oxygen))
+			item(&sh.Numbers, "%s leak at %.3g slm (%s): room O2 falls to %s", rel.Gas, rel.FlowSLM, rel.Source, pct(rel.Oxygen))
 		}
 	}
 	worst := 0.0
@@ -114,13 +141,12 @@ func NewSheet(p *recipe.Plan, s *recipe.Site, r *Report) Sheet {
 		worst = math.Max(worst, st.Exhaust)
 	}
 	if worst > 0 {
-		add(&sh.Numbers, "exhaust outlet at most %.3g %% of LFL with the fitted dilution (limit %.0f %%)", worst*100, r.Options.ExhaustLimit*100)
+		item(&sh.Numbers, "exhaust outlet at most %.3g %% of LFL with the fitted dilution (limit %.0f %%)", worst*100, r.Options.ExhaustLimit*100)
 	}
 	if r.LeakOxygenPPM > 0 {
-		add(&sh.Numbers, "a leak at the pass figure would bring about %.2g ppm O2 into the smallest fuel flow", r.LeakOxygenPPM)
+		item(&sh.Numbers, "a leak at the pass figure would bring about %.2g ppm O2 into the smallest fuel flow", r.LeakOxygenPPM)
 	}
-	add(&sh.Numbers, "purge rule: N = ln(C0/C) volume changes (air to 1 %% O2: 3.04), or (P_low/P_high)^n per cycle")
-	return sh
+	item(&sh.Numbers, "purge rule: N = ln(C0/C) volume changes (air to 1 %% O2: 3.04), or (P_low/P_high)^n per cycle")
 }
 
 func firstAlarm(rel Release) string {
