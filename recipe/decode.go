@@ -37,6 +37,8 @@ var (
 	kindType     = reflect.TypeOf(StepKind(""))
 )
 
+var logColumnsType = reflect.TypeOf(LogColumns{})
+
 // decode fills v (addressable) from n. path is the dotted field path for
 // messages; dim is the dim tag of the field, if any.
 func (d *decoder) decode(n *yaml.Node, v reflect.Value, path, dim string) {
@@ -76,6 +78,9 @@ func (d *decoder) decode(n *yaml.Node, v reflect.Value, path, dim string) {
 	case reflect.Struct:
 		d.strukt(n, v, path)
 	case reflect.Slice:
+		if n.Kind == yaml.MappingNode && t == logColumnsType { // one thermocouple, written without a list
+			n = &yaml.Node{Kind: yaml.SequenceNode, Line: n.Line, Column: n.Column, Content: []*yaml.Node{n}}
+		}
 		if n.Kind != yaml.SequenceNode {
 			d.add(n, path, fmt.Sprintf("%s must be a list (lines starting with \"- \")", last(path)), "")
 			return

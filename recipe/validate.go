@@ -181,26 +181,7 @@ func validateFurnace(f *Furnace) []Problem {
 	if f.Exhaust.DilutionGas != "" {
 		f.Exhaust.DilutionGas = ps.gasName(f.Exhaust.DilutionGas, f.Exhaust.Pos, "dilution_gas")
 	}
-	if f.Log != nil {
-		checkColumn := func(c LogColumn, field string, want Dimension) {
-			d, ok := UnitDimension(c.Unit)
-			if !ok || (d != want && !(want == Temperature && d == Temperature)) {
-				ps.at(c.Pos, field, fmt.Sprintf("controller_log %s: unit %q is not a %s unit", field, c.Unit, want), "use one of: "+unitsOf[want])
-			}
-		}
-		checkColumn(f.Log.Time, "time", Duration)
-		checkColumn(f.Log.Temperature, "temperature", Temperature)
-		if f.Log.Pressure.Column != "" {
-			checkColumn(f.Log.Pressure, "pressure", Pressure)
-		}
-		canon := map[string]LogColumn{}
-		for g, c := range f.Log.Flows {
-			sym := ps.gasName(g, c.Pos, "flows")
-			checkColumn(c, "flows."+g, Flow)
-			canon[sym] = c
-		}
-		f.Log.Flows = canon
-	}
+	ps.controllerLog(f)
 	return ps
 }
 
