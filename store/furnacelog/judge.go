@@ -148,7 +148,8 @@ func (m *matcher) gaugeMin() float64 {
 //
 //	rate = Σ (t_k − t̄)(p_k − p̄) / Σ (t_k − t̄)²,
 //
-// and reports a rate above the step's max_rise, or a step with fewer than
+// leaving out the sample at either end when it has enough (a boundary
+// is known to a sample either side), and reports a rate above the step's max_rise, or a step with fewer than
 // minLeakSamples samples, as an error-level deviation (QuantityLeakCheck).
 func (m *matcher) leakCheck(s *stepJudge, lo, hi int) {
 	lg, maxRise := m.lg, s.sp.Step.MaxRise.SI
@@ -156,7 +157,11 @@ func (m *matcher) leakCheck(s *stepJudge, lo, hi int) {
 		s.dev(QuantityLeakCheck, "Pa/s", maxRise, math.NaN(), 0, "leak check not judged: the log has %d samples in the step, want at least %d", hi-lo, minLeakSamples)
 		return
 	}
-	rate := slope(lg.Time[lo:hi], lg.P[lo:hi])
+	a, b := lo, hi
+	if hi-lo >= minLeakSamples+2 {
+		a, b = lo+1, hi-1 // a boundary is known to a sample either side
+	}
+	rate := slope(lg.Time[a:b], lg.P[a:b])
 	s.add(store.Actual{Quantity: "pressure rise", Unit: "Pa/s", Planned: store.Optional(maxRise), Mean: rate, Min: rate, Max: rate, Samples: hi - lo})
 	if rate > maxRise {
 		s.dev(QuantityLeakCheck, "Pa/s", maxRise, rate, 0, "leak check failed: pressure rose %s/min over the step, pass figure %s/min", torr(rate*60), torr(maxRise*60))

@@ -67,7 +67,7 @@ func (m *matcher) locate(o MatchOptions) (float64, error) {
 	sort.Float64s(taus)
 	best, bestS := 0.0, math.Inf(1)
 	for _, tau := range taus {
-		if s, _ := m.misfit(ks, tau); s < bestS-1e-9*math.Max(1, bestS) {
+		if s, _ := m.misfit(ks, tau); math.IsInf(bestS, 1) || s < bestS-1e-9*math.Max(1, bestS) {
 			best, bestS = tau, s
 		}
 	}
