@@ -154,7 +154,7 @@ func (m *matcher) gaugeMin() float64 {
 func (m *matcher) leakCheck(s *stepJudge, lo, hi int) {
 	lg, maxRise := m.lg, s.sp.Step.MaxRise.SI
 	if hi-lo < minLeakSamples {
-		s.dev(QuantityLeakCheck, "Pa/s", maxRise, math.NaN(), 0, "leak check not judged: the log has %d samples in the step, want at least %d", hi-lo, minLeakSamples)
+		s.dev(QuantityLeakCheck, "Pa/s", maxRise, math.NaN(), 0, "leak check not judged: the log has %s in the step, want at least %d", samples(hi-lo), minLeakSamples)
 		return
 	}
 	a, b := lo, hi
@@ -187,4 +187,11 @@ func slope(x, y []float64) float64 {
 		return math.NaN()
 	}
 	return sxy / sxx
+}
+
+func samples(n int) string {
+	if n == 1 {
+		return "1 sample"
+	}
+	return fmt.Sprintf("%d samples", n)
 }

@@ -7,6 +7,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -243,4 +244,89 @@ func BenchmarkRead1M(b *testing.B) {
 			b.Fatalf("read %d rows, want 1000000", len(lg.Time))
 		}
 	}
+}
+
+// TestReadmeExample keeps README's controller-log example real: its
+// mapping loads on the template furnace with the CH4 line calibrated for
+// Ar, and its log reads with the clock rolled past midnight (23:59:50 to
+// 00:00:10 is 20 s) and 9,65 sccm Ar-equivalent as 9.65 × 0.72/1.39 =
+// 5.0 sccm of CH4 (makers' factor tables, common practice; ±1 %).
+func TestReadmeExample(t *testing.T) {
+	data, err := os.ReadFile("../../README.md")
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, section, ok := strings.Cut(string(data), "### Controller logs")
+	if !ok {
+		t.Fatal(`README.md has no "### Controller logs" section`)
+	}
+	block := func(fence string) string {
+		_, rest, ok := strings.Cut(section, "```"+fence+"\n")
+		body, _, ok2 := strings.Cut(rest, "```")
+		if !ok || !ok2 {
+			t.Fatalf("no ```%s block in README's controller-log section", fence)
+		}
+		return body
+	}
+	f := furnaceWith(t, block("yaml"), "calibrated_for: N2", "calibrated_for: Ar")
+	lg, err := Read(strings.NewReader(block("csv")), "README.md", f, ReadOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	ch4 := lg.Flows["CH4"][0] / recipe.MustParse("1 sccm", recipe.Flow).SI
+	if got := lg.Time[len(lg.Time)-1]; got != 20 || math.Abs(ch4-5) > 0.05 || len(lg.Thermocouples) != 1 {
+		t.Errorf("got last time %g s, CH4 %.4g sccm, %d other thermocouples; want 20 s, 5 sccm ± 1 %%, 1", got, ch4, len(lg.Thermocouples))
+	}
+}
+
+// FuzzParseClock: never panics; a clock time read back from its own
+// HH:MM:SS.fff writing is the same number of seconds.
+func FuzzParseClock(f *testing.F) {
+	for _, s := range []string{"09:31:07", "9:31", "23:59:59.999", "24:00:00", "12:60", "1:2:3", "", "::", "00:00:00,5"} {
+		f.Add(s)
+	}
+	f.Fuzz(func(t *testing.T, s string) {
+		sod, ok := parseClock(s, strings.Contains(s, ","))
+		if !ok {
+			return
+		}
+		if sod < 0 || sod >= secondsPerDay {
+			t.Fatalf("%q read as %g s, outside one day", s, sod)
+		}
+		whole := math.Floor(sod)
+		back := fmt.Sprintf("%02d:%02d:%02d%s", int(whole)/3600, int(whole)%3600/60, int(whole)%60,
+			strings.TrimPrefix(strconv.FormatFloat(sod-whole, 'f', -1, 64), "0"))
+		again, ok := parseClock(back, false)
+		if !ok || math.Abs(again-sod) > 1e-9 {
+			t.Fatalf("%q read as %g s, written %q, read back %g s (ok %v)", s, sod, back, again, ok)
+		}
+	})
+}
+
+// FuzzReadLayouts: Read on a furnace with clock time, decimal comma and
+// two thermocouples never panics, and what it reads has time rising from
+// 0, every temperature above 0 K and no negative flow.
+func FuzzReadLayouts(f *testing.F) {
+	furnace := furnaceWith(f, `controller_log:
+  time: {column: Time, format: clock}
+  temperature: [{column: TC1, unit: C, role: control}, {column: TC2, unit: C}]
+  flows: {H2: {column: H2, unit: sccm}}
+  decimal: comma
+`)
+	f.Add("Time;TC1;TC2;H2\n23:59:50;1000,5;990;20\n00:00:10;1000;991,5;-0,2\n")
+	f.Add("Time\tTC1\tTC2\tH2\n10:00\t25\t25\t0\n")
+	f.Fuzz(func(t *testing.T, in string) {
+		lg, err := Read(strings.NewReader(in), "fuzz.csv", furnace, ReadOptions{MaxBytes: 1 << 16})
+		if err != nil {
+			return
+		}
+		for i := range lg.Time {
+			if i == 0 && lg.Time[0] != 0 || i > 0 && !(lg.Time[i] > lg.Time[i-1]) {
+				t.Fatalf("time %v not rising from 0", lg.Time)
+			}
+			if !(lg.T[i] > 0) || !(lg.Thermocouples[0].T[i] > 0) || lg.Flows["H2"][i] < 0 {
+				t.Fatalf("row %d: T %g, TC2 %g, H2 %g", i, lg.T[i], lg.Thermocouples[0].T[i], lg.Flows["H2"][i])
+			}
+		}
+	})
 }
