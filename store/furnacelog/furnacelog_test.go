@@ -10,6 +10,15 @@ import (
 	"github.com/foilrun/foilrun/recipe"
 )
 
+// editedPlan derives, on furnace f, a copy of p's recipe whose step
+// (0-based) edit has changed.
+func editedPlan(p *recipe.Plan, f *recipe.Furnace, step int, edit func(*recipe.Step)) *recipe.Plan {
+	r := *p.Recipe
+	r.Steps = append([]recipe.Step(nil), p.Recipe.Steps...)
+	edit(&r.Steps[step])
+	return recipe.Derive(&r, f)
+}
+
 func loadPlan(t testing.TB) *recipe.Plan {
 	t.Helper()
 	r, err := recipe.LoadRecipe("../../templates/recipe-lowpressure.yaml")
@@ -235,10 +244,7 @@ func TestMatchShortStepWithNoise(t *testing.T) {
 	p := loadPlan(t)
 	const grow = 5
 	// Shorten the grow step to 2 minutes in a copy of the plan.
-	r := *p.Recipe
-	r.Steps = append([]recipe.Step(nil), p.Recipe.Steps...)
-	r.Steps[grow].Duration = recipe.MustParse("2 min", recipe.Duration)
-	short := recipe.Derive(&r, p.Furnace)
+	short := editedPlan(p, p.Furnace, grow, func(s *recipe.Step) { s.Duration = recipe.MustParse("2 min", recipe.Duration) })
 	k := 0
 	noise := func(j int, into float64, T, P *float64, fl map[string]float64) {
 		k++

@@ -133,10 +133,7 @@ func TestPartialLog(t *testing.T) {
 func TestLeakCheck(t *testing.T) {
 	base := loadPlan(t)
 	const leak = 1
-	r := *base.Recipe
-	r.Steps = append([]recipe.Step(nil), base.Recipe.Steps...)
-	r.Steps[leak].MaxRise = recipe.MustParse("3 mTorr/min", recipe.PressureRate)
-	p := recipe.Derive(&r, base.Furnace)
+	p := editedPlan(base, base.Furnace, leak, func(s *recipe.Step) { s.MaxRise = recipe.MustParse("3 mTorr/min", recipe.PressureRate) })
 	perMin := torrPa / 1000 / 60 // Pa/s per mTorr/min
 	tests := []struct {
 		name   string
@@ -222,11 +219,11 @@ func TestPressure(t *testing.T) {
 func TestCalibrationGasReading(t *testing.T) {
 	base := loadPlan(t)
 	const grow = 5
-	r := *base.Recipe
-	r.Steps = append([]recipe.Step(nil), base.Recipe.Steps...)
-	r.Steps[grow].Flows = recipe.Flows{
-		{Gas: "H2", Flow: recipe.MustParse("20 sccm", recipe.Flow)},
-		{Gas: "CH4", Flow: recipe.MustParse("5 sccm", recipe.Flow)},
+	setFlows := func(s *recipe.Step) {
+		s.Flows = recipe.Flows{
+			{Gas: "H2", Flow: recipe.MustParse("20 sccm", recipe.Flow)},
+			{Gas: "CH4", Flow: recipe.MustParse("5 sccm", recipe.Flow)},
+		}
 	}
 	layout := func(reading string) string {
 		return `controller_log:
@@ -254,7 +251,7 @@ func TestCalibrationGasReading(t *testing.T) {
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
 			f := furnaceWith(t, layout(tt.reading), "calibrated_for: N2", "calibrated_for: Ar")
-			p := recipe.Derive(&r, f)
+			p := editedPlan(base, f, grow, setFlows)
 			csv := planLog(p, logSpec{ch4Head: "MFC3_CH4 [sccm Ar-eq]", ch4Scale: arEq, change: func(j int, into float64, T, P *float64, fl map[string]float64) {
 				if j == grow {
 					fl["CH4"] = tt.trueFlow
