@@ -203,7 +203,15 @@ func printDeviations(w io.Writer, code string, devs []store.Deviation) error {
 		return nil
 	}
 	fmt.Fprintf(w, "run %s: %d deviations from plan\n", code, len(devs))
-	return writeTable(w, deviationTable(devs))
+	if err := writeTable(w, deviationTable(devs)); err != nil {
+		return err
+	}
+	for _, d := range devs {
+		if furnacelog.IsError(d) { // a failed leak check: the run is logged, the exit status says so
+			return errFindings
+		}
+	}
+	return nil
 }
 
 func deviationTable(devs []store.Deviation) table {
