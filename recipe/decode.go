@@ -37,6 +37,8 @@ var (
 	kindType     = reflect.TypeOf(StepKind(""))
 )
 
+var logColumnsType = reflect.TypeOf(LogColumns{})
+
 // decode fills v (addressable) from n. path is the dotted field path for
 // messages; dim is the dim tag of the field, if any. The schema's own types
 // have their own rules; other values go by their reflect kind.
@@ -67,6 +69,9 @@ func (d *decoder) decode(n *yaml.Node, v reflect.Value, path, dim string) {
 	case reflect.Struct:
 		d.strukt(n, v, path)
 	case reflect.Slice:
+		if n.Kind == yaml.MappingNode && t == logColumnsType { // one thermocouple, written without a list
+			n = &yaml.Node{Kind: yaml.SequenceNode, Line: n.Line, Column: n.Column, Content: []*yaml.Node{n}}
+		}
 		d.list(n, v, path, dim)
 	case reflect.Map:
 		d.mapping(n, v, path, dim)

@@ -72,20 +72,70 @@ type Exhaust struct {
 }
 
 // LogLayout maps the furnace controller's CSV columns to quantities.
+// Column names are matched to the log's headings exactly as written,
+// brackets and units included ("Time [min]").
 type LogLayout struct {
 	Time        LogColumn            `yaml:"time" req:"true"`
-	Temperature LogColumn            `yaml:"temperature" req:"true"`
+	Temperature LogColumns           `yaml:"temperature" req:"true"` // one column, or a list of thermocouples
 	Pressure    LogColumn            `yaml:"pressure"`
 	Flows       map[string]LogColumn `yaml:"flows"`
+	Decimal     string               `yaml:"decimal"`   // "point" (default) or "comma"
+	Delimiter   string               `yaml:"delimiter"` // "comma", "semicolon" or "tab"; default detected from the heading line
 	Pos         Pos                  `yaml:"-"`
 }
 
-// LogColumn names a CSV column and the unit its numbers are in.
+// LogColumn names a CSV column and the unit its numbers are in. Format
+// applies to the time column, Reading to flow columns and Role to
+// thermocouples.
 type LogColumn struct {
 	Column string `yaml:"column" req:"true"`
-	Unit   string `yaml:"unit" req:"true"`
-	Pos    Pos    `yaml:"-"`
+	Unit   string `yaml:"unit"` // required except for clock and date-time stamps
+	// Format of the time column: "elapsed" (default: a number in Unit),
+	// "clock" (09:31:07, rolling over at midnight) or "datetime"
+	// (2026-03-05 09:31:07, 2026-03-05T09:31:07 or 05.03.2026 09:31:07).
+	Format string `yaml:"format"`
+	// Reading of a flow column: "actual" (default: the flow of the line's
+	// gas) or "calibration-gas" (the equivalent flow of the gas the MFC is
+	// calibrated for, as the controller shows it; converted with the
+	// line's correction factor).
+	Reading string `yaml:"reading"`
+	// Role of a thermocouple: "control" (the one the controller holds and
+	// the plan is matched to; default the first listed), or "sample",
+	// "upstream", "downstream", "monitor".
+	Role string `yaml:"role"`
+	Pos  Pos    `yaml:"-"`
 }
+
+// LogColumns is one or more temperature columns. The file may give a
+// single mapping ({column: T_zone, unit: C}) or a list of them.
+type LogColumns []LogColumn
+
+// Control returns the control thermocouple: the one with role "control",
+// else the first.
+func (cs LogColumns) Control() LogColumn {
+	for _, c := range cs {
+		if c.Role == LogRoleControl {
+			return c
+		}
+	}
+	if len(cs) == 0 {
+		return LogColumn{}
+	}
+	return cs[0]
+}
+
+// Log column formats, flow readings and thermocouple roles.
+const (
+	LogElapsed        = "elapsed"
+	LogClock          = "clock"
+	LogDateTime       = "datetime"
+	LogActual         = "actual"
+	LogCalibrationGas = "calibration-gas"
+	LogRoleControl    = "control"
+)
+
+// LogRoles lists the thermocouple roles a controller_log may give.
+var LogRoles = []string{LogRoleControl, "sample", "upstream", "downstream", "monitor"}
 
 // Site describes the room and the rules around the furnace.
 type Site struct {

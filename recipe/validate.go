@@ -174,9 +174,7 @@ func validateFurnace(f *Furnace) []Problem {
 	if f.Exhaust.DilutionGas != "" {
 		f.Exhaust.DilutionGas = ps.gasName(f.Exhaust.DilutionGas, f.Exhaust.Pos, "dilution_gas")
 	}
-	if f.Log != nil {
-		ps.controllerLog(f.Log)
-	}
+	ps.controllerLog(f)
 	return ps
 }
 
@@ -211,29 +209,6 @@ func (ps *problems) vacuum(v Vacuum) {
 	if v.GaugeMin.SI > 0 && v.GaugeMax.SI > 0 && v.GaugeMin.SI >= v.GaugeMax.SI {
 		ps.at(v.GaugeMax.Pos, "gauge_max", fmt.Sprintf("gauge_max %q must be above gauge_min %q", v.GaugeMax.Text, v.GaugeMin.Text), "")
 	}
-}
-
-// controllerLog checks the units of the controller log's columns and keys
-// its flow columns by canonical gas symbol.
-func (ps *problems) controllerLog(log *LogLayout) {
-	checkColumn := func(c LogColumn, field string, want Dimension) {
-		d, ok := UnitDimension(c.Unit)
-		if !ok || (d != want && !(want == Temperature && d == Temperature)) {
-			ps.at(c.Pos, field, fmt.Sprintf("controller_log %s: unit %q is not a %s unit", field, c.Unit, want), "use one of: "+unitsOf[want])
-		}
-	}
-	checkColumn(log.Time, "time", Duration)
-	checkColumn(log.Temperature, "temperature", Temperature)
-	if log.Pressure.Column != "" {
-		checkColumn(log.Pressure, "pressure", Pressure)
-	}
-	canon := map[string]LogColumn{}
-	for g, c := range log.Flows {
-		sym := ps.gasName(g, c.Pos, "flows")
-		checkColumn(c, "flows."+g, Flow)
-		canon[sym] = c
-	}
-	log.Flows = canon
 }
 
 func validateSite(s *Site) []Problem {

@@ -1,8 +1,9 @@
 package main
 
 import (
-	"bytes"
 	"context"
+	"crypto/sha256"
+	"encoding/hex"
 	"errors"
 	"fmt"
 	"io"
@@ -46,6 +47,7 @@ type runOptions struct {
 	aborted   bool     // add
 	started   string   // add: start time
 	startOnly bool
+	logStart  int // add: step the furnace log starts at (0: found from the log)
 }
 
 func (o *runOptions) register(cmd *cobra.Command) {
@@ -91,6 +93,7 @@ deviations from plan the furnace log shows.`,
 	cmd.Flags().StringArrayVar(&opts.outcomes, "outcome", nil, "measured outcome metric=value[unit] (repeatable)")
 	cmd.Flags().BoolVar(&opts.aborted, "aborted", false, "the run was aborted")
 	cmd.Flags().StringVar(&opts.started, "started", "", "when the run started (RFC 3339, e.g. 2026-03-01T09:30:00Z; default now)")
+	cmd.Flags().IntVar(&opts.logStart, "log-starts-at", 0, "recipe step (1-based) whose start is the furnace log's first row (default: found from the log)")
 	return cmd
 }
 
@@ -171,7 +174,7 @@ func (o *runOptions) finished(rec *store.RunRecord, plan *recipe.Plan, now time.
 	if o.log == "" {
 		return nil
 	}
-	res, att, err := readFurnaceLog(o.log, plan)
+	res, att, err := readFurnaceLog(o.log, plan, o.logStart, o.f.io.Err)
 	if err != nil {
 		return err
 	}
@@ -181,22 +184,34 @@ func (o *runOptions) finished(rec *store.RunRecord, plan *recipe.Plan, now time.
 	return nil
 }
 
-// readFurnaceLog reads and matches a controller log and describes the
-// file as an attachment.
-func readFurnaceLog(path string, plan *recipe.Plan) (furnacelog.Result, store.Attachment, error) {
-	data, err := os.ReadFile(path)
-	if err != nil {
-		return furnacelog.Result{}, store.Attachment{}, fmt.Errorf("furnace log: %w", err)
-	}
+// readFurnaceLog reads and matches a controller log (starting at step
+// startsAt, or found from the log when 0), says on status which steps it
+// covers, and describes the file as an attachment. The file is streamed
+// and hashed as it is read.
+func readFurnaceLog(path string, plan *recipe.Plan, startsAt int, status io.Writer) (furnacelog.Result, store.Attachment, error) {
 	if plan.Furnace.Log == nil {
 		return furnacelog.Result{}, store.Attachment{}, withHint(fmt.Errorf("furnace %q has no controller_log mapping", plan.Furnace.Name),
 			"add controller_log (time, temperature, pressure, flows: column and unit) to the furnace file")
 	}
-	lg, err := furnacelog.Read(bytes.NewReader(data), path, plan.Furnace.Log)
+	fh, err := os.Open(path)
+	if err != nil {
+		return furnacelog.Result{}, store.Attachment{}, fmt.Errorf("furnace log: %w", err)
+	}
+	defer fh.Close()
+	h := sha256.New()
+	lg, err := furnacelog.Read(io.TeeReader(fh, h), path, plan.Furnace, furnacelog.ReadOptions{})
 	if err != nil {
 		return furnacelog.Result{}, store.Attachment{}, err
 	}
-	return furnacelog.Match(plan, lg), store.Attachment{Path: path, SHA256: store.HashOf(data), Kind: "furnace-log"}, nil
+	res, err := furnacelog.Match(plan, lg, furnacelog.MatchOptions{StartsAt: startsAt})
+	if err != nil {
+		if startsAt == 0 {
+			err = withHint(err, "check the log and the furnace file's controller_log, or pass --log-starts-at STEP")
+		}
+		return furnacelog.Result{}, store.Attachment{}, err
+	}
+	fmt.Fprintf(status, "furnace log %s: %s\n", path, res.Coverage())
+	return res, store.Attachment{Path: path, SHA256: hex.EncodeToString(h.Sum(nil)), Kind: "furnace-log"}, nil
 }
 
 func printDeviations(w io.Writer, code string, devs []store.Deviation) error {
@@ -204,7 +219,15 @@ func printDeviations(w io.Writer, code string, devs []store.Deviation) error {
 		return nil
 	}
 	fmt.Fprintf(w, "run %s: %d deviations from plan\n", code, len(devs))
-	return writeTable(w, deviationTable(devs))
+	if err := writeTable(w, deviationTable(devs)); err != nil {
+		return err
+	}
+	for _, d := range devs {
+		if furnacelog.IsError(d) { // a failed leak check: the run is logged, the exit status says so
+			return errFindings
+		}
+	}
+	return nil
 }
 
 func deviationTable(devs []store.Deviation) table {
@@ -249,12 +272,13 @@ func runNoteRun(ctx context.Context, o *runNoteOptions) error {
 }
 
 type runFinishOptions struct {
-	f       *factory
-	code    string
-	log     string
-	aborted bool
-	note    string
-	flags   recipeFlags
+	f        *factory
+	code     string
+	log      string
+	aborted  bool
+	note     string
+	flags    recipeFlags
+	logStart int // step the furnace log starts at (0: found from the log)
 }
 
 func newRunFinishCmd(f *factory) *cobra.Command {
@@ -272,6 +296,7 @@ func newRunFinishCmd(f *factory) *cobra.Command {
 	cmd.Flags().BoolVar(&opts.aborted, "aborted", false, "the run was aborted")
 	cmd.Flags().StringVar(&opts.note, "note", "", "a closing note")
 	cmd.Flags().StringVar(&opts.flags.furnace, "furnace", "", "furnace file for reading the log (default the one the recipe names)")
+	cmd.Flags().IntVar(&opts.logStart, "log-starts-at", 0, "recipe step (1-based) whose start is the furnace log's first row (default: found from the log)")
 	return cmd
 }
 
@@ -296,7 +321,7 @@ func runFinishRun(ctx context.Context, o *runFinishOptions) error {
 		if err != nil {
 			return err
 		}
-		res, a, err := readFurnaceLog(o.log, plan)
+		res, a, err := readFurnaceLog(o.log, plan, o.logStart, o.f.io.Err)
 		if err != nil {
 			return err
 		}

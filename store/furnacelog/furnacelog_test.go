@@ -10,6 +10,15 @@ import (
 	"github.com/foilrun/foilrun/recipe"
 )
 
+// editedPlan derives, on furnace f, a copy of p's recipe whose step
+// (0-based) edit has changed.
+func editedPlan(p *recipe.Plan, f *recipe.Furnace, step int, edit func(*recipe.Step)) *recipe.Plan {
+	r := *p.Recipe
+	r.Steps = append([]recipe.Step(nil), p.Recipe.Steps...)
+	edit(&r.Steps[step])
+	return recipe.Derive(&r, f)
+}
+
 func loadPlan(t testing.TB) *recipe.Plan {
 	t.Helper()
 	r, err := recipe.LoadRecipe("../../templates/recipe-lowpressure.yaml")
@@ -58,11 +67,15 @@ func synth(p *recipe.Plan, stretch map[int]float64, change func(step int, into f
 
 func matchText(t *testing.T, p *recipe.Plan, csv string) Result {
 	t.Helper()
-	lg, err := Read(strings.NewReader(csv), "log.csv", p.Furnace.Log)
+	lg, err := Read(strings.NewReader(csv), "log.csv", p.Furnace, ReadOptions{})
 	if err != nil {
 		t.Fatal(err)
 	}
-	return Match(p, lg)
+	res, err := Match(p, lg, MatchOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	return res
 }
 
 func devs(r Result) []string {
@@ -138,36 +151,36 @@ func TestMatch(t *testing.T) {
 }
 
 func TestReadErrors(t *testing.T) {
-	layout := loadPlan(t).Furnace.Log
+	furnace := loadPlan(t).Furnace
 	head := "elapsed_s,T_zone,P_tube,MFC1_Ar,MFC2_H2,MFC3_CH4\n"
 	tests := []struct{ name, in, want string }{
 		{"empty", "", `furnace log "log.csv": the file is empty`},
-		{"header only", head, "line 1: the log has a header but no rows"},
+		{"header only", head, "line 1: the log has a heading line but no rows"},
 		{"missing column", "elapsed_s,T_zone,P_tube,MFC1_Ar,MFC2_H2\n0,25,760,0,0\n", `line 1: no column "MFC3_CH4" (the flow CH4 column`},
 		{"unit mismatch", "elapsed_s,T_zone [K],P_tube,MFC1_Ar,MFC2_H2,MFC3_CH4\n0,298,760,0,0,0\n", `line 1 col 2: column "T_zone" is in K, the furnace file's controller_log says C`},
 		{"non-numeric", head + "0,25,760,0,0,0\n10,hot,760,0,0,0\n", `line 3 col 2: temperature "T_zone": "hot" is not a number`},
 		{"non-monotonic", head + "0,25,760,0,0,0\n10,25,760,0,0,0\n5,25,760,0,0,0\n", `line 4 col 1: time 5 s is not after the previous row's 10 s`},
 		{"repeated time", head + "0,25,760,0,0,0\n0,25,760,0,0,0\n", `line 3 col 1: time 0 s is not after`},
-		{"short row", head + "0,25,760\n", "line 2: 3 cells, the header has 6"},
+		{"short row", head + "0,25,760\n", "line 2: 3 cells, the heading line has 6"},
 		{"bad quote", head + "0,\"25,760,0,0,0\n", "line 2"},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
-			_, err := Read(strings.NewReader(tt.in), "log.csv", layout)
+			_, err := Read(strings.NewReader(tt.in), "log.csv", furnace, ReadOptions{})
 			if err == nil || !strings.Contains(err.Error(), tt.want) || !errors.Is(err, recipe.ErrInvalid) {
 				t.Errorf("got %v, want error containing %q", err, tt.want)
 			}
 		})
 	}
-	if _, err := Read(strings.NewReader(head), "log.csv", nil); err == nil || !strings.Contains(err.Error(), "no controller_log") {
+	if _, err := Read(strings.NewReader(head), "log.csv", nil, ReadOptions{}); err == nil || !strings.Contains(err.Error(), "no controller_log") {
 		t.Errorf("nil layout: %v", err)
 	}
 }
 
 func TestReadUnits(t *testing.T) {
-	layout := loadPlan(t).Furnace.Log
+	furnace := loadPlan(t).Furnace
 	// semicolon-separated, comment line, units in brackets that agree
-	lg, err := Read(strings.NewReader("# exported\nelapsed_s (s);T_zone [C];P_tube [Torr];MFC1_Ar;MFC2_H2;MFC3_CH4\n100;1000;0.5;0;20;35\n110;1001;0.5;0;20;35\n"), "log.csv", layout)
+	lg, err := Read(strings.NewReader("# exported\nelapsed_s (s);T_zone [C];P_tube [Torr];MFC1_Ar;MFC2_H2;MFC3_CH4\n100;1000;0.5;0;20;35\n110;1001;0.5;0;20;35\n"), "log.csv", furnace, ReadOptions{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -183,12 +196,12 @@ func TestReadUnits(t *testing.T) {
 // FuzzRead: never panics; what reads has increasing time from 0 and
 // finite values.
 func FuzzRead(f *testing.F) {
-	layout := loadPlan(f).Furnace.Log
+	furnace := loadPlan(f).Furnace
 	f.Add("elapsed_s,T_zone,P_tube,MFC1_Ar,MFC2_H2,MFC3_CH4\n0,25,760,0,0,0\n10,26,760,0,1,0\n")
 	f.Add("elapsed_s;T_zone [C];P_tube;MFC1_Ar;MFC2_H2;MFC3_CH4\n0;25;1;2;3;4\n")
 	f.Add("")
 	f.Fuzz(func(t *testing.T, in string) {
-		lg, err := Read(strings.NewReader(in), "fuzz.csv", layout)
+		lg, err := Read(strings.NewReader(in), "fuzz.csv", furnace, ReadOptions{})
 		if err != nil {
 			return
 		}
@@ -210,13 +223,15 @@ func FuzzRead(f *testing.F) {
 
 func BenchmarkMatch(b *testing.B) {
 	p := loadPlan(b)
-	lg, err := Read(strings.NewReader(synth(p, nil, nil, 0)), "log.csv", p.Furnace.Log)
+	lg, err := Read(strings.NewReader(synth(p, nil, nil, 0)), "log.csv", p.Furnace, ReadOptions{})
 	if err != nil {
 		b.Fatal(err)
 	}
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {
-		Match(p, lg)
+		if _, err := Match(p, lg, MatchOptions{}); err != nil {
+			b.Fatal(err)
+		}
 	}
 }
 
@@ -229,10 +244,7 @@ func TestMatchShortStepWithNoise(t *testing.T) {
 	p := loadPlan(t)
 	const grow = 5
 	// Shorten the grow step to 2 minutes in a copy of the plan.
-	r := *p.Recipe
-	r.Steps = append([]recipe.Step(nil), p.Recipe.Steps...)
-	r.Steps[grow].Duration = recipe.MustParse("2 min", recipe.Duration)
-	short := recipe.Derive(&r, p.Furnace)
+	short := editedPlan(p, p.Furnace, grow, func(s *recipe.Step) { s.Duration = recipe.MustParse("2 min", recipe.Duration) })
 	k := 0
 	noise := func(j int, into float64, T, P *float64, fl map[string]float64) {
 		k++
