@@ -225,16 +225,16 @@ load furnace "t.yaml": line 25 col 5: two gas lines for H2; foilrun needs one li
 			strings.NewReplacer("unit: Torr}", "unit: sccm}", "unit: s}", "unit: C}", "MFC1_Ar, unit: sccm", "MFC1_Ar, unit: K").Replace(base),
 			`load furnace "t.yaml": line 40 col 9: controller_log time: unit "C" is not a duration unit
   hint: use one of: s, min, h
-load furnace "t.yaml": line 42 col 13: controller_log pressure: unit "sccm" is not a pressure unit
+load furnace "t.yaml": line 44 col 13: controller_log pressure: unit "sccm" is not a pressure unit
   hint: use one of: Pa, kPa, mbar, bar, Torr, mTorr, atm
-load furnace "t.yaml": line 44 col 9: controller_log flows.Ar: unit "K" is not a flow unit
+load furnace "t.yaml": line 46 col 9: controller_log flows.Ar: unit "K" is not a flow unit
   hint: use one of: sccm, slm, mol/s`},
 		{"log flow of an unknown gas",
 			strings.NewReplacer("    Ar: {column", "    Arr: {column").Replace(base),
-			"load furnace \"t.yaml\": line 44 col 10: unknown gas \"Arr\": did you mean \"Ar\"?; known gases: H2 (hydrogen), CH4 (methane), Ar (argon), N2 (nitrogen), He (helium), C2H4 (ethylene), C2H2 (acetylene), O2 (oxygen), air (dry air)"},
+			"load furnace \"t.yaml\": line 46 col 10: unknown gas \"Arr\": did you mean \"Ar\"?; known gases: H2 (hydrogen), CH4 (methane), Ar (argon), N2 (nitrogen), He (helium), C2H4 (ethylene), C2H2 (acetylene), O2 (oxygen), air (dry air)"},
 		{"log flows must be a mapping",
-			strings.NewReplacer("  flows:\n    Ar: {column: MFC1_Ar, unit: sccm}\n    H2: {column: MFC2_H2, unit: sccm}\n    CH4: {column: MFC3_CH4, unit: sccm}\n", "  flows: 5\n").Replace(base),
-			"load furnace \"t.yaml\": line 43 col 10: flows must be a mapping of name: value lines"},
+			strings.NewReplacer("  flows:\n    Ar: {column: MFC1_Ar, unit: sccm}\n    H2: {column: MFC2_H2, unit: sccm}\n    CH4: {column: MFC3_CH4, unit: sccm}", "  flows: 5\n  #").Replace(base),
+			"load furnace \"t.yaml\": line 45 col 10: flows must be a mapping of name: value lines"},
 		{"quantities out of range",
 			strings.NewReplacer("inner_diameter: 22 mm", "inner_diameter: 0 mm", "max_ramp_up: 25 C/min", "max_ramp_up: -5 C/min", "thermocouple_margin: 10 K", "thermocouple_margin: -1 K", "full_scale: 100 sccm", "full_scale: 0 sccm", "pump_speed: 5.5 m3/h", "pump_speed: 0 m3/h", "dilution_flow: 20 slm", "dilution_flow: -1 slm", "line_length: 1.5 m", "line_length: 0 m", "service_limit: 1100 C", "service_limit: -300 C").Replace(base),
 			`load furnace "t.yaml": line 8 col 19: inner_diameter "0 mm" must be greater than zero
