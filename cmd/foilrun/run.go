@@ -1,7 +1,6 @@
 package main
 
 import (
-	"bytes"
 	"context"
 	"errors"
 	"fmt"
@@ -15,6 +14,7 @@ import (
 
 	"github.com/foilrun/foilrun/cmd/foilrun/internal/lab"
 	"github.com/foilrun/foilrun/recipe"
+	"github.com/foilrun/foilrun/recipe/infile"
 	"github.com/foilrun/foilrun/store"
 	"github.com/foilrun/foilrun/store/furnacelog"
 )
@@ -97,7 +97,7 @@ deviations from plan the furnace log shows.`,
 // runStartRun is run start and run add: it prints the new run's code and,
 // for run add, the deviations from plan (both results, on stdout).
 func runStartRun(ctx context.Context, o *runOptions) error {
-	data, err := os.ReadFile(o.recipe)
+	data, err := infile.ReadFile(o.recipe, infile.Recipe)
 	if err != nil {
 		return fmt.Errorf("load recipe: %w", err)
 	}
@@ -181,22 +181,28 @@ func (o *runOptions) finished(rec *store.RunRecord, plan *recipe.Plan, now time.
 	return nil
 }
 
-// readFurnaceLog reads and matches a controller log and describes the
-// file as an attachment.
+// readFurnaceLog reads (through the bounded reader: a regular file of at
+// most 1 GiB) and matches a controller log and describes the file as an
+// attachment, hashed from the bytes read.
 func readFurnaceLog(path string, plan *recipe.Plan) (furnacelog.Result, store.Attachment, error) {
-	data, err := os.ReadFile(path)
+	fh, err := infile.Open(path, infile.FurnaceLog)
 	if err != nil {
 		return furnacelog.Result{}, store.Attachment{}, fmt.Errorf("furnace log: %w", err)
 	}
+	defer fh.Close()
 	if plan.Furnace.Log == nil {
 		return furnacelog.Result{}, store.Attachment{}, withHint(fmt.Errorf("furnace %q has no controller_log mapping", plan.Furnace.Name),
 			"add controller_log (time, temperature, pressure, flows: column and unit) to the furnace file")
 	}
-	lg, err := furnacelog.Read(bytes.NewReader(data), path, plan.Furnace.Log)
+	lg, err := furnacelog.Read(fh, path, plan.Furnace.Log)
 	if err != nil {
 		return furnacelog.Result{}, store.Attachment{}, err
 	}
-	return furnacelog.Match(plan, lg), store.Attachment{Path: path, SHA256: store.HashOf(data), Kind: "furnace-log"}, nil
+	sum, err := fh.SHA256()
+	if err != nil {
+		return furnacelog.Result{}, store.Attachment{}, fmt.Errorf("furnace log: %w", err)
+	}
+	return furnacelog.Match(plan, lg), store.Attachment{Path: path, SHA256: sum, Kind: "furnace-log"}, nil
 }
 
 func printDeviations(w io.Writer, code string, devs []store.Deviation) error {

@@ -135,7 +135,11 @@ func windowRun(opts *windowOptions) error {
 	if err != nil {
 		return err
 	}
-	plan, _, err := opts.flags.loadPlan(opts.recipe)
+	plan, site, err := opts.flags.loadPlan(opts.recipe)
+	if err != nil {
+		return err
+	}
+	guard, err := opts.plotGuard(opts.f, plan, site)
 	if err != nil {
 		return err
 	}
@@ -194,7 +198,7 @@ func windowRun(opts *windowOptions) error {
 		}
 		xs, ys := displayValues(m.X, m.Xs), displayValues(m.Y, m.Ys)
 		title := fmt.Sprintf("%s: %s", m.Recipe, showLabel(opts.show))
-		if err := writeHeatMap(opts.plot, title, m.X.Label(), m.Y.Label(), showLabel(opts.show), xs, ys, z, blocked); err != nil {
+		if err := writeHeatMap(opts.plot, guard, title, m.X.Label(), m.Y.Label(), showLabel(opts.show), xs, ys, z, blocked); err != nil {
 			return err
 		}
 		fmt.Fprintf(opts.f.io.Err, "wrote %s\n", opts.plot)
