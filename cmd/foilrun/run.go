@@ -377,9 +377,10 @@ func runShowRun(ctx context.Context, o *runShowOptions) error {
 // printRun prints a run for people: its header and parameters, then each
 // section the log holds.
 func printRun(w io.Writer, rec store.RunRecord) error {
-	fmt.Fprintf(w, "run %s  %s\n", rec.Code, rec.Status)
+	e := escapeControl
+	fmt.Fprintf(w, "run %s  %s\n", e(rec.Code), e(string(rec.Status)))
 	fmt.Fprintf(w, "recipe    %s (sha256 %.12s)\nfurnace   %s\noperator  %s\nfoil lot  %s\nstarted   %s\nended     %s\n",
-		rec.RecipeName, rec.RecipeHash, rec.Furnace, rec.Operator, rec.Lot, when(rec.Started), when(rec.Ended))
+		e(rec.RecipeName), e(rec.RecipeHash), e(rec.Furnace), e(rec.Operator), e(rec.Lot), when(rec.Started), when(rec.Ended))
 	if err := section(w, "Recipe parameters", paramTable(rec)); err != nil {
 		return err
 	}
@@ -391,7 +392,7 @@ func printRun(w io.Writer, rec store.RunRecord) error {
 	if len(rec.Notes) > 0 {
 		heading(w, "Notes")
 		for _, n := range rec.Notes {
-			fmt.Fprintf(w, "%s  %s\n", when(n.At), n.Text)
+			fmt.Fprintf(w, "%s  %s\n", when(n.At), e(n.Text))
 		}
 	}
 	if len(rec.Actuals) > 0 {
@@ -407,7 +408,7 @@ func printRun(w io.Writer, rec store.RunRecord) error {
 	if len(rec.Attachments) > 0 {
 		heading(w, "Attachments")
 		for _, a := range rec.Attachments {
-			fmt.Fprintf(w, "%s  %s  sha256 %.12s\n", a.Kind, a.Path, a.SHA256)
+			fmt.Fprintf(w, "%s  %s  sha256 %.12s\n", e(a.Kind), e(a.Path), e(a.SHA256))
 		}
 	}
 	return nil

@@ -6,10 +6,12 @@ import (
 	"math"
 	"slices"
 	"strings"
+	"unsafe"
 
 	"github.com/spf13/cobra"
 
 	"github.com/foilrun/foilrun/kinetics"
+	"github.com/foilrun/foilrun/recipe/infile"
 )
 
 // What `foilrun window --show` can map: the stored metrics' names, and
@@ -22,8 +24,19 @@ type windowOptions struct {
 	flags  recipeFlags
 	vary   []string
 	show   string
+	// maxPoints bounds the grid (--max-points).
+	maxPoints int
 	modelFlags
 }
+
+// defaultMaxPoints is the default --max-points: a 1,000 × 1,000 grid,
+// about 0.5 GiB of results held and rendered.
+const defaultMaxPoints = 1000 * 1000
+
+// pointBytes is about what one grid point costs while the map is held
+// and printed: the library's point, the JSON point, and a rendered cell
+// or line of output (256 bytes, a generous JSON line).
+const pointBytes = int64(unsafe.Sizeof(kinetics.Point{}) + unsafe.Sizeof(windowPoint{}) + 256)
 
 func newWindowCmd(f *factory) *cobra.Command {
 	opts := &windowOptions{f: f}
@@ -41,7 +54,8 @@ and predicted like foilrun predict. Ranges carry units:
 
 --show picks the quantity: coverage (%), nuclei_density (nuclei per mm2),
 domain_size (um) or time_to_99 (min of growth to 99 % coverage). The map is
-computed on all cores; a progress bar shows on a terminal.`,
+computed on all cores; a progress bar shows on a terminal. A grid has at most
+--max-points points (default 1,000,000, a 1,000 × 1,000 grid).`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			opts.recipe = args[0]
@@ -63,6 +77,7 @@ computed on all cores; a progress bar shows on a terminal.`,
 	opts.flags.register(cmd)
 	cmd.Flags().StringArrayVar(&opts.vary, "vary", nil, "grow-step parameter and range PARAM=FROM:TO:STEPS (give twice)")
 	cmd.Flags().StringVar(&opts.show, "show", "coverage", "quantity to map: "+strings.Join(windowShows, ", "))
+	cmd.Flags().IntVar(&opts.maxPoints, "max-points", defaultMaxPoints, "most grid points computed (each takes about 0.5 KiB of memory)")
 	opts.modelFlags.register(cmd, "write a heat map to this .png or .svg file")
 	return cmd
 }
@@ -130,6 +145,9 @@ func windowRun(opts *windowOptions) error {
 			return withHint(err, "write --vary PARAM=FROM:TO:STEPS with PARAM temperature, pressure, duration or a gas, e.g. --vary temperature=950C:1050C:11")
 		}
 		axes[i] = a
+	}
+	if err := opts.checkGrid(axes); err != nil {
+		return err
 	}
 	params, err := loadParams(opts.params)
 	if err != nil {
@@ -204,6 +222,18 @@ func windowRun(opts *windowOptions) error {
 		fmt.Fprintf(opts.f.io.Err, "wrote %s\n", opts.plot)
 	}
 	return nil
+}
+
+// checkGrid refuses a grid of more than --max-points points, before
+// anything is computed, with the memory it would take.
+func (opts *windowOptions) checkGrid(axes [2]kinetics.Axis) error {
+	n := int64(axes[0].Steps) * int64(axes[1].Steps)
+	if n <= int64(opts.maxPoints) {
+		return nil
+	}
+	return withHint(usagef("window: a %d × %d grid is %d points, over the limit of %d (it would take about %s of memory)",
+		axes[0].Steps, axes[1].Steps, n, opts.maxPoints, infile.FormatSize(n*pointBytes)),
+		"use fewer steps per --vary, or raise the limit with --max-points N if the machine has the memory")
 }
 
 func displayValues(a kinetics.Axis, si []float64) []float64 {

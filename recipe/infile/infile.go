@@ -101,9 +101,12 @@ func (e *TooLargeError) Hint() string {
 // Unwrap returns ErrTooLarge.
 func (e *TooLargeError) Unwrap() error { return ErrTooLarge }
 
-// FormatSize writes a byte count for people: "1 MiB", "3.2 MiB", "512 B".
+// FormatSize writes a byte count for people: "512 B", "1 MiB", "3.2 MiB",
+// "4.1 TiB".
 func FormatSize(n int64) string {
 	switch {
+	case n >= 1<<40:
+		return fmt.Sprintf("%.1f TiB", float64(n)/(1<<40))
 	case n >= GiB && n%GiB == 0:
 		return fmt.Sprintf("%d GiB", n/GiB)
 	case n >= GiB:

@@ -110,7 +110,7 @@ func TestFormatSize(t *testing.T) {
 	tests := []struct {
 		n    int64
 		want string
-	}{{512, "512 B"}, {1536, "1.5 KiB"}, {MiB, "1 MiB"}, {3*MiB + MiB/5, "3.2 MiB"}, {GiB, "1 GiB"}, {GiB + GiB/2, "1.5 GiB"}}
+	}{{512, "512 B"}, {1536, "1.5 KiB"}, {MiB, "1 MiB"}, {3*MiB + MiB/5, "3.2 MiB"}, {GiB, "1 GiB"}, {GiB + GiB/2, "1.5 GiB"}, {4 << 40, "4.0 TiB"}}
 	for _, tt := range tests {
 		if got := FormatSize(tt.n); got != tt.want {
 			t.Errorf("FormatSize(%d): got %q, want %q", tt.n, got, tt.want)
