@@ -275,7 +275,9 @@ func newMeasureImageCmd(f *factory) *cobra.Command {
 	cmd := &cobra.Command{
 		Use:   "image FILE",
 		Short: "Coverage, domain count, density and sizes from a micrograph (PNG, JPEG, TIFF)",
-		Args:  cobra.ExactArgs(1),
+		Long: `Measure coverage, domain count, density and sizes from a micrograph: a PNG,
+JPEG or TIFF regular file of at most 1 GiB and 256 Mpixel.`,
+		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			opts.flags.image = args[0]
 			opts.flags.bareGraySet = cmd.Flags().Changed("bare-gray")

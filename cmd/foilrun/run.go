@@ -87,7 +87,7 @@ deviations from plan the furnace log shows.`,
 		},
 	}
 	opts.register(cmd)
-	cmd.Flags().StringVar(&opts.log, "furnace-log", "", "the furnace controller's CSV log of the run")
+	cmd.Flags().StringVar(&opts.log, "furnace-log", "", "the furnace controller's CSV log of the run (a regular file of at most 1 GiB)")
 	cmd.Flags().StringArrayVar(&opts.outcomes, "outcome", nil, "measured outcome metric=value[unit] (repeatable)")
 	cmd.Flags().BoolVar(&opts.aborted, "aborted", false, "the run was aborted")
 	cmd.Flags().StringVar(&opts.started, "started", "", "when the run started (RFC 3339, e.g. 2026-03-01T09:30:00Z; default now)")
@@ -274,7 +274,7 @@ func newRunFinishCmd(f *factory) *cobra.Command {
 			return runFinishRun(cmd.Context(), opts)
 		},
 	}
-	cmd.Flags().StringVar(&opts.log, "furnace-log", "", "the furnace controller's CSV log of the run")
+	cmd.Flags().StringVar(&opts.log, "furnace-log", "", "the furnace controller's CSV log of the run (a regular file of at most 1 GiB)")
 	cmd.Flags().BoolVar(&opts.aborted, "aborted", false, "the run was aborted")
 	cmd.Flags().StringVar(&opts.note, "note", "", "a closing note")
 	cmd.Flags().StringVar(&opts.flags.furnace, "furnace", "", "furnace file for reading the log (default the one the recipe names)")
