@@ -154,6 +154,10 @@ type File struct {
 func Open(path string, k Kind) (*File, error) {
 	fi, err := os.Stat(path)
 	if err != nil {
+		var pe *fs.PathError
+		if errors.As(err, &pe) {
+			pe.Op = "open" // as os.Open says it: "open r.yaml: no such file or directory"
+		}
 		return nil, err
 	}
 	if err := k.check(path, fi); err != nil {
