@@ -172,7 +172,13 @@ func TestOutputGuard(t *testing.T) {
 	if code, _, errs := runArgs(t, "checklist", l.recipe, "-o", fresh); code != 0 {
 		t.Fatalf("checklist -o a new file: exit %d: %s", code, errs)
 	}
-	entries, _ := os.ReadDir(l.dir)
+	noTempFiles(t, l.dir)
+}
+
+// noTempFiles fails the test for any temporary output file left in dir.
+func noTempFiles(t *testing.T, dir string) {
+	t.Helper()
+	entries, _ := os.ReadDir(dir)
 	for _, e := range entries {
 		if strings.Contains(e.Name(), ".tmp-") {
 			t.Errorf("temporary file %s left behind", e.Name())
@@ -245,12 +251,7 @@ func TestFailedExportKeepsOldFile(t *testing.T) {
 	if after := digest(t, keep); after != before {
 		t.Errorf("keep.json changed: sha256 %s, was %s", after, before)
 	}
-	entries, _ := os.ReadDir(l.dir)
-	for _, e := range entries {
-		if strings.Contains(e.Name(), ".tmp-") {
-			t.Errorf("temporary file %s left behind", e.Name())
-		}
-	}
+	noTempFiles(t, l.dir)
 }
 
 // TestKilledBackup: a db backup killed (SIGKILL) while it writes leaves no

@@ -121,8 +121,9 @@ func FormatSize(n int64) string {
 	return fmt.Sprintf("%d B", n)
 }
 
-// typeOf names what a non-regular file mode is.
-func typeOf(m fs.FileMode) string {
+// Describe names what kind of file a mode is, for messages: "a regular
+// file", "a folder", "a named pipe (FIFO)", "a character device", ...
+func Describe(m fs.FileMode) string {
 	switch {
 	case m.IsDir():
 		return "a folder"
@@ -134,8 +135,12 @@ func typeOf(m fs.FileMode) string {
 		return "a block device"
 	case m&fs.ModeSocket != 0:
 		return "a socket"
+	case m&fs.ModeSymlink != 0:
+		return "a symbolic link"
+	case m.IsRegular():
+		return "a regular file"
 	}
-	return "not a plain file (" + m.Type().String() + ")"
+	return "a special file (" + m.Type().String() + ")"
 }
 
 // File is an input opened by Open: reads stop with a *TooLargeError once
@@ -181,7 +186,7 @@ func Open(path string, k Kind) (*File, error) {
 
 func (k Kind) check(path string, fi fs.FileInfo) error {
 	if !fi.Mode().IsRegular() {
-		return &NotRegularError{Kind: k, Path: path, Type: typeOf(fi.Mode())}
+		return &NotRegularError{Kind: k, Path: path, Type: Describe(fi.Mode())}
 	}
 	if fi.Size() > k.Max {
 		return &TooLargeError{Kind: k, Path: path, Size: fi.Size()}

@@ -30,6 +30,8 @@ import (
 	"io/fs"
 	"os"
 	"path/filepath"
+
+	"github.com/foilrun/foilrun/recipe/infile"
 )
 
 // ErrRefused is wrapped by every error for a target the guard refuses.
@@ -83,7 +85,7 @@ func Check(path string, g Guard) error {
 	case fi.Mode()&fs.ModeSymlink != 0:
 		return refuse("is a symbolic link; foilrun does not write through links", "give the path of the file itself, or a new name")
 	case !fi.Mode().IsRegular():
-		return refuse("is not a regular file ("+describe(fi.Mode())+")", "give the path of a new file")
+		return refuse("is not a regular file ("+infile.Describe(fi.Mode())+")", "give the path of a new file")
 	}
 	for _, in := range g.Inputs {
 		if in.Path == "" {
@@ -97,20 +99,6 @@ func Check(path string, g Guard) error {
 		return refuse("already exists", "pass --force to replace it, or give a new file name")
 	}
 	return nil
-}
-
-func describe(m fs.FileMode) string {
-	switch {
-	case m.IsDir():
-		return "a folder"
-	case m&fs.ModeNamedPipe != 0:
-		return "a named pipe"
-	case m&fs.ModeDevice != 0:
-		return "a device"
-	case m&fs.ModeSocket != 0:
-		return "a socket"
-	}
-	return m.Type().String()
 }
 
 // File is an output being written: a temporary file beside the target.
@@ -174,26 +162,32 @@ func (f *File) Commit() error {
 	if f.done {
 		return fmt.Errorf("write %q: already committed or aborted", f.target)
 	}
-	err := f.tmp.Sync()
-	if cerr := f.tmp.Close(); err == nil {
+	f.done = true
+	if err := place(f.tmp, f.target, f.guard); err != nil {
+		os.Remove(f.tmp.Name())
+		return err
+	}
+	return nil
+}
+
+// place flushes tmp to disk, closes it, checks the guard once more and
+// renames tmp over target, then syncs target's folder. It leaves the
+// removal of tmp, on an error, to the caller.
+func place(tmp *os.File, target string, g Guard) error {
+	err := tmp.Sync()
+	if cerr := tmp.Close(); err == nil {
 		err = cerr
 	}
 	if err == nil {
-		err = Check(f.target, f.guard)
-	}
-	if err == nil {
-		err = os.Rename(f.tmp.Name(), f.target)
-	}
-	f.done = true
-	if err != nil {
-		os.Remove(f.tmp.Name())
-		var re *RefusedError
-		if errors.As(err, &re) {
+		if err = Check(target, g); err != nil {
 			return err
 		}
-		return fmt.Errorf("write %q: %w", f.target, err)
+		err = os.Rename(tmp.Name(), target)
 	}
-	syncDir(filepath.Dir(f.target))
+	if err != nil {
+		return fmt.Errorf("write %q: %w", target, err)
+	}
+	syncDir(filepath.Dir(target))
 	return nil
 }
 
@@ -272,25 +266,7 @@ func (r *Reserved) Commit() error {
 	if err != nil {
 		return fmt.Errorf("write %q: %w", r.target, err)
 	}
-	err = f.Sync()
-	if cerr := f.Close(); err == nil {
-		err = cerr
-	}
-	if err == nil {
-		err = Check(r.target, r.guard)
-	}
-	if err == nil {
-		err = os.Rename(r.Path, r.target)
-	}
-	if err != nil {
-		var re *RefusedError
-		if errors.As(err, &re) {
-			return err
-		}
-		return fmt.Errorf("write %q: %w", r.target, err)
-	}
-	syncDir(filepath.Dir(r.target))
-	return nil
+	return place(f, r.target, r.guard)
 }
 
 // Abort removes the temporary folder and whatever was written in it.

@@ -97,7 +97,7 @@ func TestGuard(t *testing.T) {
 		{"the input", input, Guard{Force: true, Inputs: in}, "is the recipe this command reads"},
 		{"a hard link to the input", hard, Guard{Force: true, Inputs: in}, "is the recipe this command reads"},
 		{"a folder", dir, Guard{Force: true}, "is not a regular file (a folder)"},
-		{"a fifo", fifo, Guard{Force: true}, "is not a regular file (a named pipe)"},
+		{"a fifo", fifo, Guard{Force: true}, "is not a regular file (a named pipe (FIFO))"},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
