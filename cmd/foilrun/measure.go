@@ -94,31 +94,9 @@ type imageResult struct {
 // the outcomes it yields; the overlay goes through f's guard, with the
 // image as an input.
 func (mf *measureFlags) measureImage(f *factory) (*imageResult, []measurement, error) {
-	if mf.pixel == "" {
-		return nil, nil, usagef("--pixel is required with an image, e.g. --pixel 0.25um")
-	}
-	px, err := recipe.Parse(mf.pixel, recipe.Length)
+	set, err := mf.settings()
 	if err != nil {
-		return nil, nil, usagef("--pixel: %v", err)
-	}
-	if !(px.SI >= minPixel && px.SI <= maxPixel) {
-		return nil, nil, usagef("--pixel %q: want a pixel size between 0.1 nm and 1 mm", mf.pixel)
-	}
-	pol, err := micrograph.ParsePolarity(mf.polarity)
-	if err != nil {
-		return nil, nil, usagef("--polarity: %v", err)
-	}
-	set := micrograph.Settings{PixelSize: px.SI, Polarity: pol, MinAreaPixels: mf.minArea}
-	if mf.bareGraySet {
-		g := mf.bareGray
-		set.BareGray = &g
-	}
-	if mf.bareRegion != "" {
-		r, err := parseRect(mf.bareRegion)
-		if err != nil {
-			return nil, nil, usagef("--bare-region: %v", err)
-		}
-		set.BareRegion = r
+		return nil, nil, err
 	}
 	guard := f.guard(mf.force, outfile.Input{What: "micrograph", Path: mf.image})
 	if err := checkOutput(mf.overlay, guard); err != nil {
@@ -163,6 +141,39 @@ func (mf *measureFlags) measureImage(f *factory) (*imageResult, []measurement, e
 		ms = append(ms, measurement{Metric: "domain_size", Value: res.Sizes.Mean * 1e6, Unit: "um", Method: method + " (mean area-equivalent diameter, interior domains)", Text: num(res.Sizes.Mean*1e6, 4) + " um"})
 	}
 	return out, ms, nil
+}
+
+// settings reads the analysis flags: --pixel (required, 0.1 nm to 1 mm),
+// --polarity, --min-area, --bare-gray and --bare-region.
+func (mf *measureFlags) settings() (micrograph.Settings, error) {
+	var set micrograph.Settings
+	if mf.pixel == "" {
+		return set, usagef("--pixel is required with an image, e.g. --pixel 0.25um")
+	}
+	px, err := recipe.Parse(mf.pixel, recipe.Length)
+	if err != nil {
+		return set, usagef("--pixel: %v", err)
+	}
+	if !(px.SI >= minPixel && px.SI <= maxPixel) {
+		return set, usagef("--pixel %q: want a pixel size between 0.1 nm and 1 mm", mf.pixel)
+	}
+	pol, err := micrograph.ParsePolarity(mf.polarity)
+	if err != nil {
+		return set, usagef("--polarity: %v", err)
+	}
+	set = micrograph.Settings{PixelSize: px.SI, Polarity: pol, MinAreaPixels: mf.minArea}
+	if mf.bareGraySet {
+		g := mf.bareGray
+		set.BareGray = &g
+	}
+	if mf.bareRegion != "" {
+		r, err := parseRect(mf.bareRegion)
+		if err != nil {
+			return set, usagef("--bare-region: %v", err)
+		}
+		set.BareRegion = r
+	}
+	return set, nil
 }
 
 // decodeImage reads and decodes a micrograph through the bounded reader

@@ -10,6 +10,7 @@ import (
 
 	"github.com/spf13/cobra"
 
+	"github.com/foilrun/foilrun/cmd/foilrun/internal/outfile"
 	"github.com/foilrun/foilrun/kinetics"
 	"github.com/foilrun/foilrun/recipe/infile"
 )
@@ -202,25 +203,32 @@ func windowRun(opts *windowOptions) error {
 		return err
 	}
 	if opts.plot != "" {
-		z := make([][]float64, len(m.Ys))
-		blocked := make([][]bool, len(m.Ys))
-		for iy, row := range m.Points {
-			z[iy] = make([]float64, len(row))
-			blocked[iy] = make([]bool, len(row))
-			for ix, p := range row {
-				z[iy][ix] = showValue(opts.show, p)
-				if !p.Feasible {
-					z[iy][ix], blocked[iy][ix] = math.NaN(), true
-				}
+		return opts.writePlot(m, guard)
+	}
+	return nil
+}
+
+// writePlot writes the --plot heat map of the map's --show quantity,
+// infeasible cells blocked.
+func (opts *windowOptions) writePlot(m *kinetics.Map, guard outfile.Guard) error {
+	z := make([][]float64, len(m.Ys))
+	blocked := make([][]bool, len(m.Ys))
+	for iy, row := range m.Points {
+		z[iy] = make([]float64, len(row))
+		blocked[iy] = make([]bool, len(row))
+		for ix, p := range row {
+			z[iy][ix] = showValue(opts.show, p)
+			if !p.Feasible {
+				z[iy][ix], blocked[iy][ix] = math.NaN(), true
 			}
 		}
-		xs, ys := displayValues(m.X, m.Xs), displayValues(m.Y, m.Ys)
-		title := fmt.Sprintf("%s: %s", m.Recipe, showLabel(opts.show))
-		if err := writeHeatMap(opts.plot, guard, title, m.X.Label(), m.Y.Label(), showLabel(opts.show), xs, ys, z, blocked); err != nil {
-			return err
-		}
-		fmt.Fprintf(opts.f.io.Err, "wrote %s\n", opts.plot)
 	}
+	xs, ys := displayValues(m.X, m.Xs), displayValues(m.Y, m.Ys)
+	title := fmt.Sprintf("%s: %s", m.Recipe, showLabel(opts.show))
+	if err := writeHeatMap(opts.plot, guard, title, m.X.Label(), m.Y.Label(), showLabel(opts.show), xs, ys, z, blocked); err != nil {
+		return err
+	}
+	fmt.Fprintf(opts.f.io.Err, "wrote %s\n", opts.plot)
 	return nil
 }
 
