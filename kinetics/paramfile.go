@@ -4,13 +4,13 @@ import (
 	"bytes"
 	"fmt"
 	"math"
-	"os"
 	"strconv"
 	"strings"
 
 	"gopkg.in/yaml.v3"
 
 	"github.com/foilrun/foilrun/recipe"
+	"github.com/foilrun/foilrun/recipe/infile"
 )
 
 // The parameter file is YAML with one line per parameter; quantities carry
@@ -67,9 +67,10 @@ func parseParamValue(text string, dim recipe.Dimension) (float64, error) {
 	return recipe.In(q.SI, "eV")
 }
 
-// LoadParams reads and validates a parameter file.
+// LoadParams reads (through infile: a regular file of at most 1 MiB) and
+// validates a parameter file.
 func LoadParams(path string) (Params, error) {
-	data, err := os.ReadFile(path)
+	data, err := infile.ReadFile(path, infile.Params)
 	if err != nil {
 		return Params{}, fmt.Errorf("load params: %w", err)
 	}

@@ -4,7 +4,6 @@ import (
 	"bytes"
 	"errors"
 	"fmt"
-	"os"
 	"path/filepath"
 	"regexp"
 	"strconv"
@@ -12,6 +11,8 @@ import (
 	"unicode/utf8"
 
 	"gopkg.in/yaml.v3"
+
+	"github.com/foilrun/foilrun/recipe/infile"
 )
 
 // ErrInvalid is wrapped by every error that comes from a file's content (as
@@ -56,28 +57,29 @@ func (e *LoadError) Error() string {
 // Unwrap makes errors.Is(err, ErrInvalid) true.
 func (e *LoadError) Unwrap() error { return ErrInvalid }
 
-// LoadRecipe reads and validates a recipe file. It does not load the
+// LoadRecipe reads (through infile: a regular file of at most 1 MiB) and
+// validates a recipe file. It does not load the
 // furnace or site the recipe names; see Resolve.
 func LoadRecipe(path string) (*Recipe, error) {
-	data, err := os.ReadFile(path)
+	data, err := infile.ReadFile(path, infile.Recipe)
 	if err != nil {
 		return nil, fmt.Errorf("load recipe: %w", err)
 	}
 	return ParseRecipe(path, data)
 }
 
-// LoadFurnace reads and validates a furnace file.
+// LoadFurnace reads (as LoadRecipe) and validates a furnace file.
 func LoadFurnace(path string) (*Furnace, error) {
-	data, err := os.ReadFile(path)
+	data, err := infile.ReadFile(path, infile.Furnace)
 	if err != nil {
 		return nil, fmt.Errorf("load furnace: %w", err)
 	}
 	return ParseFurnace(path, data)
 }
 
-// LoadSite reads and validates a site file.
+// LoadSite reads (as LoadRecipe) and validates a site file.
 func LoadSite(path string) (*Site, error) {
-	data, err := os.ReadFile(path)
+	data, err := infile.ReadFile(path, infile.Site)
 	if err != nil {
 		return nil, fmt.Errorf("load site: %w", err)
 	}

@@ -23,6 +23,18 @@ func (ps *problems) positive(q Quantity, field string) {
 	}
 }
 
+// maxStepDuration is the longest duration a step may have: 7 days, far
+// beyond any CVD step (hours at most), yet well inside what the model
+// integrates without overflow.
+const maxStepDuration = 7 * 24 * 3600 // s
+
+// stepDuration refuses a step duration over maxStepDuration.
+func (ps *problems) stepDuration(q Quantity, label string) {
+	if q.SI > maxStepDuration {
+		ps.at(q.Pos, "duration", fmt.Sprintf("step %s: duration %q is longer than 7 days", label, q.Text), "write the step's real length, such as \"30 min\"")
+	}
+}
+
 // nonNegative requires q ≥ 0 when set.
 func (ps *problems) nonNegative(q Quantity, field string) {
 	if !q.IsZero() && q.SI < 0 {
@@ -75,6 +87,7 @@ func validateRecipe(r *Recipe) []Problem {
 // needs and refuses (stepKind). label names the step in messages.
 func (ps *problems) step(s *Step, label string) {
 	ps.positive(s.Duration, "duration")
+	ps.stepDuration(s.Duration, label)
 	ps.positive(s.Until, "until")
 	ps.absolute(s.Temperature, "temperature")
 	ps.absolute(s.To, "to")

@@ -3,7 +3,6 @@ package main
 import (
 	"bytes"
 	"fmt"
-	"os"
 	"text/template"
 
 	"github.com/spf13/cobra"
@@ -18,6 +17,7 @@ type checklistOptions struct {
 	flags   recipeFlags
 	format  string
 	outFile string
+	force   bool
 }
 
 func newChecklistCmd(f *factory) *cobra.Command {
@@ -48,6 +48,7 @@ the set-up.`,
 	opts.flags.register(cmd)
 	cmd.Flags().StringVar(&opts.format, "format", templates.ChecklistText, "checklist format: text or markdown")
 	cmd.Flags().StringVarP(&opts.outFile, "output-file", "o", "", "write the checklist to FILE instead of standard output")
+	addForceFlag(cmd, &opts.force)
 	return cmd
 }
 
@@ -78,8 +79,8 @@ func checklistRun(opts *checklistOptions) error {
 		return err
 	}
 	if opts.outFile != "" {
-		if err := os.WriteFile(opts.outFile, out, 0o644); err != nil {
-			return fmt.Errorf("write checklist: %w", err)
+		if err := writeBytes(opts.outFile, opts.f.guard(opts.force, planInputs(plan, site)...), out); err != nil {
+			return err
 		}
 		fmt.Fprintf(opts.f.io.Err, "checklist written to %s (%s)\n", opts.outFile, rep.Verdict)
 	} else if _, err := opts.f.io.Out.Write(out); err != nil {

@@ -9,6 +9,7 @@ import (
 
 	"github.com/spf13/cobra"
 
+	"github.com/foilrun/foilrun/cmd/foilrun/internal/outfile"
 	"github.com/foilrun/foilrun/store"
 	"github.com/foilrun/foilrun/store/postgres"
 )
@@ -23,30 +24,52 @@ func newDBCmd(f *factory) *cobra.Command {
 }
 
 type dbBackupOptions struct {
-	f    *factory
-	file string
+	f     *factory
+	file  string
+	force bool
 }
 
 func newDBBackupCmd(f *factory) *cobra.Command {
 	opts := &dbBackupOptions{f: f}
-	return &cobra.Command{
+	cmd := &cobra.Command{
 		Use:   "backup FILE",
 		Short: "Write a consistent copy of the run log to a new file, while others may be logging",
-		Args:  cobra.ExactArgs(1),
+		Long: `Write a consistent copy of the run log to FILE, a SQLite file, while others may
+be logging. The copy is written under a temporary name in FILE's folder,
+checked, and only then renamed to FILE, so an interrupted backup leaves no
+FILE behind and can simply be run again.`,
+		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			opts.file = args[0]
 			return dbBackupRun(cmd.Context(), opts)
 		},
 	}
+	addForceFlag(cmd, &opts.force)
+	return cmd
 }
 
+// dbBackupRun has the log write its backup to a fresh temporary path
+// beside the target (outfile.Reserve) and renames it into place once it
+// is written and checked.
 func dbBackupRun(ctx context.Context, o *dbBackupOptions) error {
+	g := o.f.guard(o.force)
+	if err := checkOutput(o.file, g); err != nil {
+		return err
+	}
 	l, err := o.f.runLog(ctx)
 	if err != nil {
 		return err
 	}
-	if err := l.Backup(ctx, o.file); err != nil {
-		return err
+	tmp, err := outfile.Reserve(o.file, g)
+	if err != nil {
+		return outputError(err)
+	}
+	if err := l.Backup(ctx, tmp.Path); err != nil {
+		tmp.Abort()
+		return fmt.Errorf("backup %q: %w", o.file, err)
+	}
+	if err := tmp.Commit(); err != nil {
+		return outputError(err)
 	}
 	fmt.Fprintf(o.f.io.Err, "backup written to %s and checked\n", o.file)
 	return nil

@@ -79,7 +79,7 @@ func demoRun(ctx context.Context, o *demoOptions) error {
 		return err
 	}
 	d := demoFiles{paths: paths, short: short, fitted: filepath.Join(paths.Dir, "params-fitted.yaml"),
-		suggested: filepath.Join(paths.Recipes, "suggested.yaml")}
+		suggested: filepath.Join(paths.Recipes, "suggested.yaml"), force: o.force}
 	code, err := o.walk(d.beforeRun())
 	if err != nil {
 		return err
@@ -100,6 +100,16 @@ type demoFiles struct {
 	paths             demolab.Paths
 	short             demolab.ShortRun
 	fitted, suggested string
+	force             bool // an earlier demo's outputs are replaced
+}
+
+// writes is a step's arguments, with --force when the demo reuses a
+// folder whose earlier outputs the step replaces.
+func (d demoFiles) writes(args ...string) []string {
+	if d.force {
+		return append(args, "--force")
+	}
+	return args
 }
 
 // beforeRun are the steps up to starting the short run, whose code the
@@ -109,8 +119,8 @@ func (d demoFiles) beforeRun() []demoStep {
 	return []demoStep{
 		{"1. Check the recipe against the furnace", []string{"check", p.Recipe}, 0},
 		{"2. Hazards of the recipe in this room", []string{"safety", p.Recipe}, 0},
-		{"3. Print the pre-run checklist", []string{"checklist", p.Recipe, "--format", "markdown", "-o", filepath.Join(p.Dir, "checklist.md")}, 0},
-		{"4. Predict coverage and domain size", []string{"predict", p.Recipe, "--plot", filepath.Join(p.Plots, "predict.png")}, 0},
+		{"3. Print the pre-run checklist", d.writes("checklist", p.Recipe, "--format", "markdown", "-o", filepath.Join(p.Dir, "checklist.md")), 0},
+		{"4. Predict coverage and domain size", d.writes("predict", p.Recipe, "--plot", filepath.Join(p.Plots, "predict.png")), 0},
 		{"5. Log a short nucleation run: start it", []string{"--db=" + p.DB, "run", "start", d.short.Recipe, "--operator", "operator A", "--lot", "demo-lot-4"}, 0},
 	}
 }
@@ -121,12 +131,12 @@ func (d demoFiles) afterRun(run string) []demoStep {
 	return []demoStep{
 		{"6. Add a note while it runs", []string{db, "run", "note", run, "foil placed at the centre of the hot zone"}, 0},
 		{"7. Finish it with the furnace controller's log", []string{db, "run", "finish", run, "--furnace-log", d.short.FurnaceLog}, 0},
-		{"8. Measure the foil: micrograph, transmittance, Raman", []string{db, "outcome", "measure", run, "--image", d.short.Micrograph, "--pixel", "0.2um",
-			"--polarity", "darker", "--overlay", filepath.Join(p.Images, "foil-nucleation-overlay.png"), "--transmittance", "97.6%", "--raman", "2d/g=2.4,d/g=0.06"}, 0},
+		{"8. Measure the foil: micrograph, transmittance, Raman", d.writes(db, "outcome", "measure", run, "--image", d.short.Micrograph, "--pixel", "0.2um",
+			"--polarity", "darker", "--overlay", filepath.Join(p.Images, "foil-nucleation-overlay.png"), "--transmittance", "97.6%", "--raman", "2d/g=2.4,d/g=0.06"), 0},
 		{"9. Which parameters gave good coverage?", []string{db, "runs", "best", "--metric", "coverage", "--min", "0.95", "--by", "ch4_flow_sccm,growth_time_min", "--bins", "3"}, 0},
 		{"10. Which parameters matter most?", []string{db, "runs", "rank", "--metric", "coverage", "--min", "0.95"}, 0},
-		{"11. Calibrate the kinetics from the log", []string{db, "fit", "--metric", "coverage,nuclei_density", "--where", `status = "done"`, "--furnace", p.FurnaceA, "-o", d.fitted, "--plot", filepath.Join(p.Plots, "parity.png")}, 0},
-		{"12. Plan the next recipe", []string{"suggest", p.Recipe, "--params", d.fitted, "--target", "coverage>=0.99", "--target", "domain_size>=15um", "--vary", "temperature=950C:1050C,CH4,duration", "-o", d.suggested}, 0},
+		{"11. Calibrate the kinetics from the log", d.writes(db, "fit", "--metric", "coverage,nuclei_density", "--where", `status = "done"`, "--furnace", p.FurnaceA, "-o", d.fitted, "--plot", filepath.Join(p.Plots, "parity.png")), 0},
+		{"12. Plan the next recipe", d.writes("suggest", p.Recipe, "--params", d.fitted, "--target", "coverage>=0.99", "--target", "domain_size>=15um", "--vary", "temperature=950C:1050C,CH4,duration", "-o", d.suggested), 0},
 		{"13. Check the suggested recipe", []string{"check", d.suggested}, 0},
 	}
 }

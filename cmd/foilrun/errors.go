@@ -8,6 +8,7 @@ import (
 
 	"github.com/foilrun/foilrun/kinetics"
 	"github.com/foilrun/foilrun/recipe"
+	"github.com/foilrun/foilrun/recipe/infile"
 	"github.com/foilrun/foilrun/store"
 )
 
@@ -70,7 +71,7 @@ func withHint(err error, hint string) error {
 // inputSentinels are the library errors that mean "the user's data is
 // wrong": anything wrapping one of them is an input error.
 var inputSentinels = []error{
-	recipe.ErrInvalid, store.ErrInvalid,
+	recipe.ErrInvalid, store.ErrInvalid, infile.ErrNotRegular, infile.ErrTooLarge,
 	kinetics.ErrAxis, kinetics.ErrSuggest, kinetics.ErrFitInput, kinetics.ErrNoCovariance, kinetics.ErrMetric, kinetics.ErrParams,
 }
 

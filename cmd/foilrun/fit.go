@@ -5,7 +5,6 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"os"
 	"sort"
 	"strings"
 
@@ -13,6 +12,7 @@ import (
 
 	"github.com/foilrun/foilrun/cmd/foilrun/internal/chart"
 	"github.com/foilrun/foilrun/cmd/foilrun/internal/lab"
+	"github.com/foilrun/foilrun/cmd/foilrun/internal/outfile"
 	"github.com/foilrun/foilrun/kinetics"
 	"github.com/foilrun/foilrun/recipe"
 	"github.com/foilrun/foilrun/store"
@@ -27,7 +27,12 @@ type fitOptions struct {
 	params  string
 	outFile string
 	plot    string
+	force   bool
 	output  outputFormat
+	// inputs are the files the fit read: --params, --furnace and the
+	// furnace files the plans were rebuilt on; its outputs never replace
+	// them.
+	inputs []outfile.Input
 }
 
 func newFitCmd(f *factory) *cobra.Command {
@@ -61,6 +66,9 @@ parameters.`,
 				if err := checkPlotPath(opts.plot); err != nil {
 					return err
 				}
+				if opts.plot == opts.outFile {
+					return usagef("-o and --plot are both %q; give two files", opts.plot)
+				}
 			}
 			m, err := fitMetrics(metrics)
 			if err != nil {
@@ -78,6 +86,7 @@ parameters.`,
 	cmd.Flags().StringVar(&opts.params, "params", "", "start parameter file (default: illustrative parameters)")
 	cmd.Flags().StringVarP(&opts.outFile, "output-file", "o", "", "write the calibrated parameter file here")
 	cmd.Flags().StringVar(&opts.plot, "plot", "", "write a parity plot (measured against predicted) to this .png or .svg file")
+	addForceFlag(cmd, &opts.force)
 	addOutputFlag(cmd, &opts.output)
 	return cmd
 }
@@ -144,6 +153,7 @@ func (opts *fitOptions) collect(ctx context.Context, start kinetics.Params) ([]k
 	}
 	for _, u := range col.Furnaces {
 		fmt.Fprintf(opts.f.io.Err, "furnace %q from %s for %d runs\n", u.Name, u.Path, u.Runs)
+		opts.inputs = append(opts.inputs, outfile.Input{What: "furnace file", Path: u.Path})
 	}
 	for _, s := range col.Skipped {
 		fmt.Fprintln(opts.f.io.Err, "skipped "+s.String())
@@ -164,6 +174,12 @@ func fitRun(ctx context.Context, opts *fitOptions) error {
 	start, err := loadParams(opts.params)
 	if err != nil {
 		return err
+	}
+	opts.inputs = []outfile.Input{{What: "params file", Path: opts.params}, {What: "furnace file", Path: opts.furnace}}
+	for _, out := range []string{opts.outFile, opts.plot} {
+		if err := checkOutput(out, opts.f.guard(opts.force, opts.inputs...)); err != nil {
+			return err
+		}
 	}
 	obs, err := opts.collect(ctx, start)
 	if err != nil {
@@ -217,18 +233,19 @@ func fitError(err error) error {
 // writeFiles writes the parameter file (-o) and the parity plot (--plot)
 // when asked for.
 func (opts *fitOptions) writeFiles(res *kinetics.FitResult, codes []string) error {
+	g := opts.f.guard(opts.force, opts.inputs...)
 	if opts.outFile != "" {
 		data := fitParamsFile(res.Params, codes)
-		if err := os.WriteFile(opts.outFile, data, 0o644); err != nil {
-			return fmt.Errorf("fit: write params: %w", err)
-		}
 		if _, err := kinetics.ParseParams(opts.outFile, data); err != nil {
-			return fmt.Errorf("fit: the params file written does not read back: %w", err)
+			return fmt.Errorf("fit: the params file does not read back, so it is not written: %w", err)
+		}
+		if err := writeBytes(opts.outFile, g, data); err != nil {
+			return fmt.Errorf("fit: write params: %w", err)
 		}
 		fmt.Fprintf(opts.f.io.Err, "wrote %s\n", opts.outFile)
 	}
 	if opts.plot != "" {
-		if err := writeParity(opts.plot, res); err != nil {
+		if err := writeParity(opts.plot, g, res); err != nil {
 			return err
 		}
 		fmt.Fprintf(opts.f.io.Err, "wrote %s\n", opts.plot)
@@ -393,8 +410,9 @@ func printFit(w io.Writer, r fitResultJSON) error {
 }
 
 // writeParity draws measured against predicted, one panel per metric
-// (coverage in %, nuclei density per mm²), with the line of equality.
-func writeParity(path string, res *kinetics.FitResult) error {
+// (coverage in %, nuclei density per mm²), with the line of equality,
+// into path through the guard.
+func writeParity(path string, g outfile.Guard, res *kinetics.FitResult) error {
 	panels := map[string]*chart.ParityPanel{}
 	var names []string
 	for _, r := range res.Residuals {
@@ -425,7 +443,7 @@ func writeParity(path string, res *kinetics.FitResult) error {
 	for _, n := range names {
 		fig.Panels = append(fig.Panels, *panels[n])
 	}
-	return chart.WriteParity(path, fig)
+	return writeOutput(path, g, func(w io.Writer) error { return chart.WriteParity(w, path, fig) })
 }
 
 // intervalJSON is a 90 % (or other level) interval in display units, shown

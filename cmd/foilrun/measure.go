@@ -1,21 +1,20 @@
 package main
 
 import (
-	"crypto/sha256"
-	"encoding/hex"
 	"errors"
 	"fmt"
 	"image"
 	"io"
-	"os"
 	"strconv"
 	"strings"
 
 	"github.com/spf13/cobra"
 
+	"github.com/foilrun/foilrun/cmd/foilrun/internal/outfile"
 	"github.com/foilrun/foilrun/kinetics/film"
 	"github.com/foilrun/foilrun/kinetics/micrograph"
 	"github.com/foilrun/foilrun/recipe"
+	"github.com/foilrun/foilrun/recipe/infile"
 )
 
 // measurement is one measured outcome, ready to print or to store.
@@ -38,6 +37,7 @@ type measureFlags struct {
 	bareRegion    string
 	minArea       int
 	overlay       string
+	force         bool
 	transmittance string
 	substrate     string
 	raman         string
@@ -50,7 +50,15 @@ func (mf *measureFlags) registerImage(cmd *cobra.Command) {
 	cmd.Flags().StringVar(&mf.bareRegion, "bare-region", "", "rectangle x0,y0,x1,y1 (pixels) known to be bare copper")
 	cmd.Flags().IntVar(&mf.minArea, "min-area", 0, "drop specks smaller than this many pixels (default 16)")
 	cmd.Flags().StringVar(&mf.overlay, "overlay", "", "write the image with detected domains outlined to this PNG")
+	addForceFlag(cmd, &mf.force)
 }
+
+// Pixel sizes accepted by --pixel: from an electron micrograph's 0.1 nm
+// to a flatbed scan's 1 mm.
+const (
+	minPixel = 1e-10 // m
+	maxPixel = 1e-3  // m
+)
 
 func (mf *measureFlags) registerFilm(cmd *cobra.Command) {
 	cmd.Flags().StringVar(&mf.transmittance, "transmittance", "", "transmittance at 550 nm, e.g. 97.6%")
@@ -83,42 +91,24 @@ type imageResult struct {
 }
 
 // measureImage analyses the micrograph and returns the printed result and
-// the outcomes it yields.
-func (mf *measureFlags) measureImage(errw io.Writer) (*imageResult, []measurement, error) {
-	if mf.pixel == "" {
-		return nil, nil, usagef("--pixel is required with an image, e.g. --pixel 0.25um")
-	}
-	px, err := recipe.Parse(mf.pixel, recipe.Length)
-	if err != nil {
-		return nil, nil, usagef("--pixel: %v", err)
-	}
-	if !(px.SI > 0) {
-		return nil, nil, usagef("--pixel %q must be greater than zero", mf.pixel)
-	}
-	pol, err := micrograph.ParsePolarity(mf.polarity)
-	if err != nil {
-		return nil, nil, usagef("--polarity: %v", err)
-	}
-	set := micrograph.Settings{PixelSize: px.SI, Polarity: pol, MinAreaPixels: mf.minArea}
-	if mf.bareGraySet {
-		g := mf.bareGray
-		set.BareGray = &g
-	}
-	if mf.bareRegion != "" {
-		r, err := parseRect(mf.bareRegion)
-		if err != nil {
-			return nil, nil, usagef("--bare-region: %v", err)
-		}
-		set.BareRegion = r
-	}
-	data, err := os.ReadFile(mf.image)
+// the outcomes it yields; the overlay goes through f's guard, with the
+// image as an input.
+func (mf *measureFlags) measureImage(f *factory) (*imageResult, []measurement, error) {
+	set, err := mf.settings()
 	if err != nil {
 		return nil, nil, err
 	}
-	sum := sha256.Sum256(data)
-	img, info, err := micrograph.Decode(strings.NewReader(string(data)), micrograph.Limits{})
+	guard := f.guard(mf.force, outfile.Input{What: "micrograph", Path: mf.image})
+	if err := checkOutput(mf.overlay, guard); err != nil {
+		return nil, nil, err
+	}
+	img, info, sum, err := decodeImage(mf.image)
 	if err != nil {
-		return nil, nil, inputError(fmt.Errorf("image %q: %w", mf.image, err))
+		return nil, nil, err
+	}
+	if r := set.BareRegion; !r.Empty() && !r.In(img.Bounds()) {
+		return nil, nil, withHint(usagef("--bare-region %q lies outside the image, which is %d×%d pixels", mf.bareRegion, info.Width, info.Height),
+			fmt.Sprintf("give x0,y0,x1,y1 with 0 ≤ x0 < x1 ≤ %d and 0 ≤ y0 < y1 ≤ %d", info.Width, info.Height))
 	}
 	res, err := micrograph.Analyze(img, set)
 	if err != nil {
@@ -129,26 +119,18 @@ func (mf *measureFlags) measureImage(errw io.Writer) (*imageResult, []measuremen
 		return nil, nil, inputError(fmt.Errorf("image %q: %w", mf.image, err))
 	}
 	out := &imageResult{
-		File: mf.image, SHA256: hex.EncodeToString(sum[:]), Format: info.Format, Width: info.Width, Height: info.Height,
+		File: mf.image, SHA256: sum, Format: info.Format, Width: info.Width, Height: info.Height,
 		Coverage: res.Coverage, Domains: res.Count, Interior: res.Interior, Edge: res.Edge, Specks: res.Specks,
 		PerMM2: res.DensityPerMM2(), MeanUm: inUnit(res.Sizes.Mean, "um"), MedianUm: inUnit(res.Sizes.Median, "um"),
 		P10Um: inUnit(res.Sizes.P10, "um"), P90Um: inUnit(res.Sizes.P90, "um"), Threshold: res.Threshold,
 		Polarity: res.Polarity.String(), Reason: res.PolarityReason, Notes: res.Notes,
 	}
 	if mf.overlay != "" {
-		fh, err := os.Create(mf.overlay)
-		if err != nil {
-			return nil, nil, err
-		}
-		if err := res.WriteOverlay(fh, img); err != nil {
-			fh.Close()
-			return nil, nil, err
-		}
-		if err := fh.Close(); err != nil {
+		if err := writeOutput(mf.overlay, guard, func(w io.Writer) error { return res.WriteOverlay(w, img) }); err != nil {
 			return nil, nil, err
 		}
 		out.Overlay = mf.overlay
-		fmt.Fprintf(errw, "wrote overlay %s\n", mf.overlay)
+		fmt.Fprintf(f.io.Err, "wrote overlay %s\n", mf.overlay)
 	}
 	const method = "micrograph: otsu threshold after polynomial flattening"
 	ms := []measurement{{Metric: "coverage", Value: res.Coverage, Unit: "1", Method: method, Text: fixed(res.Coverage*100, 1) + " %"}}
@@ -159,6 +141,59 @@ func (mf *measureFlags) measureImage(errw io.Writer) (*imageResult, []measuremen
 		ms = append(ms, measurement{Metric: "domain_size", Value: inUnit(res.Sizes.Mean, "um"), Unit: "um", Method: method + " (mean area-equivalent diameter, interior domains)", Text: num(inUnit(res.Sizes.Mean, "um"), 4) + " um"})
 	}
 	return out, ms, nil
+}
+
+// settings reads the analysis flags: --pixel (required, 0.1 nm to 1 mm),
+// --polarity, --min-area, --bare-gray and --bare-region.
+func (mf *measureFlags) settings() (micrograph.Settings, error) {
+	var set micrograph.Settings
+	if mf.pixel == "" {
+		return set, usagef("--pixel is required with an image, e.g. --pixel 0.25um")
+	}
+	px, err := recipe.Parse(mf.pixel, recipe.Length)
+	if err != nil {
+		return set, usagef("--pixel: %v", err)
+	}
+	if !(px.SI >= minPixel && px.SI <= maxPixel) {
+		return set, usagef("--pixel %q: want a pixel size between 0.1 nm and 1 mm", mf.pixel)
+	}
+	pol, err := micrograph.ParsePolarity(mf.polarity)
+	if err != nil {
+		return set, usagef("--polarity: %v", err)
+	}
+	set = micrograph.Settings{PixelSize: px.SI, Polarity: pol, MinAreaPixels: mf.minArea}
+	if mf.bareGraySet {
+		g := mf.bareGray
+		set.BareGray = &g
+	}
+	if mf.bareRegion != "" {
+		r, err := parseRect(mf.bareRegion)
+		if err != nil {
+			return set, usagef("--bare-region: %v", err)
+		}
+		set.BareRegion = r
+	}
+	return set, nil
+}
+
+// decodeImage reads and decodes a micrograph through the bounded reader
+// (a regular file of at most 1 GiB; the decoder refuses more than
+// micrograph.DefaultMaxPixels) and returns the SHA-256 of its bytes.
+func decodeImage(path string) (image.Image, micrograph.Info, string, error) {
+	fh, err := infile.Open(path, infile.Image)
+	if err != nil {
+		return nil, micrograph.Info{}, "", fmt.Errorf("image: %w", err)
+	}
+	defer fh.Close()
+	img, info, err := micrograph.Decode(fh, micrograph.Limits{MaxBytes: infile.Image.Max})
+	if err != nil {
+		return nil, info, "", inputError(fmt.Errorf("image %q: %w", path, err))
+	}
+	sum, err := fh.SHA256()
+	if err != nil {
+		return nil, info, "", fmt.Errorf("image %q: %w", path, err)
+	}
+	return img, info, sum, nil
 }
 
 // measureFilm turns --transmittance and --raman into outcomes.
@@ -251,7 +286,9 @@ func newMeasureImageCmd(f *factory) *cobra.Command {
 	cmd := &cobra.Command{
 		Use:   "image FILE",
 		Short: "Coverage, domain count, density and sizes from a micrograph (PNG, JPEG, TIFF)",
-		Args:  cobra.ExactArgs(1),
+		Long: `Measure coverage, domain count, density and sizes from a micrograph: a PNG,
+JPEG or TIFF regular file of at most 1 GiB and 256 Mpixel.`,
+		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			opts.flags.image = args[0]
 			opts.flags.bareGraySet = cmd.Flags().Changed("bare-gray")
@@ -264,7 +301,7 @@ func newMeasureImageCmd(f *factory) *cobra.Command {
 }
 
 func measureImageRun(opts *measureOptions) error {
-	res, ms, err := opts.flags.measureImage(opts.f.io.Err)
+	res, ms, err := opts.flags.measureImage(opts.f)
 	if err != nil {
 		return err
 	}

@@ -55,7 +55,11 @@ func TestMeasureBadInput(t *testing.T) {
 		want string
 	}{
 		{"no pixel", []string{"measure", "image", path}, "--pixel is required"},
-		{"negative pixel", []string{"measure", "image", path, "--pixel", "-1um"}, "must be greater than zero"},
+		{"negative pixel", []string{"measure", "image", path, "--pixel", "-1um"}, `--pixel "-1um": want a pixel size between 0.1 nm and 1 mm`},
+		{"absurd pixel", []string{"measure", "image", path, "--pixel", "1e300m"}, `--pixel "1e300m": want a pixel size between 0.1 nm and 1 mm`},
+		{"bare region outside the image", []string{"measure", "image", path, "--pixel", "1um", "--bare-region", "500,500,600,520"},
+			`--bare-region "500,500,600,520" lies outside the image, which is 512×512 pixels`},
+		{"bare region partly outside", []string{"measure", "image", path, "--pixel", "1um", "--bare-region", "0,0,513,10"}, "lies outside the image"},
 		{"pixel as pressure", []string{"measure", "image", path, "--pixel", "1 Torr"}, "is a pressure, want a length"},
 		{"not an image", []string{"measure", "image", "../../go.mod", "--pixel", "1um"}, "unknown format"},
 		{"bad transmittance", []string{"measure", "film", "--transmittance", "120%"}, "transmittance"},

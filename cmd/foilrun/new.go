@@ -3,7 +3,6 @@ package main
 import (
 	"fmt"
 	"io/fs"
-	"os"
 
 	"github.com/spf13/cobra"
 
@@ -48,7 +47,7 @@ recipe comes from the low-pressure template. --list names the templates.`,
 	cmd.Flags().StringVar(&opts.from, "from", "", "template name (see --list)")
 	cmd.Flags().StringVarP(&opts.out, "output-file", "o", "", "write to this file instead of standard output")
 	cmd.Flags().BoolVar(&opts.list, "list", false, "list the templates")
-	cmd.Flags().BoolVar(&opts.force, "force", false, "overwrite an existing file")
+	addForceFlag(cmd, &opts.force)
 	return cmd
 }
 
@@ -72,22 +71,7 @@ func newRun(opts *newOptions) error {
 		_, err = opts.f.io.Out.Write(data)
 		return err
 	}
-	flag := os.O_WRONLY | os.O_CREATE | os.O_EXCL
-	if opts.force {
-		flag = os.O_WRONLY | os.O_CREATE | os.O_TRUNC
-	}
-	fh, err := os.OpenFile(opts.out, flag, 0o644)
-	if err != nil {
-		if os.IsExist(err) {
-			return withHint(usagef("%s already exists", opts.out), "pass --force to overwrite it")
-		}
-		return err
-	}
-	if _, err := fh.Write(data); err != nil {
-		fh.Close()
-		return err
-	}
-	if err := fh.Close(); err != nil {
+	if err := writeBytes(opts.out, opts.f.guard(opts.force), data); err != nil {
 		return err
 	}
 	fmt.Fprintf(opts.f.io.Err, "wrote %s (from template %s)\n", opts.out, tp.Name)

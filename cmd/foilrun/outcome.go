@@ -164,7 +164,7 @@ func outcomeMeasureRun(ctx context.Context, o *outcomeMeasureOptions) error {
 	var lines []string
 	var img *imageResult
 	if o.flags.image != "" {
-		res, m, err := o.flags.measureImage(o.f.io.Err)
+		res, m, err := o.flags.measureImage(o.f)
 		if err != nil {
 			return err
 		}

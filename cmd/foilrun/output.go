@@ -87,6 +87,63 @@ type table struct {
 
 func (t *table) add(cells ...string) { t.Rows = append(t.Rows, cells) }
 
+// escaped is t with every cell passed through escapeControl.
+func (t table) escaped() table {
+	out := t
+	out.Header = escapeAll(t.Header)
+	out.Rows = make([][]string, len(t.Rows))
+	for i, row := range t.Rows {
+		out.Rows[i] = escapeAll(row)
+	}
+	return out
+}
+
+func escapeAll(cells []string) []string {
+	out := make([]string, len(cells))
+	for i, c := range cells {
+		out[i] = escapeControl(c)
+	}
+	return out
+}
+
+// escapeControl shows the control characters in s as escapes (\x1b, \x0d,
+// \u202e), so that free text from the log or a file (a note, an operator's
+// name, an imported code) cannot move the cursor, recolour the terminal,
+// hide a line or reorder it when printed. Escaped: C0 controls except tab
+// and line break (the renderers lay those out), DEL, C1 controls, and the
+// Unicode bidirectional controls. JSON output and the database keep the
+// text as it was.
+func escapeControl(s string) string {
+	if !strings.ContainsFunc(s, isControl) {
+		return s
+	}
+	var b strings.Builder
+	for _, r := range s {
+		switch {
+		case !isControl(r):
+			b.WriteRune(r)
+		case r < 0x80:
+			fmt.Fprintf(&b, `\x%02x`, r)
+		default:
+			fmt.Fprintf(&b, `\u%04x`, r)
+		}
+	}
+	return b.String()
+}
+
+// isControl reports whether r is escaped by escapeControl.
+func isControl(r rune) bool {
+	switch {
+	case r == '\t' || r == '\n':
+		return false
+	case r < 0x20, r == 0x7f, r >= 0x80 && r < 0xa0:
+		return true
+	case r == 0x061c, r == 0x200e, r == 0x200f, r >= 0x202a && r <= 0x202e, r >= 0x2066 && r <= 0x2069:
+		return true // bidirectional marks, embeddings, overrides and isolates
+	}
+	return false
+}
+
 // writeTable prints the table for people: aligned with light rules on a
 // terminal, tab-separated with the header row when standard output is
 // piped (so that cut, awk and spreadsheets read it).
@@ -94,6 +151,7 @@ func writeTable(w io.Writer, t table) error {
 	if !isTerminal(w) {
 		return writeTSV(w, t)
 	}
+	t = t.escaped()
 	align := make([]tw.Align, len(t.Header))
 	for i := range align {
 		align[i] = tw.AlignLeft
@@ -127,7 +185,7 @@ func writeTSV(w io.Writer, t table) error {
 	for _, row := range append([][]string{t.Header}, t.Rows...) {
 		cells := make([]string, len(row))
 		for i, c := range row {
-			cells[i] = clean.Replace(c)
+			cells[i] = escapeControl(clean.Replace(c))
 		}
 		if _, err := io.WriteString(w, strings.Join(cells, "\t")+"\n"); err != nil {
 			return err
@@ -136,8 +194,10 @@ func writeTSV(w io.Writer, t table) error {
 	return nil
 }
 
-// writeCSV prints the table as CSV with a header row.
+// writeCSV prints the table as CSV with a header row, control characters
+// escaped (escapeControl).
 func writeCSV(w io.Writer, t table) error {
+	t = t.escaped()
 	cw := csv.NewWriter(w)
 	if err := cw.Write(t.Header); err != nil {
 		return err

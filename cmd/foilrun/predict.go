@@ -9,22 +9,32 @@ import (
 	"github.com/spf13/cobra"
 
 	"github.com/foilrun/foilrun/cmd/foilrun/internal/chart"
+	"github.com/foilrun/foilrun/cmd/foilrun/internal/outfile"
 	"github.com/foilrun/foilrun/kinetics"
 	"github.com/foilrun/foilrun/recipe"
 )
 
 // modelFlags are the flags every kinetics command shares: --params,
-// --output and --plot.
+// --output, --plot and --force.
 type modelFlags struct {
 	params string
 	output outputFormat
 	plot   string
+	force  bool
 }
 
 func (m *modelFlags) register(cmd *cobra.Command, plotUsage string) {
 	cmd.Flags().StringVar(&m.params, "params", "", "kinetics parameter file (default: illustrative parameters)")
 	addOutputFlag(cmd, &m.output)
 	cmd.Flags().StringVar(&m.plot, "plot", "", plotUsage)
+	addForceFlag(cmd, &m.force)
+}
+
+// plotGuard is the guard of --plot: the plan's files and the params
+// file are inputs.
+func (m *modelFlags) plotGuard(f *factory, plan *recipe.Plan, site *recipe.Site) (outfile.Guard, error) {
+	g := f.guard(m.force, append(planInputs(plan, site), outfile.Input{What: "params file", Path: m.params})...)
+	return g, checkOutput(m.plot, g)
 }
 
 // check validates --plot (--output is checked as it is parsed).
@@ -167,7 +177,11 @@ func predictRun(opts *predictOptions) error {
 	if err != nil {
 		return err
 	}
-	plan, _, err := opts.flags.loadPlan(opts.recipe)
+	plan, site, err := opts.flags.loadPlan(opts.recipe)
+	if err != nil {
+		return err
+	}
+	guard, err := opts.plotGuard(opts.f, plan, site)
 	if err != nil {
 		return err
 	}
@@ -205,7 +219,8 @@ func predictRun(opts *predictOptions) error {
 		return err
 	}
 	if opts.plot != "" {
-		if err := chart.WriteTimeFigure(opts.plot, predictFigure(res)); err != nil {
+		fig := predictFigure(res)
+		if err := writeOutput(opts.plot, guard, func(w io.Writer) error { return chart.WriteTimeFigure(w, opts.plot, fig) }); err != nil {
 			return err
 		}
 		fmt.Fprintf(opts.f.io.Err, "wrote %s\n", opts.plot)

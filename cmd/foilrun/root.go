@@ -50,7 +50,14 @@ func newRootCmd(f *factory) *cobra.Command {
 		Short: "Plan, check, predict and log graphene CVD growth on copper foil",
 		Long: `foilrun plans graphene growth recipes for tube-furnace CVD on copper foil, checks
 them against the furnace's limits, predicts coverage and domain size, flags
-hydrogen and methane hazards, logs every run and learns from the log.`,
+hydrogen and methane hazards, logs every run and learns from the log.
+
+Files: foilrun reads regular files only (not pipes, devices or folders), each
+kind up to a size: recipe, furnace, site and params files 1 MiB; furnace logs,
+micrographs and imports 1 GiB (micrographs also 256 Mpixel). It writes every
+output (-o, --plot, --overlay, db backup) to a temporary file that replaces
+the target only once complete, never through a symbolic link, over one of the
+command's inputs or the run log, nor over an existing file without --force.`,
 		SilenceUsage:  true,
 		SilenceErrors: true,
 	}

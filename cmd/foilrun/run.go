@@ -2,8 +2,6 @@ package main
 
 import (
 	"context"
-	"crypto/sha256"
-	"encoding/hex"
 	"errors"
 	"fmt"
 	"io"
@@ -16,6 +14,7 @@ import (
 
 	"github.com/foilrun/foilrun/cmd/foilrun/internal/lab"
 	"github.com/foilrun/foilrun/recipe"
+	"github.com/foilrun/foilrun/recipe/infile"
 	"github.com/foilrun/foilrun/store"
 	"github.com/foilrun/foilrun/store/furnacelog"
 )
@@ -89,7 +88,7 @@ deviations from plan the furnace log shows.`,
 		},
 	}
 	opts.register(cmd)
-	cmd.Flags().StringVar(&opts.log, "furnace-log", "", "the furnace controller's CSV log of the run")
+	cmd.Flags().StringVar(&opts.log, "furnace-log", "", "the furnace controller's CSV log of the run (a regular file of at most 1 GiB)")
 	cmd.Flags().StringArrayVar(&opts.outcomes, "outcome", nil, "measured outcome metric=value[unit] (repeatable)")
 	cmd.Flags().BoolVar(&opts.aborted, "aborted", false, "the run was aborted")
 	cmd.Flags().StringVar(&opts.started, "started", "", "when the run started (RFC 3339, e.g. 2026-03-01T09:30:00Z; default now)")
@@ -100,7 +99,7 @@ deviations from plan the furnace log shows.`,
 // runStartRun is run start and run add: it prints the new run's code and,
 // for run add, the deviations from plan (both results, on stdout).
 func runStartRun(ctx context.Context, o *runOptions) error {
-	data, err := os.ReadFile(o.recipe)
+	data, err := infile.ReadFile(o.recipe, infile.Recipe)
 	if err != nil {
 		return fmt.Errorf("load recipe: %w", err)
 	}
@@ -184,24 +183,27 @@ func (o *runOptions) finished(rec *store.RunRecord, plan *recipe.Plan, now time.
 	return nil
 }
 
-// readFurnaceLog reads and matches a controller log (starting at step
-// startsAt, or found from the log when 0), says on status which steps it
-// covers, and describes the file as an attachment. The file is streamed
-// and hashed as it is read.
+// readFurnaceLog reads (through the bounded reader: a regular file of at
+// most 1 GiB) and matches a controller log, starting at step startsAt or
+// found from the log when 0, says on status which steps it covers, and
+// describes the file as an attachment, hashed from the bytes read.
 func readFurnaceLog(path string, plan *recipe.Plan, startsAt int, status io.Writer) (furnacelog.Result, store.Attachment, error) {
 	if plan.Furnace.Log == nil {
 		return furnacelog.Result{}, store.Attachment{}, withHint(fmt.Errorf("furnace %q has no controller_log mapping", plan.Furnace.Name),
 			"add controller_log (time, temperature, pressure, flows: column and unit) to the furnace file")
 	}
-	fh, err := os.Open(path)
+	fh, err := infile.Open(path, infile.FurnaceLog)
 	if err != nil {
 		return furnacelog.Result{}, store.Attachment{}, fmt.Errorf("furnace log: %w", err)
 	}
 	defer fh.Close()
-	h := sha256.New()
-	lg, err := furnacelog.Read(io.TeeReader(fh, h), path, plan.Furnace, furnacelog.ReadOptions{})
+	lg, err := furnacelog.Read(fh, path, plan.Furnace, furnacelog.ReadOptions{})
 	if err != nil {
 		return furnacelog.Result{}, store.Attachment{}, err
+	}
+	sum, err := fh.SHA256()
+	if err != nil {
+		return furnacelog.Result{}, store.Attachment{}, fmt.Errorf("furnace log: %w", err)
 	}
 	res, err := furnacelog.Match(plan, lg, furnacelog.MatchOptions{StartsAt: startsAt})
 	if err != nil {
@@ -211,7 +213,7 @@ func readFurnaceLog(path string, plan *recipe.Plan, startsAt int, status io.Writ
 		return furnacelog.Result{}, store.Attachment{}, err
 	}
 	fmt.Fprintf(status, "furnace log %s: %s\n", path, res.Coverage())
-	return res, store.Attachment{Path: path, SHA256: hex.EncodeToString(h.Sum(nil)), Kind: "furnace-log"}, nil
+	return res, store.Attachment{Path: path, SHA256: sum, Kind: "furnace-log"}, nil
 }
 
 func printDeviations(w io.Writer, code string, devs []store.Deviation) error {
@@ -292,7 +294,7 @@ func newRunFinishCmd(f *factory) *cobra.Command {
 			return runFinishRun(cmd.Context(), opts)
 		},
 	}
-	cmd.Flags().StringVar(&opts.log, "furnace-log", "", "the furnace controller's CSV log of the run")
+	cmd.Flags().StringVar(&opts.log, "furnace-log", "", "the furnace controller's CSV log of the run (a regular file of at most 1 GiB)")
 	cmd.Flags().BoolVar(&opts.aborted, "aborted", false, "the run was aborted")
 	cmd.Flags().StringVar(&opts.note, "note", "", "a closing note")
 	cmd.Flags().StringVar(&opts.flags.furnace, "furnace", "", "furnace file for reading the log (default the one the recipe names)")
@@ -396,9 +398,10 @@ func runShowRun(ctx context.Context, o *runShowOptions) error {
 // printRun prints a run for people: its header and parameters, then each
 // section the log holds.
 func printRun(w io.Writer, rec store.RunRecord) error {
-	fmt.Fprintf(w, "run %s  %s\n", rec.Code, rec.Status)
+	e := escapeControl
+	fmt.Fprintf(w, "run %s  %s\n", e(rec.Code), e(string(rec.Status)))
 	fmt.Fprintf(w, "recipe    %s (sha256 %.12s)\nfurnace   %s\noperator  %s\nfoil lot  %s\nstarted   %s\nended     %s\n",
-		rec.RecipeName, rec.RecipeHash, rec.Furnace, rec.Operator, rec.Lot, when(rec.Started), when(rec.Ended))
+		e(rec.RecipeName), e(rec.RecipeHash), e(rec.Furnace), e(rec.Operator), e(rec.Lot), when(rec.Started), when(rec.Ended))
 	if err := section(w, "Recipe parameters", paramTable(rec)); err != nil {
 		return err
 	}
@@ -410,7 +413,7 @@ func printRun(w io.Writer, rec store.RunRecord) error {
 	if len(rec.Notes) > 0 {
 		heading(w, "Notes")
 		for _, n := range rec.Notes {
-			fmt.Fprintf(w, "%s  %s\n", when(n.At), n.Text)
+			fmt.Fprintf(w, "%s  %s\n", when(n.At), e(n.Text))
 		}
 	}
 	if len(rec.Actuals) > 0 {
@@ -426,7 +429,7 @@ func printRun(w io.Writer, rec store.RunRecord) error {
 	if len(rec.Attachments) > 0 {
 		heading(w, "Attachments")
 		for _, a := range rec.Attachments {
-			fmt.Fprintf(w, "%s  %s  sha256 %.12s\n", a.Kind, a.Path, a.SHA256)
+			fmt.Fprintf(w, "%s  %s  sha256 %.12s\n", e(a.Kind), e(a.Path), e(a.SHA256))
 		}
 	}
 	return nil

@@ -6,7 +6,6 @@ import (
 	"fmt"
 	"io"
 	"math"
-	"os"
 	"slices"
 	"strconv"
 	"strings"
@@ -14,6 +13,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"github.com/foilrun/foilrun/recipe"
+	"github.com/foilrun/foilrun/recipe/infile"
 	"github.com/foilrun/foilrun/store"
 )
 
@@ -368,6 +368,7 @@ type runsExportOptions struct {
 	f      *factory
 	format string
 	file   string
+	force  bool
 	where  []string
 }
 
@@ -386,40 +387,44 @@ func newRunsExportCmd(f *factory) *cobra.Command {
 	}
 	cmd.Flags().StringVar(&opts.format, "format", formatJSON, "csv or json")
 	cmd.Flags().StringVarP(&opts.file, "output-file", "o", "", "write to this file (default standard output)")
+	addForceFlag(cmd, &opts.force)
 	cmd.Flags().StringArrayVar(&opts.where, "where", nil, "only runs matching this filter (repeatable)")
 	return cmd
 }
 
-func runsExportRun(ctx context.Context, o *runsExportOptions) (err error) {
+// runsExportRun writes the export to standard output or, with -o,
+// through the guard: a filter the log refuses, or a write that fails,
+// leaves an existing file as it was.
+func runsExportRun(ctx context.Context, o *runsExportOptions) error {
+	g := o.f.guard(o.force)
+	if err := checkOutput(o.file, g); err != nil {
+		return err
+	}
 	l, err := o.f.runLog(ctx)
 	if err != nil {
 		return err
 	}
-	var w io.Writer = o.f.io.Out
-	if o.file != "" {
-		fh, err := os.Create(o.file)
-		if err != nil {
-			return fmt.Errorf("export: %w", err)
-		}
-		defer func() {
-			if cerr := fh.Close(); err == nil {
-				err = cerr
-			}
-		}()
-		w = fh
-	}
-	bw := bufio.NewWriter(w)
-	f := store.Filter{Where: o.where}
 	var n int
-	if o.format == formatCSV {
-		n, err = store.WriteCSV(ctx, bw, l, f)
+	export := func(w io.Writer) error {
+		bw := bufio.NewWriter(w)
+		f := store.Filter{Where: o.where}
+		var err error
+		if o.format == formatCSV {
+			n, err = store.WriteCSV(ctx, bw, l, f)
+		} else {
+			n, err = store.WriteJSON(ctx, bw, l, f)
+		}
+		if err != nil {
+			return err
+		}
+		return bw.Flush()
+	}
+	if o.file == "" {
+		err = export(o.f.io.Out)
 	} else {
-		n, err = store.WriteJSON(ctx, bw, l, f)
+		err = writeOutput(o.file, g, export)
 	}
 	if err != nil {
-		return err
-	}
-	if err := bw.Flush(); err != nil {
 		return err
 	}
 	fmt.Fprintf(o.f.io.Err, "%d runs exported\n", n)
@@ -437,7 +442,9 @@ func newRunsImportCmd(f *factory) *cobra.Command {
 	cmd := &cobra.Command{
 		Use:   "import FILE",
 		Short: "Add runs from a JSON or CSV export, all or nothing",
-		Args:  cobra.ExactArgs(1),
+		Long: `Add runs from a JSON or CSV export (runs export), all or nothing. The file
+must be a regular file of at most 1 GiB.`,
+		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			opts.file = args[0]
 			if opts.format != formatCSV && opts.format != formatJSON {
@@ -451,7 +458,7 @@ func newRunsImportCmd(f *factory) *cobra.Command {
 }
 
 func runsImportRun(ctx context.Context, o *runsImportOptions) error {
-	fh, err := os.Open(o.file)
+	fh, err := infile.Open(o.file, infile.Import)
 	if err != nil {
 		return fmt.Errorf("import: %w", err)
 	}

@@ -17,7 +17,10 @@ import (
 // this test binary.
 func TestMain(m *testing.M) {
 	testscript.Main(m, map[string]func(){
-		"foilrun": func() { os.Exit(run(os.Args[1:], newStreams())) },
+		"foilrun": func() {
+			limitFileSize() // files_test.go: ulimit -f for the child processes that ask for it
+			os.Exit(run(os.Args[1:], newStreams()))
+		},
 	})
 }
 

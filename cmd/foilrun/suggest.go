@@ -5,14 +5,15 @@ import (
 	"fmt"
 	"io"
 	"maps"
-	"os"
 	"slices"
 	"strings"
 
 	"github.com/spf13/cobra"
 
+	"github.com/foilrun/foilrun/cmd/foilrun/internal/outfile"
 	"github.com/foilrun/foilrun/kinetics"
 	"github.com/foilrun/foilrun/recipe"
+	"github.com/foilrun/foilrun/recipe/infile"
 )
 
 type suggestOptions struct {
@@ -25,6 +26,7 @@ type suggestOptions struct {
 	params     string
 	confidence float64
 	outFile    string
+	force      bool
 	output     outputFormat
 }
 
@@ -72,6 +74,7 @@ meets the targets, naming the limits that bind.`,
 	cmd.Flags().StringVar(&opts.params, "params", "", "kinetics parameter file (default: illustrative parameters)")
 	cmd.Flags().Float64Var(&opts.confidence, "confidence", 0, "plan so the targets hold at this interval's bound (needs a fitted params file)")
 	cmd.Flags().StringVarP(&opts.outFile, "output-file", "o", "", "write the changed recipe here")
+	addForceFlag(cmd, &opts.force)
 	addOutputFlag(cmd, &opts.output)
 	return cmd
 }
@@ -128,8 +131,12 @@ func suggestRun(opts *suggestOptions) error {
 	if err != nil {
 		return err
 	}
-	plan, _, err := opts.flags.loadPlan(opts.recipe)
+	plan, site, err := opts.flags.loadPlan(opts.recipe)
 	if err != nil {
+		return err
+	}
+	guard := opts.f.guard(opts.force, append(planInputs(plan, site), outfile.Input{What: "params file", Path: opts.params})...)
+	if err := checkOutput(opts.outFile, guard); err != nil {
 		return err
 	}
 	spec := kinetics.SuggestSpec{Params: params, Vary: opts.vary, Minimize: opts.minimize, Confidence: opts.confidence}
@@ -171,7 +178,7 @@ func suggestRun(opts *suggestOptions) error {
 			"relax the target, widen the --vary ranges, or vary more parameters (e.g. --vary temperature,CH4,H2,duration)")
 	}
 	if opts.outFile != "" {
-		if err := os.WriteFile(opts.outFile, written, 0o644); err != nil {
+		if err := writeBytes(opts.outFile, guard, written); err != nil {
 			return fmt.Errorf("suggest: %w", err)
 		}
 		fmt.Fprintf(opts.f.io.Err, "wrote %s\n", opts.outFile)
@@ -203,7 +210,7 @@ func suggestResult(plan *recipe.Plan, sug *kinetics.Suggestion, targets []string
 // on the plan's furnace: a check error fails the suggestion, warnings are
 // added to out.
 func (opts *suggestOptions) changedRecipe(plan *recipe.Plan, sug *kinetics.Suggestion, out *suggestResultJSON) ([]byte, error) {
-	data, err := os.ReadFile(opts.recipe)
+	data, err := infile.ReadFile(opts.recipe, infile.Recipe)
 	if err != nil {
 		return nil, err
 	}

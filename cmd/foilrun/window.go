@@ -6,10 +6,13 @@ import (
 	"math"
 	"slices"
 	"strings"
+	"unsafe"
 
 	"github.com/spf13/cobra"
 
+	"github.com/foilrun/foilrun/cmd/foilrun/internal/outfile"
 	"github.com/foilrun/foilrun/kinetics"
+	"github.com/foilrun/foilrun/recipe/infile"
 )
 
 // What `foilrun window --show` can map: the stored metrics' names, and
@@ -22,8 +25,19 @@ type windowOptions struct {
 	flags  recipeFlags
 	vary   []string
 	show   string
+	// maxPoints bounds the grid (--max-points).
+	maxPoints int
 	modelFlags
 }
+
+// defaultMaxPoints is the default --max-points: a 1,000 × 1,000 grid,
+// about 0.5 GiB of results held and rendered.
+const defaultMaxPoints = 1000 * 1000
+
+// pointBytes is about what one grid point costs while the map is held
+// and printed: the library's point, the JSON point, and a rendered cell
+// or line of output (256 bytes, a generous JSON line).
+const pointBytes = int64(unsafe.Sizeof(kinetics.Point{}) + unsafe.Sizeof(windowPoint{}) + 256)
 
 func newWindowCmd(f *factory) *cobra.Command {
 	opts := &windowOptions{f: f}
@@ -41,7 +55,8 @@ and predicted like foilrun predict. Ranges carry units:
 
 --show picks the quantity: coverage (%), nuclei_density (nuclei per mm2),
 domain_size (um) or time_to_99 (min of growth to 99 % coverage). The map is
-computed on all cores; a progress bar shows on a terminal.`,
+computed on all cores; a progress bar shows on a terminal. A grid has at most
+--max-points points (default 1,000,000, a 1,000 × 1,000 grid).`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			opts.recipe = args[0]
@@ -63,6 +78,7 @@ computed on all cores; a progress bar shows on a terminal.`,
 	opts.flags.register(cmd)
 	cmd.Flags().StringArrayVar(&opts.vary, "vary", nil, "grow-step parameter and range PARAM=FROM:TO:STEPS (give twice)")
 	cmd.Flags().StringVar(&opts.show, "show", "coverage", "quantity to map: "+strings.Join(windowShows, ", "))
+	cmd.Flags().IntVar(&opts.maxPoints, "max-points", defaultMaxPoints, "most grid points computed (each takes about 0.5 KiB of memory)")
 	opts.modelFlags.register(cmd, "write a heat map to this .png or .svg file")
 	return cmd
 }
@@ -131,11 +147,18 @@ func windowRun(opts *windowOptions) error {
 		}
 		axes[i] = a
 	}
+	if err := opts.checkGrid(axes); err != nil {
+		return err
+	}
 	params, err := loadParams(opts.params)
 	if err != nil {
 		return err
 	}
-	plan, _, err := opts.flags.loadPlan(opts.recipe)
+	plan, site, err := opts.flags.loadPlan(opts.recipe)
+	if err != nil {
+		return err
+	}
+	guard, err := opts.plotGuard(opts.f, plan, site)
 	if err != nil {
 		return err
 	}
@@ -180,26 +203,45 @@ func windowRun(opts *windowOptions) error {
 		return err
 	}
 	if opts.plot != "" {
-		z := make([][]float64, len(m.Ys))
-		blocked := make([][]bool, len(m.Ys))
-		for iy, row := range m.Points {
-			z[iy] = make([]float64, len(row))
-			blocked[iy] = make([]bool, len(row))
-			for ix, p := range row {
-				z[iy][ix] = showValue(opts.show, p)
-				if !p.Feasible {
-					z[iy][ix], blocked[iy][ix] = math.NaN(), true
-				}
-			}
-		}
-		xs, ys := displayValues(m.X, m.Xs), displayValues(m.Y, m.Ys)
-		title := fmt.Sprintf("%s: %s", m.Recipe, showLabel(opts.show))
-		if err := writeHeatMap(opts.plot, title, m.X.Label(), m.Y.Label(), showLabel(opts.show), xs, ys, z, blocked); err != nil {
-			return err
-		}
-		fmt.Fprintf(opts.f.io.Err, "wrote %s\n", opts.plot)
+		return opts.writePlot(m, guard)
 	}
 	return nil
+}
+
+// writePlot writes the --plot heat map of the map's --show quantity,
+// infeasible cells blocked.
+func (opts *windowOptions) writePlot(m *kinetics.Map, guard outfile.Guard) error {
+	z := make([][]float64, len(m.Ys))
+	blocked := make([][]bool, len(m.Ys))
+	for iy, row := range m.Points {
+		z[iy] = make([]float64, len(row))
+		blocked[iy] = make([]bool, len(row))
+		for ix, p := range row {
+			z[iy][ix] = showValue(opts.show, p)
+			if !p.Feasible {
+				z[iy][ix], blocked[iy][ix] = math.NaN(), true
+			}
+		}
+	}
+	xs, ys := displayValues(m.X, m.Xs), displayValues(m.Y, m.Ys)
+	title := fmt.Sprintf("%s: %s", m.Recipe, showLabel(opts.show))
+	if err := writeHeatMap(opts.plot, guard, title, m.X.Label(), m.Y.Label(), showLabel(opts.show), xs, ys, z, blocked); err != nil {
+		return err
+	}
+	fmt.Fprintf(opts.f.io.Err, "wrote %s\n", opts.plot)
+	return nil
+}
+
+// checkGrid refuses a grid of more than --max-points points, before
+// anything is computed, with the memory it would take.
+func (opts *windowOptions) checkGrid(axes [2]kinetics.Axis) error {
+	n := int64(axes[0].Steps) * int64(axes[1].Steps)
+	if n <= int64(opts.maxPoints) {
+		return nil
+	}
+	return withHint(usagef("window: a %d × %d grid is %d points, over the limit of %d (it would take about %s of memory)",
+		axes[0].Steps, axes[1].Steps, n, opts.maxPoints, infile.FormatSize(n*pointBytes)),
+		"use fewer steps per --vary, or raise the limit with --max-points N if the machine has the memory")
 }
 
 func displayValues(a kinetics.Axis, si []float64) []float64 {

@@ -7,9 +7,10 @@ import (
 	_ "image/jpeg" // register the JPEG decoder
 	_ "image/png"  // register the PNG decoder
 	"io"
-	"os"
 
 	_ "golang.org/x/image/tiff" // register the TIFF decoder
+
+	"github.com/foilrun/foilrun/recipe/infile"
 )
 
 // Default decode limits.
@@ -46,9 +47,11 @@ type Info struct {
 	BitDepth      int    // 8 or 16: the depth of the gray levels Analyze reports
 }
 
-// Load opens and decodes the micrograph at path. See Decode.
+// Load opens and decodes the micrograph at path, which must be a regular
+// file (infile.Open: no FIFO or device) of at most lim.MaxBytes. See Decode.
 func Load(path string, lim Limits) (image.Image, Info, error) {
-	f, err := os.Open(path)
+	lim = lim.withDefaults()
+	f, err := infile.Open(path, infile.Kind{Name: infile.Image.Name, Max: lim.MaxBytes})
 	if err != nil {
 		return nil, Info{}, fmt.Errorf("load micrograph: %w", err)
 	}

@@ -16,7 +16,6 @@ import (
 	"image/color"
 	"io"
 	"math"
-	"os"
 	"path/filepath"
 	"strings"
 
@@ -133,28 +132,21 @@ func canvas(path string, w, h vg.Length) (vg.CanvasSizer, func(io.Writer) error)
 	return c, func(out io.Writer) error { _, err := vgimg.PngCanvas{Canvas: c}.WriteTo(out); return err }
 }
 
-// save draws with paint on a w × h canvas and writes it to path.
-func save(path string, w, h vg.Length, paint func(dc draw.Canvas) error) error {
-	if !Supported(path) {
-		return fmt.Errorf("write plot %q: want a file ending in .png or .svg", path)
+// save draws with paint on a w × h canvas and writes it to out in the
+// format of name's extension. Nothing is written when drawing fails.
+func save(out io.Writer, name string, w, h vg.Length, paint func(dc draw.Canvas) error) error {
+	if !Supported(name) {
+		return fmt.Errorf("write plot %q: want a file ending in .png or .svg", name)
 	}
-	c, encode := canvas(path, w, h)
+	c, encode := canvas(name, w, h)
 	dc := draw.New(c)
 	dc.SetColor(color.White)
 	dc.Fill(dc.Rectangle.Path())
 	if err := paint(dc); err != nil {
-		return fmt.Errorf("write plot %q: %w", path, err)
+		return fmt.Errorf("write plot %q: %w", name, err)
 	}
-	f, err := os.Create(path)
-	if err != nil {
-		return fmt.Errorf("write plot: %w", err)
-	}
-	if err := encode(f); err != nil {
-		f.Close()
-		return fmt.Errorf("write plot %q: %w", path, err)
-	}
-	if err := f.Close(); err != nil {
-		return fmt.Errorf("write plot %q: %w", path, err)
+	if err := encode(out); err != nil {
+		return fmt.Errorf("write plot %q: %w", name, err)
 	}
 	return nil
 }

@@ -3,6 +3,7 @@ package chart
 import (
 	"fmt"
 	"image/color"
+	"io"
 	"math"
 
 	"gonum.org/v1/plot"
@@ -102,11 +103,12 @@ func (m HeatMap) blocked(ix, iy int) bool {
 	return iy < len(m.Blocked) && ix < len(m.Blocked[iy]) && m.Blocked[iy][ix]
 }
 
-// WriteHeatMap draws m into path (.png or .svg): the cells in a
+// WriteHeatMap draws m and writes it to out as PNG or SVG, by the
+// extension of name: the cells in a
 // sequential colour scale with a labelled colour bar, blocked cells grey
 // and crossed, cells without a value pale grey, each kind named in the
 // legend beside the bar.
-func WriteHeatMap(path string, m HeatMap) error {
+func WriteHeatMap(out io.Writer, name string, m HeatMap) error {
 	if len(m.X) == 0 || len(m.Y) == 0 || len(m.Z) != len(m.Y) {
 		return fmt.Errorf("heat map %q: want a value for each of %d × %d cells", m.Title, len(m.X), len(m.Y))
 	}
@@ -148,7 +150,7 @@ func WriteHeatMap(path string, m HeatMap) error {
 		l.Add(orDefault(m.MissingLabel, "no value"), swatch{missingColor, false})
 	}
 	l.ThumbnailWidth = 5 * vg.Millimeter
-	return save(path, heatWidth, heatHeight, func(dc draw.Canvas) error {
+	return save(out, name, heatWidth, heatHeight, func(dc draw.Canvas) error {
 		titled := drawTitle(crop(dc, dc.Min.X, dc.Min.Y, dc.Max.X-heatSide, dc.Max.Y), m.Title, 12)
 		dc = crop(dc, dc.Min.X, dc.Min.Y, dc.Max.X, titled.Max.Y)
 		pad := 3 * vg.Millimeter

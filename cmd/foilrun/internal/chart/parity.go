@@ -2,6 +2,7 @@ package chart
 
 import (
 	"fmt"
+	"io"
 	"math"
 
 	"gonum.org/v1/plot"
@@ -41,11 +42,12 @@ var (
 	equalColor = lineColors[1]
 )
 
-// WriteParity draws f into path (.png or .svg): in each panel predicted
+// WriteParity draws f and writes it to out as PNG or SVG, by the
+// extension of name: in each panel predicted
 // against measured on equal axes (log on both when the values spread over
 // more than LogRatio, values ≤ 0 then left out and counted in the
 // panel's title), with the line y = x.
-func WriteParity(path string, f Parity) error {
+func WriteParity(out io.Writer, name string, f Parity) error {
 	if len(f.Panels) == 0 {
 		return fmt.Errorf("parity plot %q has no panels", f.Title)
 	}
@@ -65,7 +67,7 @@ func WriteParity(path string, f Parity) error {
 	l.Add("run", thumbs[0])
 	l.Add("y = x", thumbs[1])
 	w, h := ParitySize(len(f.Panels))
-	return save(path, w, h, func(dc draw.Canvas) error {
+	return save(out, name, w, h, func(dc draw.Canvas) error {
 		dc = drawTitle(dc, f.Title, 12)
 		area := crop(dc, dc.Min.X, dc.Min.Y, dc.Max.X-parityLegend, dc.Max.Y-7*vg.Millimeter)
 		tiles := draw.Tiles{Rows: 1, Cols: len(f.Panels), PadBottom: 2 * vg.Millimeter,

@@ -2,6 +2,7 @@ package chart
 
 import (
 	"fmt"
+	"io"
 	"math"
 	"sort"
 	"strconv"
@@ -82,11 +83,12 @@ func ZoomRange(steps []Step) (lo, hi float64, ok bool) {
 	return lo, hi, hi-lo < 0.8*(end-start)
 }
 
-// WriteTimeFigure draws f into path (.png or .svg): a column with the
+// WriteTimeFigure draws f and writes it to out as PNG or SVG, by the
+// extension of name (the file's name, also used in messages): a column with the
 // whole run and, when some steps carry methane, a column zoomed on them;
 // step boundaries as dashed lines with the step names along the top,
 // steps with methane shaded, legends to the right of the panels.
-func WriteTimeFigure(path string, f TimeFigure) error {
+func WriteTimeFigure(out io.Writer, name string, f TimeFigure) error {
 	if len(f.Rows) == 0 {
 		return fmt.Errorf("time figure %q has no rows", f.Title)
 	}
@@ -111,7 +113,7 @@ func WriteTimeFigure(path string, f TimeFigure) error {
 		return err
 	}
 	w, h := TimeSize(len(f.Rows))
-	return save(path, w, h, func(dc draw.Canvas) error {
+	return save(out, name, w, h, func(dc draw.Canvas) error {
 		dc = drawTitle(dc, f.Title, 12)
 		top := dc.Max.Y - (timeHeader - 11*vg.Millimeter)
 		area := crop(dc, dc.Min.X, dc.Min.Y, dc.Max.X-legendWidth, top)
