@@ -233,8 +233,13 @@ func limitFileSize() {
 // shared-memory file and below the export's size.
 func TestFailedExportKeepsOldFile(t *testing.T) {
 	l := newTestLab(t)
-	note := strings.Repeat("a long note. ", 6000) // 78 kB, so the export is larger than the limit
-	if code, _, errs := runArgs(t, "--db", l.db, "run", "add", l.recipe, "--note", note); code != 0 {
+	// Nine notes of 9.1 kB (a note holds at most 10,000 bytes): the export
+	// is larger than the limit.
+	args := []string{"--db", l.db, "run", "add", l.recipe}
+	for i := 0; i < 9; i++ {
+		args = append(args, "--note", strings.Repeat("a long note. ", 700))
+	}
+	if code, _, errs := runArgs(t, args...); code != 0 {
 		t.Fatalf("run add: exit %d: %s", code, errs)
 	}
 	keep := filepath.Join(l.dir, "keep.json")

@@ -97,14 +97,14 @@ func TestInputsNotRegular(t *testing.T) {
 // they were in JSON (issue 16: run show printed them raw).
 func TestControlCharactersEscaped(t *testing.T) {
 	l := newTestLab(t)
-	const operator, note, lot = "eve\x1b[2J\x1b[31m", "ring\x07 the bell\r, reversed \u202egnirts", "L\x00-1"
+	const operator, note, lot = "eve\x1b[2J\x1b[31m", "ring\x07 the bell\r, reversed \u202egnirts", "L\x7f-1"
 	code, out, errs := runArgs(t, "--db", l.db, "run", "add", l.recipe, "--operator", operator, "--note", note, "--lot", lot)
 	if code != 0 {
 		t.Fatalf("run add: exit %d: %s", code, errs)
 	}
 	run := strings.TrimSpace(strings.SplitN(out, "\n", 2)[0])
-	shown := []string{`eve\x1b[2J\x1b[31m`, `ring\x07 the bell\x0d, reversed \u202egnirts`, `L\x00-1`}
-	raw := []string{"\x1b", "\x07", "\r", "\u202e", "\x00"}
+	shown := []string{`eve\x1b[2J\x1b[31m`, `ring\x07 the bell\x0d, reversed \u202egnirts`, `L\x7f-1`}
+	raw := []string{"\x1b", "\x07", "\r", "\u202e", "\x7f"}
 	views := []struct {
 		name string
 		run  func(t *testing.T, args ...string) (int, string, string)
@@ -138,7 +138,7 @@ func TestControlCharactersEscaped(t *testing.T) {
 	if code != 0 {
 		t.Fatalf("run show --output json: exit %d: %s", code, errs)
 	}
-	for _, w := range []string{`"eve\u001b[2J\u001b[31m"`, `ring\u0007 the bell\r, reversed ` + "\u202e" + `gnirts`, `"L\u0000-1"`} {
+	for _, w := range []string{`"eve\u001b[2J\u001b[31m"`, `ring\u0007 the bell\r, reversed ` + "\u202e" + `gnirts`, `"L` + "\x7f" + `-1"`} {
 		if !strings.Contains(out, w) {
 			t.Errorf("JSON lacks the verbatim text %q:\n%s", w, out)
 		}
