@@ -156,12 +156,12 @@ func dbCopyRun(ctx context.Context, o *dbCopyOptions) error {
 		_, err := os.Stat(o.to)
 		created = errors.Is(err, fs.ErrNotExist)
 	}
-	src, err := openLog(ctx, o.from, false)
+	src, err := openLog(ctx, o.from, readAccess, o.f.io.Err)
 	if err != nil {
 		return err
 	}
 	defer src.Close()
-	dst, err := openLog(ctx, o.to, true)
+	dst, err := openLog(ctx, o.to, createAccess, o.f.io.Err)
 	if err != nil {
 		return err
 	}

@@ -115,7 +115,7 @@ func runStartRun(ctx context.Context, o *runOptions) error {
 		}
 	}
 	snap := store.NewSnapshot(plan.Recipe.Name, o.recipe, data)
-	l, err := o.f.writeLog(ctx)
+	l, err := o.f.createLog(ctx)
 	if err != nil {
 		return err
 	}

@@ -21,15 +21,17 @@ func TestRunDeviationsOnStdout(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	db := "--db=" + filepath.Join(paths.Dir, "log.db")
+	dbFile := filepath.Join(paths.Dir, "log.db")
+	db := "--db=" + dbFile
 	const deviations = "run CODE: 1 deviations from plan\nstep\tquantity\tdeviation\n6 grow (growth)\tflow:CH4\tCH4 mean flow 4.6 sccm, set 5 sccm (±0.36 sccm)\n"
 
 	// Status on stderr: which steps the log covers, then (finish) the run's state.
 	covers := "furnace log " + short.FurnaceLog + ": log covers steps 1–9\n"
 	code, out, errs := runPiped(t, db, "run", "add", short.Recipe, "--furnace-log", short.FurnaceLog)
 	run, _, _ := strings.Cut(out, "\n")
-	if got, want := strings.ReplaceAll(out, run, "CODE"), "CODE\n"+deviations; code != 0 || got != want || errs != covers {
-		t.Errorf("run add: got exit %d, stdout\n%s\nstderr %q; want exit 0, stdout\n%s\nstderr %q", code, got, errs, want, covers)
+	started := "started a new run log at " + dbFile + "\n" // the first run add makes the log
+	if got, want := strings.ReplaceAll(out, run, "CODE"), "CODE\n"+deviations; code != 0 || got != want || errs != covers+started {
+		t.Errorf("run add: got exit %d, stdout\n%s\nstderr %q; want exit 0, stdout\n%s\nstderr %q", code, got, errs, want, covers+started)
 	}
 
 	code, out, errs = runPiped(t, db, "run", "start", short.Recipe)

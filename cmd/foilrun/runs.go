@@ -472,7 +472,7 @@ func runsImportRun(ctx context.Context, o *runsImportOptions) error {
 	if err != nil {
 		return fmt.Errorf("import %q: %w", o.file, err)
 	}
-	l, err := o.f.writeLog(ctx)
+	l, err := o.f.createLog(ctx)
 	if err != nil {
 		return err
 	}

@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"io"
 	"io/fs"
 	"os"
 	"path/filepath"
@@ -42,18 +43,36 @@ func (f *factory) dbPath() (string, error) {
 // read-only file (opened with mode=ro) and with a PostgreSQL role that
 // has only SELECT.
 func (f *factory) runLog(ctx context.Context) (store.RunLog, error) {
-	return f.openRunLog(ctx, false)
+	return f.openRunLog(ctx, readAccess)
 }
 
-// writeLog opens the run log for writing (migrating a schema behind the
-// latest) on first use: run start/add/note/finish, outcome add/measure,
-// runs import. A log already opened for reading is closed and opened
-// again for writing.
+// writeLog opens an existing run log for writing (migrating a schema
+// behind the latest) on first use: run note/finish, outcome add/measure,
+// db migrate. A log file that does not exist is an error, so a mistyped
+// --db never starts an empty log. A log already opened for reading is
+// closed and opened again for writing.
 func (f *factory) writeLog(ctx context.Context) (store.RunLog, error) {
-	return f.openRunLog(ctx, true)
+	return f.openRunLog(ctx, writeAccess)
 }
 
-func (f *factory) openRunLog(ctx context.Context, write bool) (store.RunLog, error) {
+// createLog is writeLog for the commands that may start a log: run start,
+// run add and runs import. A SQLite file that does not exist yet is made
+// (with its folder), and standard error says so.
+func (f *factory) createLog(ctx context.Context) (store.RunLog, error) {
+	return f.openRunLog(ctx, createAccess)
+}
+
+// logAccess is how a command opens the run log.
+type logAccess int
+
+const (
+	readAccess   logAccess = iota // read only; the log must exist
+	writeAccess                   // read and write; the log must exist
+	createAccess                  // read and write; a missing SQLite file is made
+)
+
+func (f *factory) openRunLog(ctx context.Context, access logAccess) (store.RunLog, error) {
+	write := access != readAccess
 	if f.log != nil {
 		if ro, ok := f.log.(interface{ ReadOnly() bool }); !write || !ok || !ro.ReadOnly() {
 			return f.log, nil
@@ -67,7 +86,7 @@ func (f *factory) openRunLog(ctx context.Context, write bool) (store.RunLog, err
 	if err != nil {
 		return nil, err
 	}
-	l, err := openLog(ctx, path, write)
+	l, err := openLog(ctx, path, access, f.io.Err)
 	if err != nil {
 		return nil, err
 	}
@@ -82,12 +101,25 @@ func (f *factory) openRunLog(ctx context.Context, write bool) (store.RunLog, err
 	return l, nil
 }
 
-// openLog opens the run log at target, for writing or for reading only:
-// a PostgreSQL database for a postgres:// or postgresql:// URL, else a
-// SQLite file (for writing, its folder made when missing). Connection
-// errors get a hint; none shows a password.
-func openLog(ctx context.Context, target string, write bool) (store.RunLog, error) {
-	l, err := openTarget(ctx, target, write)
+// openLog opens the run log at target with the access asked for: a
+// PostgreSQL database for a postgres:// or postgresql:// URL, else a
+// SQLite file, which must exist unless access is createAccess (then it is
+// made, with its folder, and status says so). Connection errors get a
+// hint; none shows a password.
+func openLog(ctx context.Context, target string, access logAccess, status io.Writer) (store.RunLog, error) {
+	created := false
+	if !postgres.IsURL(target) && access != readAccess {
+		if _, err := os.Stat(target); errors.Is(err, fs.ErrNotExist) {
+			if access != createAccess {
+				return nil, withHint(fmt.Errorf("no run log at %s: %w", target, err), "check --db or "+dbEnv+"; run add, run start and runs import start a new log")
+			}
+			created = true
+		}
+	}
+	l, err := openTarget(ctx, target, access != readAccess)
+	if err == nil && created {
+		fmt.Fprintf(status, "started a new run log at %s\n", target)
+	}
 	switch {
 	case errors.Is(err, postgres.ErrUnreachable):
 		return nil, withHint(err, "check the host, port or socket folder in the URL, that the server runs and that this machine may reach it")
