@@ -26,8 +26,9 @@ type SuggestSpec struct {
 	// The old name "time" is an error naming "duration". Default
 	// temperature, CH4, duration. Default ranges: temperature from 100 K
 	// below the recipe's (or the ceiling) to the furnace's
-	// TemperatureCeiling (half a kelvin below it when copper's melting
-	// point sets it); flows from the line's low end to its full scale;
+	// TemperatureCeiling, and at least MeltMargin below copper's melting
+	// point less the thermocouple margin; flows from the line's low end to
+	// MaxMFCShare of its full scale;
 	// pressure from the base pressure (or the gauge's low end) to one
 	// atmosphere (or the gauge's high end); duration from 10 s to 4 h.
 	Vary     []string
@@ -45,11 +46,31 @@ type SuggestSpec struct {
 	Grid int
 	// Top is how many candidates to return, default 5.
 	Top int
+	// AllowWarnings keeps candidates that recipe.Check gives warnings;
+	// by default only candidates with no warning are suggested.
+	AllowWarnings bool
+	// MaxMFCShare caps a varied flow at this fraction of its line's full
+	// scale, in (0, 1], default 0.9: a thermal MFC near full scale has no
+	// room to correct (common practice).
+	MaxMFCShare float64
+	// MeltMargin (K, default 10 K) keeps the searched temperature this far
+	// below copper's melting point less the furnace's thermocouple margin
+	// (common practice); a negative value means none.
+	MeltMargin float64
 }
+
+// Default search margins of SuggestSpec (common practice).
+const (
+	DefaultMaxMFCShare = 0.9
+	DefaultMeltMargin  = 10.0 // K
+)
 
 // Suggest searches the first grow step's parameters for the cheapest
 // recipe whose prediction meets every target and that recipe.Check passes
-// without errors. For each point of a grid over the varied parameters
+// without errors (and without warnings unless spec.AllowWarnings), with
+// flows at most spec.MaxMFCShare of full scale and the temperature at
+// least spec.MeltMargin below copper's melting point less the
+// thermocouple margin. For each point of a grid over the varied parameters
 // other than time (refined four times around the best point by halving the
 // spacing) the grow time is solved for, not gridded: the earliest time at
 // which every ">=" target holds (coverage and domain size grow with time),
@@ -112,6 +133,20 @@ func (spec SuggestSpec) withDefaults() (SuggestSpec, error) {
 	}
 	if spec.Top <= 0 {
 		spec.Top = 5
+	}
+	switch {
+	case spec.MaxMFCShare == 0:
+		spec.MaxMFCShare = DefaultMaxMFCShare
+	case !(spec.MaxMFCShare > 0 && spec.MaxMFCShare <= 1):
+		return spec, inputErr(KindSuggest, "suggest: MFC share %g is outside (0, 1]; give a fraction of full scale such as 90%%", spec.MaxMFCShare)
+	}
+	switch {
+	case math.IsInf(spec.MeltMargin, 0) || math.IsNaN(spec.MeltMargin):
+		return spec, inputErr(KindSuggest, "suggest: melt margin %g K is not a finite temperature difference", spec.MeltMargin)
+	case spec.MeltMargin == 0:
+		spec.MeltMargin = DefaultMeltMargin
+	case spec.MeltMargin < 0:
+		spec.MeltMargin = 0
 	}
 	if spec.Confidence != 0 && !(spec.Confidence > 0 && spec.Confidence < 1) {
 		return spec, inputErr(KindSuggest, "suggest: confidence %g is outside (0, 1)", spec.Confidence)
@@ -333,11 +368,40 @@ func (s *searcher) recipeAt(x []float64, dur float64) *recipe.Recipe {
 	r := *s.base
 	r.Steps = append([]recipe.Step(nil), s.base.Steps...)
 	st := &r.Steps[s.grow]
+	old := st.Temperature.SI
 	for i, a := range s.axes {
 		setParam(st, a.axis(), x[i])
 	}
+	if st.Temperature.SI != old {
+		followTemperature(r.Steps[:s.grow], old, st.Temperature)
+	}
 	setParam(st, Axis{Param: ParamDuration, Dim: recipe.Duration}, dur)
 	return &r
+}
+
+// followTemperature moves the anneal, ramp and grow steps just before the
+// grow step that sat at its old temperature (K) to t, up to and including
+// the nearest ramp: the rule recipe.EditRecipe follows when it writes the
+// suggestion, so the recipe checked and predicted is the one written.
+func followTemperature(before []recipe.Step, old float64, t recipe.Quantity) {
+	for i := len(before) - 1; i >= 0; i-- {
+		st := &before[i]
+		q := &st.Temperature
+		switch st.Kind {
+		case recipe.KindAnneal, recipe.KindGrow:
+		case recipe.KindRamp:
+			q = &st.To
+		default:
+			return
+		}
+		if math.Abs(q.SI-old) > 0.01 {
+			return
+		}
+		*q = t
+		if st.Kind == recipe.KindRamp {
+			return
+		}
+	}
 }
 
 // eval predicts one grid point: the cheapest time meeting the targets,
@@ -381,7 +445,7 @@ func (s *searcher) eval(x []float64) point {
 	}
 	r = s.recipeAt(x, t)
 	for _, fd := range recipe.Check(recipe.Derive(r, s.f)) {
-		if fd.Severity == recipe.Error {
+		if fd.Severity == recipe.Error || (fd.Severity == recipe.Warning && !s.spec.AllowWarnings) {
 			pt.rule = fd.Rule
 			return pt
 		}

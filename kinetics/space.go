@@ -43,8 +43,9 @@ func (s *searcher) addAxis(spec string, plan *recipe.Plan) error {
 			return inputErr(KindVary, "%s: furnace %q has no gas line for %s", ctx, s.f.Name, param)
 		}
 		fs := line.FullScaleOfGas()
-		a = axisRange{name: param, dim: dim, lo: fs * line.LowEnd.SI * 1.001, hi: fs, log: true,
-			limit: fmt.Sprintf("%s line full scale %.4g sccm", param, fs/gas.MolPerSCCMPerSecond)}
+		share := s.spec.MaxMFCShare
+		a = axisRange{name: param, dim: dim, lo: fs * line.LowEnd.SI * 1.001, hi: fs * share, log: true,
+			limit: fmt.Sprintf("%.4g %% of the %s line's full scale %.4g sccm", share*100, param, fs/gas.MolPerSCCMPerSecond)}
 	}
 	for _, b := range s.axes {
 		if b.name == a.name {
@@ -90,13 +91,17 @@ func (s *searcher) setTimeRange(ctx, rng string, hasRange bool) error {
 }
 
 // temperatureRange is 100 K below the recipe's grow temperature (or the
-// ceiling) up to the furnace's ceiling, kept half a kelvin below the copper
-// bound, where recipe.Check reports an error.
+// ceiling) up to the furnace's ceiling, kept the melt margin below the
+// copper bound (copper's melting point less the thermocouple margin),
+// where recipe.Check reports an error; never closer than half a kelvin.
 func (s *searcher) temperatureRange(plan *recipe.Plan) axisRange {
 	a := axisRange{name: ParamTemperature, dim: recipe.Temperature}
 	a.hi, a.limit = s.f.TemperatureCeiling()
-	if cu := gas.CopperMeltingPoint - s.f.Heater.ThermocoupleMargin.SI; a.hi >= cu {
-		a.hi = cu - 0.5
+	margin := s.f.Heater.ThermocoupleMargin.SI
+	if cu := gas.CopperMeltingPoint - margin - math.Max(s.spec.MeltMargin, 0.5); a.hi >= cu {
+		a.hi = cu
+		a.limit = fmt.Sprintf("copper melting point %.2f C less the %.3g K thermocouple margin and the %.3g K melt margin",
+			recipe.Celsius(gas.CopperMeltingPoint), margin, s.spec.MeltMargin)
 	}
 	a.lo = math.Min(plan.Steps[s.grow].T0, a.hi) - 100
 	return a

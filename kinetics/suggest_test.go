@@ -108,6 +108,9 @@ func TestSuggestBeatsFineGrid(t *testing.T) {
 				t.Fatal(err)
 			}
 			checkSuggested(t, sug, plan, spec)
+			if spec, err = spec.withDefaults(); err != nil {
+				t.Fatal(err)
+			}
 			s := &searcher{spec: spec, base: plan.Recipe, f: plan.Furnace, grow: sug.Step, tlo: 10, thi: 4 * 3600, varyTime: true, v: vecOf(spec.Params)}
 			spec.Minimize = c.minimize
 			s.spec.Vary = []string{"temperature", "CH4"}

@@ -32,6 +32,7 @@ const (
 	AreaRate                               // SI: 1/(m²·s) (nucleation rate)
 	Speed                                  // SI: m/s (domain edge velocity)
 	SheetResistance                        // SI: Ω (ohm per square)
+	Wavenumber                             // SI: 1/m (Raman band widths, written in cm⁻¹)
 )
 
 var dimensionNames = [...]string{
@@ -53,6 +54,7 @@ var dimensionNames = [...]string{
 	AreaRate:              "rate per area",
 	Speed:                 "speed",
 	SheetResistance:       "sheet resistance",
+	Wavenumber:            "wavenumber",
 }
 
 var dimensionExamples = [...]string{
@@ -74,6 +76,7 @@ var dimensionExamples = [...]string{
 	AreaRate:              "50 /m2/s",
 	Speed:                 "2 um/min",
 	SheetResistance:       "350 ohm/sq",
+	Wavenumber:            "30 cm-1",
 }
 
 // String names the dimension in plain words.
@@ -191,6 +194,9 @@ var units = map[string]unit{
 	"ohm/sq": {SheetResistance, 1, 0}, "Ω/sq": {SheetResistance, 1, 0}, "ohm/□": {SheetResistance, 1, 0},
 	"Ω/□": {SheetResistance, 1, 0}, "ohm": {SheetResistance, 1, 0}, "kohm/sq": {SheetResistance, 1e3, 0},
 	"kΩ/sq": {SheetResistance, 1e3, 0},
+	// wavenumber (spectroscopy): 1 cm⁻¹ = 100 m⁻¹ (exact)
+	"1/cm": {Wavenumber, 100, 0}, "/cm": {Wavenumber, 100, 0}, "cm-1": {Wavenumber, 100, 0}, "cm^-1": {Wavenumber, 100, 0},
+	"cm⁻¹": {Wavenumber, 100, 0}, "1/m": {Wavenumber, 1, 0}, "m-1": {Wavenumber, 1, 0},
 }
 
 // lengthPrefixes are the length units from which the per-area, speed and
@@ -239,6 +245,7 @@ var unitsOf = map[Dimension]string{
 	AreaRate:              "/m2/s, /cm2/s, /mm2/s, /um2/s",
 	Speed:                 "m/s, mm/s, um/s, nm/s, um/min, mm/min",
 	SheetResistance:       "ohm/sq, kohm/sq",
+	Wavenumber:            "1/cm, cm-1",
 }
 
 // Quantity is a number with a unit, parsed once from the text a person

@@ -55,6 +55,8 @@ func TestParseConversions(t *testing.T) {
 		{"speed um/min", "6 um/min", Speed, 1e-7, 1e-12, "6e-6 m per 60 s"},
 		{"speed nm/s", "100 nm/s", Speed, 1e-7, 1e-12, "SI prefix"},
 		{"sheet resistance", "1.2 kohm/sq", SheetResistance, 1200, 1e-12, "SI prefix"},
+		{"wavenumber", "32 cm-1", Wavenumber, 3200, 1e-12, "1 cm⁻¹ = 100 m⁻¹, exact"},
+		{"wavenumber slash", "32 1/cm", Wavenumber, 3200, 1e-12, "1 cm⁻¹ = 100 m⁻¹, exact"},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {

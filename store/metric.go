@@ -40,12 +40,17 @@ func (m MetricInfo) Units() []string { return append([]string(nil), m.units...) 
 //   - maxDomainSize: 1 m = 1e6 µm, larger than any foil a tube furnace holds;
 //   - maxRamanRatio: 1000 (measured 2D/G and D/G ratios are below 10;
 //     common practice);
+//   - maxRamanWidth: 1000 cm⁻¹ (graphene's 2D band is about 24–35 cm⁻¹ wide
+//     in a monolayer and below about 100 cm⁻¹ in multilayer or disordered
+//     films; a band 1000 cm⁻¹ wide spans most of the spectrum; common
+//     practice);
 //   - maxSheetResistance: 1e15 Ω/sq, an insulator;
 //   - MaxFreeValue: the magnitude bound of a free-form metric's value.
 const (
 	maxNucleiDensity   = 3.8e13
 	maxDomainSize      = 1e6
 	maxRamanRatio      = 1000
+	maxRamanWidth      = 1000
 	maxSheetResistance = 1e15
 	// MaxFreeValue bounds the magnitude of a free-form metric's value (and
 	// of a parameter foilrun does not know): finite, and a mean of up to
@@ -65,6 +70,8 @@ var metrics = []MetricInfo{
 	{Name: "layers", Unit: "1", Dim: recipe.Dimensionless, Description: "number of graphene layers", Min: 0, Max: 100, units: []string{"(none)"}},
 	{Name: "raman_2d_g", Unit: "1", Dim: recipe.Dimensionless, Description: "Raman 2D/G intensity ratio", Min: 0, Max: maxRamanRatio, units: []string{"(none)"}},
 	{Name: "raman_d_g", Unit: "1", Dim: recipe.Dimensionless, Description: "Raman D/G intensity ratio", Min: 0, LowerBetter: true, Max: maxRamanRatio, units: []string{"(none)"}},
+	{Name: "raman_2d_fwhm", Unit: "1/cm", Dim: recipe.Wavenumber, Description: "Raman 2D band full width at half maximum", Min: 0, LowerBetter: true, Max: maxRamanWidth,
+		units: []string{"1/cm", "cm-1", "cm^-1", "/cm"}},
 	{Name: "sheet_resistance", Unit: "ohm/sq", Dim: recipe.SheetResistance, Description: "sheet resistance after transfer", Min: 0, LowerBetter: true, Max: maxSheetResistance,
 		units: []string{"ohm/sq", "Ω/sq", "kohm/sq", "kΩ/sq"}},
 	{Name: "transmittance_550", Unit: "1", Dim: recipe.Fraction, Description: "optical transmittance at 550 nm", Min: 0, Max: 1,

@@ -12,7 +12,7 @@ import (
 
 // Unit conversions below are exact SI prefix relations (SI Brochure, 9th
 // ed., table 7): 1 mm² = 1e-2 cm² = 1e6 µm², 1 mm = 1e3 µm = 1e6 nm,
-// 1 kΩ = 1e3 Ω, 1 % = 1e-2, 1 ppm = 1e-6. Tolerance 1e-12 relative (a
+// 1 kΩ = 1e3 Ω, 1 cm⁻¹ = 100 m⁻¹, 1 % = 1e-2, 1 ppm = 1e-6. Tolerance 1e-12 relative (a
 // conversion through SI and back may be off by an ulp).
 func TestParseOutcome(t *testing.T) {
 	tests := []struct {
@@ -36,6 +36,10 @@ func TestParseOutcome(t *testing.T) {
 		{"size nm", "domain_size=1500 nm", 1.5, "um", ""},
 		{"sheet kohm", "sheet_resistance=0.45 kohm/sq", 450, "ohm/sq", ""},
 		{"plain number", "layers=1", 1, "1", ""},
+		{"raman width cm-1", "raman_2d_fwhm=32 cm-1", 32, "1/cm", ""},
+		{"raman width per m", "raman_2d_fwhm=3200 1/m", 32, "1/cm", ""},
+		{"raman width bare", "raman_2d_fwhm=32", 0, "", "raman_2d_fwhm is in 1/cm, not a bare number"},
+		{"raman width too wide", "raman_2d_fwhm=5000 cm-1", 0, "", "raman_2d_fwhm 5000 1/cm is outside 0 to 1000"},
 		{"free-form keeps its unit", "peak_shift=3.5 cm-1", 3.5, "cm-1", ""},
 		{"free-form bare", "spots=4", 4, "1", ""},
 		{"wrong dimension", "domain_size=15 ohm/sq", 0, "", `domain_size is in um, not "ohm/sq" (units: um, µm, nm, mm, m)`},

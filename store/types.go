@@ -146,6 +146,7 @@ type RunRecord struct {
 	Actuals     []Actual           `json:"actuals,omitempty"`
 	Deviations  []Deviation        `json:"deviations,omitempty"`
 	Attachments []Attachment       `json:"attachments,omitempty"`
+	Override    *Override          `json:"override,omitempty"` // nil: the recipe passed check and safety when logged
 }
 
 // Finish is what `run finish` adds to a running run.

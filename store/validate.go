@@ -221,6 +221,11 @@ func (rec RunRecord) Validate(now time.Time) error {
 			return fieldError(run, fmt.Sprintf("outcomes[%d]", i), "%v", err)
 		}
 	}
+	if rec.Override != nil {
+		if err := rec.Override.Validate(now); err != nil {
+			return fieldError(run, "override", "%v", err)
+		}
+	}
 	return checkFinishRows(run, rec.Actuals, rec.Deviations, rec.Attachments, now)
 }
 

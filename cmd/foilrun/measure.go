@@ -236,6 +236,9 @@ func (mf *measureFlags) measureFilm() ([]measurement, []string, error) {
 		ms = append(ms,
 			measurement{Metric: "raman_2d_g", Value: r.TwoDG, Unit: "1", Method: "Raman, entered", Text: num(r.TwoDG, 3)},
 			measurement{Metric: "raman_d_g", Value: r.DG, Unit: "1", Method: "Raman, entered", Text: num(r.DG, 3)})
+		if r.Width2D > 0 {
+			ms = append(ms, measurement{Metric: "raman_2d_fwhm", Value: r.Width2D, Unit: "1/cm", Method: "Raman, entered", Text: num(r.Width2D, 3) + " cm-1"})
+		}
 		th := c.Thresholds
 		lines = append(lines, fmt.Sprintf("Raman: %s — %s", c.Class, c.Reason),
 			fmt.Sprintf("  thresholds (common practice): monolayer-like at 2D/G ≥ %g with 2D FWHM ≤ %g cm⁻¹; defective at D/G ≥ %g", th.MonolayerMin2DG, th.MonolayerMax2DWidth, th.DefectiveMinDG))

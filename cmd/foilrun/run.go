@@ -46,7 +46,8 @@ type runOptions struct {
 	aborted   bool     // add
 	started   string   // add: start time
 	startOnly bool
-	logStart  int // add: step the furnace log starts at (0: found from the log)
+	logStart  int    // add: step the furnace log starts at (0: found from the log)
+	override  string // log a recipe with check errors or safety stops anyway, for this reason
 }
 
 func (o *runOptions) register(cmd *cobra.Command) {
@@ -54,6 +55,7 @@ func (o *runOptions) register(cmd *cobra.Command) {
 	cmd.Flags().StringVar(&o.operator, "operator", "", "who runs the furnace (default $USER)")
 	cmd.Flags().StringVar(&o.lot, "lot", "", "copper foil lot (default the recipe's substrate lot)")
 	cmd.Flags().StringArrayVar(&o.notes, "note", nil, "a note on the run (repeatable)")
+	cmd.Flags().StringVar(&o.override, "override", "", "log the run although the recipe has check errors or safety stops, for this reason (stored with the findings)")
 }
 
 func newRunStartCmd(f *factory) *cobra.Command {
@@ -61,7 +63,11 @@ func newRunStartCmd(f *factory) *cobra.Command {
 	cmd := &cobra.Command{
 		Use:   "start RECIPE",
 		Short: "Start a run from a recipe and print its code",
-		Args:  cobra.ExactArgs(1),
+		Long: `Start a run from a recipe: store the recipe as a snapshot and print the new
+run's code. A recipe with check errors or stop-level safety findings is not
+logged (the findings are printed, exit status 1) unless --override gives the
+reason; the reason, the operator and the findings are then stored on the run.`,
+		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			opts.recipe = args[0]
 			return runStartRun(cmd.Context(), opts)
@@ -78,7 +84,8 @@ func newRunAddCmd(f *factory) *cobra.Command {
 		Short: "Log a finished run in one go (all or nothing)",
 		Long: `Log a finished run in one go: the recipe snapshot, its outcomes and, with
 --furnace-log, the controller's actuals. Prints the run's code, then any
-deviations from plan the furnace log shows.`,
+deviations from plan the furnace log shows. A recipe with check errors or
+stop-level safety findings is refused unless --override gives the reason.`,
 		Example: `  foilrun run add growth.yaml --furnace-log run.csv --lot L-17 \
       --outcome coverage=93% --outcome domain_size=12um`,
 		Args: cobra.ExactArgs(1),
@@ -103,7 +110,7 @@ func runStartRun(ctx context.Context, o *runOptions) error {
 	if err != nil {
 		return fmt.Errorf("load recipe: %w", err)
 	}
-	plan, _, err := o.flags.loadPlan(o.recipe)
+	plan, site, err := o.flags.loadPlan(o.recipe)
 	if err != nil {
 		return err
 	}
@@ -113,6 +120,9 @@ func runStartRun(ctx context.Context, o *runOptions) error {
 		if err := o.finished(&rec, plan, now); err != nil {
 			return err
 		}
+	}
+	if err := gate(plan, site, o.override, now, &rec, o.f.io.Out, o.f.io.Err); err != nil {
+		return err
 	}
 	snap := store.NewSnapshot(plan.Recipe.Name, o.recipe, data)
 	l, err := o.f.createLog(ctx)
@@ -404,6 +414,13 @@ func printRun(w io.Writer, rec store.RunRecord) error {
 		e(rec.RecipeName), e(rec.RecipeHash), e(rec.Furnace), e(rec.Operator), e(rec.Lot), when(rec.Started), when(rec.Ended))
 	if err := section(w, "Recipe parameters", paramTable(rec)); err != nil {
 		return err
+	}
+	if o := rec.Override; o != nil {
+		heading(w, "Override")
+		fmt.Fprintf(w, "logged despite %d findings by %s at %s\nreason    %s\n", len(o.Findings), o.Operator, when(o.At), o.Reason)
+		if err := writeTable(w, overrideTable(o)); err != nil {
+			return err
+		}
 	}
 	if len(rec.Outcomes) > 0 {
 		if err := section(w, "Outcomes", outcomeTable(rec.Outcomes)); err != nil {

@@ -28,6 +28,10 @@ type suggestOptions struct {
 	outFile    string
 	force      bool
 	output     outputFormat
+	// search margins
+	allowWarnings bool
+	mfcShare      string // fraction of full scale, e.g. 90%
+	meltMargin    string // temperature difference, e.g. 10 K
 }
 
 func newSuggestCmd(f *factory) *cobra.Command {
@@ -75,6 +79,9 @@ meets the targets, naming the limits that bind.`,
 	cmd.Flags().Float64Var(&opts.confidence, "confidence", 0, "plan so the targets hold at this interval's bound (needs a fitted params file)")
 	cmd.Flags().StringVarP(&opts.outFile, "output-file", "o", "", "write the changed recipe here")
 	addForceFlag(cmd, &opts.force)
+	cmd.Flags().BoolVar(&opts.allowWarnings, "allow-warnings", false, "also suggest recipes that foilrun check gives warnings")
+	cmd.Flags().StringVar(&opts.mfcShare, "max-mfc-share", "90%", "highest flow searched, as a share of the line's MFC full scale")
+	cmd.Flags().StringVar(&opts.meltMargin, "melt-margin", "10 K", "keep the temperature this far below copper's melting point less the thermocouple margin")
 	addOutputFlag(cmd, &opts.output)
 	return cmd
 }
@@ -139,7 +146,18 @@ func suggestRun(opts *suggestOptions) error {
 	if err := checkOutput(opts.outFile, guard); err != nil {
 		return err
 	}
-	spec := kinetics.SuggestSpec{Params: params, Vary: opts.vary, Minimize: opts.minimize, Confidence: opts.confidence}
+	spec := kinetics.SuggestSpec{Params: params, Vary: opts.vary, Minimize: opts.minimize, Confidence: opts.confidence, AllowWarnings: opts.allowWarnings}
+	if spec.MaxMFCShare, err = recipe.ParseFraction(opts.mfcShare); err != nil || !(spec.MaxMFCShare > 0 && spec.MaxMFCShare <= 1) {
+		return withHint(usagef("--max-mfc-share %q: want a share of full scale above 0 and at most 100 %%", opts.mfcShare), "e.g. --max-mfc-share 90%")
+	}
+	q, err := recipe.Parse(opts.meltMargin, recipe.TemperatureDifference)
+	if err != nil || q.SI < 0 {
+		return withHint(usagef("--melt-margin %q: want a temperature difference of 0 K or more", opts.meltMargin), "e.g. --melt-margin 10K")
+	}
+	spec.MeltMargin = q.SI
+	if q.SI == 0 {
+		spec.MeltMargin = -1 // none asked for; 0 would mean the default
+	}
 	for _, s := range opts.targets {
 		tg, err := kinetics.ParseTarget(s)
 		if err != nil {

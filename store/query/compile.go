@@ -3,6 +3,7 @@ package query
 import (
 	"fmt"
 	"sort"
+	"strconv"
 	"strings"
 )
 
@@ -11,6 +12,9 @@ import (
 type Column struct {
 	SQL  string // e.g. "r.status"
 	Text bool
+	// Bool: the SQL gives 1 or 0 and the language compares it with
+	// true or false, by = or != only.
+	Bool bool
 }
 
 // Schema is what names may appear in an expression.
@@ -137,6 +141,10 @@ func compare(b *strings.Builder, args *[]any, c *Compare, s Schema, src string) 
 	}
 	if col, ok := s.Columns[c.Name]; ok {
 		switch {
+		case col.Bool && (!c.IsBool || (op != "=" && op != "<>")):
+			return &Error{src, c.VPos, fmt.Sprintf("%s is true or false; write %s = true or %s = false", c.Name, c.Name, c.Name)}
+		case !col.Bool && c.IsBool:
+			return &Error{src, c.VPos, fmt.Sprintf("%s is not true or false; give a %s", c.Name, kindOf(col))}
 		case col.Text && !c.IsStr:
 			return &Error{src, c.VPos, fmt.Sprintf("%s holds text; quote the value, e.g. %s %s \"%s\"", c.Name, c.Name, c.Op, strings.TrimSpace(fmt.Sprint(c.Num)))}
 		case !col.Text && c.IsStr:
@@ -154,8 +162,11 @@ func compare(b *strings.Builder, args *[]any, c *Compare, s Schema, src string) 
 	if !isParam && !isMetric {
 		return &Error{src, c.Pos, unknownName(c.Name, s)}
 	}
-	if c.IsStr {
+	switch {
+	case c.IsStr:
 		return &Error{src, c.VPos, fmt.Sprintf("%s is a number; give a number, not %q", c.Name, c.Text)}
+	case c.IsBool:
+		return &Error{src, c.VPos, fmt.Sprintf("%s is a number; give a number, not %s", c.Name, strconv.FormatBool(c.Num != 0))}
 	}
 	if isParam {
 		b.WriteString(s.RunID + " IN (SELECT run_id FROM run_params WHERE name = ? AND value " + op + " ?)")
@@ -164,6 +175,14 @@ func compare(b *strings.Builder, args *[]any, c *Compare, s Schema, src string) 
 	}
 	*args = append(*args, c.Name, c.Num)
 	return nil
+}
+
+// kindOf names what a column holds, for messages.
+func kindOf(col Column) string {
+	if col.Text {
+		return "quoted text"
+	}
+	return "number"
 }
 
 func unknownName(name string, s Schema) string {

@@ -22,8 +22,10 @@ type Compare struct {
 	Num   float64
 	Text  string
 	IsStr bool // the value is Text, not Num
-	Pos   int  // column of the name
-	VPos  int  // column of the value
+	// IsBool: the value was written true or false (Num 1 or 0).
+	IsBool bool
+	Pos    int // column of the name
+	VPos   int // column of the value
 }
 
 // And is "L and R".
@@ -37,8 +39,11 @@ type Not struct{ X Expr }
 
 func (c *Compare) String() string {
 	v := strconv.FormatFloat(c.Num, 'g', -1, 64)
-	if c.IsStr {
+	switch {
+	case c.IsStr:
 		v = quote(c.Text)
+	case c.IsBool:
+		v = strconv.FormatBool(c.Num != 0)
 	}
 	return c.Name + " " + c.Op + " " + v
 }
@@ -229,11 +234,22 @@ func (p *parser) compare() (Expr, error) {
 	case tStr:
 		c.Text, c.IsStr = v.text, true
 	case tName:
+		if v.text == "true" || v.text == "false" {
+			c.Num, c.IsBool = boolNum(v.text == "true"), true
+			return c, nil
+		}
 		return nil, p.fail(v, "%s is not a value; quote text (\"%s\") or give a number", describe(v), v.text)
 	default:
 		return nil, p.fail(v, "unexpected %s after %s %s; want a number or a quoted string", describe(v), name.text, op.text)
 	}
 	return c, nil
+}
+
+func boolNum(b bool) float64 {
+	if b {
+		return 1
+	}
+	return 0
 }
 
 func lex(src string) ([]token, error) {

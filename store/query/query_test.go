@@ -8,7 +8,8 @@ import (
 )
 
 var testSchema = Schema{
-	Columns: map[string]Column{"status": {"r.status", true}, "furnace": {"r.furnace", true}, "code": {"r.code", true}},
+	Columns: map[string]Column{"status": {SQL: "r.status", Text: true}, "furnace": {SQL: "r.furnace", Text: true}, "code": {SQL: "r.code", Text: true},
+		"override": {SQL: "r.over", Bool: true}},
 	Params:  map[string]bool{"growth_temperature_c": true, "ch4_h2_ratio": true},
 	Metrics: map[string]bool{"coverage": true, "layers": true},
 	RunID:   "r.id",
@@ -36,6 +37,8 @@ func TestCompile(t *testing.T) {
 			"(NOT (" + inMetric + "= ?) OR " + inParam + "< ?)))", []any{"layers", 1.0, "ch4_h2_ratio", 0.01}},
 		{"double equals, negative", `growth_temperature_c == -5`, inParam + "= ?)", []any{"growth_temperature_c", -5.0}},
 		{"escaped quote", `code = "G\"1"`, `(r.code = ?)`, []any{`G"1`}},
+		{"bool true", `override = true`, `(r.over = ?)`, []any{1.0}},
+		{"bool false, not equal", `override != false`, `(r.over <> ?)`, []any{0.0}},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
@@ -70,6 +73,10 @@ func TestErrors(t *testing.T) {
 		{"dangling and", `coverage > 0.5 and`, 19, "unexpected the end"},
 		{"text column number", `status = 3`, 10, "status holds text"},
 		{"metric string", `coverage = "high"`, 12, "coverage is a number"},
+		{"bool column number", `override = 1`, 12, "override is true or false"},
+		{"bool column order", `override > false`, 12, "write override = true"},
+		{"bool on text column", `status = true`, 10, "status is not true or false"},
+		{"bool on metric", `coverage = false`, 12, "coverage is a number; give a number, not false"},
 		{"lone bang", `!coverage`, 1, `"!" alone`},
 		{"empty", `   `, 4, "empty expression"},
 		{"ampersand", `coverage > 1 && layers = 1`, 14, "write and, or"},

@@ -3,6 +3,7 @@ package sqldb
 import (
 	"context"
 	"database/sql"
+	"encoding/json"
 	"errors"
 	"fmt"
 	"math"
@@ -21,6 +22,7 @@ var columns = map[string]query.Column{
 	"recipe": {SQL: "r.recipe_name", Text: true}, "recipe_sha256": {SQL: "r.recipe_sha256", Text: true},
 	"furnace": {SQL: "r.furnace", Text: true}, "operator": {SQL: "r.operator", Text: true},
 	"lot": {SQL: "r.lot", Text: true}, "started": {SQL: "r.started_at", Text: true}, "ended": {SQL: "r.ended_at", Text: true},
+	"override": {SQL: "(CASE WHEN r.id IN (SELECT run_id FROM run_overrides) THEN 1 ELSE 0 END)", Bool: true},
 }
 
 // Columns lists the run column names the --where language knows.
@@ -310,9 +312,9 @@ func (s *DB) readRuns(ctx context.Context, q Querier, qs string, args []any) ([]
 	return recs, ids, rows.Err()
 }
 
-// readChildren fills params, notes, outcomes, actuals, deviations and
-// attachments of the runs (ids ascending), one query per table over the
-// id range.
+// readChildren fills params, notes, outcomes, actuals, deviations,
+// attachments and the override of the runs (ids ascending), one query
+// per table over the id range.
 func (s *DB) readChildren(ctx context.Context, q Querier, ids []int64, recs []*store.RunRecord) error {
 	byID := make(map[int64]*store.RunRecord, len(ids))
 	for i, id := range ids {
@@ -411,7 +413,7 @@ func (s *DB) readChildren(ctx context.Context, q Querier, ids []int64, recs []*s
 	if err != nil {
 		return err
 	}
-	return read("attachments", "run_id, path, sha256, kind, added_at", "id", func(rows *sql.Rows) error {
+	err = read("attachments", "run_id, path, sha256, kind, added_at", "id", func(rows *sql.Rows) error {
 		var a store.Attachment
 		var at sql.NullString
 		if err := rows.Scan(&id, &a.Path, &a.SHA256, &a.Kind, &at); err != nil {
@@ -421,6 +423,24 @@ func (s *DB) readChildren(ctx context.Context, q Querier, ids []int64, recs []*s
 		a.Added, err = parseTime(at)
 		r := pick()
 		r.Attachments = append(r.Attachments, a)
+		return err
+	})
+	if err != nil {
+		return err
+	}
+	return read("run_overrides", "run_id, reason, operator, at, findings", "run_id", func(rows *sql.Rows) error {
+		var o store.Override
+		var at sql.NullString
+		var fs string
+		if err := rows.Scan(&id, &o.Reason, &o.Operator, &at, &fs); err != nil {
+			return err
+		}
+		if err := json.Unmarshal([]byte(fs), &o.Findings); err != nil {
+			return fmt.Errorf("findings: %w", err)
+		}
+		var err error
+		o.At, err = parseTime(at)
+		pick().Override = &o
 		return err
 	})
 }

@@ -3,6 +3,7 @@ package sqldb
 import (
 	"context"
 	"database/sql"
+	"encoding/json"
 	"errors"
 	"fmt"
 	"sort"
@@ -19,7 +20,7 @@ type writer struct {
 	names map[string]store.Name // the names registry, loaded once
 	snaps map[string]bool       // snapshot hashes known to be stored
 
-	params, outcomes, notes, actuals, deviations, attachments, newNames *batch
+	params, outcomes, notes, actuals, deviations, attachments, overrides, newNames *batch
 
 	runStmts map[int]*sql.Stmt // INSERT of n runs
 	pending  []queued          // checked runs not yet inserted
@@ -42,6 +43,7 @@ func (s *DB) begin(ctx context.Context) (*writer, error) {
 	w.actuals = newBatch(tx, d, "run_actuals", []string{"run_id", "step", "label", "quantity", "unit", "planned", "mean", "min", "max", "samples"}, "")
 	w.deviations = newBatch(tx, d, "run_deviations", []string{"run_id", "step", "label", "quantity", "unit", "planned", "actual", "tolerance", "message"}, "")
 	w.attachments = newBatch(tx, d, "attachments", []string{"run_id", "path", "sha256", "kind", "added_at"}, "")
+	w.overrides = newBatch(tx, d, "run_overrides", []string{"run_id", "reason", "operator", "at", "findings"}, "")
 	w.newNames = newBatch(tx, d, "names", []string{"name", "kind", "unit"}, "ON CONFLICT (name) DO NOTHING")
 	if err := w.loadNames(ctx); err != nil {
 		w.rollback()
@@ -51,7 +53,7 @@ func (s *DB) begin(ctx context.Context) (*writer, error) {
 }
 
 func (w *writer) batches() []*batch {
-	return []*batch{w.params, w.outcomes, w.notes, w.actuals, w.deviations, w.attachments, w.newNames}
+	return []*batch{w.params, w.outcomes, w.notes, w.actuals, w.deviations, w.attachments, w.overrides, w.newNames}
 }
 
 func (w *writer) rollback() {
@@ -349,6 +351,13 @@ func (w *writer) addRows(ctx context.Context, id int64, rec store.RunRecord) err
 		if err := w.addAttachment(ctx, id, a); err != nil {
 			return err
 		}
+	}
+	if o := rec.Override; o != nil {
+		fs, err := json.Marshal(o.Findings)
+		if err != nil {
+			return err
+		}
+		return w.overrides.add(ctx, id, o.Reason, o.Operator, nullTime(o.At), string(fs))
 	}
 	return nil
 }

@@ -93,8 +93,8 @@ func TestReadOnlyOpenErrors(t *testing.T) {
 		t.Fatal(err)
 	}
 	raw.Close()
-	if _, err := OpenReadOnly(ctx, path); !errors.Is(err, store.ErrSchemaBehind) || !strings.Contains(err.Error(), "version 1, this foilrun needs 3") {
-		t.Errorf("read-only open of an old schema: got %v, want ErrSchemaBehind naming 1 and 3", err)
+	if _, err := OpenReadOnly(ctx, path); !errors.Is(err, store.ErrSchemaBehind) || !strings.Contains(err.Error(), "version 1, this foilrun needs 4") {
+		t.Errorf("read-only open of an old schema: got %v, want ErrSchemaBehind naming 1 and 4", err)
 	}
 	ro, err := sql.Open("sqlite3", dsn(path, true))
 	if err != nil {

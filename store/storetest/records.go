@@ -46,7 +46,8 @@ func GenRecord(i int, hash string) store.RunRecord {
 }
 
 // FullRecord is GenRecord with a note, an actual (planned value missing),
-// a deviation and an attachment, so every table gets rows.
+// a deviation and an attachment, and every third run (i divisible by 3)
+// an override, so every table gets rows.
 func FullRecord(i int, hash string) store.RunRecord {
 	rec := GenRecord(i, hash)
 	rec.Notes = []store.Note{{At: T0, Text: "note " + rec.Lot}}
@@ -57,7 +58,20 @@ func FullRecord(i int, hash string) store.RunRecord {
 	}
 	rec.Deviations = []store.Deviation{{Step: 2, Label: "2 grow", Quantity: "duration", Unit: "s", Planned: 900, Actual: 1100, Tolerance: 90, Message: "long"}}
 	rec.Attachments = []store.Attachment{{Path: "a.png", SHA256: store.HashOf([]byte(rec.Lot)), Kind: "micrograph", Added: T0}}
+	if i%3 == 0 {
+		rec.Override = TestOverride(rec.Operator)
+	}
 	return rec
+}
+
+// TestOverride is an override by the operator with one check error and
+// one safety stop, text with a quote and non-ASCII to round-trip.
+func TestOverride(operator string) *store.Override {
+	return &store.Override{Reason: "trial of the new \"hot\" tube, approved by the group lead", Operator: operator, At: T0,
+		Findings: []store.OverrideFinding{
+			{Source: "check", Severity: "error", Step: "grow", Rule: "temperature.copper-melting", Message: "1080 °C is within the thermocouple margin of copper's melting point"},
+			{Source: "safety", Severity: "stop", Step: "vent", Rule: "vent.hot", Message: "vents at 400 °C with H2 in the tube"},
+		}}
 }
 
 // Records returns n GenRecords referring to the snapshot hash.
@@ -70,7 +84,7 @@ func Records(n int, hash string) []store.RunRecord {
 }
 
 // Tables are the run log's tables, for row counts.
-var Tables = []string{"runs", "snapshots", "run_params", "run_notes", "outcomes", "run_actuals", "run_deviations", "attachments", "names", "counters", "schema_version"}
+var Tables = []string{"runs", "snapshots", "run_params", "run_notes", "outcomes", "run_actuals", "run_deviations", "attachments", "run_overrides", "names", "counters", "schema_version"}
 
 // SQLBacked is what the shared tests need of a back end beyond
 // store.RunLog: its clock, and its database for row counts and for

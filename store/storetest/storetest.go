@@ -16,6 +16,7 @@ import (
 	"bytes"
 	"context"
 	"errors"
+	"fmt"
 	"os"
 	"path/filepath"
 	"sort"
@@ -50,6 +51,7 @@ func Run(t *testing.T, open Opener) {
 		{"ConcurrentWriters", testConcurrentWriters},
 		{"Check", testCheck},
 		{"CopyTo", testCopy},
+		{"Override", testOverride},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) { tt.fn(t, open) })
@@ -507,11 +509,54 @@ func testCheck(t *testing.T, open Opener) {
 	if err != nil || len(probs) != 0 {
 		t.Errorf("Check of a good log: got %v, %v; want no problems", probs, err)
 	}
-	if v, err := l.SchemaVersion(ctx); err != nil || v != 3 {
-		t.Errorf("SchemaVersion: got %d, %v; want 3", v, err)
+	if v, err := l.SchemaVersion(ctx); err != nil || v != 4 {
+		t.Errorf("SchemaVersion: got %d, %v; want 4", v, err)
 	}
 }
 
 func errorsIs(err, target error) bool { return errors.Is(err, target) }
 
 func contains(err error, s string) bool { return err != nil && strings.Contains(err.Error(), s) }
+
+// testOverride: an override is stored with its run, read back whole,
+// selected by override = true / false, and an empty reason is refused.
+func testOverride(t *testing.T, open Opener) {
+	l := open(t)
+	ctx := context.Background()
+	var want, wantNot []string
+	for i := 0; i < 7; i++ {
+		code, err := l.CreateRun(ctx, FullRecord(i, ""), nil)
+		must(t, err)
+		if i%3 == 0 {
+			want = append(want, code)
+		} else {
+			wantNot = append(wantNot, code)
+		}
+	}
+	rec, err := l.Record(ctx, want[1])
+	must(t, err)
+	if w := TestOverride(rec.Operator); rec.Override == nil || rec.Override.Reason != w.Reason || rec.Override.Operator != w.Operator ||
+		!rec.Override.At.Equal(w.At) || fmt.Sprint(rec.Override.Findings) != fmt.Sprint(w.Findings) {
+		t.Errorf("override of %s: got %+v, want %+v", want[1], rec.Override, w)
+	}
+	for _, tt := range []struct {
+		where string
+		want  []string
+	}{{"override = true", want}, {"override = false", wantNot}, {"not override = true", wantNot}} {
+		runs, err := l.List(ctx, store.Filter{Where: []string{tt.where}})
+		must(t, err)
+		var got []string
+		for _, r := range runs {
+			got = append(got, r.Code)
+		}
+		if fmt.Sprint(got) != fmt.Sprint(tt.want) {
+			t.Errorf("List(%q): got %v, want %v", tt.where, got, tt.want)
+		}
+	}
+	bad := GenRecord(1, "")
+	bad.Override = TestOverride("op")
+	bad.Override.Reason = ""
+	if _, err := l.CreateRun(ctx, bad, nil); !errors.Is(err, store.ErrInvalid) || !strings.Contains(err.Error(), "reason") {
+		t.Errorf("CreateRun with an empty override reason: got %v, want ErrInvalid naming the reason", err)
+	}
+}
