@@ -1,9 +1,7 @@
 package recipe
 
 import (
-	"maps"
 	"math"
-	"slices"
 
 	"github.com/foilrun/foilrun/recipe/gas"
 )
@@ -24,9 +22,13 @@ type Conditions struct {
 	Pressure float64
 	// Flows are the mean molar flows by gas symbol (mol/s, the true gas,
 	// already corrected for the line's calibration gas). A gas the step
-	// plans takes its logged flow; a gas it does not plan is added when
-	// its logged flow is above zero; a planned gas missing from the map
-	// keeps its planned flow. Nil keeps every planned flow.
+	// plans takes its logged flow; a planned gas missing from the map
+	// keeps its planned flow; a gas the step does not plan is ignored: a
+	// step's mean takes in a sample or two of its neighbours (a step
+	// boundary is known to a sample either side), so a small reading of
+	// an unplanned gas is more likely the next step's flow than a flow of
+	// this one, and a real one is a deviation the log matcher reports.
+	// Nil keeps every planned flow.
 	Flows map[string]float64
 }
 
@@ -37,7 +39,7 @@ type Conditions struct {
 // residence time, Reynolds and Knudsen numbers, supersaturation, copper
 // loss). Other steps, start times and durations are the plan's. The
 // original plan is not changed. A condition naming a step outside the plan
-// or a gas not in the gas table is ignored.
+// is ignored.
 func (p *Plan) WithConditions(cs []Conditions) *Plan {
 	out := *p
 	out.Steps = append([]StepPlan(nil), p.Steps...)
@@ -65,27 +67,14 @@ func (p *Plan) WithConditions(cs []Conditions) *Plan {
 }
 
 // loggedFlows returns a new flow list: the planned flows with the logged
-// ones written in, and logged gases the step does not plan appended in
-// symbol order (when above zero).
+// ones of the same gases written in.
 func loggedFlows(planned []FlowPlan, logged map[string]float64) []FlowPlan {
-	out := make([]FlowPlan, 0, len(planned)+len(logged))
-	seen := map[string]bool{}
+	out := make([]FlowPlan, 0, len(planned))
 	for _, fl := range planned {
 		if v, ok := logged[fl.Gas.Symbol]; ok {
 			fl.Molar = math.Max(0, v)
 		}
-		seen[fl.Gas.Symbol] = true
 		out = append(out, FlowPlan{Gas: fl.Gas, Molar: fl.Molar})
-	}
-	for _, sym := range slices.Sorted(maps.Keys(logged)) {
-		if seen[sym] || !(logged[sym] > 0) {
-			continue
-		}
-		g, err := gas.Lookup(sym)
-		if err != nil {
-			continue
-		}
-		out = append(out, FlowPlan{Gas: g, Molar: logged[sym]})
 	}
 	return out
 }

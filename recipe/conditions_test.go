@@ -103,21 +103,22 @@ func TestWithConditions(t *testing.T) {
 
 // TestWithConditionsRamp: a ramp logged 12 K low on average keeps its
 // planned rate (T1 − T0 unchanged) and is shifted by 12 K; steps without
-// conditions are the plan's; a logged gas the step does not plan is added.
+// conditions are the plan's; a logged gas the step does not plan is
+// ignored, a planned one logged takes the logged flow.
 func TestWithConditionsRamp(t *testing.T) {
 	base := lowPressurePlan(t, "")
 	const ramp = 3 // "4 ramp"
 	sp := base.Steps[ramp]
-	ar := MustParse("2 sccm", Flow).SI
-	got := base.WithConditions([]Conditions{{Step: ramp, Temperature: sp.MeanTemperature() - 12, Flows: map[string]float64{"Ar": ar}}})
+	ar, h2 := MustParse("2 sccm", Flow).SI, MustParse("19 sccm", Flow).SI
+	got := base.WithConditions([]Conditions{{Step: ramp, Temperature: sp.MeanTemperature() - 12, Flows: map[string]float64{"Ar": ar, "H2": h2}}})
 	g := got.Steps[ramp]
 	if math.Abs((g.T1-g.T0)-(sp.T1-sp.T0)) > 1e-9 || math.Abs(g.T0-(sp.T0-12)) > 1e-9 {
 		t.Errorf("ramp: got %g→%g K, want %g→%g K", g.T0, g.T1, sp.T0-12, sp.T1-12)
 	}
-	if len(g.Flows) != 2 || g.Flows[1].Gas.Symbol != "Ar" || g.Flows[1].Molar != ar || g.Flows[0].Molar != sp.Flows[0].Molar {
-		t.Errorf("ramp flows: got %+v, want the planned H2 and 2 sccm Ar", g.Flows)
+	if len(g.Flows) != 1 || g.Flows[0].Gas.Symbol != "H2" || g.Flows[0].Molar != h2 {
+		t.Errorf("ramp flows: got %+v, want H2 alone at the logged 19 sccm", g.Flows)
 	}
-	if want := sp.TotalFlow + ar; math.Abs(g.TotalFlow-want) > 1e-15 {
+	if want := h2; math.Abs(g.TotalFlow-want) > 1e-15 {
 		t.Errorf("total flow: got %g, want %g mol/s", g.TotalFlow, want)
 	}
 	if got.Steps[ramp+1].T0 != base.Steps[ramp+1].T0 || got.Total != base.Total {
