@@ -185,17 +185,9 @@ func derive(sp *StepPlan, f *Furnace) {
 		if err != nil {
 			continue // validated at load; cannot happen for loaded recipes
 		}
-		sp.Flows = append(sp.Flows, FlowPlan{Gas: g, Molar: fl.Flow.SI, SCCM: fl.Flow.SI / molPerSCCMSecond})
-		sp.TotalFlow += fl.Flow.SI
-		if g.Flammable && fl.Flow.SI > 0 {
-			sp.Flammable = true
-		}
-		if g.Role == gas.CarbonSource && fl.Flow.SI > 0 {
-			sp.CarbonSource = true
-		}
+		sp.Flows = append(sp.Flows, FlowPlan{Gas: g, Molar: fl.Flow.SI})
 	}
-	sp.Throughput = sp.TotalFlow * gas.R * RoomTemperature
-	sp.PumpLimit = f.pumpLimit(sp.Throughput, sp.Flows, sp.TotalFlow)
+	refill(sp, f)
 }
 
 // gasPhase fills the numbers that need the step's pressure.

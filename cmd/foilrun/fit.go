@@ -21,6 +21,7 @@ import (
 type fitOptions struct {
 	f       *factory
 	metrics lab.Metrics // --metric, parsed
+	conds   lab.Source  // --conditions, parsed
 	where   []string
 	fix     []string
 	furnace string
@@ -37,7 +38,7 @@ type fitOptions struct {
 
 func newFitCmd(f *factory) *cobra.Command {
 	opts := &fitOptions{f: f}
-	var metrics string
+	var metrics, conds string
 	cmd := &cobra.Command{
 		Use:   "fit",
 		Short: "Calibrate the kinetics parameters from logged runs",
@@ -50,9 +51,12 @@ weight 1/σ² with σ its own RMS residual after a first pass.
 
 Each run's plan is rebuilt from its recipe snapshot and a furnace: --furnace
 FILE, or the recipe's own "furnace:" path next to the file the snapshot was
-read from. Prints the estimates with standard errors, the correlation of each
+read from. --conditions logged (the default) lets the model see what a run's
+furnace log recorded where it has one (the control thermocouple's mean
+temperature, the corrected flows and the pressure of each logged step), the
+plan otherwise; --conditions planned always the plan. Prints the estimates with standard errors, the correlation of each
 activation energy with its prefactor, the goodness of fit, the residual of
-every run (worst first) and warnings when the data cannot identify a
+every run (worst first, with the conditions it used) and warnings when the data cannot identify a
 parameter. -o FILE writes a parameter file, with the covariance, that
 predict, window and suggest accept.
 
@@ -75,11 +79,15 @@ parameters.`,
 				return err
 			}
 			opts.metrics = m
+			if opts.conds, err = lab.ParseSource(conds); err != nil {
+				return usagef("--%v", err)
+			}
 			return fitRun(cmd.Context(), opts)
 		},
 	}
 	cmd.Flags().StringVar(&metrics, "metric", kinetics.MetricCoverage+","+kinetics.MetricNucleiDensity,
 		"metrics to fit: coverage, nuclei_density or both (comma-separated)")
+	cmd.Flags().StringVar(&conds, "conditions", "logged", "conditions the model sees: logged (the furnace log where a run has one, else the plan) or planned")
 	cmd.Flags().StringArrayVar(&opts.where, "where", nil, "select runs, as in runs list (repeatable; all must hold)")
 	cmd.Flags().StringArrayVar(&opts.fix, "fix", nil, "hold a parameter fixed, NAME=VALUE such as Eg=1.9 (repeatable)")
 	cmd.Flags().StringVar(&opts.furnace, "furnace", "", "furnace file for every run (default: each recipe's own furnace path)")
@@ -135,21 +143,21 @@ func (opts *fitOptions) settings() (kinetics.FitSettings, error) {
 // collect reads the fit's observations from the run log and says on
 // stderr which furnaces the plans were rebuilt on and which runs were
 // skipped.
-func (opts *fitOptions) collect(ctx context.Context, start kinetics.Params) ([]kinetics.Observation, error) {
+func (opts *fitOptions) collect(ctx context.Context, start kinetics.Params) (lab.Observations, error) {
 	l, err := opts.f.runLog(ctx)
 	if err != nil {
-		return nil, err
+		return lab.Observations{}, err
 	}
 	b, err := lab.NewRebuilder(l, opts.furnace)
 	if err != nil {
-		return nil, err
+		return lab.Observations{}, err
 	}
-	col, err := lab.Collect(ctx, b, store.Filter{Where: opts.where}, opts.metrics, start)
+	col, err := lab.Collect(ctx, b, store.Filter{Where: opts.where}, opts.metrics, start, opts.conds)
 	if errors.Is(err, lab.ErrNoFurnace) {
-		return nil, withHint(fmt.Errorf("fit: %w", err), "pass --furnace FILE")
+		return lab.Observations{}, withHint(fmt.Errorf("fit: %w", err), "pass --furnace FILE")
 	}
 	if err != nil {
-		return nil, fmt.Errorf("fit: %w", err)
+		return lab.Observations{}, fmt.Errorf("fit: %w", err)
 	}
 	for _, u := range col.Furnaces {
 		fmt.Fprintf(opts.f.io.Err, "furnace %q from %s for %d runs\n", u.Name, u.Path, u.Runs)
@@ -158,7 +166,7 @@ func (opts *fitOptions) collect(ctx context.Context, start kinetics.Params) ([]k
 	for _, s := range col.Skipped {
 		fmt.Fprintln(opts.f.io.Err, "skipped "+s.String())
 	}
-	return col.Observations, nil
+	return col, nil
 }
 
 // fitIterations is the iteration limit the progress bar counts to: the
@@ -181,10 +189,11 @@ func fitRun(ctx context.Context, opts *fitOptions) error {
 			return err
 		}
 	}
-	obs, err := opts.collect(ctx, start)
+	col, err := opts.collect(ctx, start)
 	if err != nil {
 		return err
 	}
+	obs := col.Observations
 	bar := opts.f.io.progress("fitting")
 	settings.MaxIterations = fitIterations
 	settings.Progress = func(it int, _ float64) { bar.update(min(it, fitIterations), fitIterations) }
@@ -199,6 +208,7 @@ func fitRun(ctx context.Context, opts *fitOptions) error {
 		codes[i] = o.Label
 	}
 	out := fitJSON(res, codes)
+	out.addConditions(opts.conds, col)
 	switch opts.output {
 	case formatJSON:
 		err = writeJSON(opts.f.io.Out, out)
@@ -285,12 +295,17 @@ type fitResidualJSON struct {
 	Unit      string  `json:"unit"`
 	Residual  float64 `json:"residual"`
 	Weighted  float64 `json:"weighted"`
+	// Conditions the run's prediction used: "logged" or "planned".
+	Conditions string `json:"conditions"`
 }
 
 type fitResultJSON struct {
 	Status                string            `json:"status"`
 	Iterations            int               `json:"iterations"`
 	Runs                  []string          `json:"runs"`
+	Conditions            string            `json:"conditions"`
+	RunsLogged            int               `json:"runs_logged"`
+	RunsPlanned           int               `json:"runs_planned"`
 	Measurements          int               `json:"measurements"`
 	FreeParameters        int               `json:"free_parameters"`
 	RSS                   float64           `json:"rss"`
@@ -370,6 +385,7 @@ func corrText(v *float64) string {
 
 func printFit(w io.Writer, r fitResultJSON) error {
 	fmt.Fprintf(w, "fit of %d runs: %d measurements, %d free parameters; %s after %d iterations\n", len(r.Runs), r.Measurements, r.FreeParameters, r.Status, r.Iterations)
+	fmt.Fprintln(w, r.conditionsLine())
 	heading(w, "Estimates")
 	if err := writeTable(w, estimateTable(r)); err != nil {
 		return err
@@ -388,13 +404,13 @@ func printFit(w io.Writer, r fitResultJSON) error {
 		return err
 	}
 	heading(w, "Residuals, worst first")
-	t := table{Header: []string{"run", "metric", "measured", "predicted", "unit", "residual", "weighted"}, Numeric: []bool{false, false, true, true, false, true, true}}
+	t := table{Header: []string{"run", "metric", "measured", "predicted", "unit", "residual", "weighted", "conditions"}, Numeric: []bool{false, false, true, true, false, true, true, false}}
 	const shown = 15 // on screen; --output csv|json lists them all
 	for i, e := range r.Residuals {
 		if i == shown {
 			break
 		}
-		t.add(e.Run, e.Metric, num(e.Measured, 4), num(e.Predicted, 4), e.Unit, num(e.Residual, 3), num(e.Weighted, 3))
+		t.add(e.Run, e.Metric, num(e.Measured, 4), num(e.Predicted, 4), e.Unit, num(e.Residual, 3), num(e.Weighted, 3), e.Conditions)
 	}
 	if err := writeTable(w, t); err != nil {
 		return err

@@ -12,7 +12,6 @@ import (
 	"testing"
 
 	"github.com/foilrun/foilrun/kinetics"
-	"github.com/foilrun/foilrun/recipe"
 	"github.com/foilrun/foilrun/store"
 	"github.com/foilrun/foilrun/store/sqlite"
 )
@@ -53,15 +52,8 @@ func fitLab(t *testing.T, n int, oneTemperature bool) (db, dir string) {
 		if err := os.WriteFile(path, []byte(text), 0o644); err != nil {
 			t.Fatal(err)
 		}
-		r, err := recipe.ParseRecipe(path, []byte(text))
-		if err != nil {
-			t.Fatal(err)
-		}
-		fu, _, err := recipe.Resolve(r, "", "")
-		if err != nil {
-			t.Fatal(err)
-		}
-		plan := recipe.Derive(r, fu)
+		plan := derivePlan(t, path, text)
+		r, fu := plan.Recipe, plan.Furnace
 		res, err := kinetics.Predict(plan, truth, kinetics.Options{})
 		if err != nil {
 			t.Fatal(err)

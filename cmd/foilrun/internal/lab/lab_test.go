@@ -231,7 +231,7 @@ func TestCollect(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			got, err := Collect(context.Background(), b, store.Filter{}, c.m, c.start)
+			got, err := Collect(context.Background(), b, store.Filter{}, c.m, c.start, Logged)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -269,7 +269,7 @@ func TestCollectMissingFurnace(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	_, err = Collect(context.Background(), b, store.Filter{}, Metrics{Coverage: true}, kinetics.DefaultParams())
+	_, err = Collect(context.Background(), b, store.Filter{}, Metrics{Coverage: true}, kinetics.DefaultParams(), Logged)
 	var fe *FurnaceError
 	if !errors.Is(err, ErrNoFurnace) || !errors.As(err, &fe) || fe.Run != "M-1" {
 		t.Errorf("got %v, want a *FurnaceError for run M-1", err)

@@ -39,20 +39,37 @@ type Observations struct {
 	Skipped []Skip
 	// Furnaces are the furnace files the plans were rebuilt on.
 	Furnaces []FurnaceUse
+	// Logged[i] reports whether Observations[i] was prepared on the run's
+	// logged conditions (else on its plan).
+	Logged []bool
+}
+
+// Counts returns how many observations were prepared on logged
+// conditions and how many on the plan.
+func (o Observations) Counts() (logged, planned int) {
+	for _, l := range o.Logged {
+		if l {
+			logged++
+		}
+	}
+	return logged, len(o.Logged) - logged
 }
 
 // Collect reads the runs that pass filter, keeps those with a measured
 // coverage and/or nuclei density as chosen (the mean of the run's
 // measurements, converted to SI by recipe from the unit stored beside
 // each), rebuilds each run's plan with b, and prepares its kinetics
-// profile with the fit's start parameters. A run whose plan cannot be
+// profile with the fit's start parameters: with src Logged on the run's
+// logged conditions where its furnace log gave actuals (LoggedPlan), on
+// the plan otherwise. A run whose plan cannot be
 // rebuilt for want of a snapshot is skipped; any other failure to rebuild
 // one (a missing furnace, a bad snapshot) is returned as an error.
-func Collect(ctx context.Context, b *Rebuilder, filter store.Filter, m Metrics, start kinetics.Params) (Observations, error) {
+func Collect(ctx context.Context, b *Rebuilder, filter store.Filter, m Metrics, start kinetics.Params, src Source) (Observations, error) {
 	var out Observations
 	type run struct {
-		obs  kinetics.Observation
-		prof kinetics.Profile
+		obs    kinetics.Observation
+		prof   kinetics.Profile
+		logged bool
 	}
 	var runs []run
 	profiles := map[*Rebuilt]kinetics.Profile{}
@@ -80,12 +97,16 @@ func Collect(ctx context.Context, b *Rebuilder, filter store.Filter, m Metrics, 
 		if err != nil {
 			return err
 		}
+		if plan, logged := LoggedPlan(rb.Plan, rec.Actuals, src); logged {
+			runs = append(runs, run{o, kinetics.NewProfile(plan), true})
+			return nil
+		}
 		prof, ok := profiles[rb]
 		if !ok {
 			prof = kinetics.NewProfile(rb.Plan)
 			profiles[rb] = prof
 		}
-		runs = append(runs, run{o, prof})
+		runs = append(runs, run{o, prof, false})
 		return nil
 	})
 	if err != nil {
@@ -99,6 +120,7 @@ func Collect(ctx context.Context, b *Rebuilder, filter store.Filter, m Metrics, 
 		}
 		r.obs.Prepared = pr
 		out.Observations = append(out.Observations, r.obs)
+		out.Logged = append(out.Logged, r.logged)
 	}
 	out.Furnaces = b.Used()
 	return out, nil
