@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"runtime"
+	"slices"
 	"strings"
 
 	"github.com/foilrun/foilrun/recipe"
@@ -47,9 +48,9 @@ type FitSettings struct {
 	// (see ParseFix). In continuous mode site_density is always fixed, in
 	// site-saturated mode the four nucleation parameters are.
 	Fixed map[string]float64
-	// Bounds overrides the default bounds by file key, [lo, hi] in SI
-	// units (prefactors as SI values, not logarithms). Defaults: energies
-	// −10 to 10 eV, orders −5 to 10, prefactors 1e-300 to 1e300.
+	// Bounds overrides the default bounds (DefaultBounds) by file key,
+	// [lo, hi] in the file's units (eV for energies, prefactors as SI
+	// values, not logarithms).
 	Bounds map[string][2]float64
 	// CoverageScale and DensityScale are σ of the coverage residual (on
 	// the complementary log-log scale) and of ln N. Zero: when both
@@ -77,8 +78,17 @@ type Estimate struct {
 	// LogValue and LogSE are ln(Value) and its standard error for
 	// log-scaled parameters (the fit's own coordinates).
 	LogValue, LogSE float64
-	Fixed           bool
-	AtBound         bool // the estimate sits on a bound
+	// RefValue and RefLogSE, for prefactors, are the rate referred to
+	// the reference temperature, I0·exp(−En/(k·T_ref)) or
+	// G0·exp(−Eg/(k·T_ref)), and the standard error of its logarithm
+	// (exp(RefLogSE) is its ×/÷ factor); NaN otherwise.
+	RefValue, RefLogSE float64
+	Fixed              bool
+	// Identifiable is false for a parameter the fitted metrics cannot
+	// separate from another (see Combined); Value is then only the start
+	// value it was held at, and SE is NaN.
+	Identifiable bool
+	AtBound      bool // the estimate sits on a bound
 }
 
 // Residual is one measured value against its prediction.
@@ -108,11 +118,18 @@ type FitResult struct {
 	ReducedChiSq                             float64    // RSS/(N − P)
 	N, P                                     int        // residuals and free parameters
 	Runs                                     int        // runs that contributed
-	CoverageScale, DensityScale              float64    // σ used
-	Condition                                float64    // condition number of the scaled JᵀJ
-	Status                                   FitStatus
-	Iterations, Evaluations                  int
-	Warnings                                 []string
+	// ReferenceTemperature is T_ref, K: the median growth temperature of
+	// the runs, to which the prefactors are referred.
+	ReferenceTemperature float64
+	// Combined are the combinations estimated in place of parameters the
+	// metrics cannot separate (coverage only): En+2Eg and I·G²·κ at
+	// T_ref in continuous mode, 2Eg and N0·G²·κ at T_ref site-saturated.
+	Combined                    []Combined
+	CoverageScale, DensityScale float64 // σ used
+	Condition                   float64 // condition number of the scaled JᵀJ
+	Status                      FitStatus
+	Iterations, Evaluations     int
+	Warnings                    []string
 }
 
 // Fit estimates the model parameters from measured runs by weighted
@@ -169,6 +186,7 @@ func Fit(obs []Observation, start Params, s FitSettings) (*FitResult, error) {
 	if err := f.identifiable(); err != nil {
 		return nil, err
 	}
+	f.checkStart()
 	return f.solve(), nil
 }
 
@@ -238,18 +256,14 @@ func (f *fitter) fix(fixed map[string]float64) error {
 	return nil
 }
 
-// bound sets the default bounds (energies −10 to 10 eV, orders −5 to 10,
-// prefactors 1e-300 to 1e300) and the caller's.
+// bound sets the default bounds (DefaultBounds) and the caller's.
 func (f *fitter) bound(bounds map[string][2]float64) error {
 	for i := range nFit {
-		lo, hi := -10.0, 10.0
-		switch i {
-		case fitA, fitB:
-			lo, hi = -5, 10
-		case fitLnI0, fitLnG0, fitLnN0:
-			lo, hi = math.Log(1e-300), math.Log(1e300)
+		b := DefaultBounds[FitParameters[i].Key]
+		f.lo[i], f.hi[i] = b[0], b[1]
+		if FitParameters[i].Log {
+			f.lo[i], f.hi[i] = math.Log(b[0]), math.Log(b[1])
 		}
-		f.lo[i], f.hi[i] = lo, hi
 	}
 	for key, b := range bounds {
 		i := fitIndex(key)
@@ -308,7 +322,6 @@ func (f *fitter) addRows(obs []Observation) error {
 // measurement, nothing free, no more measurements than free parameters,
 // or every run at one temperature while an activation energy is free.
 func (f *fitter) identifiable() error {
-	n, p := len(f.rows), len(f.free)
 	metrics := []string{}
 	if f.s.Coverage {
 		metrics = append(metrics, "coverage")
@@ -319,9 +332,12 @@ func (f *fitter) identifiable() error {
 	if len(f.obs) == 0 {
 		return inputErr(KindFit, "fit: no run has a measured %s", strings.Join(metrics, " or "))
 	}
-	if p == 0 {
+	if len(f.free) == 0 {
 		return inputErr(KindFit, "fit: every parameter is fixed; nothing to fit")
 	}
+	_, nd := f.rowCounts()
+	f.coordinates(nd == 0)
+	n, p := len(f.rows), len(f.coords)
 	if n <= p {
 		return inputErr(KindFit, "fit: %d measurements from %d runs for %d free parameters: need more measurements than free parameters", n, len(f.obs), p)
 	}
@@ -358,11 +374,7 @@ func (f *fitter) solve() *FitResult {
 			f.sd = 1
 		}
 	}
-	x := make([]float64, len(f.free))
-	for j, i := range f.free {
-		x[j] = f.v0[i]
-	}
-	x = f.minimize(x)
+	x := f.minimize(slices.Clone(f.x0))
 	if twoStage {
 		var sc, sd float64
 		nc, nd := f.rowCounts()

@@ -133,3 +133,55 @@ func (v fitVec) apply(p Params) Params {
 func siValue(p Params, i int) float64 {
 	return [nFit]float64{p.En, p.I0, p.A, p.B, p.Eg, p.G0, p.SiteDensity}[i]
 }
+
+// DefaultBounds are the bounds a fit keeps each parameter within unless
+// FitSettings.Bounds overrides them, by file key, [lo, hi] in the file's
+// units (eV for energies, SI for prefactors). They come from the model's
+// own domain (Params), not from any one lab's data:
+//
+//	energies En, Eg    −5 … 8 eV   (effective values: En may be negative,
+//	                                as in DefaultParams, so that nuclei
+//	                                density falls as temperature rises)
+//	orders a, b         0 … 4      (rates rise with methane and fall with
+//	                                hydrogen, as the rate laws are written)
+//	prefactors          1e-300 … 1e300 (positive, finite)
+var DefaultBounds = map[string][2]float64{
+	"nucleation_energy":    {-5, 8},
+	"nucleation_prefactor": {1e-300, 1e300},
+	"methane_order":        {0, 4},
+	"hydrogen_order":       {0, 4},
+	"growth_energy":        {-5, 8},
+	"growth_prefactor":     {1e-300, 1e300},
+	"site_density":         {1e-300, 1e300},
+}
+
+// ParseBound reads NAME=LO:HI, the bounds of one parameter, e.g.
+// "En=-3:6" or "G0=1e5:1e15"; NAME as in ParseFix, LO and HI plain
+// numbers or quantities of the parameter's dimension ("-300 meV"). It
+// returns the file key and [lo, hi] in the file's unit. Errors are
+// *InputError of kind KindFix.
+func ParseBound(s string) (key string, b [2]float64, err error) {
+	name, val, ok := strings.Cut(s, "=")
+	name, val = strings.TrimSpace(name), strings.TrimSpace(val)
+	lo, hi, ok2 := strings.Cut(val, ":")
+	if !ok || !ok2 || name == "" {
+		return "", b, inputErr(KindFix, "bound %q: want NAME=LO:HI, e.g. En=-3:6", s)
+	}
+	i := fitIndex(name)
+	if i < 0 {
+		return "", b, inputErr(KindFix, "bound %q: unknown parameter %q, want one of %s", s, name, knownFitNames()).because(ReasonUnknownName)
+	}
+	fp := FitParameters[i]
+	for k, text := range []string{lo, hi} {
+		if b[k], err = fp.parse(strings.TrimSpace(text)); err != nil {
+			return "", b, inputErr(KindFix, "bound %q: %v", s, err)
+		}
+	}
+	if fp.Log && !(b[0] > 0) {
+		return "", b, inputErr(KindFix, "bound %q: the lower bound of %s must be greater than zero", s, fp.Short)
+	}
+	if !(b[0] < b[1]) {
+		return "", b, inputErr(KindFix, "bound %q: lower %g is not below upper %g", s, b[0], b[1])
+	}
+	return fp.Key, b, nil
+}

@@ -3,6 +3,7 @@ package kinetics
 import (
 	"fmt"
 	"math"
+	"slices"
 	"sync"
 
 	"gonum.org/v1/gonum/mat"
@@ -37,10 +38,23 @@ type fitter struct {
 	evals    int
 	jac      *mat.Dense
 	idx      [][2]int // rows of each used observation
+
+	// The coordinates the minimiser moves (see fitCoord): v = base +
+	// Σ x_j·coords[j].dir, started at x0, bounded by clo, chi.
+	tref         float64 // reference temperature, K
+	coords       []fitCoord
+	base         fitVec
+	x0, clo, chi []float64
+	absorbed     [nFit]bool // moved through a combination
+	unidentified [nFit]bool // not identifiable by the data's metrics
 }
 
+// warn adds a warning once: a text already given is not repeated.
 func (f *fitter) warn(format string, args ...any) {
-	f.warnings = append(f.warnings, fmt.Sprintf(format, args...))
+	w := fmt.Sprintf(format, args...)
+	if !slices.Contains(f.warnings, w) {
+		f.warnings = append(f.warnings, w)
+	}
 }
 
 // cloglog returns ln X of a coverage clipped to [ε, 1 − ε].
@@ -51,9 +65,9 @@ func (f *fitter) cloglog(theta float64) float64 {
 func (f *fitter) clogX(X float64) float64 { return math.Log(math.Min(math.Max(X, f.xlo), f.xhi)) }
 
 func (f *fitter) vec(x []float64) fitVec {
-	v := f.v0
-	for j, i := range f.free {
-		v[i] = x[j]
+	v := f.base
+	for j, c := range f.coords {
+		v = v.plus(x[j], c.dir)
 	}
 	return v
 }
@@ -133,7 +147,7 @@ func (f *fitter) jacobian(J *mat.Dense, x []float64) {
 		var gc, gn fitVec // ∂(cloglog θ)/∂v, ∂(ln N)/∂v
 		if pr.closed() {
 			f.closedGrad(pr, &v, &gc, &gn)
-			f.setRows(J, idx[k], &gc, &gn)
+			f.setRows(J, idx[k], &gc, &gn, nil, nil)
 			return
 		}
 		ch := pr.isoChannels(&v, make([]float64, 0, 2*pr.nIso))
@@ -146,32 +160,39 @@ func (f *fitter) jacobian(J *mat.Dense, x []float64) {
 			pr.channelGrad(c, (c1-c0)/h, &gc)
 			pr.channelGrad(c, (n1-n0)/h, &gn)
 		}
-		// Parameters that reach the model other than through the
-		// constant-temperature channels: all of them on ramps, N0 always.
+		// Parameters reach the model other than through the
+		// constant-temperature channels on ramps, and N0 always: step
+		// along each coordinate with the channels held.
 		ramps := pr.nIso < len(pr.segs)
-		for _, i := range f.free {
-			if !ramps && i != fitLnN0 {
+		var dc, dn []float64
+		for _, c := range f.coords {
+			if !ramps && c.dir[fitLnN0] == 0 {
+				dc, dn = append(dc, 0), append(dn, 0)
 				continue
 			}
-			w := v
-			w[i] += h
+			w := v.plus(h, c.dir)
 			c1, n1 := f.outputs(pr, &w, ch)
-			gc[i] += (c1 - c0) / h
-			gn[i] += (n1 - n0) / h
+			dc, dn = append(dc, (c1-c0)/h), append(dn, (n1-n0)/h)
 		}
-		f.setRows(J, idx[k], &gc, &gn)
+		f.setRows(J, idx[k], &gc, &gn, dc, dn)
 	})
 	f.evals++
 }
 
-// setRows writes one run's gradients into its Jacobian rows.
-func (f *fitter) setRows(J *mat.Dense, rows [2]int, gc, gn *fitVec) {
-	for j, i := range f.free {
+// setRows writes one run's gradients into its Jacobian rows: the
+// gradients with respect to v along each coordinate's direction, plus
+// the direct derivatives dc, dn along the coordinates (nil: none).
+func (f *fitter) setRows(J *mat.Dense, rows [2]int, gc, gn *fitVec, dc, dn []float64) {
+	for j, c := range f.coords {
+		a, b := gc.dot(c.dir), gn.dot(c.dir)
+		if dc != nil {
+			a, b = a+dc[j], b+dn[j]
+		}
 		if r := rows[0]; r >= 0 {
-			J.Set(r, j, -gc[i]/f.sc)
+			J.Set(r, j, -a/f.sc)
 		}
 		if r := rows[1]; r >= 0 {
-			J.Set(r, j, -gn[i]/f.sd)
+			J.Set(r, j, -b/f.sd)
 		}
 	}
 }
@@ -202,10 +223,7 @@ func (f *fitter) closedGrad(pr *Prepared, v *fitVec, gc, gn *fitVec) {
 // and returns the best point; the status, iterations and final Jacobian
 // are kept for the result.
 func (f *fitter) minimize(x []float64) []float64 {
-	lo, hi := make([]float64, len(x)), make([]float64, len(x))
-	for j, i := range f.free {
-		lo[j], hi[j] = f.lo[i], f.hi[i]
-	}
+	lo, hi := f.clo, f.chi
 	s := lm.Settings{MaxIterations: f.s.MaxIterations}
 	if f.s.Progress != nil {
 		done := f.iters

@@ -29,6 +29,8 @@ import (
 //	source: fit of 12 runs            # optional metadata
 //	runs: 12
 //	date: 2026-03-02
+//	coverage_only: true               # optional: a fit from coverage alone; predicts
+//	                                  # coverage and its timing, not density or size
 //	covariance:                       # optional, as a fit writes it
 //	  parameters: [nucleation_energy, growth_energy]
 //	  matrix: [[0.01, 0.002], [0.002, 0.02]]
@@ -81,7 +83,7 @@ func LoadParams(path string) (Params, error) {
 var paramFields = []string{
 	"nucleation_energy", "nucleation_prefactor", "methane_order", "hydrogen_order",
 	"growth_energy", "growth_prefactor", "reference_pressure", "shape", "mode", "site_density",
-	"source", "runs", "date", "covariance",
+	"source", "runs", "date", "coverage_only", "covariance",
 }
 
 // freeParams are the numeric keys a covariance may name.
@@ -232,6 +234,10 @@ func (d *paramDecoder) field(k, v *yaml.Node) {
 			} else {
 				p.Runs = n
 			}
+		}
+	case "coverage_only":
+		if w, ok := d.choice(key, v, "true", "false"); ok {
+			p.CoverageOnly = w == "true"
 		}
 	case "covariance":
 		c, msgs := parseCovariance(v)
@@ -406,6 +412,11 @@ func FormatParams(p Params) []byte {
 	}
 	if p.Date != "" {
 		fmt.Fprintf(&b, "date: %s\n", strconv.Quote(p.Date))
+	}
+	if p.CoverageOnly {
+		b.WriteString("# calibrated on coverage only: predicts coverage and time to coverage,\n")
+		b.WriteString("# not nuclei density or domain size\n")
+		b.WriteString("coverage_only: true\n")
 	}
 	if c := p.Covariance; c != nil {
 		b.WriteString("covariance:\n  parameters: [" + strings.Join(c.Names, ", ") + "]\n  matrix:\n")

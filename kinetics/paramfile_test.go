@@ -76,7 +76,7 @@ func TestParamsStrict(t *testing.T) {
 	for _, c := range []struct{ name, file, want string }{
 		{"unknown field", goodParams + "growth_energie: 4 eV\n",
 			`load params "p.yaml": line 8 col 1: unknown field "growth_energie" in the params file
-  hint: known fields: nucleation_energy, nucleation_prefactor, methane_order, hydrogen_order, growth_energy, growth_prefactor, reference_pressure, shape, mode, site_density, source, runs, date, covariance`},
+  hint: known fields: nucleation_energy, nucleation_prefactor, methane_order, hydrogen_order, growth_energy, growth_prefactor, reference_pressure, shape, mode, site_density, source, runs, date, coverage_only, covariance`},
 		{"bad unit", strings.Replace(goodParams, "4.5 eV", "4.5 eJ", 1),
 			`load params "p.yaml": line 5 col 16: growth_energy "4.5 eJ" has unknown unit "eJ", want a energy such as "1.2 eV" (units: eV, meV, kJ/mol, J)`},
 		{"no unit", strings.Replace(goodParams, "1.1e11 m/s", "1.1e11", 1),

@@ -69,6 +69,10 @@ type Params struct {
 	Source string
 	Runs   int
 	Date   string
+	// CoverageOnly is true for a calibration from coverage alone: it
+	// predicts coverage and the time to reach it, not nuclei density or
+	// domain size (the separate rates are not identified).
+	CoverageOnly bool
 }
 
 // Covariance is the covariance matrix of named free parameters. Names are

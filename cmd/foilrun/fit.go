@@ -24,6 +24,7 @@ type fitOptions struct {
 	conds   lab.Source  // --conditions, parsed
 	where   []string
 	fix     []string
+	bounds  []string
 	furnace string
 	params  string
 	outFile string
@@ -60,6 +61,21 @@ every run (worst first, with the conditions it used) and warnings when the data 
 parameter. -o FILE writes a parameter file, with the covariance, that
 predict, window and suggest accept.
 
+Coverage alone cannot separate nucleation from growth: θ depends on I·G²
+(continuous nucleation) or N0·G² (site-saturated). With --metric coverage the
+fit estimates the combinations En+2Eg and I·G²·κ at T_ref (2Eg and N0·G²·κ
+at T_ref site-saturated) with standard errors and reports the separate
+parameters as not identifiable; the parameter file it writes is marked
+coverage_only, and predict, window and suggest then give coverage and times
+to coverage but not nuclei density or domain size. Prefactors are referred
+to T_ref, the runs' median growth temperature (printed), and their
+uncertainty is shown as a factor (×/÷).
+
+Bounds (from the model's own domain): energies −5 to 8 eV (an effective
+nucleation energy may be negative), orders a and b 0 to 4, prefactors
+1e-300 to 1e300. A parameter that ends on a bound is reported (at_bound);
+--bound NAME=LO:HI moves the bounds (e.g. --bound En=-3:6).
+
 --fix NAME=VALUE holds a parameter (En, I0, a, b, Eg, G0, N0 or the file's
 names; eV, /m2/s, m/s, /m2). --params FILE gives the start point and the
 fixed settings (reference pressure, shape, mode); default the illustrative
@@ -90,6 +106,7 @@ parameters.`,
 	cmd.Flags().StringVar(&conds, "conditions", "logged", "conditions the model sees: logged (the furnace log where a run has one, else the plan) or planned")
 	cmd.Flags().StringArrayVar(&opts.where, "where", nil, "select runs, as in runs list (repeatable; all must hold)")
 	cmd.Flags().StringArrayVar(&opts.fix, "fix", nil, "hold a parameter fixed, NAME=VALUE such as Eg=1.9 (repeatable)")
+	cmd.Flags().StringArrayVar(&opts.bounds, "bound", nil, "keep a parameter within LO:HI, NAME=LO:HI such as En=-3:6 (repeatable; defaults in --help)")
 	cmd.Flags().StringVar(&opts.furnace, "furnace", "", "furnace file for every run (default: each recipe's own furnace path)")
 	cmd.Flags().StringVar(&opts.params, "params", "", "start parameter file (default: illustrative parameters)")
 	cmd.Flags().StringVarP(&opts.outFile, "output-file", "o", "", "write the calibrated parameter file here")
@@ -136,6 +153,16 @@ func (opts *fitOptions) settings() (kinetics.FitSettings, error) {
 			return s, onFlag(err)
 		}
 		s.Fixed[key] = v
+	}
+	for _, text := range opts.bounds {
+		key, b, err := kinetics.ParseBound(text)
+		if err != nil {
+			return s, onFlag(err)
+		}
+		if s.Bounds == nil {
+			s.Bounds = map[string][2]float64{}
+		}
+		s.Bounds[key] = b
 	}
 	return s, nil
 }
@@ -279,12 +306,17 @@ type fitEstimateJSON struct {
 	Parameter string   `json:"parameter"`
 	Short     string   `json:"short"`
 	Unit      string   `json:"unit"`
-	Value     float64  `json:"value"`
+	Value     *float64 `json:"value,omitempty"`
 	SE        *float64 `json:"se"`
 	LogValue  *float64 `json:"ln_value,omitempty"`
 	LogSE     *float64 `json:"ln_se,omitempty"`
-	Fixed     bool     `json:"fixed"`
-	AtBound   bool     `json:"at_bound"`
+	// RefValue is a prefactor's rate at the reference temperature and
+	// RefFactor its ×/÷ uncertainty factor.
+	RefValue     *float64 `json:"value_at_reference_temperature,omitempty"`
+	RefFactor    *float64 `json:"factor_at_reference_temperature,omitempty"`
+	Fixed        bool     `json:"fixed"`
+	Identifiable bool     `json:"identifiable"`
+	AtBound      bool     `json:"at_bound"`
 }
 
 type fitResidualJSON struct {
@@ -313,7 +345,9 @@ type fitResultJSON struct {
 	CoverageScale         float64           `json:"coverage_sigma_cloglog"`
 	DensityScale          float64           `json:"density_sigma_ln"`
 	Condition             float64           `json:"condition_number"`
+	ReferenceTemperatureC float64           `json:"reference_temperature_c"`
 	Estimates             []fitEstimateJSON `json:"estimates"`
+	Combined              []fitCombinedJSON `json:"combined"`
 	NucleationCorrelation *float64          `json:"corr_nucleation_energy_prefactor"`
 	GrowthCorrelation     *float64          `json:"corr_growth_energy_prefactor"`
 	Free                  []string          `json:"free"`
@@ -332,13 +366,9 @@ func fitJSON(res *kinetics.FitResult, codes []string) fitResultJSON {
 	if out.Warnings == nil {
 		out.Warnings = []string{}
 	}
-	for _, e := range res.Estimates {
-		j := fitEstimateJSON{Parameter: e.Key, Short: e.Short, Unit: e.Unit, Value: round6(e.Value), SE: opt6(e.SE), Fixed: e.Fixed, AtBound: e.AtBound}
-		if e.Log {
-			j.LogValue, j.LogSE = opt6(e.LogValue), opt6(e.LogSE)
-		}
-		out.Estimates = append(out.Estimates, j)
-	}
+	out.ReferenceTemperatureC = round6(recipe.Celsius(res.ReferenceTemperature))
+	out.Estimates = estimatesJSON(res.Estimates)
+	out.Combined = combinedJSON(res.Combined)
 	for _, row := range res.Correlation {
 		r := make([]*float64, len(row))
 		for i, v := range row {
@@ -361,6 +391,10 @@ func fitJSON(res *kinetics.FitResult, codes []string) fitResultJSON {
 func estimateTable(r fitResultJSON) table {
 	t := table{Header: []string{"parameter", "value", "se", "unit", "fixed"}, Numeric: []bool{false, true, true, false, false}}
 	for _, e := range r.Estimates {
+		if !e.Identifiable {
+			t.add(e.Parameter+" ("+e.Short+")", "not identifiable", "", e.Unit, "no")
+			continue
+		}
 		se := ""
 		if e.SE != nil {
 			se = num(*e.SE, 4)
@@ -371,7 +405,7 @@ func estimateTable(r fitResultJSON) table {
 		if e.Fixed {
 			fixed, se = "yes", ""
 		}
-		t.add(e.Parameter+" ("+e.Short+")", num(e.Value, 6), se, e.Unit, fixed)
+		t.add(e.Parameter+" ("+e.Short+")", num(*e.Value, 6), se, e.Unit, fixed)
 	}
 	return t
 }
@@ -390,7 +424,9 @@ func printFit(w io.Writer, r fitResultJSON) error {
 	if err := writeTable(w, estimateTable(r)); err != nil {
 		return err
 	}
-	fmt.Fprintf(w, "correlation En with ln I0: %s; Eg with ln G0: %s\n", corrText(r.NucleationCorrelation), corrText(r.GrowthCorrelation))
+	if err := printReferred(w, r); err != nil {
+		return err
+	}
 	heading(w, "Goodness of fit")
 	g := table{Header: []string{"quantity", "value"}, Numeric: []bool{false, true}}
 	g.add("RSS (weighted)", num(r.RSS, 5))

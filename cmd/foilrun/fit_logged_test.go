@@ -179,14 +179,15 @@ func TestFitLoggedConditions(t *testing.T) {
 				if !ok {
 					continue
 				}
-				if e.SE == nil {
-					t.Fatalf("%s: no standard error", e.Short)
+				if e.SE == nil || e.Value == nil {
+					t.Fatalf("%s: no value or standard error", e.Short)
 				}
-				z := (e.Value - want) / *e.SE
-				t.Logf("%s conditions: %s = %.4f ± %.4f eV, truth %.4f eV, bias %+.4f eV (%+.1f SE)", c.conds, e.Short, e.Value, *e.SE, want, e.Value-want, z)
+				value := *e.Value
+				z := (value - want) / *e.SE
+				t.Logf("%s conditions: %s = %.4f ± %.4f eV, truth %.4f eV, bias %+.4f eV (%+.1f SE)", c.conds, e.Short, value, *e.SE, want, value-want, z)
 				worst = math.Max(worst, math.Abs(z))
 				if c.recovers && math.Abs(z) > 3 {
-					t.Errorf("%s: got %.4f ± %.4f eV, truth %.4f eV: off by %.1f SE, want within 3", e.Short, e.Value, *e.SE, want, z)
+					t.Errorf("%s: got %.4f ± %.4f eV, truth %.4f eV: off by %.1f SE, want within 3", e.Short, value, *e.SE, want, z)
 				}
 			}
 			if !c.recovers && worst <= 3 {

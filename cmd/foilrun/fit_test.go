@@ -104,7 +104,10 @@ func TestFitCommand(t *testing.T) {
 	truth := kinetics.DefaultParams()
 	want := map[string]float64{"En": truth.En, "I0": math.Log(truth.I0), "a": truth.A, "b": truth.B, "Eg": truth.Eg, "G0": math.Log(truth.G0)}
 	for _, e := range res.Estimates {
-		got, se := e.Value, e.SE
+		if e.Value == nil {
+			t.Fatalf("%s: no value", e.Short)
+		}
+		got, se := *e.Value, e.SE
 		if e.LogValue != nil {
 			got, se = *e.LogValue, e.LogSE
 		}

@@ -5,6 +5,7 @@ import (
 	"io"
 	"math"
 	"strconv"
+	"strings"
 
 	"github.com/spf13/cobra"
 
@@ -112,9 +113,12 @@ func opt6(v float64) *float64 {
 
 // predictResult is the JSON form of `foilrun predict`, in display units.
 type predictResult struct {
-	Recipe       string        `json:"recipe"`
-	Furnace      string        `json:"furnace"`
-	ParamsSource string        `json:"params_source"`
+	Recipe       string `json:"recipe"`
+	Furnace      string `json:"furnace"`
+	ParamsSource string `json:"params_source"`
+	// NotPredicted names the quantities the parameters cannot predict
+	// (a coverage-only calibration: nuclei density and domain size).
+	NotPredicted []string      `json:"not_predicted,omitempty"`
 	Mode         string        `json:"mode"`
 	Shape        string        `json:"shape"`
 	Coverage     float64       `json:"coverage"`
@@ -151,7 +155,7 @@ type predictStep struct {
 
 func predictJSON(plan *recipe.Plan, res kinetics.Result, checkErrors int) predictResult {
 	out := predictResult{
-		Recipe: res.Recipe, Furnace: plan.Furnace.Name, ParamsSource: res.Params.Source,
+		Recipe: res.Recipe, Furnace: plan.Furnace.Name, ParamsSource: res.Params.Source, NotPredicted: notPredicted(res.Params),
 		Mode: string(res.Mode), Shape: string(res.Shape),
 		Coverage: round6(res.Coverage), NucleiPerMM2: round6(inUnit(res.NucleiDensity, "1/mm2")), DomainUm: round6(inUnit(res.DomainSize, "um")),
 		CarbonStart: opt6(res.CarbonStart / 60), T50Min: opt6(res.T50 / 60), T90Min: opt6(res.T90 / 60), T99Min: opt6(res.T99 / 60),
@@ -238,6 +242,9 @@ func minutes(v *float64) string {
 func printPredict(w io.Writer, r predictResult) error {
 	fmt.Fprintf(w, "recipe %q on furnace %q: %s nucleation, %s domains\n", r.Recipe, r.Furnace, r.Mode, r.Shape)
 	fmt.Fprintf(w, "parameters: %s\n", r.ParamsSource)
+	if len(r.NotPredicted) > 0 {
+		fmt.Fprintf(w, "note: the parameters were calibrated on coverage only: coverage and times to coverage are predicted; %s are not (their columns come from held start values)\n", strings.Join(r.NotPredicted, " and "))
+	}
 	t := table{Header: []string{"quantity", "value"}, Numeric: []bool{false, true}}
 	t.add("final coverage %", fixed(r.Coverage*100, 2))
 	t.add("nuclei density per mm2", num(r.NucleiPerMM2, 4))
@@ -319,4 +326,12 @@ func predictFigure(res kinetics.Result) chart.TimeFigure {
 			{YLabel: "nuclei density (1/mm²)", Series: []chart.Series{{Name: "nuclei", X: ct, Y: dens}}},
 		},
 	}
+}
+
+// notPredicted names what a coverage-only calibration cannot predict.
+func notPredicted(p kinetics.Params) []string {
+	if !p.CoverageOnly {
+		return nil
+	}
+	return []string{kinetics.MetricNucleiDensity, kinetics.MetricDomainSize}
 }
