@@ -347,7 +347,10 @@ func newRunsRankCmd(f *factory) *cobra.Command {
 (ties get average ranks), with the number of runs and the parameter's range
 among the good runs against the rest. Good runs meet --min/--max; without
 them, the best quartile (the top one, or the bottom one for metrics where
-lower is better: nuclei_density, raman_d_g, sheet_resistance).`,
+lower is better: nuclei_density, raman_d_g, sheet_resistance). With
+--conditions logged (the default) a run logged with a furnace log is ranked
+by its logged twins (growth_temperature_c_logged, …), counted per parameter
+in the logged column; --conditions planned ranks every run by its plan.`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			if opts.metric == "" {
