@@ -155,8 +155,9 @@ type Finish struct {
 	Ended       time.Time
 	Actuals     []Actual
 	Deviations  []Deviation
-	Note        string       // optional closing note
-	Attachments []Attachment // files of the run, such as the furnace log the actuals came from
+	Note        string             // optional closing note
+	Params      map[string]float64 // derived parameters to add, such as those of the logged conditions; none may be logged already
+	Attachments []Attachment       // files of the run, such as the furnace log the actuals came from
 }
 
 // Name is a parameter or metric name known to the log, with its unit.

@@ -238,6 +238,11 @@ func (f Finish) Validate(code string, now time.Time) error {
 	if err := checkText(f.Note, MaxNoteLength); err != nil {
 		return fieldError(run, "note", "%v", err)
 	}
+	for name, v := range f.Params {
+		if err := CheckParam(name, v); err != nil {
+			return fieldError(run, "params."+name, "%v", err)
+		}
+	}
 	return checkFinishRows(run, f.Actuals, f.Deviations, f.Attachments, now)
 }
 

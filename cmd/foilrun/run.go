@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"maps"
 	"os"
 	"sort"
 	"strings"
@@ -188,6 +189,12 @@ func (o *runOptions) finished(rec *store.RunRecord, plan *recipe.Plan, now time.
 		return err
 	}
 	rec.Actuals, rec.Deviations = res.Actuals, res.Deviations
+	if twins := lab.LoggedParameters(plan, res.Actuals); twins != nil {
+		if rec.Params == nil {
+			rec.Params = map[string]float64{}
+		}
+		maps.Copy(rec.Params, twins)
+	}
 	rec.Attachments = append(rec.Attachments, att)
 	rec.Ended = rec.Started.Add(time.Duration(res.Span * float64(time.Second)))
 	return nil
@@ -338,6 +345,7 @@ func runFinishRun(ctx context.Context, o *runFinishOptions) error {
 			return err
 		}
 		fin.Actuals, fin.Deviations, fin.Attachments = res.Actuals, res.Deviations, []store.Attachment{a}
+		fin.Params = lab.LoggedParameters(plan, res.Actuals)
 	}
 	if err := l.FinishRun(ctx, o.code, fin); err != nil {
 		return err

@@ -12,6 +12,7 @@ import (
 
 	"github.com/spf13/cobra"
 
+	"github.com/foilrun/foilrun/cmd/foilrun/internal/lab"
 	"github.com/foilrun/foilrun/recipe"
 	"github.com/foilrun/foilrun/recipe/infile"
 	"github.com/foilrun/foilrun/store"
@@ -129,6 +130,58 @@ func (g *goalFlags) goal(metric string) (store.Goal, error) {
 	return out, nil
 }
 
+// conditionsFlag is --conditions of best and rank.
+type conditionsFlag struct {
+	text string
+	src  lab.Source
+}
+
+func (c *conditionsFlag) register(cmd *cobra.Command) {
+	cmd.Flags().StringVar(&c.text, "conditions", "logged",
+		"derived parameters of: logged (a run's logged conditions where it was logged with a furnace log, else its plan) or planned")
+}
+
+// parse reads the flag's value, a usage error when it is neither logged
+// nor planned.
+func (c *conditionsFlag) parse() error {
+	src, err := lab.ParseSource(c.text)
+	if err != nil {
+		return usagef("--%v", err)
+	}
+	c.src = src
+	return nil
+}
+
+// maxSampleParams is how many parameter columns one Samples query takes.
+const maxSampleParams = 60
+
+// twinSamples returns the metric and params of the runs that pass the
+// filter, each parameter on conditions src (see lab.Pick): the planned
+// value, or with logged conditions its logged twin where the run has one.
+// Long parameter lists are queried in parts, joined run by run.
+func twinSamples(ctx context.Context, l store.RunLog, f store.Filter, metric string, params []string, src lab.Source) (lab.Picked, error) {
+	cols := lab.Twins(params, src)
+	var all []store.Sample
+	for lo := 0; lo < len(cols) || lo == 0; lo += maxSampleParams {
+		part := cols[lo:min(len(cols), lo+maxSampleParams)]
+		s, err := l.Samples(ctx, f, metric, part)
+		if err != nil {
+			return lab.Picked{}, err
+		}
+		if lo == 0 {
+			all = s
+			continue
+		}
+		if len(s) != len(all) {
+			return lab.Picked{}, fmt.Errorf("samples of %s: the log changed while it was read; run the query again", metric)
+		}
+		for i := range all {
+			all[i].Params = append(all[i].Params, s[i].Params...)
+		}
+	}
+	return lab.Pick(all, params, src), nil
+}
+
 // metricFlag checks a --metric value: old spellings of the known metrics
 // are refused naming the new one; any other name is left to checkNames.
 func metricFlag(metric string) error {
@@ -144,6 +197,7 @@ type runsBestOptions struct {
 	by     []string
 	bins   int
 	goal   goalFlags
+	conds  conditionsFlag
 	where  []string
 	output outputFormat
 }
@@ -168,6 +222,9 @@ func newRunsBestCmd(f *factory) *cobra.Command {
 			if err := metricFlag(opts.metric); err != nil {
 				return err
 			}
+			if err := opts.conds.parse(); err != nil {
+				return err
+			}
 			return runsBestRun(cmd.Context(), opts)
 		},
 	}
@@ -176,6 +233,7 @@ func newRunsBestCmd(f *factory) *cobra.Command {
 	cmd.Flags().IntVar(&opts.bins, "bins", 5, "equal-width bins per parameter")
 	cmd.Flags().StringArrayVar(&opts.where, "where", nil, "only runs matching this filter (repeatable)")
 	opts.goal.register(cmd)
+	opts.conds.register(cmd)
 	addOutputFlag(cmd, &opts.output)
 	return cmd
 }
@@ -202,12 +260,15 @@ func checkNames(ctx context.Context, l store.RunLog, metric string, params []str
 }
 
 type bestJSON struct {
-	Metric  string    `json:"metric"`
-	Params  []string  `json:"params"`
-	Goal    string    `json:"goal"`
-	Runs    int       `json:"runs"`
-	Missing int       `json:"runs_missing_a_parameter"`
-	Bins    []binJSON `json:"bins"`
+	Metric      string    `json:"metric"`
+	Params      []string  `json:"params"`
+	Goal        string    `json:"goal"`
+	Conditions  string    `json:"conditions"`
+	RunsLogged  int       `json:"runs_on_logged_conditions"`
+	RunsPlanned int       `json:"runs_on_plan"`
+	Runs        int       `json:"runs"`
+	Missing     int       `json:"runs_missing_a_parameter"`
+	Bins        []binJSON `json:"bins"`
 }
 
 type binJSON struct {
@@ -232,11 +293,11 @@ func runsBestRun(ctx context.Context, o *runsBestOptions) error {
 	if err := checkNames(ctx, l, o.metric, o.by); err != nil {
 		return err
 	}
-	s, err := l.Samples(ctx, store.Filter{Where: o.where}, o.metric, o.by)
+	pk, err := twinSamples(ctx, l, store.Filter{Where: o.where}, o.metric, o.by, o.conds.src)
 	if err != nil {
 		return err
 	}
-	bt := store.Best(s, o.metric, o.by, o.bins, goal)
+	bt := store.Best(pk.Samples, o.metric, o.by, o.bins, goal)
 	t := table{}
 	for _, p := range o.by {
 		t.Header = append(t.Header, p)
@@ -245,7 +306,8 @@ func runsBestRun(ctx context.Context, o *runsBestOptions) error {
 	share := "share " + goal.String()
 	t.Header = append(t.Header, "runs", "mean", "min", "max", share)
 	t.Numeric = append(t.Numeric, true, true, true, true, true)
-	js := bestJSON{Metric: bt.Metric, Params: bt.Params, Goal: goal.String(), Runs: bt.Runs, Missing: bt.Missing, Bins: []binJSON{}}
+	js := bestJSON{Metric: bt.Metric, Params: bt.Params, Goal: goal.String(), Conditions: o.conds.src.String(),
+		RunsLogged: pk.Logged, RunsPlanned: pk.Planned, Runs: bt.Runs, Missing: bt.Missing, Bins: []binJSON{}}
 	for _, b := range bt.Bins {
 		var cells []string
 		for j := range o.by {
@@ -262,7 +324,7 @@ func runsBestRun(ctx context.Context, o *runsBestOptions) error {
 		return err
 	}
 	if o.output == formatTable {
-		fmt.Fprintf(o.f.io.Err, "%s over %d runs (%d without the parameters left out)\n", o.metric, bt.Runs, bt.Missing)
+		fmt.Fprintf(o.f.io.Err, "%s over %d runs (%d without the parameters left out); %s\n", o.metric, bt.Runs, bt.Missing, pk.Line())
 	}
 	return nil
 }
@@ -271,6 +333,7 @@ type runsRankOptions struct {
 	f      *factory
 	metric string
 	goal   goalFlags
+	conds  conditionsFlag
 	where  []string
 	output outputFormat
 }
@@ -284,7 +347,10 @@ func newRunsRankCmd(f *factory) *cobra.Command {
 (ties get average ranks), with the number of runs and the parameter's range
 among the good runs against the rest. Good runs meet --min/--max; without
 them, the best quartile (the top one, or the bottom one for metrics where
-lower is better: nuclei_density, raman_d_g, sheet_resistance).`,
+lower is better: nuclei_density, raman_d_g, sheet_resistance). With
+--conditions logged (the default) a run logged with a furnace log is ranked
+by its logged twins (growth_temperature_c_logged, …), counted per parameter
+in the logged column; --conditions planned ranks every run by its plan.`,
 		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			if opts.metric == "" {
@@ -293,12 +359,16 @@ lower is better: nuclei_density, raman_d_g, sheet_resistance).`,
 			if err := metricFlag(opts.metric); err != nil {
 				return err
 			}
+			if err := opts.conds.parse(); err != nil {
+				return err
+			}
 			return runsRankRun(cmd.Context(), opts)
 		},
 	}
 	cmd.Flags().StringVar(&opts.metric, "metric", "", metricUsage)
 	cmd.Flags().StringArrayVar(&opts.where, "where", nil, "only runs matching this filter (repeatable)")
 	opts.goal.register(cmd)
+	opts.conds.register(cmd)
 	addOutputFlag(cmd, &opts.output)
 	return cmd
 }
@@ -307,6 +377,7 @@ type rankJSON struct {
 	Param   string   `json:"param"`
 	Rho     *float64 `json:"rho"`
 	N       int      `json:"n"`
+	Logged  int      `json:"n_logged"` // of N, runs whose value is the logged twin
 	Good    int      `json:"good"`
 	GoodMin *float64 `json:"good_min"`
 	GoodMax *float64 `json:"good_max"`
@@ -332,18 +403,22 @@ func runsRankRun(ctx context.Context, o *runsRankOptions) error {
 	}
 	var params []string
 	for _, n := range names {
-		if n.Kind == store.NameParam {
+		if n.Kind == store.NameParam && !lab.IsTwin(n.Name) {
 			params = append(params, n.Name)
 		}
 	}
 	store.SortParams(params)
-	s, err := l.Samples(ctx, store.Filter{Where: o.where}, o.metric, params)
+	pk, err := twinSamples(ctx, l, store.Filter{Where: o.where}, o.metric, params, o.conds.src)
 	if err != nil {
 		return err
 	}
+	logged := map[string]int{}
+	for i, p := range params {
+		logged[p] = pk.PerParam[i]
+	}
 	m, _ := store.MetricByName(o.metric)
-	res := store.Rank(s, o.metric, params, goal, m.LowerBetter)
-	t := table{Header: []string{"parameter", "rho", "runs", "good", "good range", "rest range"}, Numeric: []bool{false, true, true, true, false, false}}
+	res := store.Rank(pk.Samples, o.metric, params, goal, m.LowerBetter)
+	t := table{Header: []string{"parameter", "rho", "runs", "logged", "good", "good range", "rest range"}, Numeric: []bool{false, true, true, true, true, false, false}}
 	js := []rankJSON{}
 	rng := func(lo, hi float64) string {
 		if math.IsNaN(lo) {
@@ -352,14 +427,14 @@ func runsRankRun(ctx context.Context, o *runsRankOptions) error {
 		return num(lo, 4) + " – " + num(hi, 4)
 	}
 	for _, r := range res.Rows {
-		t.add(r.Param, fixed(r.Rho, 3), fmt.Sprint(r.N), fmt.Sprint(r.Good), rng(r.GoodMin, r.GoodMax), rng(r.RestMin, r.RestMax))
-		js = append(js, rankJSON{r.Param, optional(r.Rho), r.N, r.Good, optional(r.GoodMin), optional(r.GoodMax), optional(r.RestMin), optional(r.RestMax)})
+		t.add(r.Param, fixed(r.Rho, 3), fmt.Sprint(r.N), fmt.Sprint(logged[r.Param]), fmt.Sprint(r.Good), rng(r.GoodMin, r.GoodMax), rng(r.RestMin, r.RestMax))
+		js = append(js, rankJSON{r.Param, optional(r.Rho), r.N, logged[r.Param], r.Good, optional(r.GoodMin), optional(r.GoodMax), optional(r.RestMin), optional(r.RestMax)})
 	}
 	if err := render(o.f.io.Out, o.output, t, js); err != nil {
 		return err
 	}
 	if o.output == formatTable {
-		fmt.Fprintf(o.f.io.Err, "%s: good means %s; %d runs\n", o.metric, res.Goal, len(s))
+		fmt.Fprintf(o.f.io.Err, "%s: good means %s; %d runs; %s\n", o.metric, res.Goal, len(pk.Samples), pk.Line())
 	}
 	return nil
 }

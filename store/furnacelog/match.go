@@ -197,6 +197,16 @@ func (m *matcher) boundaries(first int, start float64) []int {
 
 // boundary returns the sample in [lo, hi] where step j most likely
 // begins, step j-1 having begun at log time prev and j planned at pred.
+//
+// Every candidate k is charged over the same samples [lo, top), top the
+// end of step j's planned length after the latest candidate: step j-1
+// the samples [lo, k), step j those of its planned length after k (so a
+// short step j is not charged for the samples of the steps after it),
+// and each later sample the cheaper of its two costs, as j-1 or as j:
+// where step j ends is the next boundary's question. Charged over
+// different samples, a candidate that left step j-1 fewer of its samples
+// would look cheaper whenever step j-1 ran off its set-points, and a
+// short step j would start too early.
 func (m *matcher) boundary(j, lo, hi int, prev, pred float64) int {
 	lg := m.lg
 	n := len(lg.Time)
@@ -204,24 +214,25 @@ func (m *matcher) boundary(j, lo, hi int, prev, pred float64) int {
 	if hi <= lo {
 		return best
 	}
-	// Prefix sums of both steps' costs. A boundary at sample k gives
-	// step j-1 the samples [lo, k) and step j the samples of its
-	// planned length after k, so a short step j is not charged for
-	// the samples of the steps after it.
 	durJ := m.p.Steps[j].Duration
-	top := min(n, searchTime(lg.Time, timeAt(lg, hi)+durJ)+1)
+	end := func(k int) int { return min(n, max(k+1, searchTime(lg.Time, timeAt(lg, k)+durJ))) }
+	top := end(hi)
+	// Prefix sums of the costs as step j-1, as step j and the cheaper.
 	a := make([]float64, top-lo+1)
 	b := make([]float64, top-lo+1)
+	c := make([]float64, top-lo+1)
 	for k := lo; k < top; k++ {
-		a[k-lo+1] = a[k-lo] + m.cost(j-1, k, prev)
-		b[k-lo+1] = b[k-lo] + m.cost(j, k, pred)
+		ca, cb := m.cost(j-1, k, prev), m.cost(j, k, pred)
+		a[k-lo+1] = a[k-lo] + ca
+		b[k-lo+1] = b[k-lo] + cb
+		c[k-lo+1] = c[k-lo] + math.Min(ca, cb)
 	}
 	for k := lo; k <= hi; k++ {
-		end := min(top, max(k+1, searchTime(lg.Time, timeAt(lg, k)+durJ)))
-		c := a[k-lo] + b[end-lo] - b[k-lo]
+		e := end(k) - lo
+		cost := a[k-lo] + b[e] - b[k-lo] + c[top-lo] - c[e]
 		// ties go to the planned time
-		if c < bestCost-1e-9 || math.Abs(c-bestCost) <= 1e-9 && math.Abs(timeAt(lg, k)-pred) < math.Abs(timeAt(lg, best)-pred) {
-			best, bestCost = k, c
+		if cost < bestCost-1e-9 || math.Abs(cost-bestCost) <= 1e-9 && math.Abs(timeAt(lg, k)-pred) < math.Abs(timeAt(lg, best)-pred) {
+			best, bestCost = k, cost
 		}
 	}
 	return best

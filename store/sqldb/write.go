@@ -503,6 +503,14 @@ func (s *DB) FinishRun(ctx context.Context, code string, f store.Finish) error {
 				return err
 			}
 		}
+		for name, v := range f.Params {
+			if err := w.register(ctx, name, store.NameParam, ""); err != nil {
+				return fmt.Errorf("run %q: %w", code, err)
+			}
+			if err := w.params.add(ctx, id, name, v); err != nil {
+				return err
+			}
+		}
 		return w.addActuals(ctx, id, f.Actuals, f.Deviations)
 	})
 }

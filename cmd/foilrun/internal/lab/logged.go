@@ -99,3 +99,94 @@ func LoggedPlan(plan *recipe.Plan, actuals []store.Actual, src Source) (*recipe.
 	}
 	return plan.WithConditions(cs), true
 }
+
+// LoggedSuffix ends the name of a derived parameter's logged twin:
+// growth_temperature_c_logged is growth_temperature_c of the run's logged
+// conditions.
+const LoggedSuffix = "_logged"
+
+// LoggedParameters returns the logged twins of a run's derived
+// parameters: recipe.Plan.Parameters of the plan at the conditions its
+// furnace-log actuals give (LoggedPlan), each named with LoggedSuffix;
+// nil when the actuals give no conditions. Stored beside the planned ones
+// when a run is logged with a furnace log, they let queries, rank and
+// best use what happened.
+func LoggedParameters(plan *recipe.Plan, actuals []store.Actual) map[string]float64 {
+	lp, ok := LoggedPlan(plan, actuals, Logged)
+	if !ok {
+		return nil
+	}
+	out := map[string]float64{}
+	for name, v := range lp.Parameters() {
+		out[name+LoggedSuffix] = v
+	}
+	return out
+}
+
+// IsTwin reports whether name is the logged twin of a derived parameter.
+func IsTwin(name string) bool {
+	base, ok := strings.CutSuffix(name, LoggedSuffix)
+	return ok && recipe.IsParameter(base)
+}
+
+// Twins returns the query columns that give params on conditions src:
+// with Planned the params themselves; with Logged each param followed by
+// its twin, for Pick.
+func Twins(params []string, src Source) []string {
+	if src == Planned {
+		return params
+	}
+	cols := make([]string, 0, 2*len(params))
+	for _, p := range params {
+		cols = append(cols, p, p+LoggedSuffix)
+	}
+	return cols
+}
+
+// Picked is what Pick makes of samples queried with Twins.
+type Picked struct {
+	Samples  []store.Sample // the params' values, in the order given
+	Logged   int            // runs that used a logged value for any of the params
+	Planned  int            // runs that used only planned values
+	PerParam []int          // per param, the runs whose value is the logged twin
+}
+
+// Pick turns samples queried with the columns Twins(params, src) into
+// samples of params: with Logged each parameter is its logged twin where
+// the run has one and the planned value otherwise, run by run, counted.
+func Pick(samples []store.Sample, params []string, src Source) Picked {
+	pk := Picked{PerParam: make([]int, len(params))}
+	if src == Planned {
+		pk.Samples, pk.Planned = samples, len(samples)
+		return pk
+	}
+	pk.Samples = make([]store.Sample, 0, len(samples))
+	for _, s := range samples {
+		p := make([]float64, len(params))
+		used := false
+		for i := range params {
+			p[i] = math.NaN()
+			if 2*i+1 < len(s.Params) {
+				p[i] = s.Params[2*i]
+				if tw := s.Params[2*i+1]; !math.IsNaN(tw) {
+					p[i], used = tw, true
+					pk.PerParam[i]++
+				}
+			}
+		}
+		if used {
+			pk.Logged++
+		} else {
+			pk.Planned++
+		}
+		s.Params = p
+		pk.Samples = append(pk.Samples, s)
+	}
+	return pk
+}
+
+// Line says how many runs used each: "3 runs on logged conditions, 2 on
+// the plan".
+func (pk Picked) Line() string {
+	return fmt.Sprintf("%d runs on logged conditions, %d on the plan", pk.Logged, pk.Planned)
+}

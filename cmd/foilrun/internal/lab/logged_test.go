@@ -57,3 +57,46 @@ func TestStepConditions(t *testing.T) {
 		t.Error(`ParseSource("measured"): got no error`)
 	}
 }
+
+// TestPick: queried with Twins, each parameter is the run's logged twin
+// where it has one and the plan otherwise; runs are counted by which they
+// used. The values are invented; the choice is the whole check.
+func TestPick(t *testing.T) {
+	nan := math.NaN()
+	params := []string{"growth_temperature_c", "ch4_flow_sccm"}
+	if got := Twins(params, Logged); len(got) != 4 || got[1] != "growth_temperature_c_logged" || got[3] != "ch4_flow_sccm_logged" {
+		t.Fatalf("Twins: got %q, want each parameter followed by its twin", got)
+	}
+	in := []store.Sample{
+		{Code: "a", Params: []float64{1000, 980, 5, 4.5}},
+		{Code: "b", Params: []float64{990, nan, 5, nan}},
+		{Code: "c", Params: []float64{1010, 995, 7, nan}},
+	}
+	tests := []struct {
+		name            string
+		src             Source
+		samples         []store.Sample
+		want            [][]float64
+		logged, planned int
+		perParam        []int
+	}{
+		{"logged", Logged, in, [][]float64{{980, 4.5}, {990, 5}, {995, 7}}, 2, 1, []int{2, 1}},
+		{"planned", Planned, []store.Sample{{Code: "a", Params: []float64{1000, 5}}}, [][]float64{{1000, 5}}, 0, 1, []int{0, 0}},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			pk := Pick(tt.samples, params, tt.src)
+			if pk.Logged != tt.logged || pk.Planned != tt.planned || pk.PerParam[0] != tt.perParam[0] || pk.PerParam[1] != tt.perParam[1] {
+				t.Errorf("got %d logged, %d planned, per parameter %v; want %d, %d, %v", pk.Logged, pk.Planned, pk.PerParam, tt.logged, tt.planned, tt.perParam)
+			}
+			for i, w := range tt.want {
+				if g := pk.Samples[i].Params; len(g) != len(w) || g[0] != w[0] || g[1] != w[1] {
+					t.Errorf("run %s: got %v, want %v", pk.Samples[i].Code, g, w)
+				}
+			}
+		})
+	}
+	if !IsTwin("growth_temperature_c_logged") || IsTwin("growth_temperature_c") || IsTwin("my_own_logged") {
+		t.Error("IsTwin: want true only for a derived parameter's name with _logged")
+	}
+}
