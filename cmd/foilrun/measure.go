@@ -124,6 +124,10 @@ func (mf *measureFlags) measureImage(f *factory, path string, is *imageSettings)
 	if err := mf.checkRects(set, img.Bounds()); err != nil {
 		return nil, nil, err
 	}
+	if is.refuseGuess && is.source == sourceGuess {
+		return nil, nil, withHint(usagef("image %q: the polarity of the domains is not known, and a guess is not stored as a measurement", path),
+			"give --polarity darker|brighter, or --instrument NAME --site FILE (an imaging preset); foilrun measure image shows the guess without storing it")
+	}
 	res, err := micrograph.Analyze(img, set)
 	if err != nil {
 		var op *micrograph.OnePeakError

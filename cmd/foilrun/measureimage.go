@@ -24,6 +24,7 @@ type imageSettings struct {
 	source      string
 	instrument  string  // preset name, "" for none
 	islandLimit float64 // coverage below which islands are stored as nuclei_density
+	refuseGuess bool    // a guessed polarity is an error (outcome measure stores nothing guessed)
 }
 
 // imageSettings resolves the flags and the --instrument preset into the

@@ -183,7 +183,7 @@ func TestOutcomeMeasureProvenance(t *testing.T) {
 	}
 	run := strings.TrimSpace(out[strings.LastIndex(strings.TrimSpace(out), "\n")+1:])
 	code, _, e = runCLI(t, db, "outcome", "measure", run, "--image", "b.png", "--pixel", "0.2um")
-	if code != 2 || !strings.Contains(e, "polarity is not known") || !strings.Contains(e, "--instrument") {
+	if code != 2 || !strings.Contains(e, "polarity of the domains is not known") || !strings.Contains(e, "--instrument") {
 		t.Errorf("no polarity: exit %d, stderr %q; want 2 and a hint naming --polarity and --instrument", code, e)
 	}
 	if got := storedOutcomes(t, db, run); len(got) != 0 {

@@ -229,9 +229,8 @@ func (o *outcomeMeasureOptions) measureImages() ([]*imageResult, []measurement, 
 	if err != nil {
 		return nil, nil, err
 	}
-	if is[0].source == sourceGuess {
-		return nil, nil, withHint(usagef("run %s: the micrograph's polarity is not known, and a guess is not stored as a measurement", o.code),
-			"give --polarity darker|brighter, or --instrument NAME --site FILE (an imaging preset); foilrun measure image shows the guess without storing it")
+	for _, s := range is {
+		s.refuseGuess = true
 	}
 	var imgs []*imageResult
 	var fields [][]measurement
