@@ -148,6 +148,30 @@ type Site struct {
 	Notes     string     `yaml:"notes"`
 	Pos       Pos        `yaml:"-"`
 	File      string     `yaml:"-"`
+	// Imaging lists the site's microscopes and cameras as presets for
+	// measuring micrographs (foilrun measure image --instrument NAME).
+	Imaging []ImagingPreset `yaml:"imaging"`
+}
+
+// ImagingPreset is how one instrument shows graphene on copper: which way
+// domains look against copper, the pixel size at the magnification the
+// lab uses, and optionally the gray level of bare copper.
+type ImagingPreset struct {
+	Name     string   `yaml:"name" req:"true"`
+	Polarity string   `yaml:"polarity"`           // "darker" or "brighter": domains against copper
+	Pixel    Quantity `yaml:"pixel" dim:"length"` // side of one pixel on the sample
+	BareGray *float64 `yaml:"bare_gray"`          // gray level of bare copper in the image's own units
+	Pos      Pos      `yaml:"-"`
+}
+
+// Instrument returns the imaging preset named name, or nil.
+func (s *Site) Instrument(name string) *ImagingPreset {
+	for i := range s.Imaging {
+		if s.Imaging[i].Name == name {
+			return &s.Imaging[i]
+		}
+	}
+	return nil
 }
 
 // Room is the laboratory room the furnace stands in.

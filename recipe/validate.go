@@ -247,5 +247,26 @@ func validateSite(s *Site) []Problem {
 			}
 		}
 	}
+	ps.imaging(s.Imaging)
 	return ps
+}
+
+// imaging checks the site's imaging presets: a unique name, polarity
+// darker or brighter, a pixel size above zero, a bare gray level of 0 or
+// more.
+func (ps *problems) imaging(presets []ImagingPreset) {
+	seen := map[string]bool{}
+	for _, p := range presets {
+		if seen[p.Name] {
+			ps.at(p.Pos, "name", fmt.Sprintf("imaging preset %q is named twice", p.Name), "give each instrument its own name")
+		}
+		seen[p.Name] = true
+		if p.Polarity != "darker" && p.Polarity != "brighter" {
+			ps.at(p.Pos, "polarity", fmt.Sprintf("imaging preset %q: polarity %q, want darker or brighter", p.Name, p.Polarity), "say how graphene domains look against bare copper on this instrument")
+		}
+		ps.positive(p.Pixel, "pixel")
+		if p.BareGray != nil && !(*p.BareGray >= 0) {
+			ps.at(p.Pos, "bare_gray", fmt.Sprintf("imaging preset %q: bare_gray %g, want 0 or more", p.Name, *p.BareGray), "give bare copper's gray level in the image's own units (0–255 for 8-bit images)")
+		}
+	}
 }

@@ -65,6 +65,8 @@ var metrics = []MetricInfo{
 		units: []string{"(none)", "%", "ppm"}},
 	{Name: "nuclei_density", Unit: "1/mm2", Dim: recipe.AreaDensity, Description: "domains (nuclei) per area", Min: 0, LowerBetter: true, Max: maxNucleiDensity,
 		units: []string{"1/mm2", "/mm2", "mm-2", "/cm2", "/um2", "/m2"}},
+	{Name: "island_density", Unit: "1/mm2", Dim: recipe.AreaDensity, Description: "separate graphene islands per area in a micrograph (merged islands count once)", Min: 0, Max: maxNucleiDensity,
+		units: []string{"1/mm2", "/mm2", "mm-2", "/cm2", "/um2", "/m2"}},
 	{Name: "domain_size", Unit: "um", Dim: recipe.Length, Description: "typical domain size (area-equivalent diameter)", Min: 0, Max: maxDomainSize,
 		units: []string{"um", "µm", "nm", "mm", "m"}},
 	{Name: "layers", Unit: "1", Dim: recipe.Dimensionless, Description: "number of graphene layers", Min: 0, Max: 100, units: []string{"(none)"}},

@@ -13,7 +13,6 @@ import (
 	"github.com/foilrun/foilrun/cmd/foilrun/internal/outfile"
 	"github.com/foilrun/foilrun/kinetics/film"
 	"github.com/foilrun/foilrun/kinetics/micrograph"
-	"github.com/foilrun/foilrun/recipe"
 	"github.com/foilrun/foilrun/recipe/infile"
 )
 
@@ -24,17 +23,25 @@ type measurement struct {
 	Unit   string  `json:"unit"`
 	Method string  `json:"method"`
 	Text   string  `json:"text"` // as shown to people
+	// PolaritySource says where the polarity of a micrograph measurement
+	// came from: given, instrument, prediction or guess.
+	PolaritySource string `json:"polarity_source,omitempty"`
 }
 
 // measureFlags are the measurement inputs shared by `measure` and
 // `outcome measure`.
 type measureFlags struct {
-	image         string
-	pixel         string
+	images        []string
+	pixels        []string
 	polarity      string
 	bareGray      float64
 	bareGraySet   bool
 	bareRegion    string
+	crop          string
+	keepBar       bool
+	instrument    string
+	site          string
+	islandLimit   string
 	minArea       int
 	overlay       string
 	force         bool
@@ -44,10 +51,15 @@ type measureFlags struct {
 }
 
 func (mf *measureFlags) registerImage(cmd *cobra.Command) {
-	cmd.Flags().StringVar(&mf.pixel, "pixel", "", "pixel size on the sample, e.g. 0.25um (required with an image)")
-	cmd.Flags().StringVar(&mf.polarity, "polarity", "auto", "domains are darker, brighter, or auto (chosen and reported)")
+	cmd.Flags().StringArrayVar(&mf.pixels, "pixel", nil, "pixel size on the sample, e.g. 0.25um (required with an image unless --instrument gives it)")
+	cmd.Flags().StringVar(&mf.polarity, "polarity", "auto", "domains are darker, brighter, or auto")
 	cmd.Flags().Float64Var(&mf.bareGray, "bare-gray", 0, "gray level of bare copper in the image's own units (resolves one-peaked images)")
 	cmd.Flags().StringVar(&mf.bareRegion, "bare-region", "", "rectangle x0,y0,x1,y1 (pixels) known to be bare copper")
+	cmd.Flags().StringVar(&mf.crop, "crop", "", "measure only the rectangle x0,y0,x1,y1 (pixels, x1 and y1 exclusive)")
+	cmd.Flags().BoolVar(&mf.keepBar, "keep-info-bar", false, "do not look for and cut an instrument's info bar at the top or bottom")
+	cmd.Flags().StringVar(&mf.instrument, "instrument", "", "imaging preset of the site file (polarity, pixel size, bare gray)")
+	cmd.Flags().StringVar(&mf.site, "site", "", "site file holding the imaging presets")
+	cmd.Flags().StringVar(&mf.islandLimit, "island-limit", "30%", "below this coverage islands are taken as nuclei (islands rarely merge there)")
 	cmd.Flags().IntVar(&mf.minArea, "min-area", 0, "drop specks smaller than this many pixels (default 16)")
 	cmd.Flags().StringVar(&mf.overlay, "overlay", "", "write the image with detected domains outlined to this PNG")
 	addForceFlag(cmd, &mf.force)
@@ -68,63 +80,63 @@ func (mf *measureFlags) registerFilm(cmd *cobra.Command) {
 
 // imageResult is the JSON form of an image measurement.
 type imageResult struct {
-	File      string   `json:"file"`
-	SHA256    string   `json:"sha256"`
-	Format    string   `json:"format"`
-	Width     int      `json:"width"`
-	Height    int      `json:"height"`
-	Coverage  float64  `json:"coverage"`
-	Domains   int      `json:"domains"`
-	Interior  int      `json:"interior"`
-	Edge      int      `json:"edge_touching"`
-	Specks    int      `json:"specks_removed"`
-	PerMM2    float64  `json:"density_per_mm2"`
-	MeanUm    float64  `json:"mean_diameter_um"`
-	MedianUm  float64  `json:"median_diameter_um"`
-	P10Um     float64  `json:"p10_diameter_um"`
-	P90Um     float64  `json:"p90_diameter_um"`
-	Threshold float64  `json:"threshold"`
-	Polarity  string   `json:"polarity"`
-	Reason    string   `json:"polarity_reason"`
-	Overlay   string   `json:"overlay,omitempty"`
-	Notes     []string `json:"notes,omitempty"`
+	File           string   `json:"file"`
+	SHA256         string   `json:"sha256"`
+	Format         string   `json:"format"`
+	Width          int      `json:"width"`
+	Height         int      `json:"height"`
+	Region         [4]int   `json:"region"` // x0, y0, x1, y1 of the measured field
+	Cuts           []string `json:"cuts,omitempty"`
+	PixelUm        float64  `json:"pixel_um"`
+	Instrument     string   `json:"instrument,omitempty"`
+	Coverage       float64  `json:"coverage"`
+	Phase          string   `json:"phase,omitempty"` // "continuous film" or "bare copper" for a one-peaked field
+	Domains        int      `json:"domains"`
+	Interior       int      `json:"interior"`
+	Edge           int      `json:"edge_touching"`
+	Specks         int      `json:"specks_removed"`
+	IslandPerMM2   float64  `json:"island_density"` // separate islands per mm²
+	MeanUm         float64  `json:"mean_diameter_um"`
+	MedianUm       float64  `json:"median_diameter_um"`
+	P10Um          float64  `json:"p10_diameter_um"`
+	P90Um          float64  `json:"p90_diameter_um"`
+	Threshold      float64  `json:"threshold"`
+	Polarity       string   `json:"polarity"`
+	PolaritySource string   `json:"polarity_source"`
+	Reason         string   `json:"polarity_reason"`
+	Overlay        string   `json:"overlay,omitempty"`
+	Notes          []string `json:"notes,omitempty"`
 }
 
-// measureImage analyses the micrograph and returns the printed result and
-// the outcomes it yields; the overlay goes through f's guard, with the
-// image as an input.
-func (mf *measureFlags) measureImage(f *factory) (*imageResult, []measurement, error) {
-	set, err := mf.settings()
-	if err != nil {
-		return nil, nil, err
-	}
-	guard := f.guard(mf.force, outfile.Input{What: "micrograph", Path: mf.image})
+// measureImage analyses one micrograph with the resolved image settings
+// and returns the printed result and the outcomes it yields; the overlay
+// goes through f's guard, with the image as an input.
+func (mf *measureFlags) measureImage(f *factory, path string, is *imageSettings) (*imageResult, []measurement, error) {
+	guard := f.guard(mf.force, outfile.Input{What: "micrograph", Path: path})
 	if err := checkOutput(mf.overlay, guard); err != nil {
 		return nil, nil, err
 	}
-	img, info, sum, err := decodeImage(mf.image)
+	img, info, sum, err := decodeImage(path)
 	if err != nil {
 		return nil, nil, err
 	}
-	if r := set.BareRegion; !r.Empty() && !r.In(img.Bounds()) {
-		return nil, nil, withHint(usagef("--bare-region %q lies outside the image, which is %d×%d pixels", mf.bareRegion, info.Width, info.Height),
-			fmt.Sprintf("give x0,y0,x1,y1 with 0 ≤ x0 < x1 ≤ %d and 0 ≤ y0 < y1 ≤ %d", info.Width, info.Height))
+	set := is.set
+	if err := mf.checkRects(set, img.Bounds()); err != nil {
+		return nil, nil, err
+	}
+	if is.refuseGuess && is.source == sourceGuess {
+		return nil, nil, withHint(usagef("image %q: the polarity of the domains is not known, and a guess is not stored as a measurement", path),
+			"give --polarity darker|brighter, or --instrument NAME --site FILE (an imaging preset); foilrun measure image shows the guess without storing it")
 	}
 	res, err := micrograph.Analyze(img, set)
 	if err != nil {
 		var op *micrograph.OnePeakError
 		if errors.As(err, &op) {
-			return nil, nil, withHint(inputError(fmt.Errorf("image %q: %w", mf.image, err)), "give --bare-gray LEVEL or --bare-region x0,y0,x1,y1 of a known bare area")
+			return nil, nil, withHint(inputError(fmt.Errorf("image %q: %w", path, err)), "give --bare-gray LEVEL, --bare-region x0,y0,x1,y1 of a known bare area, or an --instrument whose preset has bare_gray")
 		}
-		return nil, nil, inputError(fmt.Errorf("image %q: %w", mf.image, err))
+		return nil, nil, inputError(fmt.Errorf("image %q: %w", path, err))
 	}
-	out := &imageResult{
-		File: mf.image, SHA256: sum, Format: info.Format, Width: info.Width, Height: info.Height,
-		Coverage: res.Coverage, Domains: res.Count, Interior: res.Interior, Edge: res.Edge, Specks: res.Specks,
-		PerMM2: res.DensityPerMM2(), MeanUm: inUnit(res.Sizes.Mean, "um"), MedianUm: inUnit(res.Sizes.Median, "um"),
-		P10Um: inUnit(res.Sizes.P10, "um"), P90Um: inUnit(res.Sizes.P90, "um"), Threshold: res.Threshold,
-		Polarity: res.Polarity.String(), Reason: res.PolarityReason, Notes: res.Notes,
-	}
+	out := newImageResult(path, sum, info, res, is)
 	if mf.overlay != "" {
 		if err := writeOutput(mf.overlay, guard, func(w io.Writer) error { return res.WriteOverlay(w, img) }); err != nil {
 			return nil, nil, err
@@ -132,48 +144,44 @@ func (mf *measureFlags) measureImage(f *factory) (*imageResult, []measurement, e
 		out.Overlay = mf.overlay
 		fmt.Fprintf(f.io.Err, "wrote overlay %s\n", mf.overlay)
 	}
-	const method = "micrograph: otsu threshold after polynomial flattening"
-	ms := []measurement{{Metric: "coverage", Value: res.Coverage, Unit: "1", Method: method, Text: fixed(res.Coverage*100, 1) + " %"}}
-	if res.Counted > 0 {
-		ms = append(ms, measurement{Metric: "nuclei_density", Value: res.DensityPerMM2(), Unit: "1/mm2", Method: method, Text: num(res.DensityPerMM2(), 4) + " /mm²"})
-	}
-	if res.Sizes.N > 0 {
-		ms = append(ms, measurement{Metric: "domain_size", Value: inUnit(res.Sizes.Mean, "um"), Unit: "um", Method: method + " (mean area-equivalent diameter, interior domains)", Text: num(inUnit(res.Sizes.Mean, "um"), 4) + " um"})
-	}
-	return out, ms, nil
+	return out, is.measurements(res, out), nil
 }
 
-// settings reads the analysis flags: --pixel (required, 0.1 nm to 1 mm),
-// --polarity, --min-area, --bare-gray and --bare-region.
-func (mf *measureFlags) settings() (micrograph.Settings, error) {
-	var set micrograph.Settings
-	if mf.pixel == "" {
-		return set, usagef("--pixel is required with an image, e.g. --pixel 0.25um")
+// checkRects refuses a --crop or --bare-region outside the image, with the
+// image's size in the message and the allowed range in the hint.
+func (mf *measureFlags) checkRects(set micrograph.Settings, b image.Rectangle) error {
+	hint := fmt.Sprintf("give x0,y0,x1,y1 with 0 ≤ x0 < x1 ≤ %d and 0 ≤ y0 < y1 ≤ %d", b.Dx(), b.Dy())
+	if r := set.Crop; !r.Empty() && !r.In(b) {
+		return withHint(usagef("--crop %q lies outside the image, which is %d×%d pixels", mf.crop, b.Dx(), b.Dy()), hint)
 	}
-	px, err := recipe.Parse(mf.pixel, recipe.Length)
-	if err != nil {
-		return set, usagef("--pixel: %v", err)
+	if r := set.BareRegion; !r.Empty() && !r.In(b) {
+		return withHint(usagef("--bare-region %q lies outside the image, which is %d×%d pixels", mf.bareRegion, b.Dx(), b.Dy()), hint)
 	}
-	if !(px.SI >= minPixel && px.SI <= maxPixel) {
-		return set, usagef("--pixel %q: want a pixel size between 0.1 nm and 1 mm", mf.pixel)
+	return nil
+}
+
+func newImageResult(path, sum string, info micrograph.Info, res *micrograph.Result, is *imageSettings) *imageResult {
+	r := res.Region
+	out := &imageResult{
+		File: path, SHA256: sum, Format: info.Format, Width: info.Width, Height: info.Height,
+		Region: [4]int{r.Min.X, r.Min.Y, r.Max.X, r.Max.Y}, Cuts: res.Cuts, PixelUm: inUnit(res.PixelSize, "um"), Instrument: is.instrument,
+		Coverage: res.Coverage, Phase: phaseName(res.Phase), Domains: res.Count, Interior: res.Interior, Edge: res.Edge, Specks: res.Specks,
+		IslandPerMM2: res.DensityPerMM2(), MeanUm: inUnit(res.Sizes.Mean, "um"), MedianUm: inUnit(res.Sizes.Median, "um"),
+		P10Um: inUnit(res.Sizes.P10, "um"), P90Um: inUnit(res.Sizes.P90, "um"), Threshold: res.Threshold,
+		Polarity: res.Polarity.String(), PolaritySource: is.source, Reason: res.PolarityReason, Notes: res.Notes,
 	}
-	pol, err := micrograph.ParsePolarity(mf.polarity)
-	if err != nil {
-		return set, usagef("--polarity: %v", err)
+	return out
+}
+
+// phaseName is the method name of a one-peaked field, "" for a mixed one.
+func phaseName(p micrograph.Phase) string {
+	switch p {
+	case micrograph.PhaseCovered:
+		return "continuous film"
+	case micrograph.PhaseBare:
+		return "bare copper"
 	}
-	set = micrograph.Settings{PixelSize: px.SI, Polarity: pol, MinAreaPixels: mf.minArea}
-	if mf.bareGraySet {
-		g := mf.bareGray
-		set.BareGray = &g
-	}
-	if mf.bareRegion != "" {
-		r, err := parseRect(mf.bareRegion)
-		if err != nil {
-			return set, usagef("--bare-region: %v", err)
-		}
-		set.BareRegion = r
-	}
-	return set, nil
+	return ""
 }
 
 // decodeImage reads and decodes a micrograph through the bounded reader
@@ -293,7 +301,7 @@ func newMeasureImageCmd(f *factory) *cobra.Command {
 JPEG or TIFF regular file of at most 1 GiB and 256 Mpixel.`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
-			opts.flags.image = args[0]
+			opts.flags.images = args[:1]
 			opts.flags.bareGraySet = cmd.Flags().Changed("bare-gray")
 			return measureImageRun(opts)
 		},
@@ -304,16 +312,27 @@ JPEG or TIFF regular file of at most 1 GiB and 256 Mpixel.`,
 }
 
 func measureImageRun(opts *measureOptions) error {
-	res, ms, err := opts.flags.measureImage(opts.f)
+	mf := &opts.flags
+	is, err := mf.imageSettings(1)
 	if err != nil {
 		return err
+	}
+	res, ms, err := mf.measureImage(opts.f, mf.images[0], is[0])
+	if err != nil {
+		return err
+	}
+	if res.PolaritySource == sourceGuess {
+		fmt.Fprintf(opts.f.io.Err, "foilrun: warning: %s: the polarity is a guess (%s); above one half coverage it reads the bare copper as the film\n  hint: give --polarity darker|brighter or --instrument NAME --site FILE\n", res.File, res.Reason)
 	}
 	w := opts.f.io.Out
 	if opts.output == formatJSON {
 		return writeJSON(w, res)
 	}
 	if opts.output == formatTable {
-		fmt.Fprintf(w, "%s: %s %d×%d, threshold %.0f, domains %s (%s)\n", res.File, res.Format, res.Width, res.Height, res.Threshold, res.Polarity, res.Reason)
+		fmt.Fprintf(w, "%s: %s %d×%d, threshold %.0f, domains %s (%s; polarity_source %s)\n", res.File, res.Format, res.Width, res.Height, res.Threshold, res.Polarity, res.Reason, res.PolaritySource)
+		for _, c := range res.Cuts {
+			fmt.Fprintln(w, "cut: "+c)
+		}
 	}
 	t := imageTable(res, ms)
 	if err := render(w, opts.output, t, nil); err != nil {
@@ -332,7 +351,10 @@ func imageTable(res *imageResult, ms []measurement) table {
 	t.add("coverage", fixed(res.Coverage*100, 2)+" %")
 	t.add("domains (interior + edge-touching)", fmt.Sprintf("%d (%d + %d)", res.Domains, res.Interior, res.Edge))
 	t.add("specks removed", strconv.Itoa(res.Specks))
-	t.add("density", num(res.PerMM2, 4)+" /mm²")
+	if res.Phase != "" {
+		t.add("method", res.Phase)
+	}
+	t.add("island density", num(res.IslandPerMM2, 4)+" /mm²")
 	t.add("diameter mean / median", num(res.MeanUm, 4)+" / "+num(res.MedianUm, 4)+" um")
 	t.add("diameter p10 – p90", num(res.P10Um, 4)+" – "+num(res.P90Um, 4)+" um")
 	return t

@@ -134,25 +134,33 @@ type outcomeMeasureOptions struct {
 func newOutcomeMeasureCmd(f *factory) *cobra.Command {
 	opts := &outcomeMeasureOptions{f: f}
 	cmd := &cobra.Command{
-		Use:   "measure CODE [--image FILE --pixel SIZE] [--transmittance T] [--raman RATIOS]",
+		Use:   "measure CODE [--image FILE... --pixel SIZE|--instrument NAME] [--transmittance T] [--raman RATIOS]",
 		Short: "Measure outcomes from a micrograph, a transmittance or Raman ratios and store them with the run",
 		Long: `Measure a run's graphene and store the results against the run, each with its
-method: from a micrograph (coverage, nuclei density, domain size; the image is
+method: from micrographs (coverage, island density, domain size; each image is
 attached by path and content hash), from transmittance at 550 nm (layer count)
-and from Raman 2D/G and D/G ratios (with the classification printed).`,
+and from Raman 2D/G and D/G ratios (with the classification printed).
+
+A micrograph's polarity (domains darker or brighter than copper) must be known:
+--polarity, an --instrument preset of the --site file, or a bare reference
+(--bare-gray, --bare-region). A guess is never stored. Several --image flags
+are fields of view of one run: each is stored, and so is their mean. The
+island density is stored as nuclei_density only below --island-limit
+coverage (default 30 %, where islands rarely merge), else as island_density.`,
 		Example: `  foilrun outcome measure G26-0061 --image foil.png --pixel 0.5um --overlay foil-overlay.png
+  foilrun outcome measure G26-0061 --image a.png --image b.png --instrument sem-1 --site site.yaml
   foilrun outcome measure G26-0061 --transmittance 97.6% --raman 2d/g=2.3,d/g=0.05`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			opts.code = args[0]
 			opts.flags.bareGraySet = cmd.Flags().Changed("bare-gray")
-			if opts.flags.image == "" && opts.flags.transmittance == "" && opts.flags.raman == "" {
+			if len(opts.flags.images) == 0 && opts.flags.transmittance == "" && opts.flags.raman == "" {
 				return usagef("give --image, --transmittance and/or --raman")
 			}
 			return outcomeMeasureRun(cmd.Context(), opts)
 		},
 	}
-	cmd.Flags().StringVar(&opts.flags.image, "image", "", "micrograph file (PNG, JPEG or TIFF)")
+	cmd.Flags().StringArrayVar(&opts.flags.images, "image", nil, "micrograph file (PNG, JPEG or TIFF); repeat for several fields of view")
 	opts.flags.registerImage(cmd)
 	opts.flags.registerFilm(cmd)
 	addOutputFlag(cmd, &opts.output)
@@ -160,21 +168,15 @@ and from Raman 2D/G and D/G ratios (with the classification printed).`,
 }
 
 func outcomeMeasureRun(ctx context.Context, o *outcomeMeasureOptions) error {
-	var ms []measurement
-	var lines []string
-	var img *imageResult
-	if o.flags.image != "" {
-		res, m, err := o.flags.measureImage(o.f)
-		if err != nil {
-			return err
-		}
-		img, ms = res, m
-	}
-	fm, fl, err := o.flags.measureFilm()
+	imgs, ms, err := o.measureImages()
 	if err != nil {
 		return err
 	}
-	ms, lines = append(ms, fm...), fl
+	fm, lines, err := o.flags.measureFilm()
+	if err != nil {
+		return err
+	}
+	ms = append(ms, fm...)
 	l, err := o.f.writeLog(ctx)
 	if err != nil {
 		return err
@@ -190,17 +192,54 @@ func outcomeMeasureRun(ctx context.Context, o *outcomeMeasureOptions) error {
 	if err := l.AddOutcomes(ctx, o.code, os); err != nil {
 		return err
 	}
-	if img != nil {
+	var head []string
+	for _, img := range imgs {
 		if err := l.AddAttachment(ctx, o.code, store.Attachment{Path: img.File, SHA256: img.SHA256, Kind: "micrograph", Added: now}); err != nil {
 			return err
 		}
-		if o.output == formatTable {
-			fmt.Fprintf(o.f.io.Out, "%s: %s %d×%d, sha256 %s…, domains %s (%s)\n", img.File, img.Format, img.Width, img.Height, img.SHA256[:12], img.Polarity, img.Reason)
-			for _, n := range img.Notes {
-				lines = append(lines, "note: "+n)
-			}
+		head = append(head, fmt.Sprintf("%s: %s %d×%d, sha256 %s…, domains %s (%s; polarity_source %s)", img.File, img.Format, img.Width, img.Height, img.SHA256[:12], img.Polarity, img.Reason, img.PolaritySource))
+		for _, c := range img.Cuts {
+			head = append(head, "  cut: "+c)
+		}
+		for _, n := range img.Notes {
+			lines = append(lines, "note: "+n)
+		}
+	}
+	if o.output == formatTable {
+		for _, h := range head {
+			fmt.Fprintln(o.f.io.Out, h)
 		}
 	}
 	fmt.Fprintf(o.f.io.Err, "run %s: %d outcomes stored\n", o.code, len(os))
 	return printMeasurements(o.f.io.Out, o.output, ms, lines)
+}
+
+// measureImages measures every --image, refusing before any is read when
+// the polarity would be a guess, and returns the results and the
+// measurements of each field with their means.
+func (o *outcomeMeasureOptions) measureImages() ([]*imageResult, []measurement, error) {
+	mf := &o.flags
+	if len(mf.images) == 0 {
+		return nil, nil, nil
+	}
+	if len(mf.images) > 1 && mf.overlay != "" {
+		return nil, nil, usagef("--overlay writes one file: give it with a single --image")
+	}
+	is, err := mf.imageSettings(len(mf.images))
+	if err != nil {
+		return nil, nil, err
+	}
+	for _, s := range is {
+		s.refuseGuess = true
+	}
+	var imgs []*imageResult
+	var fields [][]measurement
+	for i, path := range mf.images {
+		res, m, err := mf.measureImage(o.f, path, is[i])
+		if err != nil {
+			return nil, nil, err
+		}
+		imgs, fields = append(imgs, res), append(fields, m)
+	}
+	return imgs, fieldMeans(fields, mf.images), nil
 }

@@ -21,18 +21,23 @@ type Domain struct {
 	AreaPixels int     // pixels
 	Area       float64 // m²
 	Diameter   float64 // area-equivalent diameter 2·√(A/π), m
-	CentroidX  float64 // pixels from the left edge of the image
-	CentroidY  float64 // pixels from the top edge of the image
+	CentroidX  float64 // pixels from the left edge of the measured field (Result.Region)
+	CentroidY  float64 // pixels from the top edge of the measured field
 	Edge       bool    // touches the image border, so its size is cut off
 	Counted    bool    // counted by the counting-frame rule (see Result.Density)
 }
 
 // Result is what Analyze measured.
 type Result struct {
-	Width, Height int     // pixels
-	BitDepth      int     // 8 or 16: the unit of the gray levels below
-	PixelSize     float64 // m
-	Settings      Settings
+	Width, Height int // pixels of the measured field (Region)
+	// Region is the measured field in image coordinates: the crop, or
+	// the whole image, less any info bar; Cuts says, a line each, what
+	// was cut from the image to get it (none when nothing was).
+	Region    image.Rectangle
+	Cuts      []string
+	BitDepth  int     // 8 or 16: the unit of the gray levels below
+	PixelSize float64 // m
+	Settings  Settings
 
 	// Threshold is Otsu's threshold on the flattened, smoothed image, in
 	// gray levels of BitDepth: the lower class is ≤ Threshold.
@@ -81,12 +86,16 @@ func Analyze(img image.Image, s Settings) (*Result, error) {
 	if err != nil {
 		return nil, fmt.Errorf("analyze micrograph: %w", err)
 	}
+	img, region, cuts, err := field(img, s)
+	if err != nil {
+		return nil, fmt.Errorf("analyze micrograph: %w", err)
+	}
 	b := img.Bounds()
 	if b.Dx() < MinSide || b.Dy() < MinSide {
 		return nil, fmt.Errorf("analyze micrograph: %w: %d×%d pixels, want at least %d×%d",
 			ErrTooSmall, b.Dx(), b.Dy(), MinSide, MinSide)
 	}
-	res := &Result{Width: b.Dx(), Height: b.Dy(), BitDepth: bitDepth(img), PixelSize: s.PixelSize, Settings: s}
+	res := &Result{Width: b.Dx(), Height: b.Dy(), BitDepth: bitDepth(img), PixelSize: s.PixelSize, Settings: s, Region: region, Cuts: cuts}
 	unit := 1.0 // 16-bit levels per native level
 	if res.BitDepth == 8 {
 		unit = 257

@@ -14,6 +14,10 @@
 //
 // # Method
 //
+//  0. Field: the crop (Settings.Crop) or the whole image, less an
+//     instrument's info bar found along its top or bottom (FindInfoBars;
+//     Settings.KeepInfoBar turns the search off). Result.Region is what
+//     was measured and Result.Cuts says what was cut.
 //  1. Luma: colour images are reduced to ITU-R BT.601 luma,
 //     Y = 0.299·R + 0.587·G + 0.114·B (the standard library's weights),
 //     held as 16-bit levels.

@@ -19,9 +19,16 @@ var (
 // domain drawn in: InteriorColor for interior domains, EdgeColor for
 // domains touching the border. An outline pixel is a domain pixel with a
 // 4-neighbour outside the domain or outside the image. img must be the
-// image r was measured on.
+// image r was measured on, whole (the overlay shows r.Region) or cut to
+// r.Region.
 func (r *Result) Overlay(img image.Image) (*image.RGBA, error) {
 	b := img.Bounds()
+	if sub, ok := img.(interface {
+		SubImage(image.Rectangle) image.Image
+	}); ok && r.Region != b && !r.Region.Empty() && r.Region.In(b) {
+		img = sub.SubImage(r.Region) // the measured field of a cropped image
+		b = r.Region
+	}
 	if b.Dx() != r.Width || b.Dy() != r.Height {
 		return nil, fmt.Errorf("overlay: image is %d×%d, the result is for %d×%d", b.Dx(), b.Dy(), r.Width, r.Height)
 	}

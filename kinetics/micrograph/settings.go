@@ -89,6 +89,14 @@ type Settings struct {
 	// BareRegion, when not empty, is a rectangle (in image coordinates)
 	// known to be bare copper. It takes precedence over BareGray.
 	BareRegion image.Rectangle
+	// Crop, when not the zero rectangle, is the part of the image to
+	// measure (image coordinates, Max exclusive). It must lie inside the
+	// image and have an area; Result.Cuts says what was cut.
+	Crop image.Rectangle
+	// KeepInfoBar turns off the search for an instrument's info bar
+	// (FindInfoBars) along the top and bottom of the measured field; by
+	// default a bar found is cut away and Result.Cuts says so.
+	KeepInfoBar bool
 }
 
 func (s Settings) resolve() (Settings, error) {

@@ -10,7 +10,9 @@
 // covers [i, i+1) × [j, j+1). Gray levels are on the 0–255 scale.
 //
 // Entry points: Scene with Render, Gray8, Gray16 and RGBA; the layouts
-// Scatter and Separated; the textures Grain and Ripples.
+// Scatter and Separated; the textures Grain and Ripples; WithInfoBar adds
+// an instrument's data band beside a rendered field. Darker domains have
+// Graphene < Copper, brighter ones Graphene > Copper.
 //
 // The package imports nothing of foilrun, so the micrograph package's own
 // tests can use it.

@@ -1,6 +1,7 @@
 package synth
 
 import (
+	"image"
 	"math"
 	"math/rand/v2"
 	"testing"
@@ -240,5 +241,45 @@ func BenchmarkRender1024(b *testing.B) {
 		s := Scene{Width: 1024, Height: 1024, Domains: ds, Copper: 150, Graphene: 112.5, Light: Gradient{X: 0.3, Y: 0.2},
 			Texture: Grain(1024, 1024, 0.04, rng), Noise: 4}
 		s.Gray8(rng)
+	}
+}
+
+// TestWithInfoBar: the field keeps every pixel, shifted below a top bar or
+// above a bottom one, and the band holds only the background and the ink.
+func TestWithInfoBar(t *testing.T) {
+	s := Scene{Width: 64, Height: 40, Copper: 150, Graphene: 90, Domains: []Hexagon{{X: 30, Y: 20, R: 12}}, Noise: 3}
+	img, _ := s.Gray8(rand.New(rand.NewPCG(1, 2)))
+	for _, top := range []bool{false, true} {
+		bar := InfoBar{Height: 12, Top: top, Background: 0, Ink: 255}
+		out := WithInfoBar(img, bar)
+		if got := out.Bounds(); got != image.Rect(0, 0, 64, 52) {
+			t.Fatalf("top %v: bounds %v, want (0,0)-(64,52)", top, got)
+		}
+		field, band := 0, 40
+		if top {
+			field, band = 12, 0
+		}
+		for y := range 40 {
+			for x := range 64 {
+				if got, want := out.GrayAt(x, y+field).Y, img.GrayAt(x, y).Y; got != want {
+					t.Fatalf("top %v: field pixel (%d, %d) got %d, want %d", top, x, y, got, want)
+				}
+			}
+		}
+		ink := 0
+		for y := band; y < band+12; y++ {
+			for x := range 64 {
+				switch out.GrayAt(x, y).Y {
+				case 255:
+					ink++
+				case 0:
+				default:
+					t.Fatalf("top %v: band pixel (%d, %d) is %d, want 0 or 255", top, x, y, out.GrayAt(x, y).Y)
+				}
+			}
+		}
+		if ink == 0 {
+			t.Errorf("top %v: no marks drawn in the band", top)
+		}
 	}
 }
