@@ -213,10 +213,18 @@ func torrOf(pa float64) string {
 func (c *checker) pressure(sp *StepPlan) {
 	v := c.f.Vacuum
 	s := sp.Step
-	if !sp.OpenToPump && s.Pressure.IsSet() && !s.Pressure.Pump && sp.TotalFlow > 0 && s.Pressure.Setpoint.SI < sp.PumpLimit*0.999 {
-		c.add(Error, sp, "pressure.pump-limit", s.Pressure.Pos, "lower the total flow, raise the set-point, or use a larger pump",
-			"set-point %s is below %s, the lowest pressure the pump (%.3g m3/h) can hold with %.4g sccm total throughput",
-			torrOf(s.Pressure.Setpoint.SI), torrOf(sp.PumpLimit), v.PumpSpeed.SI*3600, sp.TotalFlow/molPerSCCMSecond)
+	if !sp.OpenToPump && s.Kind != KindLeakCheck && sp.TotalFlow > 0 && sp.Setpoint < sp.PumpLimit*0.999 {
+		from, hint := "", "lower the total flow, raise the set-point, or use a larger pump"
+		if !s.Pressure.IsSet() {
+			from = " (the atmosphere the tube starts at)"
+			if sp.SetpointStep >= 0 {
+				from = fmt.Sprintf(" (carried over from step %s)", c.p.Steps[sp.SetpointStep].Label)
+			}
+			hint = "give the step a pressure of its own the pump can hold, lower the total flow, or use a larger pump"
+		}
+		c.add(Error, sp, "pressure.pump-limit", s.Pressure.Pos, hint,
+			"set-point %s%s is below %s, the lowest pressure the pump (%.3g m3/h) can hold with %.4g sccm total throughput; the plan uses %s",
+			torrOf(sp.Setpoint), from, torrOf(sp.PumpLimit), v.PumpSpeed.SI*3600, sp.TotalFlow/molPerSCCMSecond, torrOf(sp.Pressure))
 	}
 	if s.Kind == KindVent || s.Kind == KindLeakCheck {
 		return

@@ -31,7 +31,12 @@ type StepPlan struct {
 	T0, T1   float64 // K at the start and end (equal for holds)
 
 	OpenToPump bool    // valve open to the pump: the pressure follows the throughput
-	Pressure   float64 // total pressure during the step, Pa
+	Pressure   float64 // total pressure during the step, Pa: the set-point, never below PumpLimit
+	// Setpoint is the pressure the controller is asked to hold, Pa, set on
+	// the step or carried over from SetpointStep (0-based; −1 for the
+	// atmosphere the tube starts at); 0 when open to the pump.
+	Setpoint     float64
+	SetpointStep int
 	PumpLimit  float64 // lowest pressure the pump can hold with this throughput, Pa
 	Throughput float64 // Pa·m³/s at RoomTemperature
 
@@ -78,24 +83,17 @@ func Derive(r *Recipe, f *Furnace) *Plan {
 	if !r.StartTemperature.IsZero() {
 		T = r.StartTemperature.SI
 	}
-	v := valve{pressure: atmosphere}
+	v := valve{pressure: atmosphere, from: -1}
 	t := 0.0
 	for i := range r.Steps {
 		s := &r.Steps[i]
 		sp := &p.Steps[i]
 		sp.Index, sp.Step, sp.Label, sp.Start = i, s, s.Label(i), t
 		temperatures(sp, T)
-		v.step(s)
+		v.step(s, i)
 		sp.OpenToPump = v.pump
 		derive(sp, f)
-		switch {
-		case v.pump:
-			sp.Pressure = sp.PumpLimit
-		case s.Kind == KindLeakCheck:
-			sp.Pressure = p.prevPressure(i)
-		default:
-			sp.Pressure = v.pressure
-		}
+		v.held(sp, p.prevPressure(i))
 		p.duration(i)
 		gasPhase(sp, f)
 		T = sp.T1
@@ -126,18 +124,38 @@ func temperatures(sp *StepPlan, T float64) {
 // open to the pump or not, and the pressure set-point it holds when not.
 type valve struct {
 	pressure float64 // Pa
+	from     int     // step that set the pressure, −1 for the starting atmosphere
 	pump     bool
+}
+
+// held sets the pressure step sp has: the pump limit when open
+// to the pump, the pressure the step before left for a closed leak check,
+// else the set-point, set or carried over, but never below what the pump
+// can hold with the step's throughput (a controller cannot go lower).
+func (v *valve) held(sp *StepPlan, prev float64) {
+	switch {
+	case v.pump:
+		sp.Pressure = sp.PumpLimit
+	case sp.Step.Kind == KindLeakCheck:
+		sp.Pressure = prev
+	default:
+		sp.Setpoint, sp.SetpointStep = v.pressure, v.from
+		sp.Pressure = v.pressure
+		if sp.TotalFlow > 0 {
+			sp.Pressure = math.Max(v.pressure, sp.PumpLimit)
+		}
+	}
 }
 
 // step moves the valve state through step s: a pressure setting holds
 // until the next one; a pump step opens to the pump, a vent closes it and
 // (without a pressure of its own) brings the tube to atmosphere, and a
 // leak check closes it.
-func (v *valve) step(s *Step) {
+func (v *valve) step(s *Step, i int) {
 	if s.Pressure.IsSet() {
 		v.pump = s.Pressure.Pump
 		if !v.pump {
-			v.pressure = s.Pressure.Setpoint.SI
+			v.pressure, v.from = s.Pressure.Setpoint.SI, i
 		}
 	}
 	switch s.Kind {
@@ -146,7 +164,7 @@ func (v *valve) step(s *Step) {
 	case KindVent:
 		v.pump = false
 		if !s.Pressure.IsSet() {
-			v.pressure = atmosphere
+			v.pressure, v.from = atmosphere, i
 		}
 	case KindLeakCheck:
 		v.pump = false
