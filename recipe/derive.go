@@ -37,8 +37,8 @@ type StepPlan struct {
 	// atmosphere the tube starts at); 0 when open to the pump.
 	Setpoint     float64
 	SetpointStep int
-	PumpLimit  float64 // lowest pressure the pump can hold with this throughput, Pa
-	Throughput float64 // Pa·m³/s at RoomTemperature
+	PumpLimit    float64 // lowest pressure the pump can hold with this throughput, Pa
+	Throughput   float64 // Pa·m³/s at RoomTemperature
 
 	Flows           []FlowPlan
 	TotalFlow       float64 // mol/s
