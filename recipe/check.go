@@ -236,6 +236,10 @@ func (c *checker) pressure(sp *StepPlan) {
 		c.add(Warning, sp, "pressure.gauge-range", s.Pressure.Pos, "use a gauge whose range covers the process pressure, or the reading cannot be trusted",
 			"process pressure %s is outside the %s's range %s to %s", torrOf(sp.Pressure), v.Gauge, torrOf(v.GaugeMin.SI), torrOf(v.GaugeMax.SI))
 	}
+	if s.Kind == KindPurge && s.Cycles > 0 && !s.PumpTo.IsZero() && s.PumpTo.SI < v.BasePressure.SI {
+		c.add(Error, sp, "pressure.unreachable", s.PumpTo.Pos, "raise pump_to above the base pressure, or leave it out to pump each cycle to just above the base pressure",
+			"cycle pump-down target %s is below the pump's base pressure %s", torrOf(s.PumpTo.SI), torrOf(v.BasePressure.SI))
+	}
 	if s.Kind == KindPump && !s.Until.IsZero() && s.Until.SI < sp.PumpLimit {
 		c.add(Error, sp, "pressure.unreachable", s.Until.Pos, "raise the end pressure or check the pump and base pressure",
 			"pump-down target %s is below the lowest pressure the pump reaches, %s", torrOf(s.Until.SI), torrOf(sp.PumpLimit))

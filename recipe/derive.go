@@ -39,6 +39,10 @@ type StepPlan struct {
 	SetpointStep int
 	PumpLimit    float64 // lowest pressure the pump can hold with this throughput, Pa
 	Throughput   float64 // Pa·m³/s at RoomTemperature
+	// CycleLow is the pressure each pump-and-backfill cycle of a cycled
+	// purge pumps down to, Pa (its pump_to, or CycleLowDefault); 0 for
+	// other steps. CycleTime is the time of one cycle, s.
+	CycleLow, CycleTime float64
 
 	Flows           []FlowPlan
 	TotalFlow       float64 // mol/s
@@ -173,16 +177,25 @@ func (v *valve) step(s *Step, i int) {
 
 // duration sets the duration of step i when the recipe gives it, or else
 // derives it: a pump step's pump-down to its until pressure (at least 5 %
-// above the pump limit), a cycle purge's cycles, a vent's backfill to
-// atmosphere at its flow. Other steps keep what temperatures set.
+// above the pump limit), a cycle purge's cycles (CycleTime each), a
+// vent's backfill to atmosphere at its flow. Other steps keep what
+// temperatures set.
 func (p *Plan) duration(i int) {
 	sp, s, f := &p.Steps[i], p.Steps[i].Step, p.Furnace
 	if !s.Duration.IsZero() {
 		sp.Duration = s.Duration.SI
 	} else if s.Kind == KindPump {
 		sp.Duration = f.PumpDownTime(p.prevPressure(i), math.Max(s.Until.SI, sp.PumpLimit*1.05))
-	} else if s.Kind == KindPurge && s.Cycles > 0 {
-		sp.Duration = float64(s.Cycles) * f.cycleTime(s.Backfill.SI, sp.PumpLimit, sp.TotalFlow)
+	}
+	if s.Kind == KindPurge && s.Cycles > 0 {
+		sp.CycleLow = f.CycleLowDefault()
+		if !s.PumpTo.IsZero() {
+			sp.CycleLow = s.PumpTo.SI
+		}
+		sp.CycleTime = f.CycleTime(s.Backfill.SI, sp.CycleLow, sp.TotalFlow)
+		if s.Duration.IsZero() {
+			sp.Duration = float64(s.Cycles) * sp.CycleTime
+		}
 	} else if s.Kind == KindVent && sp.TotalFlow > 0 {
 		sp.Duration = f.TubeVolume() * math.Max(0, atmosphere-p.prevPressure(i)) / (sp.TotalFlow * gas.R * RoomTemperature)
 	}

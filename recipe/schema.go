@@ -194,7 +194,9 @@ type Substrate struct {
 //
 //	pump        pressure "pump"; until (a pressure) or duration
 //	leak-check  duration; max_rise (pass figure)
-//	purge       flows of inert gas; duration or cycles with backfill
+//	purge       flows of inert gas; duration, or cycles with backfill and
+//	            pump_to (how far each cycle pumps down; default just above
+//	            the base pressure)
 //	ramp, cool  to (temperature) and rate; flows; pressure
 //	anneal      temperature, duration, flows, pressure
 //	grow        temperature, duration, flows with a carbon source, pressure
@@ -212,6 +214,7 @@ type Step struct {
 	MaxRise     Quantity        `yaml:"max_rise" dim:"pressure rise rate"`
 	Cycles      int             `yaml:"cycles"`
 	Backfill    Quantity        `yaml:"backfill" dim:"pressure"`
+	PumpTo      Quantity        `yaml:"pump_to" dim:"pressure"`
 	Notes       string          `yaml:"notes"`
 	Pos         Pos             `yaml:"-"`
 }

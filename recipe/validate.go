@@ -81,6 +81,7 @@ func (ps *problems) step(s *Step, label string) {
 	ps.positive(s.Rate, "rate")
 	ps.positive(s.Pressure.Setpoint, "pressure")
 	ps.positive(s.Backfill, "backfill")
+	ps.positive(s.PumpTo, "pump_to")
 	ps.nonNegative(s.MaxRise, "max_rise")
 	if s.Cycles < 0 {
 		ps.at(s.Pos, "cycles", fmt.Sprintf("step %s: cycles %d must not be negative", label, s.Cycles), "")
@@ -97,6 +98,12 @@ func (ps *problems) step(s *Step, label string) {
 		if s.Cycles != 0 {
 			ps.at(s.Pos, "cycles", fmt.Sprintf("step %s: \"cycles\" applies only to a purge step", label), "")
 		}
+	}
+	if s.Cycles == 0 && !s.PumpTo.IsZero() {
+		ps.at(s.PumpTo.Pos, "pump_to", fmt.Sprintf("step %s: \"pump_to\" applies only to a purge step with cycles", label), "add \"cycles: 3\" and \"backfill: 1 atm\", or remove pump_to")
+	}
+	if s.Cycles > 0 && !s.PumpTo.IsZero() && !s.Backfill.IsZero() && s.PumpTo.SI >= s.Backfill.SI {
+		ps.at(s.PumpTo.Pos, "pump_to", fmt.Sprintf("step %s: pump_to %q must be below backfill %q, or a cycle dilutes nothing", label, s.PumpTo.Text, s.Backfill.Text), "pump to a pressure well below the backfill, e.g. \"pump_to: 1 Torr\"")
 	}
 }
 

@@ -98,15 +98,23 @@ type Release struct {
 
 // Purge records one purge of the tube and what it leaves behind.
 type Purge struct {
-	Step        int     `json:"step"`
-	Label       string  `json:"label"`
-	Cycles      int     `json:"cycles,omitempty"`    // pump-and-backfill cycles, 0 for flow-through
-	LowPa       float64 `json:"low_pa,omitempty"`    // cycle low pressure
-	HighPa      float64 `json:"high_pa,omitempty"`   // backfill pressure
-	Exchanges   float64 `json:"exchanges,omitempty"` // flow-through tube-volume exchanges
-	Factor      float64 `json:"factor"`              // fraction left of what the tube held: exp(−N) or (P_low/P_high)^n
-	OxygenAfter float64 `json:"oxygen_after"`        // O2 fraction in the tube after it
-	FuelAfter   float64 `json:"fuel_after"`          // fuel fraction in the tube after it
+	Step     int     `json:"step"`
+	Label    string  `json:"label"`
+	Cycles   int     `json:"cycles,omitempty"`    // pump-and-backfill cycles, 0 for flow-through
+	LowPa    float64 `json:"low_pa,omitempty"`    // cycle low pressure (pump_to)
+	HighPa   float64 `json:"high_pa,omitempty"`   // backfill pressure
+	PerCycle float64 `json:"per_cycle,omitempty"` // P_low/P_high: the share one cycle leaves
+	// CycleSeconds is the time of one pump-and-backfill cycle; StartPa,
+	// OxygenBefore and FuelBefore what the tube held when the cycles began
+	// (pressure, O2 and fuel fractions).
+	CycleSeconds float64 `json:"cycle_seconds,omitempty"`
+	StartPa      float64 `json:"start_pa,omitempty"`
+	OxygenBefore float64 `json:"oxygen_before,omitempty"`
+	FuelBefore   float64 `json:"fuel_before,omitempty"`
+	Exchanges    float64 `json:"exchanges,omitempty"` // flow-through tube-volume exchanges
+	Factor       float64 `json:"factor"`              // fraction left of what the tube held: exp(−N) or (P_low/P_high)^n, cycles only
+	OxygenAfter  float64 `json:"oxygen_after"`        // O2 fraction in the tube after it
+	FuelAfter    float64 `json:"fuel_after"`          // fuel fraction in the tube after it
 }
 
 // Report is the result of Analyze.

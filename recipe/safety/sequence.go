@@ -183,26 +183,28 @@ func (a *analysis) sequenceStep(st *sequenceState, i int) {
 }
 
 // cyclePurge runs the pump-and-backfill cycles of purge step sp on the
-// tube and records the purge. Each cycle pumps to P_low (ten times the
-// higher of the pump limit and the base pressure; the first from the
-// tube's pressure if lower) and backfills to P_high with the feed o2, fuel;
-// what is left of the old gas is the product of P_low/P_high.
+// tube and records the purge. Each cycle pumps to P_low (the step's
+// CycleLow: its pump_to, or just above the base pressure; a tube already
+// lower stays where it is) and backfills to P_high with the feed o2, fuel.
+// Of the gas before a cycle, P_low/P_high is left, so n cycles leave
+//
+//	C_n / C_0 = (P_low / P_high)^n
+//
+// of what the tube held when the step began (Crowl & Louvar, Chemical
+// Process Safety, vacuum purging). The record keeps the starting content
+// and the factor per cycle apart.
 func (a *analysis) cyclePurge(t *tube, sp *recipe.StepPlan, o2, fuel float64) {
 	s := sp.Step
-	high := s.Backfill.SI
-	low := math.Max(10*sp.PumpLimit, 10*a.p.Furnace.Vacuum.BasePressure.SI)
-	factor := 1.0
+	high, low := s.Backfill.SI, sp.CycleLow
+	pg := Purge{Step: sp.Index + 1, Label: sp.Label, Cycles: s.Cycles, LowPa: low, HighPa: high,
+		StartPa: t.P, OxygenBefore: t.O2, FuelBefore: t.Fuel, PerCycle: low / high, CycleSeconds: sp.CycleTime}
 	for c := 0; c < s.Cycles; c++ {
-		lo := low
-		if c == 0 {
-			lo = math.Min(t.P, low)
-		}
-		t.P = lo
+		t.P = math.Min(t.P, low)
 		t.fill(high, o2, fuel)
-		factor *= lo / high
 	}
-	a.r.Purges = append(a.r.Purges, Purge{Step: sp.Index + 1, Label: sp.Label, Cycles: s.Cycles, LowPa: low, HighPa: high,
-		Factor: factor, OxygenAfter: t.O2, FuelAfter: t.Fuel})
+	pg.Factor = CycleFraction(low, high, s.Cycles)
+	pg.OxygenAfter, pg.FuelAfter = t.O2, t.Fuel
+	a.r.Purges = append(a.r.Purges, pg)
 }
 
 // flowThrough fills the tube to the step's pressure P with its feed (o2,

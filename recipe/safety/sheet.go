@@ -162,9 +162,18 @@ func firstAlarm(rel Release) string {
 
 func purgeText(pg Purge) string {
 	if pg.Cycles > 0 {
-		return fmt.Sprintf("%d pump-and-backfill cycles %.3g to %.3g kPa, left (P_low/P_high)^n = %.2g", pg.Cycles, pg.LowPa/1000, pg.HighPa/1000, pg.Factor)
+		return fmt.Sprintf("tube holds %s O2 at %s before the cycles; %d pump-and-backfill cycles %s to %s (%s each), each leaving P_low/P_high = %.2g of the gas before it, (P_low/P_high)^%d = %.2g",
+			ppm(pg.OxygenBefore), pressureText(pg.StartPa), pg.Cycles, pressureText(pg.LowPa), pressureText(pg.HighPa), minutes(pg.CycleSeconds), pg.PerCycle, pg.Cycles, pg.Factor)
 	}
 	return fmt.Sprintf("%s tube volumes flow-through (at least 3.04 for 1 %% O2 from air)", count(pg.Exchanges))
+}
+
+// pressureText writes a pressure in kPa near atmosphere, else Pa.
+func pressureText(pa float64) string {
+	if pa >= 1000 {
+		return trim(fmt.Sprintf("%.3g kPa", pa/1000))
+	}
+	return trim(fmt.Sprintf("%.3g Pa", pa))
 }
 
 func ppm(x float64) string {

@@ -1,0 +1,114 @@
+package safety_test
+
+import (
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"github.com/foilrun/foilrun/recipe"
+	"github.com/foilrun/foilrun/recipe/safety"
+)
+
+// analyzeYAML parses a recipe written in the test, on the template furnace
+// and site (its furnace and site paths resolve beside the templates).
+func analyzeYAML(tb testing.TB, text string) (*recipe.Plan, *recipe.Site, *safety.Report) {
+	tb.Helper()
+	r, err := recipe.ParseRecipe("test.yaml", []byte(text))
+	if err != nil {
+		tb.Fatal(err)
+	}
+	r.File = filepath.Join(root, "templates", "test.yaml")
+	f, s, err := recipe.Resolve(r, "", "")
+	if err != nil {
+		tb.Fatal(err)
+	}
+	p := recipe.Derive(r, f)
+	rep, err := safety.Analyze(p, s, safety.Options{})
+	if err != nil {
+		tb.Fatal(err)
+	}
+	return p, s, rep
+}
+
+// cycledRecipe pumps down, leak-checks and runs three pump-and-backfill
+// cycles to pumpTo (no pump_to line when empty), then anneals in H2.
+func cycledRecipe(pumpTo string) string {
+	line := ""
+	if pumpTo != "" {
+		line = "\n    pump_to: " + pumpTo
+	}
+	return `name: cycles
+furnace: furnace.yaml
+site: site.yaml
+substrate: {material: copper foil, thickness: 25 um}
+steps:
+  - {kind: pump, until: 20 mTorr}
+  - {kind: leak-check, duration: 5 min, max_rise: 5 mTorr/min}
+  - kind: purge
+    flows: {Ar: 1 slm}
+    cycles: 3
+    backfill: 101 kPa` + line + `
+  - {kind: ramp, to: 1000 C, rate: 20 C/min, flows: {Ar: 500 sccm, H2: 25 sccm}, pressure: 101 kPa}
+  - {kind: cool, to: 50 C, rate: 5 C/min, flows: {Ar: 500 sccm}}
+  - {kind: purge, duration: 10 min, flows: {Ar: 1 slm}}
+  - {kind: vent, flows: {Ar: 500 sccm}}
+`
+}
+
+// TestCyclePurgeByHand: n cycles between P_low and P_high leave
+// (P_low/P_high)^n of the gas (Crowl & Louvar, Chemical Process Safety,
+// 2nd ed., vacuum purging). Hand values: 12.2 kPa → 101 kPa:
+// 12.2/101 = 0.120792, cubed 1.76244e-3; 10 Pa → 101 kPa: 9.90099e-5,
+// cubed 9.70590e-13; the default pumps to 1.05 × the 5 mTorr base
+// pressure = 0.699942 Pa: 6.93012e-6 per cycle, cubed 3.32828e-16. The
+// tube begins the cycles holding air (20.95 % O2, NASA Glenn air
+// composition) at the leak check's end pressure; the first cycle then
+// starts from there, so the O2 left is 0.2095·(P_start/P_high)·r².
+func TestCyclePurgeByHand(t *testing.T) {
+	cases := []struct {
+		name, pumpTo     string
+		perCycle, factor float64
+		wantLowPa        float64
+	}{
+		{"12.2 kPa", "12.2 kPa", 0.120792, 1.76244e-3, 12200},
+		{"10 Pa", "10 Pa", 9.90099e-5, 9.70590e-13, 10},
+		{"default near base", "", 6.93012e-6, 3.32828e-16, 0.699942},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			_, _, rep := analyzeYAML(t, cycledRecipe(c.pumpTo))
+			if len(rep.Purges) == 0 || rep.Purges[0].Cycles != 3 {
+				t.Fatalf("got purges %+v, want the cycled purge first", rep.Purges)
+			}
+			pg := rep.Purges[0]
+			near(t, "P_low", pg.LowPa, c.wantLowPa, 1e-5)
+			near(t, "P_low/P_high", pg.PerCycle, c.perCycle, 1e-5)
+			near(t, "(P_low/P_high)^3", pg.Factor, c.factor, 1e-5)
+			near(t, "O2 before the cycles", pg.OxygenBefore, 0.209476, 1e-4)
+			r := pg.LowPa / pg.HighPa
+			start := min(pg.StartPa, pg.LowPa)
+			near(t, "O2 after", pg.OxygenAfter, pg.OxygenBefore*start/pg.HighPa*r*r, 1e-6)
+			if pg.CycleSeconds <= 0 {
+				t.Errorf("cycle time %g s, want a positive time", pg.CycleSeconds)
+			}
+		})
+	}
+}
+
+// The checklist line names the starting content and the factor per cycle
+// apart, so the O2 left is not credited to the cycles alone.
+func TestCyclePurgeChecklist(t *testing.T) {
+	p, s, rep := analyzeYAML(t, cycledRecipe("12.2 kPa"))
+	sh := safety.NewSheet(p, s, rep)
+	var line string
+	for _, it := range sh.Before {
+		if strings.Contains(it, "pump-and-backfill") {
+			line = it
+		}
+	}
+	for _, want := range []string{"before the cycles", "12.2 kPa to 101 kPa", "each leaving P_low/P_high = 0.12", "(P_low/P_high)^3 = 0.0018"} {
+		if !strings.Contains(line, want) {
+			t.Errorf("checklist line %q lacks %q", line, want)
+		}
+	}
+}
