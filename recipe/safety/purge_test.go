@@ -112,3 +112,66 @@ func TestCyclePurgeChecklist(t *testing.T) {
 		}
 	}
 }
+
+// slugRecipe runs H2 at 20 sccm held at prevP, then an Ar purge at purgeP.
+func slugRecipe(prevP, purgeFlow, purgeP string) string {
+	return `name: slug
+furnace: furnace.yaml
+site: site.yaml
+substrate: {material: copper foil, thickness: 25 um}
+steps:
+  - {kind: pump, until: 20 mTorr}
+  - {kind: leak-check, duration: 5 min, max_rise: 5 mTorr/min}
+  - {kind: purge, duration: 10 min, flows: {Ar: 500 sccm}, pressure: pump}
+  - {kind: anneal, temperature: 25 C, duration: 10 min, flows: {H2: 20 sccm}, pressure: ` + prevP + `}
+  - {kind: purge, duration: 10 min, flows: {Ar: ` + purgeFlow + `}, pressure: ` + purgeP + `}
+  - {kind: vent, flows: {Ar: 500 sccm}, pressure: 1 atm}
+`
+}
+
+// TestPurgeSlugByHand: the fuel a purge pushes out is bounded by the
+// tube's inventory. Template tube V = π/4·(22 mm)²·1000 mm = 3.80133e-4 m³;
+// at T_room = 293.15 K, V/(R·T) = 1.559593e-7 mol/Pa; 1 scc = 4.461503e-5
+// mol and 1 sccm = 7.435839e-7 mol/s (SEMI 0 °C reference). Hand values:
+//
+//	50 Pa of H2, purge 500 sccm Ar at 1000 Pa: n = 7.79796e-6 mol =
+//	0.174783 scc; τ = 1000·1.559593e-7/3.71792e-4 = 0.419480 s; peak =
+//	n/τ = 1.85896e-5 mol/s = 25.0000 sccm (= 500·50/1000); dilution to
+//	25 % of the 4 % LFL (NFPA 497): 25/0.01 − 500 = 2000 sccm = 2.0 slm,
+//	within the furnace's 20 slm: no finding (the old rule asked 49.5 slm).
+//	101325 Pa of H2, purge 1 slm Ar at 101325 Pa: n = 0.0158026 mol =
+//	354.198 scc; τ = 21.2519 s; peak = 1000 sccm; dilution 99 slm, a
+//	warning. (Hand arithmetic, checked in python3; tolerance 1e-5.)
+func TestPurgeSlugByHand(t *testing.T) {
+	cases := []struct {
+		name                   string
+		prevP, flow, purgeP    string
+		scc, tau, peak, dilSLM float64
+		finding                bool
+	}{
+		{"pumped H2 then 1000 Pa purge", "50 Pa", "500 sccm", "1000 Pa", 0.174783, 0.419480, 25.0000, 2.0, false},
+		{"full tube of H2 at 1 atm", "101325 Pa", "1 slm", "101325 Pa", 354.198, 21.2519, 1000, 99, true},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			_, _, rep := analyzeYAML(t, slugRecipe(c.prevP, c.flow, c.purgeP))
+			sl := rep.Steps[4].Slug
+			if sl == nil {
+				t.Fatal("got no purge slug on step 5")
+			}
+			near(t, "tube fuel scc", sl.TubeFuelSCC, c.scc, 1e-5)
+			near(t, "time constant s", sl.TimeConstant, c.tau, 1e-5)
+			near(t, "peak sccm", sl.PeakSCCM, c.peak, 1e-5)
+			near(t, "dilution slm", sl.DilutionSLM, c.dilSLM, 1e-5)
+			got := false
+			for _, f := range rep.Findings {
+				if f.Rule == "exhaust.purge-slug" && f.Step == 5 {
+					got = true
+				}
+			}
+			if got != c.finding {
+				t.Errorf("purge-slug finding on step 5: got %v, want %v\n%s", got, c.finding, listing(rep.Findings))
+			}
+		})
+	}
+}

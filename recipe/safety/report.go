@@ -76,6 +76,16 @@ type StepSafety struct {
 	DilutionSLM  float64  `json:"dilution_needed_slm"`  // inert dilution to hold ExhaustLimit, slm
 	MaxTempC     float64  `json:"max_temperature_c"`
 	AboveAIT     []string `json:"above_autoignition,omitempty"` // fuels flowing above their AIT
+	Slug         *Slug    `json:"purge_slug,omitempty"`         // an inert step pushing out the fuel before it
+}
+
+// Slug is the fuel an inert step pushes out of the tube after a
+// flammable step: the tube's inventory and the peak it leaves at.
+type Slug struct {
+	TubeFuelSCC  float64 `json:"tube_fuel_scc"` // fuel in the tube when the step begins, scc
+	PeakSCCM     float64 `json:"peak_sccm"`     // highest fuel flow out, n_fuel/τ
+	TimeConstant float64 `json:"time_constant_s"`
+	DilutionSLM  float64 `json:"dilution_needed_slm"` // to hold the peak below the exhaust limit
 }
 
 // AlarmTime is when a release reaches one detector alarm point.
