@@ -246,22 +246,32 @@ func (c *checker) pressure(sp *StepPlan) {
 	}
 }
 
+// copper judges the copper lost by evaporation by the model that applies
+// (StepPlan.CopperModel): below VacuumBoundPressure the vacuum bound, above
+// CopperDiffusionPressure the diffusion-limited estimate; in between the
+// bound is only reported. A vacuum bound that does not apply but would
+// have been judged is shown beside the estimate as a note.
 func (c *checker) copper(sp *StepPlan) {
 	th := c.p.Recipe.Substrate.Thickness.SI
-	if th <= 0 || sp.CopperLoss < CopperLossWarn*th*0.1 {
+	if th <= 0 || sp.CopperLossVacuum < CopperLossWarn*th*0.1 {
 		return
 	}
-	share := sp.CopperLoss / th
-	um := sp.CopperLoss * 1e6
-	msg := fmt.Sprintf("copper can evaporate up to %.2f um per face (Hertz–Knudsen vacuum bound), %.0f %% of the %.0f um foil", um, share*100, th*1e6)
+	share, vshare := sp.CopperLoss/th, sp.CopperLossVacuum/th
+	msg := fmt.Sprintf("copper can evaporate up to %.2f um per face (Hertz–Knudsen vacuum bound), %.0f %% of the %.0f um foil", sp.CopperLossVacuum*1e6, vshare*100, th*1e6)
+	if sp.CopperModel == CopperDiffusion {
+		msg = fmt.Sprintf("copper loss about %.2g um per face at %s (%.2g %% of the %.0f um foil) by the %s, which applies above %s (vapour diffusing through a gas film %.0f mm thick); the vacuum bound %.2f um (%.0f %%) does not apply",
+			sp.CopperLoss*1e6, torrOf(sp.Pressure), share*100, th*1e6, CopperDiffusion, torrOf(CopperDiffusionPressure), c.f.CopperBoundaryLayer()*1e3, sp.CopperLossVacuum*1e6, vshare*100)
+	}
 	switch {
-	case sp.Pressure > VacuumBoundPressure:
-		// With gas above the foil, vapour must diffuse away and the real loss
-		// is far below the vacuum bound: report the bound, do not judge it.
-		if share >= CopperLossWarn && sp.Pressure < 1000 {
-			c.add(Note, sp, "copper.evaporation", sp.Step.Duration.Pos, "the gas above the foil slows evaporation well below this bound; weigh the foil before and after if it matters",
-				"%s at %s", msg, torrOf(sp.Pressure))
+	case sp.CopperModel == CopperVacuumBound && sp.Pressure > VacuumBoundPressure:
+		// Between the two regimes vapour already diffuses through some gas
+		// and the real loss is below the bound: report it, do not judge it.
+		if share >= CopperLossWarn {
+			c.add(Note, sp, "copper.evaporation", sp.Step.Duration.Pos, "the gas above the foil slows evaporation below this bound; weigh the foil before and after if it matters",
+				"%s at %s (between %s and %s neither model holds well)", msg, torrOf(sp.Pressure), torrOf(VacuumBoundPressure), torrOf(CopperDiffusionPressure))
 		}
+	case share < CopperLossWarn && vshare >= CopperLossWarn:
+		c.add(Note, sp, "copper.evaporation", sp.Step.Duration.Pos, "no action; weigh the foil before and after to check the estimate", "%s", msg)
 	case share >= CopperLossError:
 		c.add(Error, sp, "copper.evaporation", sp.Step.Duration.Pos, "shorten the step, lower the temperature, or raise the pressure with an inert gas", "%s", msg)
 	case share >= CopperLossWarn:

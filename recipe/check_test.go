@@ -62,3 +62,54 @@ func TestPumpLimitCarriedOver(t *testing.T) {
 		t.Errorf("residence %g s at the held pressure, want a positive time", sp.Residence)
 	}
 }
+
+// TestCopperLossModels: the vacuum (Hertz–Knudsen) bound applies to a
+// pumped step, the diffusion-limited film estimate above 1 Torr. Hand
+// values at 1040 °C for 25 µm foil in Ar on the template tube (δ = 11 mm;
+// see gas.TestCopperDiffusionByHand for the arithmetic): vacuum 8.2952
+// µm/h, so 4.14761 µm in 30 min and 8.2952 µm in 1 h (33 % of the foil: a
+// warning); diffusion at 1 atm 8.5596e-4 µm/h → 4.2798e-4 µm in 30 min,
+// at 5 Torr 0.130106 µm/h → 0.065053 µm. Tolerance 1e-4.
+func TestCopperLossModels(t *testing.T) {
+	cases := []struct {
+		name, pressure, flow, dur string
+		model                     CopperModel
+		vacuumUm, diffUm          float64
+		sev                       Severity
+	}{
+		{"1 atm", "1 atm", "500 sccm", "30 min", CopperDiffusion, 4.14761, 4.2798e-4, Note},
+		{"5 Torr", "5 Torr", "50 sccm", "30 min", CopperDiffusion, 4.14761, 0.065053, Note},
+		{"pumped", "pump", "", "60 min", CopperVacuumBound, 8.2952, 0, Warning},
+	}
+	f := loadTestFurnace(t)
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			st := Step{Kind: KindAnneal, Temperature: MustParse("1040 C", Temperature), Duration: MustParse(c.dur, Duration)}
+			if c.pressure == "pump" {
+				st.Pressure = PressureSetting{Pump: true}
+			} else {
+				st.Pressure = PressureSetting{Setpoint: MustParse(c.pressure, Pressure)}
+				st.Flows = Flows{{Gas: "Ar", Flow: MustParse(c.flow, Flow)}}
+			}
+			r := &Recipe{Name: "t", Substrate: Substrate{Thickness: MustParse("25 um", Length)}, StartTemperature: MustParse("1040 C", Temperature), Steps: []Step{st}}
+			p := Derive(r, f)
+			sp := p.Steps[0]
+			if sp.CopperModel != c.model {
+				t.Errorf("model %q, want %q", sp.CopperModel, c.model)
+			}
+			if got := sp.CopperLossVacuum * 1e6; math.Abs(got-c.vacuumUm)/c.vacuumUm > 1e-4 {
+				t.Errorf("vacuum bound %.6g µm, want %.6g", got, c.vacuumUm)
+			}
+			if got := sp.CopperLossDiffusion * 1e6; c.diffUm == 0 && got != 0 || c.diffUm > 0 && math.Abs(got-c.diffUm)/c.diffUm > 1e-4 {
+				t.Errorf("diffusion estimate %.6g µm, want %.6g", got, c.diffUm)
+			}
+			fs := findRule(Check(p), "copper.evaporation", 1)
+			if len(fs) != 1 || fs[0].Severity != c.sev {
+				t.Fatalf("got copper findings %+v, want one %s", fs, c.sev)
+			}
+			if c.model == CopperDiffusion && (!strings.Contains(fs[0].Message, string(CopperDiffusion)+", which applies") || !strings.Contains(fs[0].Message, "vacuum bound")) {
+				t.Errorf("message %q does not show both figures and which applies", fs[0].Message)
+			}
+		})
+	}
+}

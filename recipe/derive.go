@@ -56,7 +56,14 @@ type StepPlan struct {
 	Reynolds        float64 // Re = ρ·v·d/η
 	Knudsen         float64 // Kn = λ/d
 	Supersaturation float64 // pCH4/pCH4,eq over graphite; NaN without CH4
-	CopperLoss      float64 // m per free face, Hertz–Knudsen vacuum upper bound
+	// CopperLoss is the copper lost per free face, m, by the model that
+	// applies (CopperModel): the Hertz–Knudsen vacuum bound
+	// (CopperLossVacuum) up to CopperDiffusionPressure, the diffusion-limited
+	// estimate (CopperLossDiffusion, 0 below that pressure) above it.
+	CopperLoss          float64
+	CopperLossVacuum    float64
+	CopperLossDiffusion float64
+	CopperModel         CopperModel
 
 	Flammable    bool // a flammable gas flows
 	CarbonSource bool // a carbon source flows
@@ -275,18 +282,59 @@ func gasPhase(sp *StepPlan, f *Furnace) {
 		sp.Reynolds = rho * sp.Velocity * d / sp.Viscosity
 		sp.Knudsen = gas.MeanFreePath(sp.Viscosity, T, P, mm) / d
 	}
-	sp.CopperLoss = copperLoss(sp.T0, sp.T1, sp.Duration)
+	copper(sp, f, xs)
 }
 
-// copperLoss integrates the Hertz–Knudsen evaporation of copper into vacuum
+// CopperModel names the copper-loss model that applies to a step.
+type CopperModel string
+
+// The copper-loss models.
+const (
+	CopperVacuumBound CopperModel = "vacuum bound (Hertz–Knudsen)"
+	CopperDiffusion   CopperModel = "diffusion-limited estimate (film model)"
+)
+
+// CopperDiffusionPressure: above this total pressure a step's copper loss
+// is the diffusion-limited estimate. At 1 Torr the mean free path in Ar
+// near 1000 °C, k_B·T/(√2·π·σ²·p), is about 0.3 mm, a fortieth of the
+// 11 mm layer of the template tube: continuum diffusion holds. Below it the
+// Hertz–Knudsen vacuum bound stands.
+const CopperDiffusionPressure = torr // Pa
+
+// copper fills the copper loss of a step by evaporation: the vacuum bound
+// always, and above CopperDiffusionPressure the estimate limited by
+// diffusion through a stagnant gas layer as thick as the tube's inner
+// radius (gas.CopperDiffusionRecessionRate), never above the bound. xs are
+// the feed's mole fractions in the order of sp.Flows.
+func copper(sp *StepPlan, f *Furnace, xs []float64) {
+	sp.CopperLossVacuum = copperLoss(sp.T0, sp.T1, sp.Duration, gas.CopperRecessionRate)
+	sp.CopperLoss, sp.CopperModel = sp.CopperLossVacuum, CopperVacuumBound
+	if sp.Pressure <= CopperDiffusionPressure {
+		return
+	}
+	gs := make([]gas.Gas, len(sp.Flows))
+	for i := range sp.Flows {
+		gs[i] = sp.Flows[i].Gas
+	}
+	P, delta := sp.Pressure, f.CopperBoundaryLayer()
+	sp.CopperLossDiffusion = copperLoss(sp.T0, sp.T1, sp.Duration, func(T float64) float64 {
+		return gas.CopperDiffusionRecessionRate(gs, xs, T, P, delta)
+	})
+	sp.CopperLoss, sp.CopperModel = math.Min(sp.CopperLossDiffusion, sp.CopperLossVacuum), CopperDiffusion
+}
+
+// CopperBoundaryLayer returns the thickness δ (m) of the gas layer copper
+// vapour diffuses through in the film model: the tube's inner radius (the
+// foil lies near the axis, the vapour condenses on the cooler wall).
+func (f *Furnace) CopperBoundaryLayer() float64 { return f.Tube.InnerDiameter.SI / 2 }
+
+// copperLoss integrates a copper recession rate (m/s at temperature T)
 // over the step (Simpson's rule over the linear temperature ramp) and
-// returns the thickness lost per free face in m. It is an upper bound: any
-// gas above the foil slows evaporation by diffusion.
-func copperLoss(T0, T1, dur float64) float64 {
+// returns the thickness lost per free face in m.
+func copperLoss(T0, T1, dur float64, rate func(T float64) float64) float64 {
 	if dur <= 0 {
 		return 0
 	}
-	rate := gas.CopperRecessionRate // m/s
 	if T0 == T1 {
 		return rate(T0) * dur
 	}
