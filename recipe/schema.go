@@ -142,6 +142,7 @@ type Site struct {
 	Name      string     `yaml:"name" req:"true"`
 	Room      Room       `yaml:"room" req:"true"`
 	Detectors []Detector `yaml:"detectors"`
+	Oxygen    *Oxygen    `yaml:"oxygen"` // the oxygen-deficiency level that applies; default 19.5 % (US OSHA)
 	Exhaust   string     `yaml:"exhaust_to" req:"true"`
 	GasCode   string     `yaml:"gas_code" req:"true"` // the site's own gas-safety rules, by name
 	Contacts  []string   `yaml:"contacts"`
@@ -156,6 +157,14 @@ type Room struct {
 	AirChanges Quantity `yaml:"air_changes" dim:"rate per time" req:"true"`
 	MaxRelease Quantity `yaml:"max_release" dim:"flow"` // bound on an unrestricted release (flow restrictor), optional
 	Pos        Pos      `yaml:"-"`
+}
+
+// Oxygen is the oxygen-deficiency level of the site's own rules and where
+// it comes from ("19.5 %", "the site's confined-space rule, rev. 3").
+type Oxygen struct {
+	DeficientBelow Quantity `yaml:"deficient_below" dim:"fraction" req:"true"`
+	Source         string   `yaml:"source" req:"true"`
+	Pos            Pos      `yaml:"-"`
 }
 
 // Detector is a fixed gas detector and its alarm points. For flammable

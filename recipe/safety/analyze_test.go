@@ -191,7 +191,7 @@ func TestAnalyzeNeedsSite(t *testing.T) {
 // Bad site files are refused by the loader with a clear message, pinned in
 // testdata/site/<case>/error.txt beside the file.
 func TestBadSites(t *testing.T) {
-	for _, c := range []string{"no-ventilation", "zero-volume", "alarm-above-lfl"} {
+	for _, c := range []string{"no-ventilation", "zero-volume", "alarm-above-lfl", "oxygen-above-air"} {
 		t.Run(c, func(t *testing.T) {
 			dir := filepath.Join(root, "testdata", "site", c)
 			data, err := os.ReadFile(filepath.Join(dir, "site.yaml"))

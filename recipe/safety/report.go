@@ -14,9 +14,13 @@ const (
 	// RoomLimit is the share of LFL a room's steady-state concentration
 	// must stay below (25 %, common practice).
 	RoomLimit = 0.25
-	// OxygenLimit is the oxygen-deficiency threshold, 19.5 % O2 by volume
-	// (US OSHA 29 CFR 1910.134).
+	// OxygenLimit is the default oxygen-deficiency threshold, 19.5 % O2 by
+	// volume (US OSHA 29 CFR 1910.134), used when neither Options nor the
+	// site file (oxygen.deficient_below) sets one.
 	OxygenLimit = 0.195
+	// OxygenLimitSource says where the default comes from and how to
+	// replace it.
+	OxygenLimitSource = "default: US OSHA 29 CFR 1910.134; set oxygen: {deficient_below, source} in the site file for the rule where the furnace stands"
 	// PurgeOxygenTarget is the most oxygen the tube may hold when the first
 	// flammable gas enters: 1 % O2 (ln 20.95 ≈ 3.04 volume changes from
 	// air, Crowl & Louvar).
@@ -38,7 +42,8 @@ type Options struct {
 	Compilation    gas.Compilation // flammable limits and AIT; default NFPA 497 (2008)
 	ExhaustLimit   float64         // share of LFL; default ExhaustLimit
 	RoomLimit      float64         // share of LFL; default RoomLimit
-	OxygenLimit    float64         // O2 fraction; default OxygenLimit
+	OxygenLimit    float64         // O2 fraction; default the site's oxygen.deficient_below, else OxygenLimit
+	OxygenSource   string          // where OxygenLimit comes from; set with it
 	PurgeTarget    float64         // O2 fraction; default PurgeOxygenTarget
 	VentTarget     float64         // share of LFL; default VentFuelTarget
 	MixingFactor   float64         // room mixing factor m in (0, 1]; default 1 (well mixed)
@@ -46,7 +51,21 @@ type Options struct {
 	RoomPressurePa float64         // room pressure, Pa; default 101325
 }
 
+// withSite takes the oxygen-deficiency level from the site file when
+// Options does not set one.
+func (o Options) withSite(s *recipe.Site) Options {
+	if o.OxygenLimit <= 0 && s.Oxygen != nil && s.Oxygen.DeficientBelow.SI > 0 {
+		o.OxygenLimit, o.OxygenSource = s.Oxygen.DeficientBelow.SI, "site file: "+s.Oxygen.Source
+	}
+	return o
+}
+
 func (o Options) withDefaults() Options {
+	if o.OxygenLimit <= 0 {
+		o.OxygenSource = OxygenLimitSource
+	} else if o.OxygenSource == "" {
+		o.OxygenSource = "set by the caller"
+	}
 	def := func(v *float64, d float64) {
 		if *v <= 0 {
 			*v = d
@@ -158,6 +177,10 @@ type Report struct {
 	VentStep   int     `json:"vent_step"`
 	FuelAtOpen float64 `json:"fuel_at_open_share_of_lfl"`
 	VentTempC  float64 `json:"vent_temperature_c"`
+	// OxygenLimit is the oxygen-deficiency level judged against and
+	// OxygenSource where it comes from (the site file, or the default).
+	OxygenLimit  float64 `json:"oxygen_deficient_below"`
+	OxygenSource string  `json:"oxygen_source"`
 	// OpenBelowC is the temperature to cool to before opening.
 	OpenBelowC float64 `json:"open_below_c"`
 	// Limits used, for the record.

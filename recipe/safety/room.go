@@ -151,8 +151,9 @@ func (a *analysis) flammableRelease(rel Release, lfl float64, det *recipe.Detect
 }
 
 func (a *analysis) inertRelease(rel Release) {
-	msg := fmt.Sprintf("%s at %.3g slm (%s) into %.0f m3 at %.3g air changes/h: well-mixed steady state %s %s leaves %s O2 (deficient below %s, 29 CFR 1910.134)",
-		rel.Gas, rel.FlowSLM, rel.Source, a.s.Room.Volume.SI, a.s.Room.AirChanges.SI*3600, pct(rel.Steady), rel.Gas, pct(rel.Oxygen), pct(a.o.OxygenLimit))
+	o2, limit := pctApart(rel.Oxygen, a.o.OxygenLimit)
+	msg := fmt.Sprintf("%s at %.3g slm (%s) into %.0f m3 at %.3g air changes/h: well-mixed steady state %s %s leaves %s O2 (deficient below %s, %s)",
+		rel.Gas, rel.FlowSLM, rel.Source, a.s.Room.Volume.SI, a.s.Room.AirChanges.SI*3600, pct(rel.Steady), rel.Gas, o2, limit, a.o.OxygenSource)
 	if len(rel.Alarms) > 0 {
 		msg += "; O2 alarms: " + alarmText(rel, " O2")
 	}

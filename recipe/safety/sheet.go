@@ -133,8 +133,12 @@ func (sh *Sheet) numbers(s *recipe.Site, r *Report) {
 		if rel.ShareOfLFL > 0 {
 			item(&sh.Numbers, "%s leak at %.3g slm (%s): room steady state %.3g %% of LFL%s", rel.Gas, rel.FlowSLM, rel.Source, rel.ShareOfLFL*100, firstAlarm(rel))
 		} else {
-			item(&sh.Numbers, "%s leak at %.3g slm (%s): room O2 falls to %s", rel.Gas, rel.FlowSLM, rel.Source, pct(rel.Oxygen))
+			o2, _ := pctApart(rel.Oxygen, r.OxygenLimit)
+			item(&sh.Numbers, "%s leak at %.3g slm (%s): room O2 falls to %s", rel.Gas, rel.FlowSLM, rel.Source, o2)
 		}
+	}
+	if len(r.Releases) > 0 {
+		item(&sh.Numbers, "oxygen-deficient below %s (%s)", pct(r.OxygenLimit), r.OxygenSource)
 	}
 	worst := 0.0
 	for _, st := range r.Steps {
