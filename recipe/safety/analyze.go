@@ -59,7 +59,7 @@ func Analyze(p *recipe.Plan, s *recipe.Site, o Options) (*Report, error) {
 		Compilation: o.Compilation.String(), TubeLitres: p.Furnace.TubeVolume() * 1000,
 		VentilationM3H: s.Room.AirChanges.SI * s.Room.Volume.SI * 3600,
 		OpenBelowC:     recipe.Celsius(recipe.VentTemperature), Options: o, Disclaimer: Disclaimer,
-		OxygenLimit:    o.OxygenLimit, OxygenSource: o.OxygenSource,
+		OxygenLimit: o.OxygenLimit, OxygenSource: o.OxygenSource,
 	}
 	for i := range p.Steps {
 		a.mixture(&p.Steps[i])
