@@ -295,6 +295,32 @@ func (c *checker) growth(sp *StepPlan) {
 	}
 }
 
+// evacuationPurge judges the first flammable step sp of a recipe with no
+// inert purge before it: the site may count the pump-downs before it as
+// the purge (Site.PurgeByEvacuation); else it is an error.
+func (c *checker) evacuationPurge(sp *StepPlan) {
+	ev := c.p.EvacuationsBefore(sp.Index)
+	ok, need := c.p.Site.EvacuationPurges(ev)
+	if ok {
+		c.add(Note, sp, "sequence.evacuation-purge", sp.Step.Pos, "no action; the site's gas-safety rules decide whether evacuation is enough",
+			"the site counts evacuation as the purge: %d evacuation%s to %s leave p_low/p_high = %.2g of the air (the site asks for %d)",
+			ev.Cycles, plural(ev.Cycles), torrOf(ev.Low), ev.Factor, need)
+		return
+	}
+	msg := "flammable gas flows before the tube was purged with inert gas"
+	if need > 0 {
+		msg += fmt.Sprintf(" (the site counts evacuation as a purge after %d evacuations; the recipe has %d, leaving %.2g of the air)", need, ev.Cycles, ev.Factor)
+	}
+	c.add(Error, sp, "sequence.inert-purge", sp.Step.Pos, "add an inert purge (or pump-and-backfill cycles) after the leak check and before any flammable gas", "%s", msg)
+}
+
+func plural(n int) string {
+	if n == 1 {
+		return ""
+	}
+	return "s"
+}
+
 func (c *checker) sequence() {
 	leak, purged := false, false
 	flammableInTube := false // flammable gas admitted and not yet purged out
@@ -325,8 +351,7 @@ func (c *checker) sequence() {
 				leak = true // report once
 			}
 			if !purged {
-				c.add(Error, sp, "sequence.inert-purge", s.Pos, "add an inert purge (or pump-and-backfill cycles) after the leak check and before any flammable gas",
-					"flammable gas flows before the tube was purged with inert gas")
+				c.evacuationPurge(sp)
 				purged = true
 			}
 			flammableInTube = true

@@ -113,3 +113,41 @@ func TestCopperLossModels(t *testing.T) {
 		})
 	}
 }
+
+// TestEvacuationsBefore: a pump-down counts as a cycle when gas filled the
+// tube since the last one; the factors multiply. Hand values: 1 atm →
+// 20 mTorr is 20e-3/760 = 2.63158e-5; pumping on after a leak check to
+// 10 mTorr deepens the same cycle (total 10e-3/760 = 1.31579e-5); an Ar
+// fill to 1 atm and a second pump-down to 20 mTorr make two cycles,
+// (20e-3/760)² = 6.92521e-10.
+func TestEvacuationsBefore(t *testing.T) {
+	f := loadTestFurnace(t)
+	pump := func(until string) Step { return Step{Kind: KindPump, Until: MustParse(until, Pressure)} }
+	leak := Step{Kind: KindLeakCheck, Duration: MustParse("1 min", Duration), MaxRise: MustParse("5 mTorr/min", PressureRate)}
+	fill := Step{Kind: KindPurge, Duration: MustParse("1 min", Duration), Flows: Flows{{Gas: "Ar", Flow: MustParse("1 slm", Flow)}},
+		Pressure: PressureSetting{Setpoint: MustParse("1 atm", Pressure)}}
+	cases := []struct {
+		name   string
+		steps  []Step
+		cycles int
+		factor float64
+	}{
+		{"one pump-down", []Step{pump("20 mTorr"), leak}, 1, 2.63158e-5},
+		{"pumped on after the leak check", []Step{pump("20 mTorr"), leak, pump("10 mTorr")}, 1, 1.31579e-5},
+		{"two cycles", []Step{pump("20 mTorr"), fill, pump("20 mTorr")}, 2, 6.92521e-10},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			r := &Recipe{Name: "t", Substrate: Substrate{Thickness: MustParse("25 um", Length)}, Steps: c.steps}
+			p := Derive(r, f)
+			ev := p.EvacuationsBefore(len(c.steps))
+			if ev.Cycles != c.cycles || math.Abs(ev.Factor-c.factor)/c.factor > 1e-5 {
+				t.Errorf("got %d cycles, factor %.6g; want %d, %.6g", ev.Cycles, ev.Factor, c.cycles, c.factor)
+			}
+		})
+	}
+	site := &Site{PurgeByEvacuation: &EvacuationPolicy{Allowed: true}}
+	if ok, need := site.EvacuationPurges(Evacuations{Cycles: 1}); ok || need != DefaultEvacuationCycles {
+		t.Errorf("default policy with 1 cycle: ok %v need %d, want false and %d", ok, need, DefaultEvacuationCycles)
+	}
+}

@@ -80,6 +80,9 @@ func (s StepPlan) MaxTemperature() float64 { return math.Max(s.T0, s.T1) }
 type Plan struct {
 	Recipe  *Recipe
 	Furnace *Furnace
+	// Site is the site the plan runs in, or nil; Derive leaves it nil and
+	// the caller that has one sets it (Check reads its purge policy).
+	Site *Site
 	Steps   []StepPlan
 	Total   float64 // s
 }

@@ -143,6 +143,9 @@ type Site struct {
 	Room      Room       `yaml:"room" req:"true"`
 	Detectors []Detector `yaml:"detectors"`
 	Oxygen    *Oxygen    `yaml:"oxygen"` // the oxygen-deficiency level that applies; default 19.5 % (US OSHA)
+	// PurgeByEvacuation is the site's policy on counting pump-downs as the
+	// purge before flammable gas; nil: it does not.
+	PurgeByEvacuation *EvacuationPolicy `yaml:"purge_by_evacuation"`
 	Exhaust   string     `yaml:"exhaust_to" req:"true"`
 	GasCode   string     `yaml:"gas_code" req:"true"` // the site's own gas-safety rules, by name
 	Contacts  []string   `yaml:"contacts"`
@@ -165,6 +168,15 @@ type Oxygen struct {
 	DeficientBelow Quantity `yaml:"deficient_below" dim:"fraction" req:"true"`
 	Source         string   `yaml:"source" req:"true"`
 	Pos            Pos      `yaml:"-"`
+}
+
+// EvacuationPolicy says whether evacuating the tube counts as the inert
+// purge before flammable gas, and after how many evacuations (default
+// DefaultEvacuationCycles).
+type EvacuationPolicy struct {
+	Allowed   bool `yaml:"allowed" req:"true"`
+	MinCycles int  `yaml:"min_cycles"`
+	Pos       Pos  `yaml:"-"`
 }
 
 // Detector is a fixed gas detector and its alarm points. For flammable

@@ -227,6 +227,9 @@ func validateSite(s *Site) []Problem {
 		ps.at(s.Room.AirChanges.Pos, "air_changes", fmt.Sprintf("air_changes %q must be greater than zero", s.Room.AirChanges.Text), "give the measured ventilation rate, e.g. \"6 /h\"; a room without ventilation needs a gas-safety review before any flammable gas is used")
 	}
 	ps.positive(s.Room.MaxRelease, "max_release")
+	if e := s.PurgeByEvacuation; e != nil && e.MinCycles < 0 {
+		ps.at(e.Pos, "min_cycles", fmt.Sprintf("purge_by_evacuation min_cycles %d must not be negative", e.MinCycles), "give the number of pump-downs your site asks for, e.g. 2")
+	}
 	if o := s.Oxygen; o != nil && !o.DeficientBelow.IsZero() && (o.DeficientBelow.SI <= 0 || o.DeficientBelow.SI >= gas.OxygenInAir) {
 		ps.at(o.DeficientBelow.Pos, "deficient_below", fmt.Sprintf("oxygen deficient_below %q must be above 0 %% and below the 20.95 %% of air", o.DeficientBelow.Text), "give the level your site's rules name, e.g. \"19.5 %\"")
 	}

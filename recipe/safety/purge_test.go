@@ -175,3 +175,77 @@ func TestPurgeSlugByHand(t *testing.T) {
 		})
 	}
 }
+
+// evacuatedRecipe pumps to 20 mTorr, leak-checks and admits H2 at 1 atm
+// with no inert purge.
+const evacuatedRecipe = `name: evacuated
+furnace: furnace.yaml
+site: site.yaml
+substrate: {material: copper foil, thickness: 25 um}
+steps:
+  - {kind: pump, until: 20 mTorr}
+  - {kind: leak-check, duration: 5 min, max_rise: 5 mTorr/min}
+  - {kind: ramp, to: 1000 C, rate: 20 C/min, flows: {Ar: 500 sccm, H2: 25 sccm}, pressure: 1 atm}
+  - {kind: cool, to: 50 C, rate: 5 C/min, flows: {Ar: 500 sccm}}
+  - {kind: purge, duration: 10 min, flows: {Ar: 1 slm}}
+  - {kind: vent, flows: {Ar: 500 sccm}}
+`
+
+// TestPurgeByEvacuation: with the site's purge_by_evacuation the pump-down
+// counts as the purge, shown with its factor p_low/p_high = 20 mTorr /
+// 760 Torr = 2.63158e-5 (hand calculation; Crowl & Louvar, vacuum
+// purging); without it, or with fewer evacuations than min_cycles, the
+// first fuel is a stop as before.
+func TestPurgeByEvacuation(t *testing.T) {
+	cases := []struct {
+		name   string
+		policy *recipe.EvacuationPolicy
+		purged bool
+	}{
+		{"no policy", nil, false},
+		{"allowed, 1 cycle", &recipe.EvacuationPolicy{Allowed: true, MinCycles: 1}, true},
+		{"allowed, default 2 cycles", &recipe.EvacuationPolicy{Allowed: true}, false},
+		{"not allowed", &recipe.EvacuationPolicy{Allowed: false, MinCycles: 1}, false},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			r, err := recipe.ParseRecipe("test.yaml", []byte(evacuatedRecipe))
+			if err != nil {
+				t.Fatal(err)
+			}
+			r.File = filepath.Join(root, "templates", "test.yaml")
+			f, s, err := recipe.Resolve(r, "", "")
+			if err != nil {
+				t.Fatal(err)
+			}
+			s.PurgeByEvacuation = c.policy
+			p := recipe.Derive(r, f)
+			p.Site = s
+			rep, err := safety.Analyze(p, s, safety.Options{})
+			if err != nil {
+				t.Fatal(err)
+			}
+			stop, note := false, false
+			for _, fd := range rep.Findings {
+				stop = stop || fd.Rule == "sequence.inert-purge" && fd.Severity == safety.Stop
+				note = note || fd.Rule == "sequence.evacuation-purge"
+			}
+			checkErr := false
+			for _, fd := range recipe.Check(p) {
+				checkErr = checkErr || fd.Rule == "sequence.inert-purge" && fd.Severity == recipe.Error
+			}
+			if stop == c.purged || note != c.purged || checkErr == c.purged {
+				t.Fatalf("safety stop %v, note %v, check error %v; want purged = %v\n%s", stop, note, checkErr, c.purged, listing(rep.Findings))
+			}
+			if !c.purged {
+				return
+			}
+			pg := rep.Purges[0]
+			if pg.Evacuations != 1 || pg.Step != 1 {
+				t.Errorf("purge record %+v, want 1 evacuation at step 1", pg)
+			}
+			near(t, "evacuation factor", pg.Factor, 2.63158e-5, 1e-5)
+			near(t, "O2 at first fuel", rep.OxygenAtFuel, 0.209476*2.63158e-5, 1e-5)
+		})
+	}
+}

@@ -127,12 +127,13 @@ type Release struct {
 
 // Purge records one purge of the tube and what it leaves behind.
 type Purge struct {
-	Step     int     `json:"step"`
-	Label    string  `json:"label"`
-	Cycles   int     `json:"cycles,omitempty"`    // pump-and-backfill cycles, 0 for flow-through
-	LowPa    float64 `json:"low_pa,omitempty"`    // cycle low pressure (pump_to)
-	HighPa   float64 `json:"high_pa,omitempty"`   // backfill pressure
-	PerCycle float64 `json:"per_cycle,omitempty"` // P_low/P_high: the share one cycle leaves
+	Step        int     `json:"step"`
+	Label       string  `json:"label"`
+	Cycles      int     `json:"cycles,omitempty"`      // pump-and-backfill cycles, 0 for flow-through
+	Evacuations int     `json:"evacuations,omitempty"` // pump-downs the site counts as the purge (purge_by_evacuation)
+	LowPa       float64 `json:"low_pa,omitempty"`      // cycle low pressure (pump_to)
+	HighPa      float64 `json:"high_pa,omitempty"`     // backfill pressure
+	PerCycle    float64 `json:"per_cycle,omitempty"`   // P_low/P_high: the share one cycle leaves
 	// CycleSeconds is the time of one pump-and-backfill cycle; StartPa,
 	// OxygenBefore and FuelBefore what the tube held when the cycles began
 	// (pressure, O2 and fuel fractions).

@@ -255,6 +255,9 @@ func (a *analysis) firstFuel(sp *recipe.StepPlan, sev Severity, leak, purged boo
 			"flammable gas enters before any leak check")
 	}
 	if !purged {
+		purged = a.evacuationPurge(sp)
+	}
+	if !purged {
 		a.add(sev, sp, "sequence.inert-purge", fmt.Sprintf("add an inert purge (flow-through of at least %.2f tube volumes, or pump-and-backfill cycles) before any flammable gas", SweepExchanges(airOxygen, a.o.PurgeTarget)),
 			"flammable gas enters before any inert purge").num("O2 in tube", o2*100, "%")
 		return
@@ -264,6 +267,25 @@ func (a *analysis) firstFuel(sp *recipe.StepPlan, sev Severity, leak, purged boo
 			"the tube still holds %s O2 when flammable gas enters, above the %s target", pct(o2), pct(a.o.PurgeTarget)).
 			num("O2 in tube", o2*100, "%").num("target", a.o.PurgeTarget*100, "%")
 	}
+}
+
+// evacuationPurge reports whether the site counts the pump-downs before
+// the first flammable step sp as its purge (Site.PurgeByEvacuation), and
+// when it does records them as a purge with their dilution factor
+// p_low/p_high and notes it.
+func (a *analysis) evacuationPurge(sp *recipe.StepPlan) bool {
+	ev := a.p.EvacuationsBefore(sp.Index)
+	ok, need := a.s.EvacuationPurges(ev)
+	if !ok || ev.Last < 0 {
+		return false
+	}
+	last := &a.p.Steps[ev.Last]
+	a.r.Purges = append(a.r.Purges, Purge{Step: last.Index + 1, Label: last.Label, Evacuations: ev.Cycles, LowPa: ev.Low,
+		Factor: ev.Factor, OxygenAfter: a.r.OxygenAtFuel})
+	a.add(Note, sp, "sequence.evacuation-purge", "no action; the site's gas-safety rules decide whether evacuation is enough",
+		"the site counts evacuation as the purge (purge_by_evacuation, at least %d): %d evacuation%s to %s leave p_low/p_high = %.2g of the air",
+		need, ev.Cycles, plural(ev.Cycles), pressureText(ev.Low), ev.Factor).num("dilution factor", ev.Factor, "")
+	return true
 }
 
 // vent judges the tube when it is opened.

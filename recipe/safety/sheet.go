@@ -165,6 +165,9 @@ func firstAlarm(rel Release) string {
 }
 
 func purgeText(pg Purge) string {
+	if pg.Evacuations > 0 {
+		return fmt.Sprintf("%d evacuation%s to %s, which the site counts as the purge, leaving p_low/p_high = %.2g of the air", pg.Evacuations, plural(pg.Evacuations), pressureText(pg.LowPa), pg.Factor)
+	}
 	if pg.Cycles > 0 {
 		return fmt.Sprintf("tube holds %s O2 at %s before the cycles; %d pump-and-backfill cycles %s to %s (%s each), each leaving P_low/P_high = %.2g of the gas before it, (P_low/P_high)^%d = %.2g",
 			ppm(pg.OxygenBefore), pressureText(pg.StartPa), pg.Cycles, pressureText(pg.LowPa), pressureText(pg.HighPa), minutes(pg.CycleSeconds), pg.PerCycle, pg.Cycles, pg.Factor)
