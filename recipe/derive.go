@@ -82,9 +82,9 @@ type Plan struct {
 	Furnace *Furnace
 	// Site is the site the plan runs in, or nil; Derive leaves it nil and
 	// the caller that has one sets it (Check reads its purge policy).
-	Site *Site
-	Steps   []StepPlan
-	Total   float64 // s
+	Site  *Site
+	Steps []StepPlan
+	Total float64 // s
 }
 
 // Derive lays the recipe out on the furnace: start times, durations,

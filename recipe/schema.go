@@ -146,12 +146,12 @@ type Site struct {
 	// PurgeByEvacuation is the site's policy on counting pump-downs as the
 	// purge before flammable gas; nil: it does not.
 	PurgeByEvacuation *EvacuationPolicy `yaml:"purge_by_evacuation"`
-	Exhaust   string     `yaml:"exhaust_to" req:"true"`
-	GasCode   string     `yaml:"gas_code" req:"true"` // the site's own gas-safety rules, by name
-	Contacts  []string   `yaml:"contacts"`
-	Notes     string     `yaml:"notes"`
-	Pos       Pos        `yaml:"-"`
-	File      string     `yaml:"-"`
+	Exhaust           string            `yaml:"exhaust_to" req:"true"`
+	GasCode           string            `yaml:"gas_code" req:"true"` // the site's own gas-safety rules, by name
+	Contacts          []string          `yaml:"contacts"`
+	Notes             string            `yaml:"notes"`
+	Pos               Pos               `yaml:"-"`
+	File              string            `yaml:"-"`
 }
 
 // Room is the laboratory room the furnace stands in.
