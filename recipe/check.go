@@ -111,6 +111,9 @@ func (c *checker) temperature(sp *StepPlan) {
 			c.add(Error, sp, "ramp.heater-max-down", sp.Step.Rate.Pos, fmt.Sprintf("use at most %.1f C/min, or let it cool naturally", h.MaxRampDown.SI*60),
 				"cooling rate %.1f C/min is above the furnace's maximum ramp-down %.1f C/min", rate*60, h.MaxRampDown.SI*60)
 		}
+		if !up {
+			c.naturalCooling(sp)
+		}
 		if sp.Step.Kind == KindRamp && !up && sp.T1 != sp.T0 {
 			c.add(Note, sp, "ramp.direction", sp.Step.To.Pos, "use a cool step for cooling, so the log reads clearly", "ramp step goes down from %s to %s", c2(sp.T0), c2(sp.T1))
 		}
@@ -125,6 +128,34 @@ func (c *checker) temperature(sp *StepPlan) {
 				"hold at %s but the furnace is at %s after the step before", c2(sp.T0), c2(prev))
 		}
 	}
+}
+
+// naturalCooling warns when a step's programmed cooling rate is beyond
+// what the furnace does by itself over part of the step; the plan has
+// already followed the slower of the two (Furnace.CoolTime, CoolReach).
+func (c *checker) naturalCooling(sp *StepPlan) {
+	s, f := sp.Step, c.f
+	target := s.To.SI
+	Tc := f.NaturalBelow(s.Rate.SI)
+	if f.Cooling == nil || target >= Tc {
+		return
+	}
+	how := fmt.Sprintf("natural time constant %s, ambient %s", f.Cooling.TimeConstant.String(), c2(f.Cooling.ambient()))
+	if f.Cooling.TimeConstant.IsZero() {
+		how = "the furnace's table of natural cooling rates"
+	}
+	var then string
+	switch {
+	case !s.Duration.IsZero() && sp.T1 > target+0.05:
+		then = fmt.Sprintf("in the step's %s it reaches only %s, not %s", s.Duration.String(), c2(sp.T1), c2(target))
+	case sp.T1 > target:
+		then = fmt.Sprintf("it never reaches %s; the plan ends the step at %s after %.1f min", c2(target), c2(sp.T1), sp.Duration/60)
+	default:
+		then = fmt.Sprintf("the step takes %.1f min, not the %.1f min the programmed rate gives", sp.Duration/60, sp.ProgrammedDuration/60)
+	}
+	c.add(Warning, sp, "ramp.natural-cooling", s.Rate.Pos, "program a rate the furnace can follow, or allow the longer time (and check the temperature before venting)",
+		"programmed %.1f C/min is faster than the furnace cools by itself below %s (%s): the plan follows natural cooling there and %s",
+		s.Rate.SI*60, c2(math.Min(Tc, sp.T0)), how, then)
 }
 
 // LineFor returns the furnace's gas line for a gas symbol, or nil.

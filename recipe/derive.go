@@ -29,6 +29,9 @@ type StepPlan struct {
 	Start    float64 // s from the start of the recipe
 	Duration float64 // s
 	T0, T1   float64 // K at the start and end (equal for holds)
+	// ProgrammedDuration is a ramp's or cool's duration at its programmed
+	// rate, s; Duration differs from it where natural cooling is slower.
+	ProgrammedDuration float64
 
 	OpenToPump bool    // valve open to the pump: the pressure follows the throughput
 	Pressure   float64 // total pressure during the step, Pa: the set-point, never below PumpLimit
@@ -103,12 +106,15 @@ func Derive(r *Recipe, f *Furnace) *Plan {
 		s := &r.Steps[i]
 		sp := &p.Steps[i]
 		sp.Index, sp.Step, sp.Label, sp.Start = i, s, s.Label(i), t
-		temperatures(sp, T)
+		temperatures(sp, T, f)
 		v.step(s, i)
 		sp.OpenToPump = v.pump
 		derive(sp, f)
 		v.held(sp, p.prevPressure(i))
 		p.duration(i)
+		if (s.Kind == KindCool || s.Kind == KindRamp) && !s.Duration.IsZero() && sp.T1 < sp.T0 {
+			sp.T1 = f.CoolReach(sp.T0, sp.T1, s.Rate.SI, sp.Duration) // where natural cooling gets in that time
+		}
 		gasPhase(sp, f)
 		T = sp.T1
 		t += sp.Duration
@@ -119,15 +125,23 @@ func Derive(r *Recipe, f *Furnace) *Plan {
 
 // temperatures sets the step's start and end temperatures from the
 // temperature T it starts at, and a ramp's or cool's duration from its
-// rate (0 without one).
-func temperatures(sp *StepPlan, T float64) {
+// rate (0 without one): going down, at the slower of the rate and the
+// furnace's natural cooling (CoolTime), and no lower than NaturalFloor
+// above the ambient when the target is below what natural cooling reaches.
+func temperatures(sp *StepPlan, T float64, f *Furnace) {
 	s := sp.Step
 	sp.T0, sp.T1 = T, T
 	switch s.Kind {
 	case KindRamp, KindCool:
 		sp.T1 = s.To.SI
-		if s.Rate.SI > 0 {
-			sp.Duration = math.Abs(sp.T1-sp.T0) / s.Rate.SI
+		if s.Rate.SI <= 0 {
+			break
+		}
+		sp.Duration = math.Abs(sp.T1-sp.T0) / s.Rate.SI
+		sp.ProgrammedDuration = sp.Duration
+		if sp.T1 < sp.T0 && f.Cooling != nil {
+			sp.T1 = math.Max(sp.T1, f.Cooling.ambient()+NaturalFloor)
+			sp.Duration = f.CoolTime(sp.T0, sp.T1, s.Rate.SI)
 		}
 	case KindAnneal, KindGrow:
 		sp.T0, sp.T1 = s.Temperature.SI, s.Temperature.SI

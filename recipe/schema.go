@@ -16,6 +16,7 @@ type Furnace struct {
 	Lines    []GasLine  `yaml:"gas_lines" req:"true"`
 	Vacuum   Vacuum     `yaml:"vacuum" req:"true"`
 	Exhaust  Exhaust    `yaml:"exhaust"`
+	Cooling  *Cooling   `yaml:"cooling"` // natural cooling; nil: the programmed rates are taken as reachable
 	Log      *LogLayout `yaml:"controller_log"`
 	Comments string     `yaml:"notes"`
 	Pos      Pos        `yaml:"-"`

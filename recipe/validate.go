@@ -2,6 +2,7 @@ package recipe
 
 import (
 	"fmt"
+	"sort"
 
 	"github.com/foilrun/foilrun/recipe/gas"
 )
@@ -182,7 +183,31 @@ func validateFurnace(f *Furnace) []Problem {
 		f.Exhaust.DilutionGas = ps.gasName(f.Exhaust.DilutionGas, f.Exhaust.Pos, "dilution_gas")
 	}
 	ps.controllerLog(f)
+	ps.cooling(f.Cooling)
 	return ps
+}
+
+// cooling checks a furnace's natural cooling: a time constant or a table
+// of rates (sorted by temperature in place), not both.
+func (ps *problems) cooling(c *Cooling) {
+	if c == nil {
+		return
+	}
+	ps.positive(c.TimeConstant, "time_constant")
+	ps.absolute(c.Ambient, "ambient")
+	if c.TimeConstant.IsZero() == (len(c.Rates) == 0) {
+		ps.at(c.Pos, "cooling", "cooling needs either \"time_constant\" or a table of \"rates\", not both", "give \"cooling: {time_constant: 40 min, ambient: 25 C}\" or \"rates: [{temperature: 400 C, rate: 3 C/min}, …]\"")
+	}
+	for _, r := range c.Rates {
+		ps.absolute(r.Temperature, "temperature")
+		ps.positive(r.Rate, "rate")
+	}
+	sort.SliceStable(c.Rates, func(i, j int) bool { return c.Rates[i].Temperature.SI < c.Rates[j].Temperature.SI })
+	for i := 1; i < len(c.Rates); i++ {
+		if c.Rates[i].Temperature.SI == c.Rates[i-1].Temperature.SI {
+			ps.at(c.Rates[i].Pos, "rates", fmt.Sprintf("two cooling rates at %q", c.Rates[i].Temperature.Text), "give one rate per temperature")
+		}
+	}
 }
 
 // gasLines checks the furnace's gas lines: one per gas, known gases, and
