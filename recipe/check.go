@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"sort"
+	"strings"
 
 	"github.com/foilrun/foilrun/recipe/gas"
 )
@@ -30,12 +31,19 @@ const (
 	// HoldMismatch: a hold step whose temperature differs from where the
 	// furnace is by more than this has a missing ramp.
 	HoldMismatch = 5.0 // K
+	// CopperWarnMargins: a set temperature closer to copper's melting
+	// point than this many thermocouple margins is a warning. One margin
+	// covers the thermocouple reading off the foil; the other two the
+	// controller's overshoot and the spread of temperature along the
+	// heated zone, which together are often as large (common practice).
+	CopperWarnMargins = 3
 )
 
 type checker struct {
-	p  *Plan
-	f  *Furnace
-	fs []Finding
+	p    *Plan
+	f    *Furnace
+	fs   []Finding
+	melt [2][]*StepPlan // steps too near copper's melting point: [0] warning, [1] error
 }
 
 func (c *checker) add(sev Severity, sp *StepPlan, rule string, pos Pos, hint, format string, args ...any) {
@@ -61,6 +69,7 @@ func Check(p *Plan) []Finding {
 		c.copper(sp)
 		c.growth(sp)
 	}
+	c.copperMelting()
 	c.sequence()
 	sort.SliceStable(c.fs, func(i, j int) bool {
 		if c.fs[i].Severity != c.fs[j].Severity {
@@ -82,15 +91,13 @@ func (c *checker) temperature(sp *StepPlan) {
 		pos = sp.Step.To.Pos
 	}
 	melt := gas.CopperMeltingPoint
+	heatsItself := sp.T1 >= sp.T0 || sp.Index == 0 // a later cool or ramp down only keeps the heat the step before reported
 	switch {
+	case !heatsItself:
 	case Tmax+margin >= melt:
-		c.add(Error, sp, "temperature.copper-melting", pos,
-			"stay well below copper's melting point; most recipes grow at 1000–1060 °C",
-			"set temperature %s plus thermocouple margin %.0f K reaches copper's melting point %s (ITS-90 freezing point of copper)", c2(Tmax), margin, c2(melt))
-	case Tmax+3*margin >= melt:
-		c.add(Warning, sp, "temperature.copper-melting", pos,
-			"check the thermocouple's offset against a reference; foil near its melting point sags, roughens and evaporates",
-			"set temperature %s is within %.0f K of copper's melting point %s", c2(Tmax), melt-Tmax, c2(melt))
+		c.melt[1] = append(c.melt[1], sp)
+	case Tmax+CopperWarnMargins*margin >= melt:
+		c.melt[0] = append(c.melt[0], sp)
 	}
 	if Tmax > h.MaxTemperature.SI {
 		c.add(Error, sp, "temperature.heater-max", pos, "lower the temperature or use a furnace rated for it",
@@ -156,6 +163,38 @@ func (c *checker) naturalCooling(sp *StepPlan) {
 	c.add(Warning, sp, "ramp.natural-cooling", s.Rate.Pos, "program a rate the furnace can follow, or allow the longer time (and check the temperature before venting)",
 		"programmed %.1f C/min is faster than the furnace cools by itself below %s (%s): the plan follows natural cooling there and %s",
 		s.Rate.SI*60, c2(math.Min(Tc, sp.T0)), how, then)
+}
+
+// copperMelting reports the steps too near copper's melting point as one
+// finding per severity, at the first such step, listing them all.
+func (c *checker) copperMelting() {
+	margin, melt := c.f.Heater.ThermocoupleMargin.SI, gas.CopperMeltingPoint
+	for sev, sps := range c.melt {
+		if len(sps) == 0 {
+			continue
+		}
+		hottest, labels := sps[0], make([]string, len(sps))
+		for i, sp := range sps {
+			labels[i] = sp.Label
+			if sp.MaxTemperature() > hottest.MaxTemperature() {
+				hottest = sp
+			}
+		}
+		first, Tmax := sps[0], hottest.MaxTemperature()
+		pos := first.Step.Temperature.Pos
+		if pos.Line == 0 {
+			pos = first.Step.To.Pos
+		}
+		steps := fmt.Sprintf("step%s %s", plural(len(sps)), strings.Join(labels, ", "))
+		if sev == 1 {
+			c.add(Error, first, "temperature.copper-melting", pos, "stay well below copper's melting point; most recipes grow at 1000–1060 °C",
+				"set temperature %s (%s) plus the thermocouple margin %.0f K reaches copper's melting point %s (ITS-90 freezing point of copper)", c2(Tmax), steps, margin, c2(melt))
+			continue
+		}
+		c.add(Warning, first, "temperature.copper-melting", pos, "check the thermocouple's offset against a reference, or grow lower; foil near its melting point sags, roughens and evaporates",
+			"set temperature %s (%s) is within %.1f K of copper's melting point %s, closer than %d × the %.0f K thermocouple margin = %.0f K: one margin for the thermocouple reading off the foil, two for the controller's overshoot and the temperature spread along the zone, so part of the foil can come near its melting point",
+			c2(Tmax), steps, melt-Tmax, c2(melt), CopperWarnMargins, margin, CopperWarnMargins*margin)
+	}
 }
 
 // LineFor returns the furnace's gas line for a gas symbol, or nil.

@@ -151,3 +151,34 @@ func TestEvacuationsBefore(t *testing.T) {
 		t.Errorf("default policy with 1 cycle: ok %v need %d, want false and %d", ok, need, DefaultEvacuationCycles)
 	}
 }
+
+// TestCopperMeltingOnce: a recipe held at 1070 °C is 1084.62 − 1070 =
+// 14.62 K below copper's melting point (ITS-90 freezing point), closer
+// than 3 × the template's 10 K thermocouple margin = 30 K: one warning for
+// the recipe at its first hot step, listing the ramp, anneal and grow but
+// not the cool, and saying what the threshold means.
+func TestCopperMeltingOnce(t *testing.T) {
+	T := MustParse("1070 C", Temperature)
+	r := &Recipe{Name: "t", Substrate: Substrate{Thickness: MustParse("25 um", Length)}, Steps: []Step{
+		{Kind: KindRamp, To: T, Rate: MustParse("20 C/min", TemperatureRate)},
+		{Kind: KindAnneal, Temperature: T, Duration: MustParse("10 min", Duration)},
+		{Kind: KindGrow, Temperature: T, Duration: MustParse("10 min", Duration), Flows: Flows{{Gas: "CH4", Flow: MustParse("5 sccm", Flow)}}},
+		{Kind: KindCool, To: MustParse("80 C", Temperature), Rate: MustParse("10 C/min", TemperatureRate)},
+	}}
+	fs := findRule(Check(Derive(r, loadTestFurnace(t))), "temperature.copper-melting", 0)
+	if len(fs) != 1 {
+		t.Fatalf("got %d copper-melting findings, want 1: %+v", len(fs), fs)
+	}
+	f := fs[0]
+	if f.Severity != Warning || f.Step != 1 {
+		t.Errorf("got %s at step %d, want a warning at step 1", f.Severity, f.Step)
+	}
+	for _, want := range []string{"steps 1 ramp, 2 anneal, 3 grow)", "within 14.6 K", "3 × the 10 K thermocouple margin = 30 K", "one margin for the thermocouple"} {
+		if !strings.Contains(f.Message, want) {
+			t.Errorf("message %q lacks %q", f.Message, want)
+		}
+	}
+	if strings.Contains(f.Message, "cool") {
+		t.Errorf("message %q lists the cool step", f.Message)
+	}
+}
