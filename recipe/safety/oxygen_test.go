@@ -93,3 +93,27 @@ func TestOxygenMessageNearThreshold(t *testing.T) {
 		t.Errorf("message %q, want it to read 19.496 %% against 19.5 %%", msg)
 	}
 }
+
+// TestLeakInAtFirstFuel: the checklist's tube O2 includes air leaking in
+// at the leak check's pass figure. Hand calculation for the low-pressure
+// template: 5 mTorr/min = 0.0111102 Pa/s into V = 3.80133e-4 m³ is
+// 1.73274e-9 mol/s of air at 293.15 K; its O2 (20.9476 %, NASA Glenn air)
+// in the first fuel step's 20 sccm H2 (1.487168e-5 mol/s, SEMI 0 °C
+// reference) is 2.44038e-5 = 24.4 ppm. Tolerance 1e-4.
+func TestLeakInAtFirstFuel(t *testing.T) {
+	p, s, rep := analyzeFile(t, filepath.Join(root, "templates", "recipe-lowpressure.yaml"))
+	near(t, "leak O2 at first fuel", rep.LeakOxygenAtFuel, 2.44038e-5, 1e-4)
+	sh := safety.NewSheet(p, s, rep)
+	found := false
+	for _, it := range sh.Before {
+		if strings.HasPrefix(it, "Tube O2 when fuel first enters") {
+			found = strings.Contains(it, "plus 24 ppm from a leak at the pass figure 5 mTorr/min: about 24 ppm")
+			if !found {
+				t.Errorf("checklist line %q does not add the leak-in", it)
+			}
+		}
+	}
+	if !found {
+		t.Error("checklist has no tube-O2 line with the leak-in")
+	}
+}

@@ -173,6 +173,10 @@ type Report struct {
 	// LeakOxygenPPM is the O2 the leak-check pass figure would let into
 	// the flammable step with the least flow, in ppm of its feed.
 	LeakOxygenPPM float64 `json:"leak_oxygen_ppm"`
+	// LeakOxygenAtFuel is the O2 fraction a leak at the pass figure keeps
+	// in the first fuel step's flow (0 without a leak check before it);
+	// the tube's O2 then is OxygenAtFuel plus this.
+	LeakOxygenAtFuel float64 `json:"leak_oxygen_at_fuel"`
 	// VentStep is the vent step (0 for none); FuelAtOpen the tube's fuel as
 	// a share of its LFL when opened; VentTempC the temperature then.
 	VentStep   int     `json:"vent_step"`

@@ -232,7 +232,10 @@ func (a *analysis) flowThrough(t *tube, sp *recipe.StepPlan, P, o2, fuel float64
 
 // sequenceEnd judges the end of the run (no vent after fuel) and
 // estimates the O2 a leak at the leak check's pass figure would bring into
-// the smallest fuel flow: ṅ_leak = (dP/dt)·V/(R·T_room) of air.
+// the smallest fuel flow, and into the first fuel step's flow ṅ once it
+// has swept the tube:
+//
+//	ṅ_leak = (dP/dt)·V/(R·T_room) of air,  y_O2 = 0.2095·ṅ_leak/(ṅ + ṅ_leak)
 func (a *analysis) sequenceEnd(st *sequenceState) {
 	p := a.p
 	if st.fuelSeen && a.r.VentStep == 0 {
@@ -244,6 +247,10 @@ func (a *analysis) sequenceEnd(st *sequenceState) {
 		s := p.Steps[a.r.LeakCheckStep-1].Step
 		leakIn := s.MaxRise.SI * p.Furnace.TubeVolume() / (gas.R * recipe.RoomTemperature) // mol/s of air at the pass figure
 		a.r.LeakOxygenPPM = leakIn * airOxygen / st.minFuelFlow * 1e6
+		if a.r.LeakCheckStep < a.r.FirstFuelStep {
+			flow := p.Steps[a.r.FirstFuelStep-1].TotalFlow
+			a.r.LeakOxygenAtFuel = leakIn * airOxygen / (flow + leakIn)
+		}
 	}
 }
 

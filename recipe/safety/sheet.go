@@ -62,7 +62,10 @@ func (sh *Sheet) before(p *recipe.Plan, s *recipe.Site, r *Report, fuels, inerts
 		}
 		item(&sh.Before, "Purge, step %s: %s; tube O2 left %s", pg.Label, purgeText(pg), ppm(pg.OxygenAfter))
 	}
-	if r.FirstFuelStep > 0 {
+	if r.FirstFuelStep > 0 && r.LeakOxygenAtFuel > 0 {
+		item(&sh.Before, "Tube O2 when fuel first enters (step %d): %s left by the purge, plus %s from a leak at the pass figure %s: about %s (target at most %s)",
+			r.FirstFuelStep, ppm(r.OxygenAtFuel), ppm(r.LeakOxygenAtFuel), r.LeakCheckPass, ppm(r.OxygenAtFuel+r.LeakOxygenAtFuel), pct(r.Options.PurgeTarget))
+	} else if r.FirstFuelStep > 0 {
 		item(&sh.Before, "Tube O2 when fuel first enters (step %d): %s (target at most %s)", r.FirstFuelStep, ppm(r.OxygenAtFuel), pct(r.Options.PurgeTarget))
 	}
 	for _, d := range s.Detectors {
