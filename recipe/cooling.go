@@ -142,18 +142,8 @@ func (f *Furnace) CoolTime(T0, T1, R float64) float64 {
 	if tau := f.Cooling.TimeConstant.SI; tau > 0 {
 		return t + tau*math.Log((top-Ta)/(T1-Ta))
 	}
-	const n = 200 // even
-	h := (top - T1) / n
 	inv := func(T float64) float64 { return 1 / math.Min(R, f.NaturalRate(T)) }
-	sum := inv(T1) + inv(top)
-	for k := 1; k < n; k++ {
-		w := 2.0
-		if k%2 == 1 {
-			w = 4
-		}
-		sum += w * inv(T1+float64(k)*h)
-	}
-	return t + sum*h/3
+	return t + simpson(inv, T1, top, 200)
 }
 
 // CoolReach returns the temperature (K) reached after cooling from T0 for

@@ -355,15 +355,19 @@ func copperLoss(T0, T1, dur float64, rate func(T float64) float64) float64 {
 	if T0 == T1 {
 		return rate(T0) * dur
 	}
-	const n = 16 // even
-	h := (T1 - T0) / n
-	sum := rate(T0) + rate(T1)
+	return simpson(rate, T0, T1, 16) / (T1 - T0) * dur // mean rate × time
+}
+
+// simpson returns ∫ f from a to b by Simpson's rule over n (even) panels.
+func simpson(f func(float64) float64, a, b float64, n int) float64 {
+	h := (b - a) / float64(n)
+	sum := f(a) + f(b)
 	for k := 1; k < n; k++ {
 		w := 2.0
 		if k%2 == 1 {
 			w = 4
 		}
-		sum += w * rate(T0+float64(k)*h)
+		sum += w * f(a+float64(k)*h)
 	}
-	return sum / (3 * n) * dur
+	return sum * h / 3
 }

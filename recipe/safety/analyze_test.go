@@ -24,11 +24,22 @@ func analyzeFile(tb testing.TB, path string) (*recipe.Plan, *recipe.Site, *safet
 	if err != nil {
 		tb.Fatal(err)
 	}
+	return analyzeRecipe(tb, r)
+}
+
+// analyzeRecipe resolves a loaded recipe's furnace and site, applies the
+// edits to the site and analyses it (the plan carries the site).
+func analyzeRecipe(tb testing.TB, r *recipe.Recipe, edits ...func(*recipe.Site)) (*recipe.Plan, *recipe.Site, *safety.Report) {
+	tb.Helper()
 	f, s, err := recipe.Resolve(r, "", "")
 	if err != nil {
 		tb.Fatal(err)
 	}
+	for _, e := range edits {
+		e(s)
+	}
 	p := recipe.Derive(r, f)
+	p.Site = s
 	rep, err := safety.Analyze(p, s, safety.Options{})
 	if err != nil {
 		tb.Fatal(err)

@@ -18,15 +18,7 @@ func analyzeWithSite(t *testing.T, edit func(*recipe.Site)) *safety.Report {
 	if err != nil {
 		t.Fatal(err)
 	}
-	f, s, err := recipe.Resolve(r, "", "")
-	if err != nil {
-		t.Fatal(err)
-	}
-	edit(s)
-	rep, err := safety.Analyze(recipe.Derive(r, f), s, safety.Options{})
-	if err != nil {
-		t.Fatal(err)
-	}
+	_, _, rep := analyzeRecipe(t, r, edit)
 	return rep
 }
 

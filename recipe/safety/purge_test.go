@@ -10,49 +10,47 @@ import (
 )
 
 // analyzeYAML parses a recipe written in the test, on the template furnace
-// and site (its furnace and site paths resolve beside the templates).
-func analyzeYAML(tb testing.TB, text string) (*recipe.Plan, *recipe.Site, *safety.Report) {
+// and site (its furnace and site paths resolve beside the templates), the
+// site changed by edits.
+func analyzeYAML(tb testing.TB, text string, edits ...func(*recipe.Site)) (*recipe.Plan, *recipe.Site, *safety.Report) {
 	tb.Helper()
 	r, err := recipe.ParseRecipe("test.yaml", []byte(text))
 	if err != nil {
 		tb.Fatal(err)
 	}
 	r.File = filepath.Join(root, "templates", "test.yaml")
-	f, s, err := recipe.Resolve(r, "", "")
-	if err != nil {
-		tb.Fatal(err)
-	}
-	p := recipe.Derive(r, f)
-	rep, err := safety.Analyze(p, s, safety.Options{})
-	if err != nil {
-		tb.Fatal(err)
-	}
-	return p, s, rep
+	return analyzeRecipe(tb, r, edits...)
 }
 
-// cycledRecipe pumps down, leak-checks and runs three pump-and-backfill
-// cycles to pumpTo (no pump_to line when empty), then anneals in H2.
-func cycledRecipe(pumpTo string) string {
-	line := ""
-	if pumpTo != "" {
-		line = "\n    pump_to: " + pumpTo
-	}
-	return `name: cycles
+// recipeHead is the start of the test recipes: pump down to 20 mTorr and
+// leak-check, on the template furnace and site.
+const recipeHead = `name: test
 furnace: furnace.yaml
 site: site.yaml
 substrate: {material: copper foil, thickness: 25 um}
 steps:
   - {kind: pump, until: 20 mTorr}
   - {kind: leak-check, duration: 5 min, max_rise: 5 mTorr/min}
-  - kind: purge
-    flows: {Ar: 1 slm}
-    cycles: 3
-    backfill: 101 kPa` + line + `
-  - {kind: ramp, to: 1000 C, rate: 20 C/min, flows: {Ar: 500 sccm, H2: 25 sccm}, pressure: 101 kPa}
+`
+
+// recipeTail heats in Ar/H2 at 1 atm, cools, purges and vents.
+const recipeTail = `  - {kind: ramp, to: 1000 C, rate: 20 C/min, flows: {Ar: 500 sccm, H2: 25 sccm}, pressure: 101 kPa}
   - {kind: cool, to: 50 C, rate: 5 C/min, flows: {Ar: 500 sccm}}
   - {kind: purge, duration: 10 min, flows: {Ar: 1 slm}}
   - {kind: vent, flows: {Ar: 500 sccm}}
 `
+
+// cycledRecipe runs three pump-and-backfill cycles to pumpTo (no pump_to
+// line when empty) between recipeHead and recipeTail.
+func cycledRecipe(pumpTo string) string {
+	line := ""
+	if pumpTo != "" {
+		line = "\n    pump_to: " + pumpTo
+	}
+	return recipeHead + `  - kind: purge
+    flows: {Ar: 1 slm}
+    cycles: 3
+    backfill: 101 kPa` + line + "\n" + recipeTail
 }
 
 // TestCyclePurgeByHand: n cycles between P_low and P_high leave
@@ -115,14 +113,7 @@ func TestCyclePurgeChecklist(t *testing.T) {
 
 // slugRecipe runs H2 at 20 sccm held at prevP, then an Ar purge at purgeP.
 func slugRecipe(prevP, purgeFlow, purgeP string) string {
-	return `name: slug
-furnace: furnace.yaml
-site: site.yaml
-substrate: {material: copper foil, thickness: 25 um}
-steps:
-  - {kind: pump, until: 20 mTorr}
-  - {kind: leak-check, duration: 5 min, max_rise: 5 mTorr/min}
-  - {kind: purge, duration: 10 min, flows: {Ar: 500 sccm}, pressure: pump}
+	return recipeHead + `  - {kind: purge, duration: 10 min, flows: {Ar: 500 sccm}, pressure: pump}
   - {kind: anneal, temperature: 25 C, duration: 10 min, flows: {H2: 20 sccm}, pressure: ` + prevP + `}
   - {kind: purge, duration: 10 min, flows: {Ar: ` + purgeFlow + `}, pressure: ` + purgeP + `}
   - {kind: vent, flows: {Ar: 500 sccm}, pressure: 1 atm}
@@ -178,18 +169,7 @@ func TestPurgeSlugByHand(t *testing.T) {
 
 // evacuatedRecipe pumps to 20 mTorr, leak-checks and admits H2 at 1 atm
 // with no inert purge.
-const evacuatedRecipe = `name: evacuated
-furnace: furnace.yaml
-site: site.yaml
-substrate: {material: copper foil, thickness: 25 um}
-steps:
-  - {kind: pump, until: 20 mTorr}
-  - {kind: leak-check, duration: 5 min, max_rise: 5 mTorr/min}
-  - {kind: ramp, to: 1000 C, rate: 20 C/min, flows: {Ar: 500 sccm, H2: 25 sccm}, pressure: 1 atm}
-  - {kind: cool, to: 50 C, rate: 5 C/min, flows: {Ar: 500 sccm}}
-  - {kind: purge, duration: 10 min, flows: {Ar: 1 slm}}
-  - {kind: vent, flows: {Ar: 500 sccm}}
-`
+const evacuatedRecipe = recipeHead + recipeTail
 
 // TestPurgeByEvacuation: with the site's purge_by_evacuation the pump-down
 // counts as the purge, shown with its factor p_low/p_high = 20 mTorr /
@@ -209,22 +189,7 @@ func TestPurgeByEvacuation(t *testing.T) {
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
-			r, err := recipe.ParseRecipe("test.yaml", []byte(evacuatedRecipe))
-			if err != nil {
-				t.Fatal(err)
-			}
-			r.File = filepath.Join(root, "templates", "test.yaml")
-			f, s, err := recipe.Resolve(r, "", "")
-			if err != nil {
-				t.Fatal(err)
-			}
-			s.PurgeByEvacuation = c.policy
-			p := recipe.Derive(r, f)
-			p.Site = s
-			rep, err := safety.Analyze(p, s, safety.Options{})
-			if err != nil {
-				t.Fatal(err)
-			}
+			p, _, rep := analyzeYAML(t, evacuatedRecipe, func(s *recipe.Site) { s.PurgeByEvacuation = c.policy })
 			stop, note := false, false
 			for _, fd := range rep.Findings {
 				stop = stop || fd.Rule == "sequence.inert-purge" && fd.Severity == safety.Stop
@@ -245,7 +210,9 @@ func TestPurgeByEvacuation(t *testing.T) {
 				t.Errorf("purge record %+v, want 1 evacuation at step 1", pg)
 			}
 			near(t, "evacuation factor", pg.Factor, 2.63158e-5, 1e-5)
-			near(t, "O2 at first fuel", rep.OxygenAtFuel, 0.209476*2.63158e-5, 1e-5)
+			// The ramp fills the tube from 20 mTorr (2.666447 Pa) to 101 kPa with
+			// Ar/H2: 0.209476·2.666447/101000 = 5.53027e-6 O2.
+			near(t, "O2 at first fuel", rep.OxygenAtFuel, 5.53027e-6, 1e-5)
 		})
 	}
 }
