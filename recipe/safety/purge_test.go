@@ -133,6 +133,12 @@ func slugRecipe(prevP, purgeFlow, purgeP string) string {
 //	101325 Pa of H2, purge 1 slm Ar at 101325 Pa: n = 0.0158026 mol =
 //	354.198 scc; τ = 21.2519 s; peak = 1000 sccm; dilution 99 slm, a
 //	warning. (Hand arithmetic, checked in python3; tolerance 1e-5.)
+//	101325 Pa of H2 opened to the pump with 500 sccm Ar: the tube empties
+//	at the pump's speed (S = 5.5 m³/h = 1.52778e-3 m³/s; the line's and
+//	tube's viscous conductances at 1 atm are three orders larger, so
+//	S_eff = S within 0.5 %): τ = V/S = 0.248814 s, peak = S·p/(R·T) =
+//	0.0635116 mol/s = 85 413 sccm, dilution 8456 slm; τ under 1 s: a note.
+//	(Tolerance 0.5 % for this case.)
 func TestPurgeSlugByHand(t *testing.T) {
 	cases := []struct {
 		name                   string
@@ -142,6 +148,7 @@ func TestPurgeSlugByHand(t *testing.T) {
 	}{
 		{"pumped H2 then 1000 Pa purge", "50 Pa", "500 sccm", "1000 Pa", 0.174783, 0.419480, 25.0000, 2.0, false},
 		{"full tube of H2 at 1 atm", "101325 Pa", "1 slm", "101325 Pa", 354.198, 21.2519, 1000, 99, true},
+		{"full tube of H2 opened to the pump", "101325 Pa", "500 sccm", "pump", 354.198, 0.248814, 85413, 8456, true},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -150,10 +157,14 @@ func TestPurgeSlugByHand(t *testing.T) {
 			if sl == nil {
 				t.Fatal("got no purge slug on step 5")
 			}
+			tol := 1e-5
+			if c.purgeP == "pump" {
+				tol = 5e-3 // S_eff ≈ S
+			}
 			near(t, "tube fuel scc", sl.TubeFuelSCC, c.scc, 1e-5)
-			near(t, "time constant s", sl.TimeConstant, c.tau, 1e-5)
-			near(t, "peak sccm", sl.PeakSCCM, c.peak, 1e-5)
-			near(t, "dilution slm", sl.DilutionSLM, c.dilSLM, 1e-5)
+			near(t, "time constant s", sl.TimeConstant, c.tau, tol)
+			near(t, "peak sccm", sl.PeakSCCM, c.peak, tol)
+			near(t, "dilution slm", sl.DilutionSLM, c.dilSLM, tol)
 			got := false
 			for _, f := range rep.Findings {
 				if f.Rule == "exhaust.purge-slug" && f.Step == 5 {
