@@ -66,9 +66,10 @@ func (a *analysis) outlet(i int, fuel, total, lfl, D float64) float64 {
 	share := fuel / (total + D) / lfl
 	st.Exhaust, st.DilutionSLM = share, slm(need)
 	if need > D {
+		got, limit := pctApart(share, k)
 		a.add(Stop, sp, "exhaust.dilution", fmt.Sprintf("raise the exhaust dilution to at least %.3g slm of inert gas, or lower the fuel flow", slm(need)),
-			"the pump outlet carries %.3g sccm fuel in %.3g sccm; holding it below %.0f %% of its LFL %s needs %.3g slm inert dilution, the furnace provides %.3g slm: the outlet reaches %.0f %% of LFL",
-			fuel/gas.MolPerSCCMPerSecond, total/gas.MolPerSCCMPerSecond, k*100, pct(lfl), slm(need), slm(D), share*100).
+			"the pump outlet carries %.3g sccm fuel in %.3g sccm; holding it below %s of its LFL %s needs %.3g slm inert dilution, the furnace provides %.3g slm: the outlet reaches %s of LFL",
+			fuel/gas.MolPerSCCMPerSecond, total/gas.MolPerSCCMPerSecond, limit, pct(lfl), slm(need), slm(D), got).
 			num("dilution needed", slm(need), "slm").num("dilution fitted", slm(D), "slm").num("outlet", share*100, "% LFL")
 	}
 	return share

@@ -270,8 +270,9 @@ func (a *analysis) firstFuel(sp *recipe.StepPlan, sev Severity, leak, purged boo
 		return
 	}
 	if o2 > a.o.PurgeTarget {
+		got, target := pctApart(o2, a.o.PurgeTarget)
 		a.add(sev, sp, "sequence.purge-oxygen", "purge longer or add pump-and-backfill cycles before the first flammable gas",
-			"the tube still holds %s O2 when flammable gas enters, above the %s target", pct(o2), pct(a.o.PurgeTarget)).
+			"the tube still holds %s O2 when flammable gas enters, above the %s target", got, target).
 			num("O2 in tube", o2*100, "%").num("target", a.o.PurgeTarget*100, "%")
 	}
 }
@@ -315,8 +316,9 @@ func (a *analysis) vent(sp *recipe.StepPlan, t tube, purged, fuelSeen bool) {
 	}
 	a.r.FuelAtOpen = share
 	if share > a.o.VentTarget {
+		got, limit := pctApart(share, a.o.VentTarget)
 		a.add(Stop, sp, "sequence.purge-before-vent", fmt.Sprintf("purge with inert gas until the tube holds below %.0f %% of LFL (at least %.2f tube volumes from the last fuel step) before venting", a.o.VentTarget*100, SweepExchanges(t.Fuel, a.o.VentTarget*t.LFL)),
-			"the tube holds %s fuel when opened, %.0f %% of its LFL %s (limit %.0f %%)", pct(t.Fuel), share*100, pct(t.LFL), a.o.VentTarget*100).
+			"the tube holds %s fuel when opened, %s of its LFL %s (limit %s)", pct(t.Fuel), got, pct(t.LFL), limit).
 			num("fuel in tube", t.Fuel*100, "%").num("share of LFL", share*100, "%")
 	} else if !purged {
 		a.add(Warning, sp, "sequence.purge-before-vent", "add an inert purge after the last flammable gas; do not rely on the vent's backfill alone",
