@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"sort"
+	"strings"
 
 	"github.com/foilrun/foilrun/recipe/gas"
 )
@@ -30,12 +31,19 @@ const (
 	// HoldMismatch: a hold step whose temperature differs from where the
 	// furnace is by more than this has a missing ramp.
 	HoldMismatch = 5.0 // K
+	// CopperWarnMargins: a set temperature closer to copper's melting
+	// point than this many thermocouple margins is a warning. One margin
+	// covers the thermocouple reading off the foil; the other two the
+	// controller's overshoot and the spread of temperature along the
+	// heated zone, which together are often as large (common practice).
+	CopperWarnMargins = 3
 )
 
 type checker struct {
-	p  *Plan
-	f  *Furnace
-	fs []Finding
+	p    *Plan
+	f    *Furnace
+	fs   []Finding
+	melt [2][]*StepPlan // steps too near copper's melting point: [0] warning, [1] error
 }
 
 func (c *checker) add(sev Severity, sp *StepPlan, rule string, pos Pos, hint, format string, args ...any) {
@@ -61,6 +69,7 @@ func Check(p *Plan) []Finding {
 		c.copper(sp)
 		c.growth(sp)
 	}
+	c.copperMelting()
 	c.sequence()
 	sort.SliceStable(c.fs, func(i, j int) bool {
 		if c.fs[i].Severity != c.fs[j].Severity {
@@ -82,15 +91,13 @@ func (c *checker) temperature(sp *StepPlan) {
 		pos = sp.Step.To.Pos
 	}
 	melt := gas.CopperMeltingPoint
+	heatsItself := sp.T1 >= sp.T0 || sp.Index == 0 // a later cool or ramp down only keeps the heat the step before reported
 	switch {
+	case !heatsItself:
 	case Tmax+margin >= melt:
-		c.add(Error, sp, "temperature.copper-melting", pos,
-			"stay well below copper's melting point; most recipes grow at 1000–1060 °C",
-			"set temperature %s plus thermocouple margin %.0f K reaches copper's melting point %s (ITS-90 freezing point of copper)", c2(Tmax), margin, c2(melt))
-	case Tmax+3*margin >= melt:
-		c.add(Warning, sp, "temperature.copper-melting", pos,
-			"check the thermocouple's offset against a reference; foil near its melting point sags, roughens and evaporates",
-			"set temperature %s is within %.0f K of copper's melting point %s", c2(Tmax), melt-Tmax, c2(melt))
+		c.melt[1] = append(c.melt[1], sp)
+	case Tmax+CopperWarnMargins*margin >= melt:
+		c.melt[0] = append(c.melt[0], sp)
 	}
 	if Tmax > h.MaxTemperature.SI {
 		c.add(Error, sp, "temperature.heater-max", pos, "lower the temperature or use a furnace rated for it",
@@ -111,6 +118,9 @@ func (c *checker) temperature(sp *StepPlan) {
 			c.add(Error, sp, "ramp.heater-max-down", sp.Step.Rate.Pos, fmt.Sprintf("use at most %.1f C/min, or let it cool naturally", h.MaxRampDown.SI*60),
 				"cooling rate %.1f C/min is above the furnace's maximum ramp-down %.1f C/min", rate*60, h.MaxRampDown.SI*60)
 		}
+		if !up {
+			c.naturalCooling(sp)
+		}
 		if sp.Step.Kind == KindRamp && !up && sp.T1 != sp.T0 {
 			c.add(Note, sp, "ramp.direction", sp.Step.To.Pos, "use a cool step for cooling, so the log reads clearly", "ramp step goes down from %s to %s", c2(sp.T0), c2(sp.T1))
 		}
@@ -124,6 +134,66 @@ func (c *checker) temperature(sp *StepPlan) {
 			c.add(Warning, sp, "sequence.missing-ramp", sp.Step.Temperature.Pos, "add a ramp step to the hold temperature",
 				"hold at %s but the furnace is at %s after the step before", c2(sp.T0), c2(prev))
 		}
+	}
+}
+
+// naturalCooling warns when a step's programmed cooling rate is beyond
+// what the furnace does by itself over part of the step; the plan has
+// already followed the slower of the two (Furnace.CoolTime, CoolReach).
+func (c *checker) naturalCooling(sp *StepPlan) {
+	s, f := sp.Step, c.f
+	target := s.To.SI
+	Tc := f.NaturalBelow(s.Rate.SI)
+	if f.Cooling == nil || target >= Tc {
+		return
+	}
+	how := fmt.Sprintf("natural time constant %s, ambient %s", f.Cooling.TimeConstant.String(), c2(f.Cooling.ambient()))
+	if f.Cooling.TimeConstant.IsZero() {
+		how = "the furnace's table of natural cooling rates"
+	}
+	var then string
+	switch {
+	case !s.Duration.IsZero() && sp.T1 > target+0.05:
+		then = fmt.Sprintf("in the step's %s it reaches only %s, not %s", s.Duration.String(), c2(sp.T1), c2(target))
+	case sp.T1 > target:
+		then = fmt.Sprintf("it never reaches %s; the plan ends the step at %s after %.1f min", c2(target), c2(sp.T1), sp.Duration/60)
+	default:
+		then = fmt.Sprintf("the step takes %.1f min, not the %.1f min the programmed rate gives", sp.Duration/60, sp.ProgrammedDuration/60)
+	}
+	c.add(Warning, sp, "ramp.natural-cooling", s.Rate.Pos, "program a rate the furnace can follow, or allow the longer time (and check the temperature before venting)",
+		"programmed %.1f C/min is faster than the furnace cools by itself below %s (%s): the plan follows natural cooling there and %s",
+		s.Rate.SI*60, c2(math.Min(Tc, sp.T0)), how, then)
+}
+
+// copperMelting reports the steps too near copper's melting point as one
+// finding per severity, at the first such step, listing them all.
+func (c *checker) copperMelting() {
+	margin, melt := c.f.Heater.ThermocoupleMargin.SI, gas.CopperMeltingPoint
+	for sev, sps := range c.melt {
+		if len(sps) == 0 {
+			continue
+		}
+		hottest, labels := sps[0], make([]string, len(sps))
+		for i, sp := range sps {
+			labels[i] = sp.Label
+			if sp.MaxTemperature() > hottest.MaxTemperature() {
+				hottest = sp
+			}
+		}
+		first, Tmax := sps[0], hottest.MaxTemperature()
+		pos := first.Step.Temperature.Pos
+		if pos.Line == 0 {
+			pos = first.Step.To.Pos
+		}
+		steps := fmt.Sprintf("step%s %s", plural(len(sps)), strings.Join(labels, ", "))
+		if sev == 1 {
+			c.add(Error, first, "temperature.copper-melting", pos, "stay well below copper's melting point; most recipes grow at 1000–1060 °C",
+				"set temperature %s (%s) plus the thermocouple margin %.0f K reaches copper's melting point %s (ITS-90 freezing point of copper)", c2(Tmax), steps, margin, c2(melt))
+			continue
+		}
+		c.add(Warning, first, "temperature.copper-melting", pos, "check the thermocouple's offset against a reference, or grow lower; foil near its melting point sags, roughens and evaporates",
+			"set temperature %s (%s) is within %.1f K of copper's melting point %s, closer than %d × the %.0f K thermocouple margin = %.0f K: one margin for the thermocouple reading off the foil, two for the controller's overshoot and the temperature spread along the zone, so part of the foil can come near its melting point",
+			c2(Tmax), steps, melt-Tmax, c2(melt), CopperWarnMargins, margin, CopperWarnMargins*margin)
 	}
 }
 
@@ -213,10 +283,18 @@ func torrOf(pa float64) string {
 func (c *checker) pressure(sp *StepPlan) {
 	v := c.f.Vacuum
 	s := sp.Step
-	if !sp.OpenToPump && s.Pressure.IsSet() && !s.Pressure.Pump && sp.TotalFlow > 0 && s.Pressure.Setpoint.SI < sp.PumpLimit*0.999 {
-		c.add(Error, sp, "pressure.pump-limit", s.Pressure.Pos, "lower the total flow, raise the set-point, or use a larger pump",
-			"set-point %s is below %s, the lowest pressure the pump (%.3g m3/h) can hold with %.4g sccm total throughput",
-			torrOf(s.Pressure.Setpoint.SI), torrOf(sp.PumpLimit), v.PumpSpeed.SI*3600, sp.TotalFlow/molPerSCCMSecond)
+	if !sp.OpenToPump && s.Kind != KindLeakCheck && sp.TotalFlow > 0 && sp.Setpoint < sp.PumpLimit*0.999 {
+		from, hint := "", "lower the total flow, raise the set-point, or use a larger pump"
+		if !s.Pressure.IsSet() {
+			from = " (the atmosphere the tube starts at)"
+			if sp.SetpointStep >= 0 {
+				from = fmt.Sprintf(" (carried over from step %s)", c.p.Steps[sp.SetpointStep].Label)
+			}
+			hint = "give the step a pressure of its own the pump can hold, lower the total flow, or use a larger pump"
+		}
+		c.add(Error, sp, "pressure.pump-limit", s.Pressure.Pos, hint,
+			"set-point %s%s is below %s, the lowest pressure the pump (%.3g m3/h) can hold with %.4g sccm total throughput; the plan uses %s",
+			torrOf(sp.Setpoint), from, torrOf(sp.PumpLimit), v.PumpSpeed.SI*3600, sp.TotalFlow/molPerSCCMSecond, torrOf(sp.Pressure))
 	}
 	if s.Kind == KindVent || s.Kind == KindLeakCheck {
 		return
@@ -228,28 +306,42 @@ func (c *checker) pressure(sp *StepPlan) {
 		c.add(Warning, sp, "pressure.gauge-range", s.Pressure.Pos, "use a gauge whose range covers the process pressure, or the reading cannot be trusted",
 			"process pressure %s is outside the %s's range %s to %s", torrOf(sp.Pressure), v.Gauge, torrOf(v.GaugeMin.SI), torrOf(v.GaugeMax.SI))
 	}
+	if s.Kind == KindPurge && s.Cycles > 0 && !s.PumpTo.IsZero() && s.PumpTo.SI < v.BasePressure.SI {
+		c.add(Error, sp, "pressure.unreachable", s.PumpTo.Pos, "raise pump_to above the base pressure, or leave it out to pump each cycle to just above the base pressure",
+			"cycle pump-down target %s is below the pump's base pressure %s", torrOf(s.PumpTo.SI), torrOf(v.BasePressure.SI))
+	}
 	if s.Kind == KindPump && !s.Until.IsZero() && s.Until.SI < sp.PumpLimit {
 		c.add(Error, sp, "pressure.unreachable", s.Until.Pos, "raise the end pressure or check the pump and base pressure",
 			"pump-down target %s is below the lowest pressure the pump reaches, %s", torrOf(s.Until.SI), torrOf(sp.PumpLimit))
 	}
 }
 
+// copper judges the copper lost by evaporation by the model that applies
+// (StepPlan.CopperModel): below VacuumBoundPressure the vacuum bound, above
+// CopperDiffusionPressure the diffusion-limited estimate; in between the
+// bound is only reported. A vacuum bound that does not apply but would
+// have been judged is shown beside the estimate as a note.
 func (c *checker) copper(sp *StepPlan) {
 	th := c.p.Recipe.Substrate.Thickness.SI
-	if th <= 0 || sp.CopperLoss < CopperLossWarn*th*0.1 {
+	if th <= 0 || sp.CopperLossVacuum < CopperLossWarn*th*0.1 {
 		return
 	}
-	share := sp.CopperLoss / th
-	um := sp.CopperLoss * 1e6
-	msg := fmt.Sprintf("copper can evaporate up to %.2f um per face (Hertz–Knudsen vacuum bound), %.0f %% of the %.0f um foil", um, share*100, th*1e6)
+	share, vshare := sp.CopperLoss/th, sp.CopperLossVacuum/th
+	msg := fmt.Sprintf("copper can evaporate up to %.2f um per face (Hertz–Knudsen vacuum bound), %.0f %% of the %.0f um foil", sp.CopperLossVacuum*1e6, vshare*100, th*1e6)
+	if sp.CopperModel == CopperDiffusion {
+		msg = fmt.Sprintf("copper loss about %.2g um per face at %s (%.2g %% of the %.0f um foil) by the %s, which applies above %s (vapour diffusing through a gas film %.0f mm thick); the vacuum bound %.2f um (%.0f %%) does not apply",
+			sp.CopperLoss*1e6, torrOf(sp.Pressure), share*100, th*1e6, CopperDiffusion, torrOf(CopperDiffusionPressure), c.f.CopperBoundaryLayer()*1e3, sp.CopperLossVacuum*1e6, vshare*100)
+	}
 	switch {
-	case sp.Pressure > VacuumBoundPressure:
-		// With gas above the foil, vapour must diffuse away and the real loss
-		// is far below the vacuum bound: report the bound, do not judge it.
-		if share >= CopperLossWarn && sp.Pressure < 1000 {
-			c.add(Note, sp, "copper.evaporation", sp.Step.Duration.Pos, "the gas above the foil slows evaporation well below this bound; weigh the foil before and after if it matters",
-				"%s at %s", msg, torrOf(sp.Pressure))
+	case sp.CopperModel == CopperVacuumBound && sp.Pressure > VacuumBoundPressure:
+		// Between the two regimes vapour already diffuses through some gas
+		// and the real loss is below the bound: report it, do not judge it.
+		if share >= CopperLossWarn {
+			c.add(Note, sp, "copper.evaporation", sp.Step.Duration.Pos, "the gas above the foil slows evaporation below this bound; weigh the foil before and after if it matters",
+				"%s at %s (between %s and %s neither model holds well)", msg, torrOf(sp.Pressure), torrOf(VacuumBoundPressure), torrOf(CopperDiffusionPressure))
 		}
+	case share < CopperLossWarn && vshare >= CopperLossWarn:
+		c.add(Note, sp, "copper.evaporation", sp.Step.Duration.Pos, "no action; weigh the foil before and after to check the estimate", "%s", msg)
 	case share >= CopperLossError:
 		c.add(Error, sp, "copper.evaporation", sp.Step.Duration.Pos, "shorten the step, lower the temperature, or raise the pressure with an inert gas", "%s", msg)
 	case share >= CopperLossWarn:
@@ -271,6 +363,32 @@ func (c *checker) growth(sp *StepPlan) {
 			"CH4 partial pressure %.3g Pa is below the %.3g Pa in equilibrium with graphite (supersaturation %.2f): no growth, the step etches",
 			sp.PCH4, sp.PCH4/sp.Supersaturation, sp.Supersaturation)
 	}
+}
+
+// evacuationPurge judges the first flammable step sp of a recipe with no
+// inert purge before it: the site may count the pump-downs before it as
+// the purge (Site.PurgeByEvacuation); else it is an error.
+func (c *checker) evacuationPurge(sp *StepPlan) {
+	ev := c.p.EvacuationsBefore(sp.Index)
+	ok, need := c.p.Site.EvacuationPurges(ev)
+	if ok {
+		c.add(Note, sp, "sequence.evacuation-purge", sp.Step.Pos, "no action; the site's gas-safety rules decide whether evacuation is enough",
+			"the site counts evacuation as the purge: %d evacuation%s to %s leave p_low/p_high = %.2g of the air (the site asks for %d)",
+			ev.Cycles, plural(ev.Cycles), torrOf(ev.Low), ev.Factor, need)
+		return
+	}
+	msg := "flammable gas flows before the tube was purged with inert gas"
+	if need > 0 {
+		msg += fmt.Sprintf(" (the site counts evacuation as a purge after %d evacuations; the recipe has %d, leaving %.2g of the air)", need, ev.Cycles, ev.Factor)
+	}
+	c.add(Error, sp, "sequence.inert-purge", sp.Step.Pos, "add an inert purge (or pump-and-backfill cycles) after the leak check and before any flammable gas", "%s", msg)
+}
+
+func plural(n int) string {
+	if n == 1 {
+		return ""
+	}
+	return "s"
 }
 
 func (c *checker) sequence() {
@@ -303,8 +421,7 @@ func (c *checker) sequence() {
 				leak = true // report once
 			}
 			if !purged {
-				c.add(Error, sp, "sequence.inert-purge", s.Pos, "add an inert purge (or pump-and-backfill cycles) after the leak check and before any flammable gas",
-					"flammable gas flows before the tube was purged with inert gas")
+				c.evacuationPurge(sp)
 				purged = true
 			}
 			flammableInTube = true

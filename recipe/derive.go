@@ -29,11 +29,23 @@ type StepPlan struct {
 	Start    float64 // s from the start of the recipe
 	Duration float64 // s
 	T0, T1   float64 // K at the start and end (equal for holds)
+	// ProgrammedDuration is a ramp's or cool's duration at its programmed
+	// rate, s; Duration differs from it where natural cooling is slower.
+	ProgrammedDuration float64
 
 	OpenToPump bool    // valve open to the pump: the pressure follows the throughput
-	Pressure   float64 // total pressure during the step, Pa
-	PumpLimit  float64 // lowest pressure the pump can hold with this throughput, Pa
-	Throughput float64 // Pa·m³/s at RoomTemperature
+	Pressure   float64 // total pressure during the step, Pa: the set-point, never below PumpLimit
+	// Setpoint is the pressure the controller is asked to hold, Pa, set on
+	// the step or carried over from SetpointStep (0-based; −1 for the
+	// atmosphere the tube starts at); 0 when open to the pump.
+	Setpoint     float64
+	SetpointStep int
+	PumpLimit    float64 // lowest pressure the pump can hold with this throughput, Pa
+	Throughput   float64 // Pa·m³/s at RoomTemperature
+	// CycleLow is the pressure each pump-and-backfill cycle of a cycled
+	// purge pumps down to, Pa (its pump_to, or CycleLowDefault); 0 for
+	// other steps. CycleTime is the time of one cycle, s.
+	CycleLow, CycleTime float64
 
 	Flows           []FlowPlan
 	TotalFlow       float64 // mol/s
@@ -47,7 +59,14 @@ type StepPlan struct {
 	Reynolds        float64 // Re = ρ·v·d/η
 	Knudsen         float64 // Kn = λ/d
 	Supersaturation float64 // pCH4/pCH4,eq over graphite; NaN without CH4
-	CopperLoss      float64 // m per free face, Hertz–Knudsen vacuum upper bound
+	// CopperLoss is the copper lost per free face, m, by the model that
+	// applies (CopperModel): the Hertz–Knudsen vacuum bound
+	// (CopperLossVacuum) up to CopperDiffusionPressure, the diffusion-limited
+	// estimate (CopperLossDiffusion, 0 below that pressure) above it.
+	CopperLoss          float64
+	CopperLossVacuum    float64
+	CopperLossDiffusion float64
+	CopperModel         CopperModel
 
 	Flammable    bool // a flammable gas flows
 	CarbonSource bool // a carbon source flows
@@ -64,8 +83,11 @@ func (s StepPlan) MaxTemperature() float64 { return math.Max(s.T0, s.T1) }
 type Plan struct {
 	Recipe  *Recipe
 	Furnace *Furnace
-	Steps   []StepPlan
-	Total   float64 // s
+	// Site is the site the plan runs in, or nil; Derive leaves it nil and
+	// the caller that has one sets it (Check reads its purge policy).
+	Site  *Site
+	Steps []StepPlan
+	Total float64 // s
 }
 
 // Derive lays the recipe out on the furnace: start times, durations,
@@ -78,25 +100,21 @@ func Derive(r *Recipe, f *Furnace) *Plan {
 	if !r.StartTemperature.IsZero() {
 		T = r.StartTemperature.SI
 	}
-	v := valve{pressure: atmosphere}
+	v := valve{pressure: atmosphere, from: -1}
 	t := 0.0
 	for i := range r.Steps {
 		s := &r.Steps[i]
 		sp := &p.Steps[i]
 		sp.Index, sp.Step, sp.Label, sp.Start = i, s, s.Label(i), t
-		temperatures(sp, T)
-		v.step(s)
+		temperatures(sp, T, f)
+		v.step(s, i)
 		sp.OpenToPump = v.pump
 		derive(sp, f)
-		switch {
-		case v.pump:
-			sp.Pressure = sp.PumpLimit
-		case s.Kind == KindLeakCheck:
-			sp.Pressure = p.prevPressure(i)
-		default:
-			sp.Pressure = v.pressure
-		}
+		v.held(sp, p.prevPressure(i))
 		p.duration(i)
+		if (s.Kind == KindCool || s.Kind == KindRamp) && !s.Duration.IsZero() && sp.T1 < sp.T0 {
+			sp.T1 = f.CoolReach(sp.T0, sp.T1, s.Rate.SI, sp.Duration) // where natural cooling gets in that time
+		}
 		gasPhase(sp, f)
 		T = sp.T1
 		t += sp.Duration
@@ -107,15 +125,23 @@ func Derive(r *Recipe, f *Furnace) *Plan {
 
 // temperatures sets the step's start and end temperatures from the
 // temperature T it starts at, and a ramp's or cool's duration from its
-// rate (0 without one).
-func temperatures(sp *StepPlan, T float64) {
+// rate (0 without one): going down, at the slower of the rate and the
+// furnace's natural cooling (CoolTime), and no lower than NaturalFloor
+// above the ambient when the target is below what natural cooling reaches.
+func temperatures(sp *StepPlan, T float64, f *Furnace) {
 	s := sp.Step
 	sp.T0, sp.T1 = T, T
 	switch s.Kind {
 	case KindRamp, KindCool:
 		sp.T1 = s.To.SI
-		if s.Rate.SI > 0 {
-			sp.Duration = math.Abs(sp.T1-sp.T0) / s.Rate.SI
+		if s.Rate.SI <= 0 {
+			break
+		}
+		sp.Duration = math.Abs(sp.T1-sp.T0) / s.Rate.SI
+		sp.ProgrammedDuration = sp.Duration
+		if sp.T1 < sp.T0 && f.Cooling != nil {
+			sp.T1 = math.Max(sp.T1, f.Cooling.ambient()+NaturalFloor)
+			sp.Duration = f.CoolTime(sp.T0, sp.T1, s.Rate.SI)
 		}
 	case KindAnneal, KindGrow:
 		sp.T0, sp.T1 = s.Temperature.SI, s.Temperature.SI
@@ -126,18 +152,38 @@ func temperatures(sp *StepPlan, T float64) {
 // open to the pump or not, and the pressure set-point it holds when not.
 type valve struct {
 	pressure float64 // Pa
+	from     int     // step that set the pressure, −1 for the starting atmosphere
 	pump     bool
+}
+
+// held sets the pressure step sp has: the pump limit when open
+// to the pump, the pressure the step before left for a closed leak check,
+// else the set-point, set or carried over, but never below what the pump
+// can hold with the step's throughput (a controller cannot go lower).
+func (v *valve) held(sp *StepPlan, prev float64) {
+	switch {
+	case v.pump:
+		sp.Pressure = sp.PumpLimit
+	case sp.Step.Kind == KindLeakCheck:
+		sp.Pressure = prev
+	default:
+		sp.Setpoint, sp.SetpointStep = v.pressure, v.from
+		sp.Pressure = v.pressure
+		if sp.TotalFlow > 0 {
+			sp.Pressure = math.Max(v.pressure, sp.PumpLimit)
+		}
+	}
 }
 
 // step moves the valve state through step s: a pressure setting holds
 // until the next one; a pump step opens to the pump, a vent closes it and
 // (without a pressure of its own) brings the tube to atmosphere, and a
 // leak check closes it.
-func (v *valve) step(s *Step) {
+func (v *valve) step(s *Step, i int) {
 	if s.Pressure.IsSet() {
 		v.pump = s.Pressure.Pump
 		if !v.pump {
-			v.pressure = s.Pressure.Setpoint.SI
+			v.pressure, v.from = s.Pressure.Setpoint.SI, i
 		}
 	}
 	switch s.Kind {
@@ -146,7 +192,7 @@ func (v *valve) step(s *Step) {
 	case KindVent:
 		v.pump = false
 		if !s.Pressure.IsSet() {
-			v.pressure = atmosphere
+			v.pressure, v.from = atmosphere, i
 		}
 	case KindLeakCheck:
 		v.pump = false
@@ -155,16 +201,25 @@ func (v *valve) step(s *Step) {
 
 // duration sets the duration of step i when the recipe gives it, or else
 // derives it: a pump step's pump-down to its until pressure (at least 5 %
-// above the pump limit), a cycle purge's cycles, a vent's backfill to
-// atmosphere at its flow. Other steps keep what temperatures set.
+// above the pump limit), a cycle purge's cycles (CycleTime each), a
+// vent's backfill to atmosphere at its flow. Other steps keep what
+// temperatures set.
 func (p *Plan) duration(i int) {
 	sp, s, f := &p.Steps[i], p.Steps[i].Step, p.Furnace
 	if !s.Duration.IsZero() {
 		sp.Duration = s.Duration.SI
 	} else if s.Kind == KindPump {
 		sp.Duration = f.PumpDownTime(p.prevPressure(i), math.Max(s.Until.SI, sp.PumpLimit*1.05))
-	} else if s.Kind == KindPurge && s.Cycles > 0 {
-		sp.Duration = float64(s.Cycles) * f.cycleTime(s.Backfill.SI, sp.PumpLimit, sp.TotalFlow)
+	}
+	if s.Kind == KindPurge && s.Cycles > 0 {
+		sp.CycleLow = f.CycleLowDefault()
+		if !s.PumpTo.IsZero() {
+			sp.CycleLow = s.PumpTo.SI
+		}
+		sp.CycleTime = f.CycleTime(s.Backfill.SI, sp.CycleLow, sp.TotalFlow)
+		if s.Duration.IsZero() {
+			sp.Duration = float64(s.Cycles) * sp.CycleTime
+		}
 	} else if s.Kind == KindVent && sp.TotalFlow > 0 {
 		sp.Duration = f.TubeVolume() * math.Max(0, atmosphere-p.prevPressure(i)) / (sp.TotalFlow * gas.R * RoomTemperature)
 	}
@@ -236,30 +291,75 @@ func gasPhase(sp *StepPlan, f *Furnace) {
 		sp.Reynolds = rho * sp.Velocity * d / sp.Viscosity
 		sp.Knudsen = gas.MeanFreePath(sp.Viscosity, T, P, mm) / d
 	}
-	sp.CopperLoss = copperLoss(sp.T0, sp.T1, sp.Duration)
+	copper(sp, f, xs)
 }
 
-// copperLoss integrates the Hertz–Knudsen evaporation of copper into vacuum
+// CopperModel names the copper-loss model that applies to a step.
+type CopperModel string
+
+// The copper-loss models.
+const (
+	CopperVacuumBound CopperModel = "vacuum bound (Hertz–Knudsen)"
+	CopperDiffusion   CopperModel = "diffusion-limited estimate (film model)"
+)
+
+// CopperDiffusionPressure: above this total pressure a step's copper loss
+// is the diffusion-limited estimate. At 1 Torr the mean free path in Ar
+// near 1000 °C, k_B·T/(√2·π·σ²·p), is about 0.3 mm, a fortieth of the
+// 11 mm layer of the template tube: continuum diffusion holds. Below it the
+// Hertz–Knudsen vacuum bound stands.
+const CopperDiffusionPressure = torr // Pa
+
+// copper fills the copper loss of a step by evaporation: the vacuum bound
+// always, and above CopperDiffusionPressure the estimate limited by
+// diffusion through a stagnant gas layer as thick as the tube's inner
+// radius (gas.CopperDiffusionRecessionRate), never above the bound. xs are
+// the feed's mole fractions in the order of sp.Flows.
+func copper(sp *StepPlan, f *Furnace, xs []float64) {
+	sp.CopperLossVacuum = copperLoss(sp.T0, sp.T1, sp.Duration, gas.CopperRecessionRate)
+	sp.CopperLoss, sp.CopperModel = sp.CopperLossVacuum, CopperVacuumBound
+	if sp.Pressure <= CopperDiffusionPressure {
+		return
+	}
+	gs := make([]gas.Gas, len(sp.Flows))
+	for i := range sp.Flows {
+		gs[i] = sp.Flows[i].Gas
+	}
+	P, delta := sp.Pressure, f.CopperBoundaryLayer()
+	sp.CopperLossDiffusion = copperLoss(sp.T0, sp.T1, sp.Duration, func(T float64) float64 {
+		return gas.CopperDiffusionRecessionRate(gs, xs, T, P, delta)
+	})
+	sp.CopperLoss, sp.CopperModel = math.Min(sp.CopperLossDiffusion, sp.CopperLossVacuum), CopperDiffusion
+}
+
+// CopperBoundaryLayer returns the thickness δ (m) of the gas layer copper
+// vapour diffuses through in the film model: the tube's inner radius (the
+// foil lies near the axis, the vapour condenses on the cooler wall).
+func (f *Furnace) CopperBoundaryLayer() float64 { return f.Tube.InnerDiameter.SI / 2 }
+
+// copperLoss integrates a copper recession rate (m/s at temperature T)
 // over the step (Simpson's rule over the linear temperature ramp) and
-// returns the thickness lost per free face in m. It is an upper bound: any
-// gas above the foil slows evaporation by diffusion.
-func copperLoss(T0, T1, dur float64) float64 {
+// returns the thickness lost per free face in m.
+func copperLoss(T0, T1, dur float64, rate func(T float64) float64) float64 {
 	if dur <= 0 {
 		return 0
 	}
-	rate := gas.CopperRecessionRate // m/s
 	if T0 == T1 {
 		return rate(T0) * dur
 	}
-	const n = 16 // even
-	h := (T1 - T0) / n
-	sum := rate(T0) + rate(T1)
+	return simpson(rate, T0, T1, 16) / (T1 - T0) * dur // mean rate × time
+}
+
+// simpson returns ∫ f from a to b by Simpson's rule over n (even) panels.
+func simpson(f func(float64) float64, a, b float64, n int) float64 {
+	h := (b - a) / float64(n)
+	sum := f(a) + f(b)
 	for k := 1; k < n; k++ {
 		w := 2.0
 		if k%2 == 1 {
 			w = 4
 		}
-		sum += w * rate(T0+float64(k)*h)
+		sum += w * f(a+float64(k)*h)
 	}
-	return sum / (3 * n) * dur
+	return sum * h / 3
 }

@@ -16,6 +16,7 @@ type Furnace struct {
 	Lines    []GasLine  `yaml:"gas_lines" req:"true"`
 	Vacuum   Vacuum     `yaml:"vacuum" req:"true"`
 	Exhaust  Exhaust    `yaml:"exhaust"`
+	Cooling  *Cooling   `yaml:"cooling"` // natural cooling; nil: the programmed rates are taken as reachable
 	Log      *LogLayout `yaml:"controller_log"`
 	Comments string     `yaml:"notes"`
 	Pos      Pos        `yaml:"-"`
@@ -142,12 +143,16 @@ type Site struct {
 	Name      string     `yaml:"name" req:"true"`
 	Room      Room       `yaml:"room" req:"true"`
 	Detectors []Detector `yaml:"detectors"`
-	Exhaust   string     `yaml:"exhaust_to" req:"true"`
-	GasCode   string     `yaml:"gas_code" req:"true"` // the site's own gas-safety rules, by name
-	Contacts  []string   `yaml:"contacts"`
-	Notes     string     `yaml:"notes"`
-	Pos       Pos        `yaml:"-"`
-	File      string     `yaml:"-"`
+	Oxygen    *Oxygen    `yaml:"oxygen"` // the oxygen-deficiency level that applies; default 19.5 % (US OSHA)
+	// PurgeByEvacuation is the site's policy on counting pump-downs as the
+	// purge before flammable gas; nil: it does not.
+	PurgeByEvacuation *EvacuationPolicy `yaml:"purge_by_evacuation"`
+	Exhaust           string            `yaml:"exhaust_to" req:"true"`
+	GasCode           string            `yaml:"gas_code" req:"true"` // the site's own gas-safety rules, by name
+	Contacts          []string          `yaml:"contacts"`
+	Notes             string            `yaml:"notes"`
+	Pos               Pos               `yaml:"-"`
+	File              string            `yaml:"-"`
 	// Imaging lists the site's microscopes and cameras as presets for
 	// measuring micrographs (foilrun measure image --instrument NAME).
 	Imaging []ImagingPreset `yaml:"imaging"`
@@ -180,6 +185,23 @@ type Room struct {
 	AirChanges Quantity `yaml:"air_changes" dim:"rate per time" req:"true"`
 	MaxRelease Quantity `yaml:"max_release" dim:"flow"` // bound on an unrestricted release (flow restrictor), optional
 	Pos        Pos      `yaml:"-"`
+}
+
+// Oxygen is the oxygen-deficiency level of the site's own rules and where
+// it comes from ("19.5 %", "the site's confined-space rule, rev. 3").
+type Oxygen struct {
+	DeficientBelow Quantity `yaml:"deficient_below" dim:"fraction" req:"true"`
+	Source         string   `yaml:"source" req:"true"`
+	Pos            Pos      `yaml:"-"`
+}
+
+// EvacuationPolicy says whether evacuating the tube counts as the inert
+// purge before flammable gas, and after how many evacuations (default
+// DefaultEvacuationCycles).
+type EvacuationPolicy struct {
+	Allowed   bool `yaml:"allowed" req:"true"`
+	MinCycles int  `yaml:"min_cycles"`
+	Pos       Pos  `yaml:"-"`
 }
 
 // Detector is a fixed gas detector and its alarm points. For flammable
@@ -218,7 +240,9 @@ type Substrate struct {
 //
 //	pump        pressure "pump"; until (a pressure) or duration
 //	leak-check  duration; max_rise (pass figure)
-//	purge       flows of inert gas; duration or cycles with backfill
+//	purge       flows of inert gas; duration, or cycles with backfill and
+//	            pump_to (how far each cycle pumps down; default just above
+//	            the base pressure)
 //	ramp, cool  to (temperature) and rate; flows; pressure
 //	anneal      temperature, duration, flows, pressure
 //	grow        temperature, duration, flows with a carbon source, pressure
@@ -236,6 +260,7 @@ type Step struct {
 	MaxRise     Quantity        `yaml:"max_rise" dim:"pressure rise rate"`
 	Cycles      int             `yaml:"cycles"`
 	Backfill    Quantity        `yaml:"backfill" dim:"pressure"`
+	PumpTo      Quantity        `yaml:"pump_to" dim:"pressure"`
 	Notes       string          `yaml:"notes"`
 	Pos         Pos             `yaml:"-"`
 }

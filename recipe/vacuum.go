@@ -157,14 +157,23 @@ func PumpDown(V, S, p0, p1 float64) float64 {
 	return V / S * math.Log(p0/p1)
 }
 
-// cycleTime estimates one pump-and-backfill purge cycle: pump from the
-// backfill pressure down to ten times the pump limit, then refill at the
-// step's flow.
-func (f *Furnace) cycleTime(backfill, pumpLimit, flow float64) float64 {
-	low := math.Max(10*pumpLimit, f.Vacuum.BasePressure.SI*10)
-	t := f.PumpDownTime(backfill, low)
-	if flow > 0 {
-		t += f.TubeVolume() * (backfill - low) / (flow * gas.R * RoomTemperature)
+// CycleLowDefault is how far a pump-and-backfill cycle pumps down when the
+// step gives no pump_to: the pump's limit with no flow (the purge gas is
+// shut while pumping), which is its base pressure, plus the 5 % a
+// pump-down never quite closes (the same margin as a pump step).
+func (f *Furnace) CycleLowDefault() float64 { return 1.05 * f.PumpLimitedPressure(0, nil, nil) }
+
+// CycleTime estimates one pump-and-backfill purge cycle, s: pump the tube
+// from the backfill pressure high to low (Pa) with the purge gas shut,
+// then refill to high at the step's molar flow ṅ (mol/s):
+//
+//	t = (V/S_eff)·ln(p_high/p_low) + V·(p_high − p_low)/(ṅ·R·T_room)
+//
+// No refill time without a flow.
+func (f *Furnace) CycleTime(high, low, flow float64) float64 {
+	t := f.PumpDownTime(high, low)
+	if flow > 0 && high > low {
+		t += f.TubeVolume() * (high - low) / (flow * gas.R * RoomTemperature)
 	}
 	return t
 }

@@ -108,3 +108,30 @@ func TestReynoldsWorkedExample(t *testing.T) {
 		t.Errorf("mean free path %g m, want about 65 nm", kn)
 	}
 }
+
+// TestCycleTimeByHand: one pump-and-backfill cycle of the template tube
+// (22 mm × 1000 mm, V = π/4·d²·l = 3.80133e-4 m³) from 1 atm to 10 Pa and
+// back at 1 slm Ar. With a 0.01 m³/h pump (S = 2.77778e-6 m³/s, far below
+// the tube's and line's conductances, so S_eff ≈ S within 0.3 %) the
+// pump-down takes (V/S)·ln(101325/10) = 1262.2 s (vacuum handbooks,
+// t = (V/S)·ln(p0/p)); the refill n = Δp·V/(R·T) = 0.0158010 mol at
+// 7.435839e-4 mol/s (1 slm, SEMI 0 °C reference) takes 21.250 s. Hand
+// calculation; tolerance 1 %.
+func TestCycleTimeByHand(t *testing.T) {
+	f := loadTestFurnace(t)
+	f.Vacuum.PumpSpeed = MustParse("0.01 m3/h", VolumeRate)
+	const want = 1262.2 + 21.250
+	got := f.CycleTime(101325, 10, MustParse("1 slm", Flow).SI)
+	if math.Abs(got-want)/want > 0.01 {
+		t.Errorf("cycle time = %.1f s, want %.1f s (pump-down + refill by hand), tol 1 %%", got, want)
+	}
+	// Refill alone, no pump-down (low = high gives none of either).
+	if got := f.CycleTime(101325, 101325, 1e-3); got != 0 {
+		t.Errorf("cycle between equal pressures takes %g s, want 0", got)
+	}
+	// Default low pressure: the no-flow pump limit (base 5 mTorr =
+	// 0.666612 Pa, the template's) plus 5 %: 0.699942 Pa.
+	if got := f.CycleLowDefault(); math.Abs(got-0.699942) > 1e-5 {
+		t.Errorf("default cycle low = %.6f Pa, want 0.699942 Pa (1.05 × base pressure)", got)
+	}
+}

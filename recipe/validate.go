@@ -2,6 +2,7 @@ package recipe
 
 import (
 	"fmt"
+	"sort"
 
 	"github.com/foilrun/foilrun/recipe/gas"
 )
@@ -94,6 +95,7 @@ func (ps *problems) step(s *Step, label string) {
 	ps.positive(s.Rate, "rate")
 	ps.positive(s.Pressure.Setpoint, "pressure")
 	ps.positive(s.Backfill, "backfill")
+	ps.positive(s.PumpTo, "pump_to")
 	ps.nonNegative(s.MaxRise, "max_rise")
 	if s.Cycles < 0 {
 		ps.at(s.Pos, "cycles", fmt.Sprintf("step %s: cycles %d must not be negative", label, s.Cycles), "")
@@ -110,6 +112,12 @@ func (ps *problems) step(s *Step, label string) {
 		if s.Cycles != 0 {
 			ps.at(s.Pos, "cycles", fmt.Sprintf("step %s: \"cycles\" applies only to a purge step", label), "")
 		}
+	}
+	if s.Cycles == 0 && !s.PumpTo.IsZero() {
+		ps.at(s.PumpTo.Pos, "pump_to", fmt.Sprintf("step %s: \"pump_to\" applies only to a purge step with cycles", label), "add \"cycles: 3\" and \"backfill: 1 atm\", or remove pump_to")
+	}
+	if s.Cycles > 0 && !s.PumpTo.IsZero() && !s.Backfill.IsZero() && s.PumpTo.SI >= s.Backfill.SI {
+		ps.at(s.PumpTo.Pos, "pump_to", fmt.Sprintf("step %s: pump_to %q must be below backfill %q, or a cycle dilutes nothing", label, s.PumpTo.Text, s.Backfill.Text), "pump to a pressure well below the backfill, e.g. \"pump_to: 1 Torr\"")
 	}
 }
 
@@ -188,7 +196,31 @@ func validateFurnace(f *Furnace) []Problem {
 		f.Exhaust.DilutionGas = ps.gasName(f.Exhaust.DilutionGas, f.Exhaust.Pos, "dilution_gas")
 	}
 	ps.controllerLog(f)
+	ps.cooling(f.Cooling)
 	return ps
+}
+
+// cooling checks a furnace's natural cooling: a time constant or a table
+// of rates (sorted by temperature in place), not both.
+func (ps *problems) cooling(c *Cooling) {
+	if c == nil {
+		return
+	}
+	ps.positive(c.TimeConstant, "time_constant")
+	ps.absolute(c.Ambient, "ambient")
+	if c.TimeConstant.IsZero() == (len(c.Rates) == 0) {
+		ps.at(c.Pos, "cooling", "cooling needs either \"time_constant\" or a table of \"rates\", not both", "give \"cooling: {time_constant: 40 min, ambient: 25 C}\" or \"rates: [{temperature: 400 C, rate: 3 C/min}, …]\"")
+	}
+	for _, r := range c.Rates {
+		ps.absolute(r.Temperature, "temperature")
+		ps.positive(r.Rate, "rate")
+	}
+	sort.SliceStable(c.Rates, func(i, j int) bool { return c.Rates[i].Temperature.SI < c.Rates[j].Temperature.SI })
+	for i := 1; i < len(c.Rates); i++ {
+		if c.Rates[i].Temperature.SI == c.Rates[i-1].Temperature.SI {
+			ps.at(c.Rates[i].Pos, "rates", fmt.Sprintf("two cooling rates at %q", c.Rates[i].Temperature.Text), "give one rate per temperature")
+		}
+	}
 }
 
 // gasLines checks the furnace's gas lines: one per gas, known gases, and
@@ -233,6 +265,12 @@ func validateSite(s *Site) []Problem {
 		ps.at(s.Room.AirChanges.Pos, "air_changes", fmt.Sprintf("air_changes %q must be greater than zero", s.Room.AirChanges.Text), "give the measured ventilation rate, e.g. \"6 /h\"; a room without ventilation needs a gas-safety review before any flammable gas is used")
 	}
 	ps.positive(s.Room.MaxRelease, "max_release")
+	if e := s.PurgeByEvacuation; e != nil && e.MinCycles < 0 {
+		ps.at(e.Pos, "min_cycles", fmt.Sprintf("purge_by_evacuation min_cycles %d must not be negative", e.MinCycles), "give the number of pump-downs your site asks for, e.g. 2")
+	}
+	if o := s.Oxygen; o != nil && !o.DeficientBelow.IsZero() && (o.DeficientBelow.SI <= 0 || o.DeficientBelow.SI >= gas.OxygenInAir) {
+		ps.at(o.DeficientBelow.Pos, "deficient_below", fmt.Sprintf("oxygen deficient_below %q must be above 0 %% and below the 20.95 %% of air", o.DeficientBelow.Text), "give the level your site's rules name, e.g. \"19.5 %\"")
+	}
 	for i := range s.Detectors {
 		d := &s.Detectors[i]
 		if d.Gas != "O2" {

@@ -145,7 +145,7 @@ func TestDecodeShapes(t *testing.T) {
 		{"unknown field with a suggestion",
 			"steps:\n  - kind: vent\n    flow: {Ar: 1 slm}\n",
 			`load recipe "t.yaml": line 8 col 5: unknown field "flow" in steps[1]
-  hint: known fields: kind, name, duration, until, temperature, to, rate, pressure, flows, max_rise, cycles, backfill, notes; did you mean "flows"?`},
+  hint: known fields: kind, name, duration, until, temperature, to, rate, pressure, flows, max_rise, cycles, backfill, pump_to, notes; did you mean "flows"?`},
 		{"field given twice",
 			"steps:\n  - kind: vent\n    kind: vent\n",
 			"load recipe \"t.yaml\": line 8 col 5: field \"kind\" is given twice"},

@@ -31,7 +31,9 @@ func (rf *recipeFlags) loadPlan(path string) (*recipe.Plan, *recipe.Site, error)
 	if err != nil {
 		return nil, nil, err
 	}
-	return recipe.Derive(r, f), s, nil
+	p := recipe.Derive(r, f)
+	p.Site = s // Check reads the site's purge_by_evacuation policy
+	return p, s, nil
 }
 
 type checkOptions struct {

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"sort"
+	"strconv"
 	"strings"
 
 	"github.com/foilrun/foilrun/recipe"
@@ -51,13 +52,14 @@ func Analyze(p *recipe.Plan, s *recipe.Site, o Options) (*Report, error) {
 		return nil, fmt.Errorf("site %q: room volume %q and air changes %q must both be greater than zero: %w",
 			s.Name, s.Room.Volume.String(), s.Room.AirChanges.String(), recipe.ErrInvalid)
 	}
-	o = o.withDefaults()
+	o = o.withSite(s).withDefaults()
 	a := &analysis{p: p, s: s, o: o, lfl: map[string]float64{}}
 	a.r = &Report{
 		Recipe: p.Recipe.Name, Furnace: p.Furnace.Name, Site: s.Name, GasCode: s.GasCode,
 		Compilation: o.Compilation.String(), TubeLitres: p.Furnace.TubeVolume() * 1000,
 		VentilationM3H: s.Room.AirChanges.SI * s.Room.Volume.SI * 3600,
 		OpenBelowC:     recipe.Celsius(recipe.VentTemperature), Options: o, Disclaimer: Disclaimer,
+		OxygenLimit: o.OxygenLimit, OxygenSource: o.OxygenSource,
 	}
 	for i := range p.Steps {
 		a.mixture(&p.Steps[i])
@@ -121,6 +123,26 @@ func sum(xs []float64) float64 {
 }
 
 func pct(x float64) string { return trim(fmt.Sprintf("%.3g", x*100)) + " %" }
+
+// pctApart writes x and a threshold it is judged against as percentages:
+// the threshold with the fewest digits (three to seven) that give it back,
+// x with at least as many and more until the two read differently, so
+// which side x is on shows: "19.496 %" against "19.5 %", never "19.5 %"
+// against "19.5 %", nor a threshold rounded from 20.85 % to 20.9 %.
+func pctApart(x, limit float64) (string, string) {
+	d := 3
+	for ; d < 7; d++ {
+		if v, err := strconv.ParseFloat(fmt.Sprintf("%.*g", d, limit*100), 64); err == nil && math.Abs(v-limit*100) <= 1e-9*math.Abs(limit*100) {
+			break
+		}
+	}
+	b := fmt.Sprintf("%.*g", d, limit*100)
+	a := fmt.Sprintf("%.*g", d, x*100)
+	for ; a == b && x != limit && d < 9; d++ {
+		a = fmt.Sprintf("%.*g", d+1, x*100)
+	}
+	return a + " %", b + " %"
+}
 
 func trim(s string) string { return strings.TrimSpace(s) }
 

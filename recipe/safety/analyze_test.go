@@ -24,11 +24,22 @@ func analyzeFile(tb testing.TB, path string) (*recipe.Plan, *recipe.Site, *safet
 	if err != nil {
 		tb.Fatal(err)
 	}
+	return analyzeRecipe(tb, r)
+}
+
+// analyzeRecipe resolves a loaded recipe's furnace and site, applies the
+// edits to the site and analyses it (the plan carries the site).
+func analyzeRecipe(tb testing.TB, r *recipe.Recipe, edits ...func(*recipe.Site)) (*recipe.Plan, *recipe.Site, *safety.Report) {
+	tb.Helper()
 	f, s, err := recipe.Resolve(r, "", "")
 	if err != nil {
 		tb.Fatal(err)
 	}
+	for _, e := range edits {
+		e(s)
+	}
 	p := recipe.Derive(r, f)
+	p.Site = s
 	rep, err := safety.Analyze(p, s, safety.Options{})
 	if err != nil {
 		tb.Fatal(err)
@@ -191,7 +202,7 @@ func TestAnalyzeNeedsSite(t *testing.T) {
 // Bad site files are refused by the loader with a clear message, pinned in
 // testdata/site/<case>/error.txt beside the file.
 func TestBadSites(t *testing.T) {
-	for _, c := range []string{"no-ventilation", "zero-volume", "alarm-above-lfl"} {
+	for _, c := range []string{"no-ventilation", "zero-volume", "alarm-above-lfl", "oxygen-above-air"} {
 		t.Run(c, func(t *testing.T) {
 			dir := filepath.Join(root, "testdata", "site", c)
 			data, err := os.ReadFile(filepath.Join(dir, "site.yaml"))

@@ -39,9 +39,11 @@
 //	D = F_f / (k·LFL_mix) − F
 //
 // and with the furnace's dilution D_f the outlet holds F_f / (F + D_f).
-// A purge that follows flammable gas first pushes out the tube's contents:
-// its outlet starts at the previous fuel fraction times the purge flow and
-// falls as exp(−t/τ), τ = n_tube/F.
+// A purge that follows flammable gas first pushes out the tube's contents,
+// bounded by the fuel the tube holds at the previous step's pressure,
+// n_fuel = φ·p_prev·V/(R·T_room): the outlet carries (n_fuel/τ)·exp(−t/τ),
+// τ = n_tube/F_out (F_out the purge flow, or the pump's draw when the purge
+// opens a fuller tube to the pump).
 //
 // # Release into the room (well-mixed room)
 //
@@ -60,7 +62,11 @@
 //
 // # Oxygen after an inert release
 //
-//	O2 = 0.209476 · (1 − C_ss)       judged against 19.5 % (29 CFR 1910.134)
+//	O2 = 0.209476 · (1 − C_ss)
+//
+// judged against the site's oxygen.deficient_below, by default 19.5 %
+// (US OSHA 29 CFR 1910.134, one jurisdiction's level, named as the
+// default in every message).
 //
 // # Purging the tube
 //
@@ -71,15 +77,22 @@
 //
 //	C = C0 · exp(−N)        air (20.95 % O2) to 1 % O2: N = ln 20.95 ≈ 3.04
 //
-// Pressure (pump-and-backfill) cycles from P_low to P_high:
+// Pressure (pump-and-backfill) cycles from P_low (the step's pump_to,
+// default just above base pressure) to P_high:
 //
 //	C_n = C0 · (P_low/P_high)^n
+//
+// with C0 what the tube held when the cycles began. A site whose
+// purge_by_evacuation allows it counts pump-downs before the first fuel as
+// the purge, each leaving p_low/p_high.
 //
 // and filling an evacuated tube from P0 to P with inert gas multiplies the
 // fraction by P0/P. Before the first flammable gas the tube must hold at
 // most 1 % O2 (PurgeOxygenTarget); when the tube is opened its fuel must be
 // at most 25 % of LFL_mix (VentFuelTarget), so that no mixture with air can
-// reach a quarter of the lower limit.
+// reach a quarter of the lower limit. Air leaking in at the leak check's
+// pass figure dp/dt adds y_O2 = 0.2095·ṅ_leak/(ṅ + ṅ_leak), ṅ_leak =
+// (dp/dt)·V/(R·T_room), to the O2 of the first fuel step's flow ṅ.
 //
 // # Autoignition and sequence
 //

@@ -66,25 +66,48 @@ func (a *analysis) outlet(i int, fuel, total, lfl, D float64) float64 {
 	share := fuel / (total + D) / lfl
 	st.Exhaust, st.DilutionSLM = share, slm(need)
 	if need > D {
+		got, limit := pctApart(share, k)
 		a.add(Stop, sp, "exhaust.dilution", fmt.Sprintf("raise the exhaust dilution to at least %.3g slm of inert gas, or lower the fuel flow", slm(need)),
-			"the pump outlet carries %.3g sccm fuel in %.3g sccm; holding it below %.0f %% of its LFL %s needs %.3g slm inert dilution, the furnace provides %.3g slm: the outlet reaches %.0f %% of LFL",
-			fuel/gas.MolPerSCCMPerSecond, total/gas.MolPerSCCMPerSecond, k*100, pct(lfl), slm(need), slm(D), share*100).
+			"the pump outlet carries %.3g sccm fuel in %.3g sccm; holding it below %s of its LFL %s needs %.3g slm inert dilution, the furnace provides %.3g slm: the outlet reaches %s of LFL",
+			fuel/gas.MolPerSCCMPerSecond, total/gas.MolPerSCCMPerSecond, limit, pct(lfl), slm(need), slm(D), got).
 			num("dilution needed", slm(need), "slm").num("dilution fitted", slm(D), "slm").num("outlet", share*100, "% LFL")
 	}
 	return share
 }
 
 // purgeSlug judges inert step i pushing out the fuel the flammable step
-// before it left in the tube (fuel fraction prevPhi, LFL prevLFL): the
-// outlet first carries up to prevPhi of the purge flow, falling with the
-// tube's time constant τ = P·V/(R·T_room)/ṅ. A shortfall of dilution D is
-// a warning, a note when τ is under slugTime.
+// before it left in the tube (fuel fraction prevPhi, LFL prevLFL) and
+// records it (Slug). The fuel the tube holds is its inventory at the
+// previous step's pressure, counted at room temperature (the cold gas
+// holds the most):
+//
+//	n_fuel = φ·p_prev·V / (R·T_room)
+//
+// The purge sweeps the well-mixed tube with the outflow ṅ_out (its own
+// flow, or when it opens a fuller tube to the pump, the pump's draw
+// S_eff·p_prev/(R·T_room) if larger); the tube then holds
+// n_tube = max(p_prev, p)·V/(R·T_room) and the fuel leaves as
+//
+//	ṅ_fuel(t) = (n_fuel/τ)·e^(−t/τ),  τ = n_tube/ṅ_out (= V/Q)
+//
+// so its peak is n_fuel/τ, never more than the inventory allows. The
+// dilution needed to hold that peak below ExhaustLimit of the LFL follows
+// (DilutionNeeded). A shortfall of dilution D is a warning, a note when τ
+// is under slugTime.
 func (a *analysis) purgeSlug(i int, prevPhi, prevLFL, D float64) {
 	sp, prev, k := &a.p.Steps[i], &a.p.Steps[i-1], a.o.ExhaustLimit
-	peakFuel := prevPhi * sp.TotalFlow
-	need := DilutionNeeded(peakFuel, sp.TotalFlow, prevLFL, k)
-	P := math.Max(prev.Pressure, sp.Pressure)
-	tau := P * a.p.Furnace.TubeVolume() / (gas.R * recipe.RoomTemperature) / sp.TotalFlow
+	f := a.p.Furnace
+	molar := f.TubeVolume() / (gas.R * recipe.RoomTemperature) // mol per Pa of tube pressure
+	nFuel := prevPhi * prev.Pressure * molar
+	out := sp.TotalFlow
+	if sp.OpenToPump && sp.Pressure < prev.Pressure {
+		out = math.Max(out, f.EffectiveSpeed(prev.Pressure)*prev.Pressure/(gas.R*recipe.RoomTemperature))
+	}
+	tau := math.Max(prev.Pressure, sp.Pressure) * molar / out
+	peak := nFuel / tau
+	need := DilutionNeeded(peak, out, prevLFL, k)
+	a.r.Steps[i].Slug = &Slug{TubeFuelSCC: nFuel / molPerSCC, PeakSCCM: peak / gas.MolPerSCCMPerSecond,
+		TimeConstant: tau, DilutionSLM: slm(need)}
 	if need <= D {
 		return
 	}
@@ -93,10 +116,14 @@ func (a *analysis) purgeSlug(i int, prevPhi, prevLFL, D float64) {
 		sev = Note
 	}
 	a.add(sev, sp, "exhaust.purge-slug", "ramp the purge flow up slowly, or raise the exhaust dilution, so the tube's fuel leaves diluted",
-		"the purge first pushes out the tube's fuel at up to %.3g sccm (falling with time constant %.2g s); %.3g slm dilution would hold it below %.0f %% of LFL, the furnace provides %.3g slm",
-		peakFuel/gas.MolPerSCCMPerSecond, tau, slm(need), k*100, slm(D)).
-		num("peak fuel", peakFuel/gas.MolPerSCCMPerSecond, "sccm").num("time constant", tau, "s").num("dilution needed", slm(need), "slm")
+		"the tube holds %.3g scc of fuel from the step before (%s at %s); the purge pushes it out at up to %.3g sccm, falling with time constant %.2g s; %.3g slm dilution would hold it below %.0f %% of LFL, the furnace provides %.3g slm",
+		nFuel/molPerSCC, pct(prevPhi), pressureText(prev.Pressure), peak/gas.MolPerSCCMPerSecond, tau, slm(need), k*100, slm(D)).
+		num("fuel in tube", nFuel/molPerSCC, "scc").num("peak fuel", peak/gas.MolPerSCCMPerSecond, "sccm").
+		num("time constant", tau, "s").num("dilution needed", slm(need), "slm")
 }
+
+// molPerSCC is one standard cubic centimetre (0 °C, 101 325 Pa) in mol.
+const molPerSCC = gas.MolPerSCCMPerSecond * 60
 
 // hasStopRule reports whether a stop-level finding of the rule is present.
 func hasStopRule(fs []Finding, rule string) bool {

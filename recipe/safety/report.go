@@ -14,9 +14,13 @@ const (
 	// RoomLimit is the share of LFL a room's steady-state concentration
 	// must stay below (25 %, common practice).
 	RoomLimit = 0.25
-	// OxygenLimit is the oxygen-deficiency threshold, 19.5 % O2 by volume
-	// (US OSHA 29 CFR 1910.134).
+	// OxygenLimit is the default oxygen-deficiency threshold, 19.5 % O2 by
+	// volume (US OSHA 29 CFR 1910.134), used when neither Options nor the
+	// site file (oxygen.deficient_below) sets one.
 	OxygenLimit = 0.195
+	// OxygenLimitSource says where the default comes from and how to
+	// replace it.
+	OxygenLimitSource = "default: US OSHA 29 CFR 1910.134; set oxygen: {deficient_below, source} in the site file for the rule where the furnace stands"
 	// PurgeOxygenTarget is the most oxygen the tube may hold when the first
 	// flammable gas enters: 1 % O2 (ln 20.95 ≈ 3.04 volume changes from
 	// air, Crowl & Louvar).
@@ -38,7 +42,8 @@ type Options struct {
 	Compilation    gas.Compilation // flammable limits and AIT; default NFPA 497 (2008)
 	ExhaustLimit   float64         // share of LFL; default ExhaustLimit
 	RoomLimit      float64         // share of LFL; default RoomLimit
-	OxygenLimit    float64         // O2 fraction; default OxygenLimit
+	OxygenLimit    float64         // O2 fraction; default the site's oxygen.deficient_below, else OxygenLimit
+	OxygenSource   string          // where OxygenLimit comes from; set with it
 	PurgeTarget    float64         // O2 fraction; default PurgeOxygenTarget
 	VentTarget     float64         // share of LFL; default VentFuelTarget
 	MixingFactor   float64         // room mixing factor m in (0, 1]; default 1 (well mixed)
@@ -46,7 +51,21 @@ type Options struct {
 	RoomPressurePa float64         // room pressure, Pa; default 101325
 }
 
+// withSite takes the oxygen-deficiency level from the site file when
+// Options does not set one.
+func (o Options) withSite(s *recipe.Site) Options {
+	if o.OxygenLimit <= 0 && s.Oxygen != nil && s.Oxygen.DeficientBelow.SI > 0 {
+		o.OxygenLimit, o.OxygenSource = s.Oxygen.DeficientBelow.SI, "site file: "+s.Oxygen.Source
+	}
+	return o
+}
+
 func (o Options) withDefaults() Options {
+	if o.OxygenLimit <= 0 {
+		o.OxygenSource = OxygenLimitSource
+	} else if o.OxygenSource == "" {
+		o.OxygenSource = "set by the caller"
+	}
 	def := func(v *float64, d float64) {
 		if *v <= 0 {
 			*v = d
@@ -76,6 +95,16 @@ type StepSafety struct {
 	DilutionSLM  float64  `json:"dilution_needed_slm"`  // inert dilution to hold ExhaustLimit, slm
 	MaxTempC     float64  `json:"max_temperature_c"`
 	AboveAIT     []string `json:"above_autoignition,omitempty"` // fuels flowing above their AIT
+	Slug         *Slug    `json:"purge_slug,omitempty"`         // an inert step pushing out the fuel before it
+}
+
+// Slug is the fuel an inert step pushes out of the tube after a
+// flammable step: the tube's inventory and the peak it leaves at.
+type Slug struct {
+	TubeFuelSCC  float64 `json:"tube_fuel_scc"` // fuel in the tube when the step begins, scc
+	PeakSCCM     float64 `json:"peak_sccm"`     // highest fuel flow out, n_fuel/τ
+	TimeConstant float64 `json:"time_constant_s"`
+	DilutionSLM  float64 `json:"dilution_needed_slm"` // to hold the peak below the exhaust limit
 }
 
 // AlarmTime is when a release reaches one detector alarm point.
@@ -100,13 +129,22 @@ type Release struct {
 type Purge struct {
 	Step        int     `json:"step"`
 	Label       string  `json:"label"`
-	Cycles      int     `json:"cycles,omitempty"`    // pump-and-backfill cycles, 0 for flow-through
-	LowPa       float64 `json:"low_pa,omitempty"`    // cycle low pressure
-	HighPa      float64 `json:"high_pa,omitempty"`   // backfill pressure
-	Exchanges   float64 `json:"exchanges,omitempty"` // flow-through tube-volume exchanges
-	Factor      float64 `json:"factor"`              // fraction left of what the tube held: exp(−N) or (P_low/P_high)^n
-	OxygenAfter float64 `json:"oxygen_after"`        // O2 fraction in the tube after it
-	FuelAfter   float64 `json:"fuel_after"`          // fuel fraction in the tube after it
+	Cycles      int     `json:"cycles,omitempty"`      // pump-and-backfill cycles, 0 for flow-through
+	Evacuations int     `json:"evacuations,omitempty"` // pump-downs the site counts as the purge (purge_by_evacuation)
+	LowPa       float64 `json:"low_pa,omitempty"`      // cycle low pressure (pump_to)
+	HighPa      float64 `json:"high_pa,omitempty"`     // backfill pressure
+	PerCycle    float64 `json:"per_cycle,omitempty"`   // P_low/P_high: the share one cycle leaves
+	// CycleSeconds is the time of one pump-and-backfill cycle; StartPa,
+	// OxygenBefore and FuelBefore what the tube held when the cycles began
+	// (pressure, O2 and fuel fractions).
+	CycleSeconds float64 `json:"cycle_seconds,omitempty"`
+	StartPa      float64 `json:"start_pa,omitempty"`
+	OxygenBefore float64 `json:"oxygen_before,omitempty"`
+	FuelBefore   float64 `json:"fuel_before,omitempty"`
+	Exchanges    float64 `json:"exchanges,omitempty"` // flow-through tube-volume exchanges
+	Factor       float64 `json:"factor"`              // fraction left of what the tube held: exp(−N) or (P_low/P_high)^n, cycles only
+	OxygenAfter  float64 `json:"oxygen_after"`        // O2 fraction in the tube after it
+	FuelAfter    float64 `json:"fuel_after"`          // fuel fraction in the tube after it
 }
 
 // Report is the result of Analyze.
@@ -135,11 +173,19 @@ type Report struct {
 	// LeakOxygenPPM is the O2 the leak-check pass figure would let into
 	// the flammable step with the least flow, in ppm of its feed.
 	LeakOxygenPPM float64 `json:"leak_oxygen_ppm"`
+	// LeakOxygenAtFuel is the O2 fraction a leak at the pass figure keeps
+	// in the first fuel step's flow (0 without a leak check before it);
+	// the tube's O2 then is OxygenAtFuel plus this.
+	LeakOxygenAtFuel float64 `json:"leak_oxygen_at_fuel"`
 	// VentStep is the vent step (0 for none); FuelAtOpen the tube's fuel as
 	// a share of its LFL when opened; VentTempC the temperature then.
 	VentStep   int     `json:"vent_step"`
 	FuelAtOpen float64 `json:"fuel_at_open_share_of_lfl"`
 	VentTempC  float64 `json:"vent_temperature_c"`
+	// OxygenLimit is the oxygen-deficiency level judged against and
+	// OxygenSource where it comes from (the site file, or the default).
+	OxygenLimit  float64 `json:"oxygen_deficient_below"`
+	OxygenSource string  `json:"oxygen_source"`
 	// OpenBelowC is the temperature to cool to before opening.
 	OpenBelowC float64 `json:"open_below_c"`
 	// Limits used, for the record.

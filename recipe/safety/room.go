@@ -122,7 +122,8 @@ func minutes(s float64) string {
 
 func (a *analysis) flammableRelease(rel Release, lfl float64, det *recipe.Detector, noDetector map[string]bool) {
 	where := fmt.Sprintf("%s at %.3g slm (%s) into %.0f m3 at %.3g air changes/h", rel.Gas, rel.FlowSLM, rel.Source, a.s.Room.Volume.SI, a.s.Room.AirChanges.SI*3600)
-	msg := fmt.Sprintf("%s: well-mixed steady state %s = %.3g %% of LFL %s (%s)", where, pct(rel.Steady), rel.ShareOfLFL*100, pct(lfl), a.r.Compilation)
+	share, limit := pctApart(rel.ShareOfLFL, a.o.RoomLimit)
+	msg := fmt.Sprintf("%s: well-mixed steady state %s = %s of LFL %s (%s)", where, pct(rel.Steady), share, pct(lfl), a.r.Compilation)
 	if len(rel.Alarms) > 0 {
 		msg += "; alarms: " + alarmText(rel, " LFL")
 	}
@@ -140,7 +141,7 @@ func (a *analysis) flammableRelease(rel Release, lfl float64, det *recipe.Detect
 	switch {
 	case rel.ShareOfLFL >= a.o.RoomLimit:
 		f = a.add(Stop, nil, "room.leak", fmt.Sprintf("limit the release (smaller MFC, flow restrictor, excess-flow valve) or raise the ventilation so a release stays below %.0f %% of LFL; have the site's gas-safety review decide", a.o.RoomLimit*100),
-			"%s, at or above the %.0f %% limit", msg, a.o.RoomLimit*100)
+			"%s, at or above the %s limit", msg, limit)
 	case rel.ShareOfLFL >= first:
 		f = a.add(Warning, nil, "room.leak", "on the first alarm shut the cylinder valve, keep ventilation running and leave; make sure the alarm also shuts the gas off",
 			"%s: this release sets off the detector", msg)
@@ -151,8 +152,9 @@ func (a *analysis) flammableRelease(rel Release, lfl float64, det *recipe.Detect
 }
 
 func (a *analysis) inertRelease(rel Release) {
-	msg := fmt.Sprintf("%s at %.3g slm (%s) into %.0f m3 at %.3g air changes/h: well-mixed steady state %s %s leaves %s O2 (deficient below %s, 29 CFR 1910.134)",
-		rel.Gas, rel.FlowSLM, rel.Source, a.s.Room.Volume.SI, a.s.Room.AirChanges.SI*3600, pct(rel.Steady), rel.Gas, pct(rel.Oxygen), pct(a.o.OxygenLimit))
+	o2, limit := pctApart(rel.Oxygen, a.o.OxygenLimit)
+	msg := fmt.Sprintf("%s at %.3g slm (%s) into %.0f m3 at %.3g air changes/h: well-mixed steady state %s %s leaves %s O2 (deficient below %s, %s)",
+		rel.Gas, rel.FlowSLM, rel.Source, a.s.Room.Volume.SI, a.s.Room.AirChanges.SI*3600, pct(rel.Steady), rel.Gas, o2, limit, a.o.OxygenSource)
 	if len(rel.Alarms) > 0 {
 		msg += "; O2 alarms: " + alarmText(rel, " O2")
 	}

@@ -183,26 +183,28 @@ func (a *analysis) sequenceStep(st *sequenceState, i int) {
 }
 
 // cyclePurge runs the pump-and-backfill cycles of purge step sp on the
-// tube and records the purge. Each cycle pumps to P_low (ten times the
-// higher of the pump limit and the base pressure; the first from the
-// tube's pressure if lower) and backfills to P_high with the feed o2, fuel;
-// what is left of the old gas is the product of P_low/P_high.
+// tube and records the purge. Each cycle pumps to P_low (the step's
+// CycleLow: its pump_to, or just above the base pressure; a tube already
+// lower stays where it is) and backfills to P_high with the feed o2, fuel.
+// Of the gas before a cycle, P_low/P_high is left, so n cycles leave
+//
+//	C_n / C_0 = (P_low / P_high)^n
+//
+// of what the tube held when the step began (Crowl & Louvar, Chemical
+// Process Safety, vacuum purging). The record keeps the starting content
+// and the factor per cycle apart.
 func (a *analysis) cyclePurge(t *tube, sp *recipe.StepPlan, o2, fuel float64) {
 	s := sp.Step
-	high := s.Backfill.SI
-	low := math.Max(10*sp.PumpLimit, 10*a.p.Furnace.Vacuum.BasePressure.SI)
-	factor := 1.0
+	high, low := s.Backfill.SI, sp.CycleLow
+	pg := Purge{Step: sp.Index + 1, Label: sp.Label, Cycles: s.Cycles, LowPa: low, HighPa: high,
+		StartPa: t.P, OxygenBefore: t.O2, FuelBefore: t.Fuel, PerCycle: low / high, CycleSeconds: sp.CycleTime}
 	for c := 0; c < s.Cycles; c++ {
-		lo := low
-		if c == 0 {
-			lo = math.Min(t.P, low)
-		}
-		t.P = lo
+		t.P = math.Min(t.P, low)
 		t.fill(high, o2, fuel)
-		factor *= lo / high
 	}
-	a.r.Purges = append(a.r.Purges, Purge{Step: sp.Index + 1, Label: sp.Label, Cycles: s.Cycles, LowPa: low, HighPa: high,
-		Factor: factor, OxygenAfter: t.O2, FuelAfter: t.Fuel})
+	pg.Factor = CycleFraction(low, high, s.Cycles)
+	pg.OxygenAfter, pg.FuelAfter = t.O2, t.Fuel
+	a.r.Purges = append(a.r.Purges, pg)
 }
 
 // flowThrough fills the tube to the step's pressure P with its feed (o2,
@@ -230,7 +232,10 @@ func (a *analysis) flowThrough(t *tube, sp *recipe.StepPlan, P, o2, fuel float64
 
 // sequenceEnd judges the end of the run (no vent after fuel) and
 // estimates the O2 a leak at the leak check's pass figure would bring into
-// the smallest fuel flow: ṅ_leak = (dP/dt)·V/(R·T_room) of air.
+// the smallest fuel flow, and into the first fuel step's flow ṅ once it
+// has swept the tube:
+//
+//	ṅ_leak = (dP/dt)·V/(R·T_room) of air,  y_O2 = 0.2095·ṅ_leak/(ṅ + ṅ_leak)
 func (a *analysis) sequenceEnd(st *sequenceState) {
 	p := a.p
 	if st.fuelSeen && a.r.VentStep == 0 {
@@ -242,6 +247,10 @@ func (a *analysis) sequenceEnd(st *sequenceState) {
 		s := p.Steps[a.r.LeakCheckStep-1].Step
 		leakIn := s.MaxRise.SI * p.Furnace.TubeVolume() / (gas.R * recipe.RoomTemperature) // mol/s of air at the pass figure
 		a.r.LeakOxygenPPM = leakIn * airOxygen / st.minFuelFlow * 1e6
+		if a.r.LeakCheckStep < a.r.FirstFuelStep {
+			flow := p.Steps[a.r.FirstFuelStep-1].TotalFlow
+			a.r.LeakOxygenAtFuel = leakIn * airOxygen / (flow + leakIn)
+		}
 	}
 }
 
@@ -253,15 +262,38 @@ func (a *analysis) firstFuel(sp *recipe.StepPlan, sev Severity, leak, purged boo
 			"flammable gas enters before any leak check")
 	}
 	if !purged {
+		purged = a.evacuationPurge(sp)
+	}
+	if !purged {
 		a.add(sev, sp, "sequence.inert-purge", fmt.Sprintf("add an inert purge (flow-through of at least %.2f tube volumes, or pump-and-backfill cycles) before any flammable gas", SweepExchanges(airOxygen, a.o.PurgeTarget)),
 			"flammable gas enters before any inert purge").num("O2 in tube", o2*100, "%")
 		return
 	}
 	if o2 > a.o.PurgeTarget {
+		got, target := pctApart(o2, a.o.PurgeTarget)
 		a.add(sev, sp, "sequence.purge-oxygen", "purge longer or add pump-and-backfill cycles before the first flammable gas",
-			"the tube still holds %s O2 when flammable gas enters, above the %s target", pct(o2), pct(a.o.PurgeTarget)).
+			"the tube still holds %s O2 when flammable gas enters, above the %s target", got, target).
 			num("O2 in tube", o2*100, "%").num("target", a.o.PurgeTarget*100, "%")
 	}
+}
+
+// evacuationPurge reports whether the site counts the pump-downs before
+// the first flammable step sp as its purge (Site.PurgeByEvacuation), and
+// when it does records them as a purge with their dilution factor
+// p_low/p_high and notes it.
+func (a *analysis) evacuationPurge(sp *recipe.StepPlan) bool {
+	ev := a.p.EvacuationsBefore(sp.Index)
+	ok, need := a.s.EvacuationPurges(ev)
+	if !ok || ev.Last < 0 {
+		return false
+	}
+	last := &a.p.Steps[ev.Last]
+	a.r.Purges = append(a.r.Purges, Purge{Step: last.Index + 1, Label: last.Label, Evacuations: ev.Cycles, LowPa: ev.Low,
+		Factor: ev.Factor, OxygenAfter: a.r.OxygenAtFuel})
+	a.add(Note, sp, "sequence.evacuation-purge", "no action; the site's gas-safety rules decide whether evacuation is enough",
+		"the site counts evacuation as the purge (purge_by_evacuation, at least %d): %d evacuation%s to %s leave p_low/p_high = %.2g of the air",
+		need, ev.Cycles, plural(ev.Cycles), pressureText(ev.Low), ev.Factor).num("dilution factor", ev.Factor, "")
+	return true
 }
 
 // vent judges the tube when it is opened.
@@ -284,8 +316,9 @@ func (a *analysis) vent(sp *recipe.StepPlan, t tube, purged, fuelSeen bool) {
 	}
 	a.r.FuelAtOpen = share
 	if share > a.o.VentTarget {
+		got, limit := pctApart(share, a.o.VentTarget)
 		a.add(Stop, sp, "sequence.purge-before-vent", fmt.Sprintf("purge with inert gas until the tube holds below %.0f %% of LFL (at least %.2f tube volumes from the last fuel step) before venting", a.o.VentTarget*100, SweepExchanges(t.Fuel, a.o.VentTarget*t.LFL)),
-			"the tube holds %s fuel when opened, %.0f %% of its LFL %s (limit %.0f %%)", pct(t.Fuel), share*100, pct(t.LFL), a.o.VentTarget*100).
+			"the tube holds %s fuel when opened, %s of its LFL %s (limit %s)", pct(t.Fuel), got, pct(t.LFL), limit).
 			num("fuel in tube", t.Fuel*100, "%").num("share of LFL", share*100, "%")
 	} else if !purged {
 		a.add(Warning, sp, "sequence.purge-before-vent", "add an inert purge after the last flammable gas; do not rely on the vent's backfill alone",

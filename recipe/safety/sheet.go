@@ -62,7 +62,10 @@ func (sh *Sheet) before(p *recipe.Plan, s *recipe.Site, r *Report, fuels, inerts
 		}
 		item(&sh.Before, "Purge, step %s: %s; tube O2 left %s", pg.Label, purgeText(pg), ppm(pg.OxygenAfter))
 	}
-	if r.FirstFuelStep > 0 {
+	if r.FirstFuelStep > 0 && r.LeakOxygenAtFuel > 0 {
+		item(&sh.Before, "Tube O2 when fuel first enters (step %d): %s left by the purge, plus %s from a leak at the pass figure %s: about %s (target at most %s)",
+			r.FirstFuelStep, ppm(r.OxygenAtFuel), ppm(r.LeakOxygenAtFuel), r.LeakCheckPass, ppm(r.OxygenAtFuel+r.LeakOxygenAtFuel), pct(r.Options.PurgeTarget))
+	} else if r.FirstFuelStep > 0 {
 		item(&sh.Before, "Tube O2 when fuel first enters (step %d): %s (target at most %s)", r.FirstFuelStep, ppm(r.OxygenAtFuel), pct(r.Options.PurgeTarget))
 	}
 	for _, d := range s.Detectors {
@@ -133,8 +136,12 @@ func (sh *Sheet) numbers(s *recipe.Site, r *Report) {
 		if rel.ShareOfLFL > 0 {
 			item(&sh.Numbers, "%s leak at %.3g slm (%s): room steady state %.3g %% of LFL%s", rel.Gas, rel.FlowSLM, rel.Source, rel.ShareOfLFL*100, firstAlarm(rel))
 		} else {
-			item(&sh.Numbers, "%s leak at %.3g slm (%s): room O2 falls to %s", rel.Gas, rel.FlowSLM, rel.Source, pct(rel.Oxygen))
+			o2, _ := pctApart(rel.Oxygen, r.OxygenLimit)
+			item(&sh.Numbers, "%s leak at %.3g slm (%s): room O2 falls to %s", rel.Gas, rel.FlowSLM, rel.Source, o2)
 		}
+	}
+	if len(r.Releases) > 0 {
+		item(&sh.Numbers, "oxygen-deficient below %s (%s)", pct(r.OxygenLimit), r.OxygenSource)
 	}
 	worst := 0.0
 	for _, st := range r.Steps {
@@ -161,10 +168,22 @@ func firstAlarm(rel Release) string {
 }
 
 func purgeText(pg Purge) string {
+	if pg.Evacuations > 0 {
+		return fmt.Sprintf("%d evacuation%s to %s, which the site counts as the purge, leaving p_low/p_high = %.2g of the air", pg.Evacuations, plural(pg.Evacuations), pressureText(pg.LowPa), pg.Factor)
+	}
 	if pg.Cycles > 0 {
-		return fmt.Sprintf("%d pump-and-backfill cycles %.3g to %.3g kPa, left (P_low/P_high)^n = %.2g", pg.Cycles, pg.LowPa/1000, pg.HighPa/1000, pg.Factor)
+		return fmt.Sprintf("tube holds %s O2 at %s before the cycles; %d pump-and-backfill cycles %s to %s (%s each), each leaving P_low/P_high = %.2g of the gas before it, (P_low/P_high)^%d = %.2g",
+			ppm(pg.OxygenBefore), pressureText(pg.StartPa), pg.Cycles, pressureText(pg.LowPa), pressureText(pg.HighPa), minutes(pg.CycleSeconds), pg.PerCycle, pg.Cycles, pg.Factor)
 	}
 	return fmt.Sprintf("%s tube volumes flow-through (at least 3.04 for 1 %% O2 from air)", count(pg.Exchanges))
+}
+
+// pressureText writes a pressure in kPa near atmosphere, else Pa.
+func pressureText(pa float64) string {
+	if pa >= 1000 {
+		return trim(fmt.Sprintf("%.3g kPa", pa/1000))
+	}
+	return trim(fmt.Sprintf("%.3g Pa", pa))
 }
 
 func ppm(x float64) string {
