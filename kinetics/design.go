@@ -17,7 +17,7 @@ const ReasonRunCount Reason = "run count"
 // Default settings of DesignSpec (model choices, see the fields).
 const (
 	DefaultDesignScale      = 0.3 // σ of cloglog θ and of ln N when no fit gave one
-	DefaultDesignCandidates = 300
+	DefaultDesignCandidates = 600
 	DefaultDesignRestarts   = 8
 )
 
