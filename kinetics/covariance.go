@@ -47,6 +47,7 @@ func (f *fitter) result(x []float64) *FitResult {
 		res.Params.Covariance = f.storedCovariance(res.Params, cv)
 	}
 	res.Params.Runs = len(f.obs)
+	res.Params.Bounds = f.usedBounds()
 	res.Params.CoverageOnly = f.unidentified != [nFit]bool{}
 	res.Params.Source = fmt.Sprintf("fit of %d runs (%d measurements, %d free parameters), %s", len(f.obs), n, p, f.status)
 	res.Residuals = f.residualList(res.Params, r)

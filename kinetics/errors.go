@@ -68,6 +68,9 @@ const (
 	// ReasonOneTemperature: every run of a fit grows at one temperature
 	// while an activation energy is free.
 	ReasonOneTemperature Reason = "one temperature"
+	// ReasonNotPredicted: a quantity the parameters cannot predict, such
+	// as nuclei density from a coverage-only calibration (Params.Predicts).
+	ReasonNotPredicted Reason = "not predicted"
 )
 
 // InputError is an error about what a caller gave the package: a parse

@@ -48,7 +48,8 @@ type FitSettings struct {
 	// (see ParseFix). In continuous mode site_density is always fixed, in
 	// site-saturated mode the four nucleation parameters are.
 	Fixed map[string]float64
-	// Bounds overrides the default bounds (DefaultBounds) by file key,
+	// Bounds overrides the start's Bounds (recorded in its params file by
+	// an earlier fit), which override DefaultBounds, by file key,
 	// [lo, hi] in the file's units (eV for energies, prefactors as SI
 	// values, not logarithms).
 	Bounds map[string][2]float64
@@ -256,10 +257,17 @@ func (f *fitter) fix(fixed map[string]float64) error {
 	return nil
 }
 
-// bound sets the default bounds (DefaultBounds) and the caller's.
+// bound sets the bounds: DefaultBounds, then the start's (the bounds its
+// params file recorded), then the caller's, each overriding the one
+// before; f.bounds keeps them in file units for the result.
 func (f *fitter) bound(bounds map[string][2]float64) error {
+	f.bounds = map[string][2]float64{}
 	for i := range nFit {
 		b := DefaultBounds[FitParameters[i].Key]
+		if sb, ok := f.start.Bounds[FitParameters[i].Key]; ok {
+			b = sb
+		}
+		f.bounds[FitParameters[i].Key] = b
 		f.lo[i], f.hi[i] = b[0], b[1]
 		if FitParameters[i].Log {
 			f.lo[i], f.hi[i] = math.Log(b[0]), math.Log(b[1])
@@ -278,8 +286,19 @@ func (f *fitter) bound(bounds map[string][2]float64) error {
 			return inputErr(KindFix, "fit: bounds of %s: lower %g is not below upper %g", FitParameters[i].Key, b[0], b[1])
 		}
 		f.lo[i], f.hi[i] = lo, hi
+		f.bounds[FitParameters[i].Key] = b
 	}
 	return nil
+}
+
+// usedBounds are the bounds of the free parameters, for the result's
+// Params.
+func (f *fitter) usedBounds() map[string][2]float64 {
+	out := map[string][2]float64{}
+	for _, i := range f.free {
+		out[FitParameters[i].Key] = f.bounds[FitParameters[i].Key]
+	}
+	return out
 }
 
 // addRows turns the observations into residual rows: one per chosen

@@ -25,6 +25,7 @@ type fitter struct {
 	mode     Mode
 	v0       fitVec
 	lo, hi   fitVec
+	bounds   map[string][2]float64 // in file units, by key (see bound)
 	fixed    [nFit]bool
 	free     []int
 	all      []Observation

@@ -31,6 +31,9 @@ import (
 //	date: 2026-03-02
 //	coverage_only: true               # optional: a fit from coverage alone; predicts
 //	                                  # coverage and its timing, not density or size
+//	bounds:                           # optional, as a fit writes it: the range each
+//	  growth_energy: [-5 eV, 8 eV]    # free parameter was kept within (FitParameters keys,
+//	  methane_order: [0, 4]           # values as in FitSettings.Bounds, lo < hi)
 //	covariance:                       # optional, as a fit writes it
 //	  parameters: [nucleation_energy, growth_energy]
 //	  matrix: [[0.01, 0.002], [0.002, 0.02]]
@@ -83,7 +86,7 @@ func LoadParams(path string) (Params, error) {
 var paramFields = []string{
 	"nucleation_energy", "nucleation_prefactor", "methane_order", "hydrogen_order",
 	"growth_energy", "growth_prefactor", "reference_pressure", "shape", "mode", "site_density",
-	"source", "runs", "date", "coverage_only", "covariance",
+	"source", "runs", "date", "coverage_only", "bounds", "covariance",
 }
 
 // freeParams are the numeric keys a covariance may name.
@@ -239,6 +242,12 @@ func (d *paramDecoder) field(k, v *yaml.Node) {
 		if w, ok := d.choice(key, v, "true", "false"); ok {
 			p.CoverageOnly = w == "true"
 		}
+	case "bounds":
+		b, msgs := parseBounds(v)
+		for _, m := range msgs {
+			d.at(m.n, m.msg, "")
+		}
+		p.Bounds = b
 	case "covariance":
 		c, msgs := parseCovariance(v)
 		for _, m := range msgs {
@@ -287,6 +296,61 @@ func valueOf(m, key *yaml.Node) *yaml.Node {
 type nodeMsg struct {
 	n   *yaml.Node
 	msg string
+}
+
+// parseBounds reads the bounds block: a mapping of fit parameter keys to
+// [lo, hi], each a plain number in the file's unit or a quantity of the
+// parameter's dimension, lo < hi and, for prefactors, lo > 0.
+func parseBounds(v *yaml.Node) (map[string][2]float64, []nodeMsg) {
+	var msgs []nodeMsg
+	bad := func(n *yaml.Node, format string, args ...any) {
+		msgs = append(msgs, nodeMsg{n, fmt.Sprintf(format, args...)})
+	}
+	if v.Kind != yaml.MappingNode {
+		bad(v, "bounds must be a mapping of parameter: [lo, hi]")
+		return nil, msgs
+	}
+	out := map[string][2]float64{}
+	for i := 0; i+1 < len(v.Content); i += 2 {
+		k, r := v.Content[i], v.Content[i+1]
+		j := fitIndex(k.Value)
+		if j < 0 || FitParameters[j].Key != k.Value {
+			bad(k, "bounds names unknown parameter %q, want one of %s", k.Value, knownFitNames())
+			continue
+		}
+		if _, dup := out[k.Value]; dup {
+			bad(k, "bounds names %q twice", k.Value)
+			continue
+		}
+		if r.Kind != yaml.SequenceNode || len(r.Content) != 2 {
+			bad(r, "bounds of %s must be a list [lo, hi] of two values", k.Value)
+			continue
+		}
+		fp := FitParameters[j]
+		var b [2]float64
+		ok := true
+		for e, n := range r.Content {
+			x, err := fp.parse(n.Value)
+			if err != nil {
+				bad(n, "bounds of %s: %v", k.Value, err)
+				ok = false
+			}
+			b[e] = x
+		}
+		switch {
+		case !ok:
+		case fp.Log && !(b[0] > 0):
+			bad(r.Content[0], "bounds of %s: the lower bound %q must be greater than zero", k.Value, r.Content[0].Value)
+		case !(b[0] < b[1]):
+			bad(r, "bounds of %s: lower %q is not below upper %q", k.Value, r.Content[0].Value, r.Content[1].Value)
+		default:
+			out[k.Value] = b
+		}
+	}
+	if len(msgs) > 0 || len(out) == 0 {
+		return nil, msgs
+	}
+	return out, nil
 }
 
 func parseCovariance(v *yaml.Node) (*Covariance, []nodeMsg) {
@@ -418,6 +482,7 @@ func FormatParams(p Params) []byte {
 		b.WriteString("# not nuclei density or domain size\n")
 		b.WriteString("coverage_only: true\n")
 	}
+	writeBounds(&b, p.Bounds, si)
 	if c := p.Covariance; c != nil {
 		b.WriteString("covariance:\n  parameters: [" + strings.Join(c.Names, ", ") + "]\n  matrix:\n")
 		for _, row := range c.Matrix {
@@ -429,4 +494,31 @@ func FormatParams(p Params) []byte {
 		}
 	}
 	return b.Bytes()
+}
+
+// writeBounds writes the bounds block in FitParameters order, energies in
+// eV, orders as plain numbers, prefactors through si.
+func writeBounds(b *bytes.Buffer, bounds map[string][2]float64, si func(float64, string) string) {
+	if len(bounds) == 0 {
+		return
+	}
+	b.WriteString("bounds:  # the range the fit kept each free parameter within\n")
+	for _, fp := range FitParameters {
+		r, ok := bounds[fp.Key]
+		if !ok {
+			continue
+		}
+		var cells [2]string
+		for i, x := range r {
+			switch {
+			case fp.Unit == "":
+				cells[i] = strconv.FormatFloat(x, 'g', -1, 64)
+			case fp.Unit == "eV":
+				cells[i] = strconv.FormatFloat(x, 'g', -1, 64) + " eV"
+			default:
+				cells[i] = si(x, fp.Unit)
+			}
+		}
+		fmt.Fprintf(b, "  %s: [%s, %s]\n", fp.Key, cells[0], cells[1])
+	}
 }

@@ -19,6 +19,7 @@ func TestParamsRoundTrip(t *testing.T) {
 	p := DefaultParams()
 	p.Covariance = &Covariance{Names: []string{"nucleation_energy", "growth_energy"}, Matrix: [][]float64{{0.01, 0.002}, {0.002, 0.02}}}
 	p.Runs, p.Date = 12, "2026-03-02"
+	p.Bounds = map[string][2]float64{"nucleation_energy": {-5, 8}, "nucleation_prefactor": {1e-300, 1e300}, "methane_order": {0, 4}, "growth_prefactor": {1e-3, 1.5e20}}
 	got, err := ParseParams("defaults.yaml", FormatParams(p))
 	if err != nil {
 		t.Fatal(err)
@@ -76,7 +77,15 @@ func TestParamsStrict(t *testing.T) {
 	for _, c := range []struct{ name, file, want string }{
 		{"unknown field", goodParams + "growth_energie: 4 eV\n",
 			`load params "p.yaml": line 8 col 1: unknown field "growth_energie" in the params file
-  hint: known fields: nucleation_energy, nucleation_prefactor, methane_order, hydrogen_order, growth_energy, growth_prefactor, reference_pressure, shape, mode, site_density, source, runs, date, coverage_only, covariance`},
+  hint: known fields: nucleation_energy, nucleation_prefactor, methane_order, hydrogen_order, growth_energy, growth_prefactor, reference_pressure, shape, mode, site_density, source, runs, date, coverage_only, bounds, covariance`},
+		{"bounds unknown", goodParams + "bounds:\n  reference_pressure: [1 Pa, 2 Pa]\n",
+			`load params "p.yaml": line 9 col 3: bounds names unknown parameter "reference_pressure", want one of En (nucleation_energy), I0 (nucleation_prefactor), a (methane_order), b (hydrogen_order), Eg (growth_energy), G0 (growth_prefactor), N0 (site_density)`},
+		{"bounds reversed", goodParams + "bounds:\n  growth_energy: [8 eV, -5 eV]\n",
+			`load params "p.yaml": line 9 col 18: bounds of growth_energy: lower "8 eV" is not below upper "-5 eV"`},
+		{"bounds not a pair", goodParams + "bounds:\n  methane_order: [0, 2, 4]\n",
+			`load params "p.yaml": line 9 col 18: bounds of methane_order must be a list [lo, hi] of two values`},
+		{"bounds zero prefactor", goodParams + "bounds:\n  growth_prefactor: [0 m/s, 1 m/s]\n",
+			`load params "p.yaml": line 9 col 22: bounds of growth_prefactor: the lower bound "0 m/s" must be greater than zero`},
 		{"bad unit", strings.Replace(goodParams, "4.5 eV", "4.5 eJ", 1),
 			`load params "p.yaml": line 5 col 16: growth_energy "4.5 eJ" has unknown unit "eJ", want a energy such as "1.2 eV" (units: eV, meV, kJ/mol, J)`},
 		{"no unit", strings.Replace(goodParams, "1.1e11 m/s", "1.1e11", 1),
@@ -162,6 +171,7 @@ func FuzzParseParams(f *testing.F) {
 	f.Add(FormatParams(DefaultParams()))
 	f.Add([]byte(goodParams + "covariance:\n  parameters: [growth_energy]\n  matrix: [[1]]\nsource: \"x\\ty\"\n"))
 	f.Add([]byte("nucleation_energy: 4eV\n"))
+	f.Add([]byte(goodParams + "bounds:\n  growth_energy: [-300 meV, 8 eV]\n  growth_prefactor: [1e4 um/min, 1e300]\n  methane_order: [0, 50%]\n"))
 	f.Fuzz(func(t *testing.T, data []byte) {
 		p, err := ParseParams("fuzz.yaml", data)
 		if err != nil {

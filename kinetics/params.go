@@ -69,6 +69,12 @@ type Params struct {
 	Source string
 	Runs   int
 	Date   string
+	// Bounds are the ranges a fit kept its free parameters within, by
+	// file key ("growth_energy", ...; see FitParameters), [lo, hi] in the
+	// file's units (eV for energies, SI values for prefactors); nil when
+	// not from a fit. A later Fit started from these parameters uses them
+	// in place of DefaultBounds. Predict does not use them.
+	Bounds map[string][2]float64
 	// CoverageOnly is true for a calibration from coverage alone: it
 	// predicts coverage and the time to reach it, not nuclei density or
 	// domain size (the separate rates are not identified).

@@ -78,7 +78,8 @@ const (
 // then checked at that time. With Confidence the time is the (1+L)/2
 // quantile of the sampled parameter sets' times, so the interval's lower
 // bound meets the target. It returns an *InputError (kind KindSuggest or
-// KindVary, wrapping ErrSuggest) for no target, an unknown parameter or
+// KindVary, wrapping ErrSuggest) for no target, a target on a metric the
+// parameters do not predict (Params.Predicts), an unknown parameter or
 // range, a recipe without a grow step or a gas without a line, and a
 // Suggestion with Met false when nothing in range meets the targets. It
 // panics if plan, plan.Recipe or plan.Furnace is nil.
@@ -92,6 +93,9 @@ func Suggest(plan *recipe.Plan, spec SuggestSpec) (*Suggestion, error) {
 	}
 	spec, err := spec.withDefaults()
 	if err != nil {
+		return nil, err
+	}
+	if err := checkPredicted(spec.Targets, spec.Params); err != nil {
 		return nil, err
 	}
 	r := plan.Recipe

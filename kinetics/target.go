@@ -69,3 +69,48 @@ func parseSI(text string, dim recipe.Dimension) (float64, error) {
 	q, err := recipe.Parse(text, dim)
 	return q.SI, err
 }
+
+// Predicts returns nil when p predicts the metric, and otherwise an
+// *InputError of kind KindMetric (wrapping ErrMetric, Reason
+// ReasonNotPredicted) with a hint. A coverage-only calibration
+// (Params.CoverageOnly) predicts coverage and the time to reach it: from
+// coverage alone only the product I·G² (continuous nucleation) or N0·G²
+// (site-saturated) is identified, and θ depends on nothing else:
+//
+//	θ(t) = 1 − exp(−κ·I·G²·t³/3)                 (constant conditions)
+//
+// Nuclei density and domain size depend on I and G separately,
+//
+//	N∞ = Γ(4/3)·(3/κ)^(1/3)·(I/G)^(2/3),  d = sqrt(4·θ/(π·N)),
+//
+// so they are not predicted. Every other metric is predicted.
+//
+// References: W. A. Johnson, R. F. Mehl, Trans. AIME 135, 416 (1939);
+// M. Avrami, J. Chem. Phys. 7, 1103 (1939) (the coverage law, from memory).
+func (p Params) Predicts(metric string) error {
+	if e := notPredicted(KindMetric, fmt.Sprintf("metric %q", metric), p, metric); e != nil {
+		return e
+	}
+	return nil
+}
+
+// notPredicted is the error of a metric a coverage-only calibration cannot
+// predict, nil for one it can; ctx starts the message.
+func notPredicted(kind InputKind, ctx string, p Params, metric string) *InputError {
+	if !p.CoverageOnly || (metric != MetricNucleiDensity && metric != MetricDomainSize) {
+		return nil
+	}
+	return inputErr(kind, "%s: the parameters were calibrated on coverage only, which fixes the product of the nucleation and growth rates, not each; %s depends on them separately and is not predicted", ctx, metric).
+		hinted("ask for coverage or the time to reach it, or fit with measured nuclei densities too (foilrun fit --metric coverage,nuclei_density)").
+		because(ReasonNotPredicted)
+}
+
+// checkPredicted refuses a target the parameters do not predict.
+func checkPredicted(targets []Target, p Params) error {
+	for _, t := range targets {
+		if e := notPredicted(KindTarget, fmt.Sprintf("target %q", t.Text), p, t.Quantity); e != nil {
+			return e
+		}
+	}
+	return nil
+}

@@ -74,7 +74,9 @@ uncertainty is shown as a factor (×/÷).
 Bounds (from the model's own domain): energies −5 to 8 eV (an effective
 nucleation energy may be negative), orders a and b 0 to 4, prefactors
 1e-300 to 1e300. A parameter that ends on a bound is reported (at_bound);
---bound NAME=LO:HI moves the bounds (e.g. --bound En=-3:6).
+--bound NAME=LO:HI moves the bounds (e.g. --bound En=-3:6). The params file
+written with -o records the bounds used (bounds:), and a fit started from it
+(--params FILE) keeps them unless --bound moves them.
 
 --fix NAME=VALUE holds a parameter (En, I0, a, b, Eg, G0, N0 or the file's
 names; eV, /m2/s, m/s, /m2). --params FILE gives the start point and the

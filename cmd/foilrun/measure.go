@@ -125,10 +125,14 @@ func (mf *measureFlags) measureImage(f *factory, path string, is *imageSettings)
 		return nil, nil, err
 	}
 	if is.refuseGuess && is.source == sourceGuess {
-		return nil, nil, withHint(usagef("image %q: the polarity of the domains is not known, and a guess is not stored as a measurement", path),
+		msg := fmt.Sprintf("image %q: the polarity of the domains is not known, and a guess is not stored as a measurement", path)
+		if is.undecided != "" {
+			msg += "; the run's " + is.undecided
+		}
+		return nil, nil, withHint(usagef("%s", msg),
 			"give --polarity darker|brighter, or --instrument NAME --site FILE (an imaging preset); foilrun measure image shows the guess without storing it")
 	}
-	res, err := micrograph.Analyze(img, set)
+	res, err := analyze(img, set, is.predicted)
 	if err != nil {
 		var op *micrograph.OnePeakError
 		if errors.As(err, &op) {
@@ -145,6 +149,28 @@ func (mf *measureFlags) measureImage(f *factory, path string, is *imageSettings)
 		fmt.Fprintf(f.io.Err, "wrote overlay %s\n", mf.overlay)
 	}
 	return out, is.measurements(res, out), nil
+}
+
+// analyze runs micrograph.Analyze; with a predicted side it takes the
+// class the prediction names (the smaller or the larger one) as the
+// domains and gives the prediction as the polarity's reason.
+func analyze(img image.Image, set micrograph.Settings, side *predictedSide) (*micrograph.Result, error) {
+	res, err := micrograph.Analyze(img, set)
+	if err != nil || side == nil {
+		return res, err
+	}
+	set.Polarity = res.Polarity // the smaller class
+	if side.majority {
+		set.Polarity = micrograph.DomainsDarker
+		if res.Polarity == micrograph.DomainsDarker {
+			set.Polarity = micrograph.DomainsBrighter
+		}
+	}
+	if res, err = micrograph.Analyze(img, set); err != nil {
+		return nil, err
+	}
+	res.PolarityReason = "the run's " + side.reason
+	return res, nil
 }
 
 // checkRects refuses a --crop or --bare-region outside the image, with the

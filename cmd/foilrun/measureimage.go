@@ -13,7 +13,7 @@ import (
 const (
 	sourceGiven      = "given"      // --polarity, or a bare reference (--bare-gray, --bare-region) the user gave
 	sourceInstrument = "instrument" // the --instrument preset of the site file
-	sourcePrediction = "prediction" // the run's predicted coverage decides it (not built yet)
+	sourcePrediction = "prediction" // the run's predicted coverage decides it (measurepredict.go)
 	sourceGuess      = "guess"      // the smaller class was taken as the domains
 )
 
@@ -25,6 +25,11 @@ type imageSettings struct {
 	instrument  string  // preset name, "" for none
 	islandLimit float64 // coverage below which islands are stored as nuclei_density
 	refuseGuess bool    // a guessed polarity is an error (outcome measure stores nothing guessed)
+	// predicted, with source prediction, says which class the run's
+	// predicted coverage makes the domains; undecided says why a
+	// prediction did not decide it.
+	predicted *predictedSide
+	undecided string
 }
 
 // imageSettings resolves the flags and the --instrument preset into the

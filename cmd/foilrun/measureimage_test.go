@@ -182,11 +182,12 @@ func TestOutcomeMeasureProvenance(t *testing.T) {
 		t.Fatalf("run add: exit %d: %s", code, e)
 	}
 	run := strings.TrimSpace(out[strings.LastIndex(strings.TrimSpace(out), "\n")+1:])
-	code, _, e = runCLI(t, db, "outcome", "measure", run, "--image", "b.png", "--pixel", "0.2um")
+	half := logRecipe(t, db, filepath.Dir(tmpl), "1.1 min")
+	code, _, e = runCLI(t, db, "outcome", "measure", half, "--image", "b.png", "--pixel", "0.2um")
 	if code != 2 || !strings.Contains(e, "polarity of the domains is not known") || !strings.Contains(e, "--instrument") {
 		t.Errorf("no polarity: exit %d, stderr %q; want 2 and a hint naming --polarity and --instrument", code, e)
 	}
-	if got := storedOutcomes(t, db, run); len(got) != 0 {
+	if got := storedOutcomes(t, db, half); len(got) != 0 {
 		t.Fatalf("refused measurement stored %d outcomes: %+v", len(got), got)
 	}
 	if code, _, e := runCLI(t, db, "outcome", "measure", run, "--image", "full.png", "--pixel", "0.2um", "--polarity", "darker"); code != 2 || !strings.Contains(e, "one peak") {
@@ -250,4 +251,79 @@ func meanOf(os []struct {
 		}
 	}
 	return math.NaN()
+}
+
+// logRecipe writes the low-pressure template with its grow step lasting
+// duration into the working folder (beside furnace.yaml, and the
+// site.yaml of inFieldDir, which its "site:" names), logs a run of it and
+// returns the run's code.
+func logRecipe(t *testing.T, db, tmpl, duration string) string {
+	t.Helper()
+	data, err := os.ReadFile(filepath.Join(tmpl, "recipe-lowpressure.yaml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	furnace, err := os.ReadFile(filepath.Join(tmpl, "furnace.yaml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	writeFile(t, "furnace.yaml", string(furnace))
+	name := "grow-" + strings.ReplaceAll(duration, " ", "") + ".yaml"
+	writeFile(t, name, strings.Replace(string(data), "duration: 15 min", "duration: "+duration, 1))
+	code, out, e := runCLI(t, db, "run", "add", name)
+	if code != 0 {
+		t.Fatalf("run add %s: exit %d: %s", name, code, e)
+	}
+	return strings.TrimSpace(out[strings.LastIndex(strings.TrimSpace(out), "\n")+1:])
+}
+
+func writeFile(t *testing.T, name, text string) {
+	t.Helper()
+	if err := os.WriteFile(name, []byte(text), 0o644); err != nil {
+		t.Fatal(err)
+	}
+}
+
+// TestOutcomeMeasurePrediction: with no polarity and no preset, the run's
+// predicted coverage decides the polarity only when it is clear. With the
+// illustrative parameters (no covariance, so no interval) the low-pressure
+// template's 15 min grow step predicts coverage 1 (above 80 %: decides,
+// domains the larger class) and a 1.1 min grow step 51.7 % (predict:
+// neither below 20 % nor above 80 %: refused, nothing stored). The 80 %
+// image measured so is within 0.015 of its drawn coverage (issue
+// tolerance). An --instrument without --site reads the site file the
+// run's recipe names.
+func TestOutcomeMeasurePrediction(t *testing.T) {
+	tmpl, err := filepath.Abs(tmplDir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	truth := inFieldDir(t)
+	db := "--db=log.db"
+	full, half := logRecipe(t, db, tmpl, "15 min"), logRecipe(t, db, tmpl, "1.1 min")
+	code, _, e := runCLI(t, db, "outcome", "measure", half, "--image", "b.png", "--pixel", "0.2um")
+	if code != 2 || !strings.Contains(e, "predicted coverage 51.7 % (no interval") || !strings.Contains(e, "does not decide") {
+		t.Errorf("prediction near one half: exit %d, stderr %q; want 2 saying the prediction does not decide", code, e)
+	}
+	if got := storedOutcomes(t, db, half); len(got) != 0 {
+		t.Errorf("refused measurement stored %d outcomes: %+v", len(got), got)
+	}
+	code, _, e = runCLI(t, db, "outcome", "measure", full, "--image", "c.png", "--pixel", "0.2um")
+	if code != 0 {
+		t.Fatalf("prediction near one: exit %d: %s", code, e)
+	}
+	got := storedOutcomes(t, db, full)
+	if len(got) == 0 || got[0].Metric != "coverage" || !strings.Contains(got[0].Method, "polarity_source prediction") {
+		t.Fatalf("stored %+v, want coverage first with polarity_source prediction", got)
+	}
+	if math.Abs(got[0].Value-truth["c.png"]) > 0.015 {
+		t.Errorf("coverage from the prediction's polarity: got %.4f, want %.4f ± 0.015", got[0].Value, truth["c.png"])
+	}
+	code, _, e = runCLI(t, db, "outcome", "measure", full, "--image", "a.png", "--instrument", "sem-1")
+	if code != 0 {
+		t.Fatalf("--instrument with the recipe's site file: exit %d: %s", code, e)
+	}
+	if got := storedOutcomes(t, db, full); !strings.Contains(got[len(got)-1].Method, "polarity_source instrument; instrument sem-1") {
+		t.Errorf("last stored %+v, want polarity_source instrument from sem-1", got[len(got)-1])
+	}
 }

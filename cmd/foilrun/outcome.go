@@ -125,10 +125,12 @@ func outcomeMetricsRun(o *outcomeMetricsOptions) error {
 }
 
 type outcomeMeasureOptions struct {
-	f      *factory
-	code   string
-	flags  measureFlags
-	output outputFormat
+	f       *factory
+	code    string
+	flags   measureFlags
+	params  string // --params: predicts the run's coverage when the polarity is not given
+	furnace string // --furnace: overrides the recipe's furnace for that prediction
+	output  outputFormat
 }
 
 func newOutcomeMeasureCmd(f *factory) *cobra.Command {
@@ -142,8 +144,14 @@ attached by path and content hash), from transmittance at 550 nm (layer count)
 and from Raman 2D/G and D/G ratios (with the classification printed).
 
 A micrograph's polarity (domains darker or brighter than copper) must be known:
---polarity, an --instrument preset of the --site file, or a bare reference
-(--bare-gray, --bare-region). A guess is never stored. Several --image flags
+--polarity, an --instrument preset of the --site file (default: the site file
+the run's recipe names), or a bare reference (--bare-gray, --bare-region).
+Without any of them the run's predicted coverage may decide it (polarity_source
+prediction): with a params file that has a covariance (--params, from foilrun
+fit) when the whole 90 % interval lies below 35 % or above 65 %; with no
+covariance (the illustrative defaults) only when the prediction itself lies
+below 20 % or above 80 %. Otherwise nothing is stored: a guess never is.
+Several --image flags
 are fields of view of one run: each is stored, and so is their mean. The
 island density is stored as nuclei_density only below --island-limit
 coverage (default 30 %, where islands rarely merge), else as island_density.`,
@@ -163,12 +171,27 @@ coverage (default 30 %, where islands rarely merge), else as island_density.`,
 	cmd.Flags().StringArrayVar(&opts.flags.images, "image", nil, "micrograph file (PNG, JPEG or TIFF); repeat for several fields of view")
 	opts.flags.registerImage(cmd)
 	opts.flags.registerFilm(cmd)
+	cmd.Flags().StringVar(&opts.params, "params", "", "kinetics parameter file that predicts the run's coverage when no polarity is given (default: illustrative parameters)")
+	cmd.Flags().StringVar(&opts.furnace, "furnace", "", "furnace file for that prediction (default: the one the run's recipe names)")
 	addOutputFlag(cmd, &opts.output)
 	return cmd
 }
 
 func outcomeMeasureRun(ctx context.Context, o *outcomeMeasureOptions) error {
-	imgs, ms, err := o.measureImages()
+	if mf := &o.flags; len(mf.images) > 0 && (mf.instrument == "" || mf.site != "") {
+		if _, err := mf.imageSettings(len(mf.images)); err != nil {
+			return err // flag errors before the run log is opened
+		}
+	}
+	l, err := o.f.writeLog(ctx)
+	if err != nil {
+		return err
+	}
+	rec, err := l.Record(ctx, o.code)
+	if err != nil {
+		return err
+	}
+	imgs, ms, err := o.measureImages(ctx, l, rec)
 	if err != nil {
 		return err
 	}
@@ -177,13 +200,6 @@ func outcomeMeasureRun(ctx context.Context, o *outcomeMeasureOptions) error {
 		return err
 	}
 	ms = append(ms, fm...)
-	l, err := o.f.writeLog(ctx)
-	if err != nil {
-		return err
-	}
-	if _, err := l.Record(ctx, o.code); err != nil {
-		return err
-	}
 	now := o.f.now().UTC()
 	var os []store.Outcome
 	for _, m := range ms {
@@ -214,10 +230,12 @@ func outcomeMeasureRun(ctx context.Context, o *outcomeMeasureOptions) error {
 	return printMeasurements(o.f.io.Out, o.output, ms, lines)
 }
 
-// measureImages measures every --image, refusing before any is read when
-// the polarity would be a guess, and returns the results and the
-// measurements of each field with their means.
-func (o *outcomeMeasureOptions) measureImages() ([]*imageResult, []measurement, error) {
+// measureImages measures every --image of the run, refusing when the
+// polarity would be a guess (after each image's input checks), and returns
+// the results and the measurements of each field with their means. An
+// --instrument without --site reads the site file the run's recipe names;
+// with neither polarity nor preset the run's prediction may decide it.
+func (o *outcomeMeasureOptions) measureImages(ctx context.Context, l store.RunLog, rec store.RunRecord) ([]*imageResult, []measurement, error) {
 	mf := &o.flags
 	if len(mf.images) == 0 {
 		return nil, nil, nil
@@ -225,12 +243,32 @@ func (o *outcomeMeasureOptions) measureImages() ([]*imageResult, []measurement, 
 	if len(mf.images) > 1 && mf.overlay != "" {
 		return nil, nil, usagef("--overlay writes one file: give it with a single --image")
 	}
+	if mf.instrument != "" && mf.site == "" {
+		site, err := recipeSite(ctx, l, rec)
+		if err != nil {
+			return nil, nil, err
+		}
+		mf.site = site
+	}
 	is, err := mf.imageSettings(len(mf.images))
 	if err != nil {
 		return nil, nil, err
 	}
+	var side predictedSide
+	if is[0].source == sourceGuess {
+		if side, err = o.predictSide(ctx, l, rec); err != nil {
+			return nil, nil, err
+		}
+	}
 	for _, s := range is {
 		s.refuseGuess = true
+		switch {
+		case s.source != sourceGuess:
+		case side.decides:
+			s.source, s.predicted = sourcePrediction, &side
+		default:
+			s.undecided = side.reason
+		}
 	}
 	var imgs []*imageResult
 	var fields [][]measurement

@@ -111,14 +111,17 @@ func showLabel(show string) string {
 
 // windowResult is the JSON form of `foilrun window`.
 type windowResult struct {
-	Recipe string        `json:"recipe"`
-	Step   string        `json:"step"`
-	X      string        `json:"x"`
-	XUnit  string        `json:"x_unit"`
-	Y      string        `json:"y"`
-	YUnit  string        `json:"y_unit"`
-	Show   string        `json:"show"`
-	Points []windowPoint `json:"points"`
+	Recipe string `json:"recipe"`
+	Step   string `json:"step"`
+	X      string `json:"x"`
+	XUnit  string `json:"x_unit"`
+	Y      string `json:"y"`
+	YUnit  string `json:"y_unit"`
+	Show   string `json:"show"`
+	// NotPredicted names the quantities a coverage-only calibration does
+	// not predict; their fields are null.
+	NotPredicted []string      `json:"not_predicted,omitempty"`
+	Points       []windowPoint `json:"points"`
 }
 
 type windowPoint struct {
@@ -128,8 +131,8 @@ type windowPoint struct {
 	Rule         string        `json:"rule,omitempty"`
 	Message      string        `json:"message,omitempty"`
 	Coverage     float64       `json:"coverage"`
-	NucleiPerMM2 float64       `json:"nuclei_per_mm2"`
-	DomainUm     float64       `json:"domain_size_um"`
+	NucleiPerMM2 *float64      `json:"nuclei_per_mm2"` // null when not predicted
+	DomainUm     *float64      `json:"domain_size_um"` // null when not predicted
 	T99Min       *float64      `json:"t99_min"`
 	Etching      bool          `json:"etching"`
 	Interval     *intervalJSON `json:"interval,omitempty"` // with a fitted params file (fit.go)
@@ -154,6 +157,11 @@ func windowRun(opts *windowOptions) error {
 	if err != nil {
 		return err
 	}
+	if opts.show != "time_to_99" {
+		if err := params.Predicts(opts.show); err != nil {
+			return asUsage(fmt.Errorf("--show: %w", err))
+		}
+	}
 	plan, site, err := opts.flags.loadPlan(opts.recipe)
 	if err != nil {
 		return err
@@ -170,16 +178,7 @@ func windowRun(opts *windowOptions) error {
 	if err != nil {
 		return err
 	}
-	res := windowResult{Recipe: m.Recipe, Step: m.Step, X: m.X.Param, XUnit: m.X.Unit(), Y: m.Y.Param, YUnit: m.Y.Unit(), Show: opts.show}
-	for _, row := range m.Points {
-		for _, p := range row {
-			res.Points = append(res.Points, windowPoint{
-				X: round6(m.X.Display(p.X)), Y: round6(m.Y.Display(p.Y)), Feasible: p.Feasible, Rule: p.Rule, Message: p.Message,
-				Coverage: round6(p.Coverage), NucleiPerMM2: round6(inUnit(p.NucleiDensity, "1/mm2")), DomainUm: round6(inUnit(p.DomainSize, "um")),
-				T99Min: opt6(p.T99 / 60), Etching: p.Etching,
-			})
-		}
-	}
+	res := windowJSON(m, opts.show, params)
 	ivs, err := windowIntervals(plan, m, params)
 	if err != nil {
 		return err
@@ -198,6 +197,9 @@ func windowRun(opts *windowOptions) error {
 		err = writeCSV(w, windowLongTable(res))
 	default:
 		err = printWindow(w, m, opts.show)
+		if err == nil && len(res.NotPredicted) > 0 {
+			fmt.Fprintf(w, "note: the parameters were calibrated on coverage only: coverage and times to coverage are predicted; %s are not\n", strings.Join(res.NotPredicted, " and "))
+		}
 	}
 	if err != nil {
 		return err
@@ -206,6 +208,28 @@ func windowRun(opts *windowOptions) error {
 		return opts.writePlot(m, guard)
 	}
 	return nil
+}
+
+// windowJSON is the JSON form of the map. With a coverage-only
+// calibration the nuclei density and domain size of every point are null
+// and named in not_predicted.
+func windowJSON(m *kinetics.Map, show string, params kinetics.Params) windowResult {
+	res := windowResult{Recipe: m.Recipe, Step: m.Step, X: m.X.Param, XUnit: m.X.Unit(), Y: m.Y.Param, YUnit: m.Y.Unit(), Show: show,
+		NotPredicted: notPredicted(params)}
+	predicted := len(res.NotPredicted) == 0
+	for _, row := range m.Points {
+		for _, p := range row {
+			wp := windowPoint{
+				X: round6(m.X.Display(p.X)), Y: round6(m.Y.Display(p.Y)), Feasible: p.Feasible, Rule: p.Rule, Message: p.Message,
+				Coverage: round6(p.Coverage), T99Min: opt6(p.T99 / 60), Etching: p.Etching,
+			}
+			if predicted {
+				wp.NucleiPerMM2, wp.DomainUm = opt6(inUnit(p.NucleiDensity, "1/mm2")), opt6(inUnit(p.DomainSize, "um"))
+			}
+			res.Points = append(res.Points, wp)
+		}
+	}
+	return res
 }
 
 // writePlot writes the --plot heat map of the map's --show quantity,
@@ -299,11 +323,15 @@ func printWindow(w io.Writer, m *kinetics.Map, show string) error {
 func windowLongTable(r windowResult) table {
 	t := table{Header: []string{r.X + " " + r.XUnit, r.Y + " " + r.YUnit, "feasible", "rule", "coverage", "nuclei_per_mm2", "domain_size_um", "t99_min", "etching"}}
 	for _, p := range r.Points {
-		t99 := ""
-		if p.T99Min != nil {
-			t99 = num(*p.T99Min, 6)
-		}
-		t.add(num(p.X, 6), num(p.Y, 6), fmt.Sprint(p.Feasible), p.Rule, num(p.Coverage, 6), num(p.NucleiPerMM2, 6), num(p.DomainUm, 6), t99, fmt.Sprint(p.Etching))
+		t.add(num(p.X, 6), num(p.Y, 6), fmt.Sprint(p.Feasible), p.Rule, num(p.Coverage, 6), optNum(p.NucleiPerMM2), optNum(p.DomainUm), optNum(p.T99Min), fmt.Sprint(p.Etching))
 	}
 	return t
+}
+
+// optNum is a value with 6 significant digits, "" for none.
+func optNum(v *float64) string {
+	if v == nil {
+		return ""
+	}
+	return num(*v, 6)
 }
