@@ -38,6 +38,7 @@ type fitter struct {
 	iters    int
 	evals    int
 	jac      *mat.Dense
+	damping  float64  // λ where the last minimisation ended; 0 before the first
 	idx      [][2]int // rows of each used observation
 
 	// The coordinates the minimiser moves (see fitCoord): v = base +
@@ -222,17 +223,18 @@ func (f *fitter) closedGrad(pr *Prepared, v *fitVec, gc, gn *fitVec) {
 
 // minimize runs Levenberg–Marquardt (package lm) from x within the bounds
 // and returns the best point; the status, iterations and final Jacobian
-// are kept for the result.
+// are kept for the result. A second call (the re-weighted stage) starts
+// from the damping where the first ended.
 func (f *fitter) minimize(x []float64) []float64 {
 	lo, hi := f.clo, f.chi
-	s := lm.Settings{MaxIterations: f.s.MaxIterations}
+	s := lm.Settings{MaxIterations: f.s.MaxIterations, InitialDamping: f.damping}
 	if f.s.Progress != nil {
 		done := f.iters
 		s.Progress = func(it int, cost float64) { f.s.Progress(done+it, 2*cost) }
 	}
 	res := lm.Minimize(lm.Problem{M: len(f.rows), Residuals: f.residuals, Jacobian: f.jacobian, Lower: lo, Upper: hi}, x, s)
 	f.iters += res.Iterations
-	f.jac = res.Jacobian
+	f.jac, f.damping = res.Jacobian, res.Damping
 	switch {
 	case res.Status.Converged():
 		f.status = Converged

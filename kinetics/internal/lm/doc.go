@@ -25,18 +25,23 @@
 //	ρ = (F(x) − F(x_new)) / (L(0) − L(h)),  L(h) = ½·‖r + J·h‖²,
 //
 // updates the damping as Nielsen proposes: on acceptance
-// λ ← λ·max(1/3, 1 − (2ρ − 1)³) and ν ← 2; on rejection (or when the
-// damped matrix is not positive definite) λ ← λ·ν and ν ← 2ν, up to 40
-// tries per iteration. The start is λ₀ = τ·max_j (JᵀJ)_jj with τ =
-// Settings.InitialDamping.
+// λ ← λ·max(1/10, 1 − (2ρ − 1)³) (Nielsen's floor is 1/3; 1/10 lets a
+// good quadratic model reach Gauss–Newton steps sooner) and ν ← 2; on
+// rejection (or when the damped matrix is not positive definite)
+// λ ← λ·ν and ν ← 2ν, up to 40 tries per iteration. Because the damping
+// is scaled by D, λ is dimensionless and the start is λ₀ =
+// Settings.InitialDamping itself (scale-invariant: multiplying the
+// residuals or a parameter by a constant changes no step); the λ reached
+// is returned in Result.Damping so a continuation can start from it.
 //
 // # Stopping rules
 //
 // With g = Jᵀr the gradient of F, the iteration stops with
 //
 //   - GradientConvergence when max_j |g_j| ≤ GradientTolerance·(1 + F);
-//   - StepConvergence when an accepted step has ‖Δx‖ ≤
-//     StepTolerance·(‖x‖ + StepTolerance);
+//   - StepConvergence when a step has ‖Δx‖ ≤
+//     StepTolerance·(‖x‖ + StepTolerance), accepted or not (a rejected
+//     one that short: a larger λ would only shorten it further);
 //   - CostConvergence when an accepted step lowers F by no more than
 //     CostTolerance·F, or F falls below 10⁻³⁰⁰;
 //   - PrecisionLimit when no step lowers F but max_j |g_j| ≤

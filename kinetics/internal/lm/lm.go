@@ -35,15 +35,18 @@ type Settings struct {
 	// StepTolerance·(‖x‖ + StepTolerance), relative; > 0, default 1e-10.
 	StepTolerance float64
 	// CostTolerance stops when an accepted step lowers F by no more than
-	// CostTolerance·F, relative; > 0, default 1e-12.
+	// CostTolerance·F, relative; > 0, default 1e-10.
 	CostTolerance float64
 	// StallTolerance: when no step lowers F, the point still counts as
 	// converged (PrecisionLimit) if max|g_j| ≤ StallTolerance·(1 + F);
 	// > 0, default 1e-6.
 	StallTolerance float64
-	// InitialDamping is τ in λ₀ = τ·max_j (JᵀJ)_jj, dimensionless; > 0,
-	// default 1e-3 (Madsen, Nielsen & Tingleff 2004 suggest 1e-6 to 1
-	// depending on how good the start is).
+	// InitialDamping is the starting damping λ₀ (dimensionless: the
+	// damping term is λ·diag(JᵀJ), so λ₀ does not depend on the scale of
+	// the residuals or the parameters); > 0, default 1e-3 (Madsen, Nielsen
+	// & Tingleff 2004 suggest 1e-6 to 1 depending on how good the start
+	// is). A caller continuing a minimisation passes the previous
+	// Result.Damping.
 	InitialDamping float64
 	// Progress, when not nil, is called after each accepted iteration with
 	// its number (from 1) and the cost F.
@@ -61,7 +64,7 @@ func (s Settings) withDefaults() Settings {
 	}
 	def(&s.GradientTolerance, 1e-12)
 	def(&s.StepTolerance, 1e-10)
-	def(&s.CostTolerance, 1e-12)
+	def(&s.CostTolerance, 1e-10)
 	def(&s.StallTolerance, 1e-6)
 	def(&s.InitialDamping, 1e-3)
 	return s
@@ -108,6 +111,9 @@ type Result struct {
 	Residuals []float64  // r at X
 	Jacobian  *mat.Dense // J at X (M × len(X))
 	Status    Status
+	// Damping is λ at the end, for Settings.InitialDamping of a
+	// continuation.
+	Damping float64
 	// Iterations counts the iterations; Evaluations the calls of
 	// Residuals and JacobianEvaluations those of Jacobian (or of the
 	// forward differences).
@@ -190,12 +196,7 @@ func (m *minimizer) run(x0 []float64) Result {
 	J := mat.NewDense(M, n, nil)
 	m.jacobian(J, x)
 	var A mat.SymDense
-	A.SymOuterK(1, J.T())
-	lambda := 0.0
-	for j := range n {
-		lambda = math.Max(lambda, A.At(j, j))
-	}
-	lambda *= m.s.InitialDamping
+	lambda := m.s.InitialDamping
 	nu := 2.0
 	status := IterationLimit
 	g := mat.NewVecDense(n, nil)
@@ -212,6 +213,10 @@ func (m *minimizer) run(x0 []float64) Result {
 			break
 		}
 		st := m.step(&A, g, J, x, r, rn, cost, &lambda, &nu)
+		if !st.accepted && st.status == StepConvergence {
+			status = StepConvergence
+			break
+		}
 		if !st.accepted {
 			status = Stalled
 			if gmax <= m.s.StallTolerance*(1+cost) {
@@ -230,15 +235,23 @@ func (m *minimizer) run(x0 []float64) Result {
 			break
 		}
 	}
-	m.res.X, m.res.Cost, m.res.Residuals, m.res.Jacobian, m.res.Status = x, cost, r, J, status
+	m.res.X, m.res.Cost, m.res.Residuals, m.res.Jacobian, m.res.Status, m.res.Damping = x, cost, r, J, status, lambda
 	return m.res
 }
+
+// minDampingFactor is the most an accepted step lowers λ by: 1/10, where
+// Nielsen's rule alone stops at 1/3; a good model (ρ near 1) then reaches
+// Gauss–Newton steps in a few iterations instead of many.
+const minDampingFactor = 0.1
 
 // stepResult is the outcome of one iteration's search for a step.
 type stepResult struct {
 	accepted bool
 	cost     float64
-	status   Status // StepConvergence or CostConvergence, else 0
+	// status is StepConvergence or CostConvergence, else 0; not accepted
+	// with StepConvergence: the rejected step was already within the step
+	// tolerance (see step).
+	status Status
 }
 
 // step tries damped steps from x until one lowers the cost; on success it
@@ -271,17 +284,26 @@ func (m *minimizer) step(A *mat.SymDense, g *mat.VecDense, J *mat.Dense, x, r, r
 				dx[j] = xn[j] - x[j]
 			}
 			rho := (cost - costn) / math.Max(predicted(J, r, dx), 1e-300)
-			*lambda *= math.Max(1.0/3, 1-math.Pow(2*rho-1, 3))
+			*lambda *= math.Max(minDampingFactor, 1-math.Pow(2*rho-1, 3))
 			*nu = 2
 			res := stepResult{accepted: true, cost: costn}
 			switch {
-			case math.Sqrt(dot(dx, dx)) <= m.s.StepTolerance*(math.Sqrt(dot(x, x))+m.s.StepTolerance):
+			case m.small(dx, x):
 				res.status = StepConvergence
 			case cost-costn <= m.s.CostTolerance*cost || costn <= 1e-300:
 				res.status = CostConvergence
 			}
 			copy(x, xn)
 			return res
+		}
+		// A rejected step already within the step tolerance: a larger λ
+		// only shortens it, so the point is a minimum to that tolerance
+		// (MINPACK's xtol test, Moré 1978).
+		for j := range n {
+			dx[j] = xn[j] - x[j]
+		}
+		if m.small(dx, x) {
+			return stepResult{status: StepConvergence}
 		}
 		*lambda *= *nu
 		*nu *= 2
@@ -290,6 +312,12 @@ func (m *minimizer) step(A *mat.SymDense, g *mat.VecDense, J *mat.Dense, x, r, r
 		}
 	}
 	return stepResult{}
+}
+
+// small reports whether step dx from x is within the step tolerance,
+// ‖dx‖ ≤ StepTolerance·(‖x‖ + StepTolerance).
+func (m *minimizer) small(dx, x []float64) bool {
+	return math.Sqrt(dot(dx, dx)) <= m.s.StepTolerance*(math.Sqrt(dot(x, x))+m.s.StepTolerance)
 }
 
 // predicted returns the reduction of the linear model for step dx,

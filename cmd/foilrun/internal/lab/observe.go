@@ -69,11 +69,11 @@ func Collect(ctx context.Context, b *Rebuilder, filter store.Filter, m Metrics, 
 	type run struct {
 		obs    kinetics.Observation
 		prof   kinetics.Profile
-		logged bool
+		shared *Rebuilt // the plan's own profile, prepared once; nil when logged
 	}
 	var runs []run
 	profiles := map[*Rebuilt]kinetics.Profile{}
-	err := b.log.Export(ctx, filter, func(rec store.RunRecord) error {
+	err := readRuns(ctx, b.log, filter, m, func(rec store.RunRecord) error {
 		o := kinetics.Observation{Label: rec.Code, Coverage: math.NaN(), NucleiDensity: math.NaN()}
 		var err error
 		if m.Coverage {
@@ -98,7 +98,7 @@ func Collect(ctx context.Context, b *Rebuilder, filter store.Filter, m Metrics, 
 			return err
 		}
 		if plan, logged := LoggedPlan(rb.Plan, rec.Actuals, src); logged {
-			runs = append(runs, run{o, kinetics.NewProfile(plan), true})
+			runs = append(runs, run{obs: o, prof: kinetics.NewProfile(plan)})
 			return nil
 		}
 		prof, ok := profiles[rb]
@@ -106,24 +106,53 @@ func Collect(ctx context.Context, b *Rebuilder, filter store.Filter, m Metrics, 
 			prof = kinetics.NewProfile(rb.Plan)
 			profiles[rb] = prof
 		}
-		runs = append(runs, run{o, prof, false})
+		runs = append(runs, run{obs: o, prof: prof, shared: rb})
 		return nil
 	})
 	if err != nil {
 		return Observations{}, err
 	}
+	type prepared struct {
+		pr  *kinetics.Prepared
+		err error
+	}
+	shared := map[*Rebuilt]prepared{} // a Prepared is read-only once made
 	for _, r := range runs {
-		pr, err := kinetics.Prepare(r.prof, start, kinetics.Options{})
-		if err != nil {
-			out.Skipped = append(out.Skipped, Skip{Code: r.obs.Label, Reason: err.Error()})
+		p, ok := shared[r.shared]
+		if !ok || r.shared == nil {
+			p.pr, p.err = kinetics.Prepare(r.prof, start, kinetics.Options{})
+			if r.shared != nil {
+				shared[r.shared] = p
+			}
+		}
+		if p.err != nil {
+			out.Skipped = append(out.Skipped, Skip{Code: r.obs.Label, Reason: p.err.Error()})
 			continue
 		}
-		r.obs.Prepared = pr
+		r.obs.Prepared = p.pr
 		out.Observations = append(out.Observations, r.obs)
-		out.Logged = append(out.Logged, r.logged)
+		out.Logged = append(out.Logged, r.shared == nil)
 	}
 	out.Furnaces = b.Used()
 	return out, nil
+}
+
+// readRuns calls each for the runs that pass filter: through the log's
+// narrow read of what a fit needs (store.FitReader, the runs with one of
+// the chosen metrics) when it has one, else through Export.
+func readRuns(ctx context.Context, l store.RunLog, filter store.Filter, m Metrics, each func(store.RunRecord) error) error {
+	fr, ok := l.(store.FitReader)
+	if !ok {
+		return l.Export(ctx, filter, each)
+	}
+	var metrics []string
+	if m.Coverage {
+		metrics = append(metrics, "coverage")
+	}
+	if m.Density {
+		metrics = append(metrics, "nuclei_density")
+	}
+	return fr.FitRuns(ctx, filter, metrics, each)
 }
 
 // meanSI returns the mean of a run's measurements of a metric in SI, NaN

@@ -1,0 +1,136 @@
+package sqldb
+
+import (
+	"context"
+	"database/sql"
+	"fmt"
+	"math"
+	"strings"
+
+	"github.com/foilrun/foilrun/store"
+)
+
+var _ store.FitReader = (*DB)(nil)
+
+// FitRuns reads, for every run that passes the filter and has an outcome
+// of one of the metrics, its code, snapshot hash, outcomes of those
+// metrics and actuals: what a calibration fit needs (see store.FitReader),
+// one narrow query per table and chunk.
+func (s *DB) FitRuns(ctx context.Context, f store.Filter, metrics []string, each func(store.RunRecord) error) error {
+	if len(metrics) == 0 {
+		return nil
+	}
+	q, end, err := s.d.Read(ctx, s.db)
+	if err != nil {
+		return err
+	}
+	defer end()
+	marks := strings.TrimSuffix(strings.Repeat("?, ", len(metrics)), ", ")
+	has := "r.id IN (SELECT run_id FROM outcomes WHERE metric IN (" + marks + "))"
+	w, args, err := s.where(ctx, q, f, has)
+	if err != nil {
+		return err
+	}
+	margs := make([]any, len(metrics))
+	for i, m := range metrics {
+		margs[i] = m
+	}
+	args = append(margs, args...)
+	qs := s.d.Rebind("SELECT r.id, r.code, r.recipe_sha256 FROM runs r" + w + " AND r.id > ? ORDER BY r.id LIMIT ?")
+	last, sent := int64(math.MinInt64), 0
+	for {
+		n := exportChunk
+		if f.Limit > 0 {
+			n = min(n, f.Limit-sent)
+		}
+		if n <= 0 {
+			return nil
+		}
+		recs, ids, err := s.fitRuns(ctx, q, qs, append(args, last, n))
+		if err != nil || len(recs) == 0 {
+			return err
+		}
+		if err := s.fitChildren(ctx, q, ids, recs, margs, marks); err != nil {
+			return err
+		}
+		for _, r := range recs {
+			if err := each(*r); err != nil {
+				return err
+			}
+		}
+		sent += len(recs)
+		last = ids[len(ids)-1]
+		if len(recs) < n {
+			return nil
+		}
+	}
+}
+
+// fitRuns reads one chunk of FitRuns' run rows.
+func (s *DB) fitRuns(ctx context.Context, q Querier, qs string, args []any) ([]*store.RunRecord, []int64, error) {
+	rows, err := q.QueryContext(ctx, qs, args...)
+	if err != nil {
+		return nil, nil, err
+	}
+	defer rows.Close()
+	var recs []*store.RunRecord
+	var ids []int64
+	for rows.Next() {
+		var id int64
+		var hash sql.NullString
+		r := &store.RunRecord{}
+		if err := rows.Scan(&id, &r.Code, &hash); err != nil {
+			return nil, nil, err
+		}
+		r.RecipeHash = hash.String
+		recs, ids = append(recs, r), append(ids, id)
+	}
+	return recs, ids, rows.Err()
+}
+
+// fitChildren fills the chosen outcomes and the actuals of a chunk of runs
+// (ids ascending) from two queries over the id range.
+func (s *DB) fitChildren(ctx context.Context, q Querier, ids []int64, recs []*store.RunRecord, margs []any, marks string) error {
+	byID := make(map[int64]*store.RunRecord, len(ids))
+	for i, id := range ids {
+		byID[id] = recs[i]
+	}
+	lo, hi := ids[0], ids[len(ids)-1]
+	read := func(what, qs string, args []any, row func(rows *sql.Rows) (int64, error), keep func(r *store.RunRecord)) error {
+		rows, err := q.QueryContext(ctx, s.d.Rebind(qs), args...)
+		if err != nil {
+			return fmt.Errorf("read %s: %w", what, err)
+		}
+		defer rows.Close()
+		for rows.Next() {
+			id, err := row(rows)
+			if err != nil {
+				return fmt.Errorf("read %s: %w", what, err)
+			}
+			if r, ok := byID[id]; ok {
+				keep(r)
+			}
+		}
+		return rows.Err()
+	}
+	var o store.Outcome
+	err := read("outcomes", "SELECT run_id, metric, value, unit FROM outcomes WHERE run_id BETWEEN ? AND ? AND metric IN ("+marks+") ORDER BY run_id, id",
+		append([]any{lo, hi}, margs...),
+		func(rows *sql.Rows) (id int64, err error) { return id, rows.Scan(&id, &o.Metric, &o.Value, &o.Unit) },
+		func(r *store.RunRecord) { r.Outcomes = append(r.Outcomes, o) })
+	if err != nil {
+		return err
+	}
+	var a store.Actual
+	return read("run_actuals", "SELECT run_id, step, label, quantity, unit, planned, mean, min, max, samples FROM run_actuals WHERE run_id BETWEEN ? AND ? ORDER BY run_id, step, quantity",
+		[]any{lo, hi},
+		func(rows *sql.Rows) (int64, error) {
+			var id int64
+			var planned, mean, mn, mx sql.NullFloat64
+			a = store.Actual{}
+			err := rows.Scan(&id, &a.Step, &a.Label, &a.Quantity, &a.Unit, &planned, &mean, &mn, &mx, &a.Samples)
+			a.Planned, a.Mean, a.Min, a.Max = store.Optional(floatOr(planned)), floatOr(mean), floatOr(mn), floatOr(mx)
+			return id, err
+		},
+		func(r *store.RunRecord) { r.Actuals = append(r.Actuals, a) })
+}

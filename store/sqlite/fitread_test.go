@@ -1,0 +1,16 @@
+package sqlite
+
+import (
+	"testing"
+
+	"github.com/foilrun/foilrun/store"
+	"github.com/foilrun/foilrun/store/storetest"
+)
+
+// TestFitRuns checks the narrow read a calibration fit uses.
+func TestFitRuns(t *testing.T) {
+	storetest.FitRuns(t, func(t *testing.T) store.RunLog {
+		db, _ := openTemp(t)
+		return db
+	})
+}
