@@ -13,11 +13,12 @@ import (
 // at all.
 type RunLog interface {
 	// CreateRun logs a new run with everything in rec (params, notes,
-	// outcomes, actuals, …) and, when snap is not nil, stores the recipe
-	// snapshot (once per hash; the bytes are kept as given). An empty
-	// rec.Code gets a fresh code (see NextCode); an empty rec.Status
-	// becomes Running. It returns the run's code.
-	CreateRun(ctx context.Context, rec RunRecord, snap *Snapshot) (string, error)
+	// outcomes, actuals, …) and stores each snapshot that is not nil (once
+	// per hash; the bytes are kept as given): the recipe's, and the
+	// furnace's and site's when given, each setting the run's hash of its
+	// kind. An empty rec.Code gets a fresh code (see NextCode); an empty
+	// rec.Status becomes Running. It returns the run's code.
+	CreateRun(ctx context.Context, rec RunRecord, snaps ...*Snapshot) (string, error)
 	// AddNote adds a timestamped note to a run.
 	AddNote(ctx context.Context, code string, n Note) error
 	// FinishRun ends a planned or running run: status, end time, actuals
@@ -33,7 +34,8 @@ type RunLog interface {
 	// Record returns a run with everything logged about it; ErrNotFound
 	// (wrapped) for an unknown code.
 	Record(ctx context.Context, code string) (RunRecord, error)
-	// Snapshot returns the recipe snapshot with the given SHA-256.
+	// Snapshot returns the snapshot (recipe, furnace or site) with the
+	// given SHA-256.
 	Snapshot(ctx context.Context, sha256 string) (Snapshot, error)
 	// List returns the runs that pass the filter, oldest first.
 	List(ctx context.Context, f Filter) ([]Run, error)

@@ -33,17 +33,17 @@ func Columns() []string {
 	return cs
 }
 
-const runSelect = `SELECT r.id, r.code, r.status, r.recipe_sha256, r.recipe_name, r.furnace, r.operator, r.lot, r.started_at, r.ended_at, r.created_at FROM runs r`
+const runSelect = `SELECT r.id, r.code, r.status, r.recipe_sha256, r.recipe_name, r.furnace, r.operator, r.lot, r.started_at, r.ended_at, r.created_at, r.furnace_sha256, r.site_sha256, r.source FROM runs r`
 
 func scanRun(rows *sql.Rows) (int64, store.Run, error) {
 	var id int64
 	var r store.Run
 	var st string
-	var hash, started, ended, created sql.NullString
-	if err := rows.Scan(&id, &r.Code, &st, &hash, &r.RecipeName, &r.Furnace, &r.Operator, &r.Lot, &started, &ended, &created); err != nil {
+	var hash, started, ended, created, furnace, site sql.NullString
+	if err := rows.Scan(&id, &r.Code, &st, &hash, &r.RecipeName, &r.Furnace, &r.Operator, &r.Lot, &started, &ended, &created, &furnace, &site, &r.Source); err != nil {
 		return 0, r, err
 	}
-	r.Status, r.RecipeHash = store.Status(st), hash.String
+	r.Status, r.RecipeHash, r.FurnaceHash, r.SiteHash = store.Status(st), hash.String, furnace.String, site.String
 	var err1, err2, err3 error
 	r.Started, err1 = parseTime(started)
 	r.Ended, err2 = parseTime(ended)
@@ -202,14 +202,14 @@ func (s *DB) Samples(ctx context.Context, f store.Filter, metric string, params 
 	return out, rows.Err()
 }
 
-// Snapshot returns the recipe snapshot with the hash.
+// Snapshot returns the snapshot (recipe, furnace or site) with the hash.
 func (s *DB) Snapshot(ctx context.Context, hash string) (store.Snapshot, error) {
 	sn := store.Snapshot{SHA256: hash}
 	var created sql.NullString
-	err := s.db.QueryRowContext(ctx, s.d.Rebind(`SELECT name, file, content, created_at FROM snapshots WHERE sha256 = ?`), hash).
-		Scan(&sn.Name, &sn.File, &sn.Content, &created)
+	err := s.db.QueryRowContext(ctx, s.d.Rebind(`SELECT kind, name, file, content, created_at FROM snapshots WHERE sha256 = ?`), hash).
+		Scan(&sn.Kind, &sn.Name, &sn.File, &sn.Content, &created)
 	if errors.Is(err, sql.ErrNoRows) {
-		return sn, fmt.Errorf("recipe snapshot %.12s: %w", hash, store.ErrNotFound)
+		return sn, fmt.Errorf("snapshot %.12s: %w", hash, store.ErrNotFound)
 	}
 	if err != nil {
 		return sn, err

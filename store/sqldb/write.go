@@ -136,10 +136,10 @@ func (w *writer) putSnapshot(ctx context.Context, sn store.Snapshot) error {
 	if created.IsZero() {
 		created = w.s.now()
 	}
-	_, err := w.tx.ExecContext(ctx, w.s.d.Rebind(`INSERT INTO snapshots (sha256, name, file, content, created_at) VALUES (?, ?, ?, ?, ?)
-		ON CONFLICT (sha256) DO NOTHING`), sn.SHA256, sn.Name, sn.File, sn.Content, formatTime(created))
+	_, err := w.tx.ExecContext(ctx, w.s.d.Rebind(`INSERT INTO snapshots (sha256, kind, name, file, content, created_at) VALUES (?, ?, ?, ?, ?, ?)
+		ON CONFLICT (sha256) DO NOTHING`), sn.SHA256, sn.KindOrRecipe(), sn.Name, sn.File, sn.Content, formatTime(created))
 	if err != nil {
-		return fmt.Errorf("store recipe snapshot: %w", err)
+		return fmt.Errorf("store %s snapshot: %w", sn.KindOrRecipe(), err)
 	}
 	w.snaps[sn.SHA256] = true
 	return nil
@@ -179,13 +179,16 @@ func (w *writer) queue(ctx context.Context, rec store.RunRecord) error {
 	if rec.Status == "" {
 		rec.Status = store.Running
 	}
-	if rec.RecipeHash != "" {
-		ok, err := w.haveSnapshot(ctx, rec.RecipeHash)
+	for _, h := range []struct{ kind, hash string }{{store.SnapshotRecipe, rec.RecipeHash}, {store.SnapshotFurnace, rec.FurnaceHash}, {store.SnapshotSite, rec.SiteHash}} {
+		if h.hash == "" {
+			continue
+		}
+		ok, err := w.haveSnapshot(ctx, h.hash)
 		if err != nil {
 			return err
 		}
 		if !ok {
-			return fmt.Errorf("run %q: recipe snapshot %.12s is neither given nor in the log: %w", rec.Code, rec.RecipeHash, store.ErrInvalid)
+			return fmt.Errorf("run %q: %s snapshot %.12s is neither given nor in the log: %w", rec.Code, h.kind, h.hash, store.ErrInvalid)
 		}
 	}
 	for name := range rec.Params {
@@ -251,7 +254,7 @@ func (w *writer) flushRuns(ctx context.Context) ([]string, error) {
 	if err != nil {
 		return nil, err
 	}
-	args := make([]any, 0, len(q)*10)
+	args := make([]any, 0, len(q)*runColumns)
 	for _, p := range q {
 		r := p.rec
 		created := r.Created
@@ -259,7 +262,7 @@ func (w *writer) flushRuns(ctx context.Context) ([]string, error) {
 			created = now
 		}
 		args = append(args, r.Code, string(r.Status), nullString(r.RecipeHash), r.RecipeName, r.Furnace, r.Operator, r.Lot,
-			nullTime(r.Started), nullTime(r.Ended), formatTime(created))
+			nullTime(r.Started), nullTime(r.Ended), formatTime(created), nullString(r.FurnaceHash), nullString(r.SiteHash), r.Source)
 	}
 	rows, err := st.QueryContext(ctx, args...)
 	if err != nil {
@@ -303,18 +306,22 @@ type runError struct {
 func (e *runError) Error() string { return e.err.Error() }
 func (e *runError) Unwrap() error { return e.err }
 
+// runColumns is how many columns one run's INSERT sets.
+const runColumns = 13
+
 // runStmt returns the prepared INSERT of n runs.
 func (w *writer) runStmt(ctx context.Context, n int) (*sql.Stmt, error) {
 	if st, ok := w.runStmts[n]; ok {
 		return st, nil
 	}
 	var b strings.Builder
-	b.WriteString(`INSERT INTO runs (code, status, recipe_sha256, recipe_name, furnace, operator, lot, started_at, ended_at, created_at) VALUES `)
+	b.WriteString(`INSERT INTO runs (code, status, recipe_sha256, recipe_name, furnace, operator, lot, started_at, ended_at, created_at, furnace_sha256, site_sha256, source) VALUES `)
+	row := "(?" + strings.Repeat(", ?", runColumns-1) + ")"
 	for i := 0; i < n; i++ {
 		if i > 0 {
 			b.WriteString(", ")
 		}
-		b.WriteString("(?, ?, ?, ?, ?, ?, ?, ?, ?, ?)")
+		b.WriteString(row)
 	}
 	b.WriteString(" ON CONFLICT (code) DO NOTHING RETURNING id, code")
 	st, err := w.tx.PrepareContext(ctx, w.s.d.Rebind(b.String()))
@@ -419,24 +426,34 @@ func (w *writer) addAttachment(ctx context.Context, id int64, a store.Attachment
 }
 
 // CreateRun logs a new run; see store.RunLog.
-func (s *DB) CreateRun(ctx context.Context, rec store.RunRecord, snap *store.Snapshot) (string, error) {
-	code, err := s.createRun(ctx, rec, snap)
+func (s *DB) CreateRun(ctx context.Context, rec store.RunRecord, snaps ...*store.Snapshot) (string, error) {
+	code, err := s.createRun(ctx, rec, snaps)
 	return code, s.refused("log the run", err)
 }
 
-func (s *DB) createRun(ctx context.Context, rec store.RunRecord, snap *store.Snapshot) (string, error) {
+func (s *DB) createRun(ctx context.Context, rec store.RunRecord, snaps []*store.Snapshot) (string, error) {
 	w, err := s.begin(ctx)
 	if err != nil {
 		return "", err
 	}
 	defer w.rollback()
-	if snap != nil {
+	for _, snap := range snaps {
+		if snap == nil {
+			continue
+		}
 		if err := w.putSnapshot(ctx, *snap); err != nil {
 			return "", err
 		}
-		rec.RecipeHash = snap.SHA256
-		if rec.RecipeName == "" {
-			rec.RecipeName = snap.Name
+		switch snap.KindOrRecipe() {
+		case store.SnapshotFurnace:
+			rec.FurnaceHash = snap.SHA256
+		case store.SnapshotSite:
+			rec.SiteHash = snap.SHA256
+		default:
+			rec.RecipeHash = snap.SHA256
+			if rec.RecipeName == "" {
+				rec.RecipeName = snap.Name
+			}
 		}
 	}
 	if err := w.queue(ctx, rec); err != nil {

@@ -1,0 +1,89 @@
+package storetest
+
+import (
+	"bytes"
+	"context"
+	"strings"
+	"testing"
+
+	"github.com/foilrun/foilrun/store"
+)
+
+// SchemaVersion is the schema version the migrations of every back end
+// reach.
+const SchemaVersion = 4
+
+// Furnace and site files of the snapshot test: two versions of one
+// furnace (the pump speed halved between them) and a site.
+var (
+	testFurnaceA = []byte("name: tube-1\nvacuum:\n  pump_speed: 4 L/s\n")
+	testFurnaceB = []byte("name: tube-1\nvacuum:\n  pump_speed: 2 L/s\n")
+	testSite     = []byte("name: lab\n")
+)
+
+// testFileSnapshots: a run stores its furnace and site snapshots beside
+// the recipe's, each kind kept; a run logged on the edited furnace gets a
+// second furnace snapshot and the first run keeps its own; export and
+// import keep them; a run naming a furnace snapshot the log lacks is
+// refused.
+func testFileSnapshots(t *testing.T, open Opener) {
+	l := open(t)
+	ctx := context.Background()
+	recipe := store.NewSnapshot("demo", "demo.yaml", TestRecipe)
+	fa := store.NewFileSnapshot(store.SnapshotFurnace, "tube-1", "tube.yaml", testFurnaceA)
+	fb := store.NewFileSnapshot(store.SnapshotFurnace, "tube-1", "tube.yaml", testFurnaceB)
+	site := store.NewFileSnapshot(store.SnapshotSite, "lab", "site.yaml", testSite)
+	c1, err := l.CreateRun(ctx, store.RunRecord{Run: store.Run{Source: "old.csv, row 2"}}, &recipe, &fa, &site)
+	must(t, err)
+	c2, err := l.CreateRun(ctx, store.RunRecord{}, &recipe, &fb, nil)
+	must(t, err)
+	r1, err := l.Record(ctx, c1)
+	must(t, err)
+	r2, err := l.Record(ctx, c2)
+	must(t, err)
+	if r1.RecipeHash != recipe.SHA256 || r1.FurnaceHash != fa.SHA256 || r1.SiteHash != site.SHA256 || r1.Source != "old.csv, row 2" {
+		t.Errorf("run 1: got recipe %.12s furnace %.12s site %.12s source %q; want %.12s %.12s %.12s \"old.csv, row 2\"",
+			r1.RecipeHash, r1.FurnaceHash, r1.SiteHash, r1.Source, recipe.SHA256, fa.SHA256, site.SHA256)
+	}
+	if r2.FurnaceHash != fb.SHA256 || r2.SiteHash != "" {
+		t.Errorf("run 2: got furnace %.12s site %q; want %.12s and no site", r2.FurnaceHash, r2.SiteHash, fb.SHA256)
+	}
+	for _, want := range []store.Snapshot{recipe, fa, fb, site} {
+		got, err := l.Snapshot(ctx, want.SHA256)
+		must(t, err)
+		if got.Kind != want.Kind || !bytes.Equal(got.Content, want.Content) {
+			t.Errorf("snapshot %.12s: got kind %q content %q; want %q %q", want.SHA256, got.Kind, got.Content, want.Kind, want.Content)
+		}
+	}
+	if n := Count(t, l, "snapshots"); n != 4 {
+		t.Errorf("snapshots: got %d, want 4 (one recipe, two furnaces, one site)", n)
+	}
+
+	var buf bytes.Buffer
+	if _, err := store.WriteJSON(ctx, &buf, l, store.Filter{}); err != nil {
+		t.Fatal(err)
+	}
+	b, err := store.ReadJSON(&buf)
+	must(t, err)
+	if len(b.Snapshots) != 4 {
+		t.Errorf("export: got %d snapshots, want 4", len(b.Snapshots))
+	}
+	dst := open(t)
+	if _, err := dst.Import(ctx, b, nil); err != nil {
+		t.Fatal(err)
+	}
+	got, err := dst.Record(ctx, c1)
+	must(t, err)
+	if got.FurnaceHash != fa.SHA256 || got.SiteHash != site.SHA256 || got.Source != r1.Source {
+		t.Errorf("imported run 1: got furnace %.12s site %.12s source %q; want %.12s %.12s %q", got.FurnaceHash, got.SiteHash, got.Source, fa.SHA256, site.SHA256, r1.Source)
+	}
+	if sn, err := dst.Snapshot(ctx, fb.SHA256); err != nil || sn.Kind != store.SnapshotFurnace {
+		t.Errorf("imported furnace snapshot: got kind %q, %v; want furnace", sn.Kind, err)
+	}
+
+	other := open(t)
+	_, err = other.CreateRun(ctx, store.RunRecord{Run: store.Run{FurnaceHash: fa.SHA256}})
+	if !errorsIs(err, store.ErrInvalid) || !strings.Contains(err.Error(), "furnace snapshot") {
+		t.Errorf("run naming a missing furnace snapshot: got %v, want ErrInvalid naming the furnace snapshot", err)
+	}
+}
