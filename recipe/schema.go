@@ -20,6 +20,7 @@ type Furnace struct {
 	Comments string     `yaml:"notes"`
 	Pos      Pos        `yaml:"-"`
 	File     string     `yaml:"-"` // path it was loaded from
+	Content  []byte     `yaml:"-"` // the file's bytes as loaded, for the run log's snapshot
 }
 
 // Tube is the process tube.
@@ -148,6 +149,7 @@ type Site struct {
 	Notes     string     `yaml:"notes"`
 	Pos       Pos        `yaml:"-"`
 	File      string     `yaml:"-"`
+	Content   []byte     `yaml:"-"` // the file's bytes as loaded, for the run log's snapshot
 }
 
 // Room is the laboratory room the furnace stands in.

@@ -164,20 +164,7 @@ func checkRun(opts *checkOptions) error {
 func printCheck(w io.Writer, file string, res checkResult) error {
 	fmt.Fprintf(w, "recipe %q on furnace %q: %d steps, %.0f min\n", res.Recipe, res.Furnace, len(res.Steps), res.TotalMin)
 	if len(res.Findings) > 0 {
-		ft := table{Header: []string{"severity", "step", "rule", "finding"}}
-		for _, fd := range res.Findings {
-			step := fd.StepName
-			if step == "" {
-				step = "recipe"
-			}
-			msg := fd.Message
-			if fd.Hint != "" {
-				msg += "\n→ " + fd.Hint
-			}
-			ft.add(fd.Severity.String(), step, fd.Rule, msg)
-		}
-		heading(w, "Findings")
-		if err := writeTable(w, ft); err != nil {
+		if err := section(w, "Findings", findingTable(res.Findings)); err != nil {
 			return err
 		}
 	}
@@ -188,6 +175,24 @@ func printCheck(w io.Writer, file string, res checkResult) error {
 	fmt.Fprintf(w, "\n%d errors, %d warnings, %d notes\n", res.Errors, res.Warnings, len(res.Findings)-res.Errors-res.Warnings)
 	fmt.Fprintln(w, "These are limit and sequence checks, not a gas-safety review: see foilrun safety, and follow the site's gas code and the people licensed to approve the set-up.")
 	return nil
+}
+
+// findingTable is the findings of a check, one row each, the hint under
+// the message.
+func findingTable(findings []recipe.Finding) table {
+	ft := table{Header: []string{"severity", "step", "rule", "finding"}}
+	for _, fd := range findings {
+		step := fd.StepName
+		if step == "" {
+			step = "recipe"
+		}
+		msg := fd.Message
+		if fd.Hint != "" {
+			msg += "\n→ " + fd.Hint
+		}
+		ft.add(fd.Severity.String(), step, fd.Rule, msg)
+	}
+	return ft
 }
 
 func stepTable(steps []stepNumbers) table {

@@ -142,6 +142,7 @@ func (opts *fitOptions) collect(ctx context.Context, start kinetics.Params) ([]k
 	if err != nil {
 		return nil, fmt.Errorf("fit: %w", err)
 	}
+	furnaceStatus(opts.f.io.Err, b, opts.furnace)
 	for _, u := range col.Furnaces {
 		fmt.Fprintf(opts.f.io.Err, "furnace %q from %s for %d runs\n", u.Name, u.Path, u.Runs)
 	}

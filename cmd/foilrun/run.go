@@ -4,7 +4,6 @@ import (
 	"context"
 	"crypto/sha256"
 	"encoding/hex"
-	"errors"
 	"fmt"
 	"io"
 	"os"
@@ -104,7 +103,7 @@ func runStartRun(ctx context.Context, o *runOptions) error {
 	if err != nil {
 		return fmt.Errorf("load recipe: %w", err)
 	}
-	plan, _, err := o.flags.loadPlan(o.recipe)
+	plan, site, err := o.flags.loadPlan(o.recipe)
 	if err != nil {
 		return err
 	}
@@ -120,7 +119,8 @@ func runStartRun(ctx context.Context, o *runOptions) error {
 	if err != nil {
 		return err
 	}
-	code, err := l.CreateRun(ctx, rec, &snap)
+	furnaceSnap, siteSnap := lab.Snapshots(plan, site)
+	code, err := l.CreateRun(ctx, rec, &snap, furnaceSnap, siteSnap)
 	if err != nil {
 		return err
 	}
@@ -317,10 +317,11 @@ func runFinishRun(ctx context.Context, o *runFinishOptions) error {
 		return fmt.Errorf("run %q is already %s: %w", o.code, rec.Status, store.ErrConflict)
 	}
 	if o.log != "" {
-		plan, err := planOfRun(ctx, l, rec, o.flags.furnace)
+		rb, err := rebuildRun(ctx, l, rec, o.flags.furnace, o.f.io.Err)
 		if err != nil {
 			return err
 		}
+		plan := rb.Plan
 		res, a, err := readFurnaceLog(o.log, plan, o.logStart, o.f.io.Err)
 		if err != nil {
 			return err
@@ -334,29 +335,11 @@ func runFinishRun(ctx context.Context, o *runFinishOptions) error {
 	return printDeviations(o.f.io.Out, o.code, fin.Deviations)
 }
 
-// planOfRun rebuilds the plan of a logged run from its recipe snapshot,
-// on the furnace file given or else the one the recipe names.
-func planOfRun(ctx context.Context, l store.RunLog, rec store.RunRecord, furnace string) (*recipe.Plan, error) {
-	b, err := lab.NewRebuilder(l, furnace)
-	if err != nil {
-		return nil, err
-	}
-	rb, err := b.Rebuild(ctx, rec)
-	switch {
-	case errors.Is(err, lab.ErrNoSnapshot):
-		return nil, withHint(err, "a run logged without a recipe cannot be matched to a furnace log")
-	case errors.Is(err, lab.ErrNoFurnace):
-		return nil, withHint(err, "pass --furnace FILE")
-	case err != nil:
-		return nil, err
-	}
-	return rb.Plan, nil
-}
-
 type runShowOptions struct {
-	f      *factory
-	code   string
-	output outputFormat
+	f       *factory
+	code    string
+	furnace string // --furnace: override the run's logged furnace
+	output  outputFormat
 }
 
 func newRunShowCmd(f *factory) *cobra.Command {
@@ -370,6 +353,7 @@ func newRunShowCmd(f *factory) *cobra.Command {
 			return runShowRun(cmd.Context(), opts)
 		},
 	}
+	cmd.Flags().StringVar(&opts.furnace, "furnace", "", "check the recipe on this furnace file instead of the one the run was logged with")
 	addOutputFlag(cmd, &opts.output)
 	return cmd
 }
@@ -390,15 +374,21 @@ func runShowRun(ctx context.Context, o *runShowOptions) error {
 	case formatCSV:
 		return writeCSV(w, paramTable(rec))
 	}
-	return printRun(w, rec)
+	if err := printRun(w, rec); err != nil {
+		return err
+	}
+	return printLoggedPlan(ctx, w, o.f.io.Err, l, rec, o.furnace)
 }
 
 // printRun prints a run for people: its header and parameters, then each
 // section the log holds.
 func printRun(w io.Writer, rec store.RunRecord) error {
 	fmt.Fprintf(w, "run %s  %s\n", rec.Code, rec.Status)
-	fmt.Fprintf(w, "recipe    %s (sha256 %.12s)\nfurnace   %s\noperator  %s\nfoil lot  %s\nstarted   %s\nended     %s\n",
-		rec.RecipeName, rec.RecipeHash, rec.Furnace, rec.Operator, rec.Lot, when(rec.Started), when(rec.Ended))
+	fmt.Fprintf(w, "recipe    %s (sha256 %.12s)\nfurnace   %s%s\noperator  %s\nfoil lot  %s\nstarted   %s\nended     %s\n",
+		rec.RecipeName, rec.RecipeHash, rec.Furnace, hashNote(rec.FurnaceHash), rec.Operator, rec.Lot, when(rec.Started), when(rec.Ended))
+	if rec.Source != "" {
+		fmt.Fprintf(w, "source    %s\n", rec.Source)
+	}
 	if err := section(w, "Recipe parameters", paramTable(rec)); err != nil {
 		return err
 	}
