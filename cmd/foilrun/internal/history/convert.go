@@ -120,13 +120,13 @@ type field struct {
 }
 
 type converter struct {
-	in       Input
-	tmpl     *recipe.Recipe
-	fields   []field
-	outcomes []int // sheet column of each Map.Outcomes
-	notes    []int
-	code, started, operator, furnace, lot int // sheet columns, -1 when not mapped
-	built    map[string]built                  // recipe by row values
+	in                                    Input
+	tmpl                                  *recipe.Recipe
+	fields                                []field
+	outcomes                              []int // sheet column of each Map.Outcomes
+	notes                                 []int
+	code, started, operator, furnace, lot int              // sheet columns, -1 when not mapped
+	built                                 map[string]built // recipe by row values
 }
 
 // built is a recipe made from one set of row values, shared by the rows
@@ -301,4 +301,3 @@ func cell(row Row, col int) string {
 	}
 	return row.Cells[col]
 }
-
