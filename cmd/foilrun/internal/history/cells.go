@@ -1,6 +1,7 @@
 package history
 
 import (
+	"errors"
 	"fmt"
 	"strconv"
 	"strings"
@@ -36,6 +37,10 @@ func quantity(cell string, c Column, dim recipe.Dimension, decimal string) (floa
 		text = num + " " + c.Unit
 	}
 	q, err := recipe.Parse(text, dim)
+	var ue *recipe.UnitError
+	if errors.As(err, &ue) && ue.Got < 0 {
+		return 0, fmt.Errorf("'%s' is not a number: %v", cell, err)
+	}
 	if err != nil {
 		return 0, fmt.Errorf("'%s': %v", cell, err)
 	}

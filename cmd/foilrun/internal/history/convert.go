@@ -158,7 +158,7 @@ func newConverter(in Input) (*converter, error) {
 		}
 		i, ok := heading[cl.Heading]
 		if !ok {
-			return -1, fmt.Errorf("map %q: %s: column %q is not in sheet %q; its headings: %s: %w", m.File, cl.Pos, cl.Heading, in.Sheet.label(), quoteList(in.Sheet.Headings), ErrInvalid)
+			return -1, invalid("", "map %q: %s: column %q is not in sheet %q; its headings: %s", m.File, cl.Pos, cl.Heading, in.Sheet.label(), quoteList(in.Sheet.Headings))
 		}
 		return i, nil
 	}
@@ -226,22 +226,22 @@ func (c *converter) step(sm StepMap) (int, error) {
 		for i, s := range c.tmpl.Steps {
 			labels = append(labels, s.Label(i))
 		}
-		return 0, fmt.Errorf("map %q: %s: steps.%s: the template %q has no step named %q or of that kind; its steps: %s: %w",
-			c.in.Map.File, sm.Pos, sm.Key, c.in.TemplateFile, sm.Key, strings.Join(labels, ", "), ErrInvalid)
+		return 0, invalid("", "map %q: %s: steps.%s: the template %q has no step named %q or of that kind; its steps: %s",
+			c.in.Map.File, sm.Pos, sm.Key, c.in.TemplateFile, sm.Key, strings.Join(labels, ", "))
 	}
 	var nums []string
 	for _, i := range byKind {
 		nums = append(nums, strconv.Itoa(i+1))
 	}
-	return 0, fmt.Errorf("map %q: %s: steps.%s: the template has %d %s steps (%s); give the step's name instead: %w",
-		c.in.Map.File, sm.Pos, sm.Key, len(byKind), sm.Key, strings.Join(nums, ", "), ErrInvalid)
+	return 0, invalid("", "map %q: %s: steps.%s: the template has %d %s steps (%s); give the step's name instead",
+		c.in.Map.File, sm.Pos, sm.Key, len(byKind), sm.Key, strings.Join(nums, ", "))
 }
 
 // gasLine checks that the furnace has a line for a flow's gas.
 func (c *converter) gasLine(f *recipe.Furnace, sm StepMap, fm FieldMap) error {
 	g, err := gas.Lookup(fm.Gas)
 	if err != nil {
-		return fmt.Errorf("map %q: %s: steps.%s.flows.%s: %v: %w", c.in.Map.File, fm.Column.Pos, sm.Key, fm.Gas, err, ErrInvalid)
+		return invalid("", "map %q: %s: steps.%s.flows.%s: %v", c.in.Map.File, fm.Column.Pos, sm.Key, fm.Gas, err)
 	}
 	var have []string
 	for _, l := range f.Lines {
@@ -251,8 +251,9 @@ func (c *converter) gasLine(f *recipe.Furnace, sm StepMap, fm FieldMap) error {
 		}
 		have = append(have, l.Gas)
 	}
-	return fmt.Errorf("map %q: %s: steps.%s.flows.%s: furnace %q has no gas line for %s (its lines: %s): %w\n  hint: map the column to a gas the furnace has, or give the furnace file that has the line with --furnace",
-		c.in.Map.File, fm.Column.Pos, sm.Key, fm.Gas, f.Name, g.Symbol, strings.Join(have, ", "), ErrInvalid)
+	return invalid("map the column to a gas the furnace has, or give the furnace file that has the line with --furnace",
+		"map %q: %s: steps.%s.flows.%s: furnace %q has no gas line for %s (its lines: %s)",
+		c.in.Map.File, fm.Column.Pos, sm.Key, fm.Gas, f.Name, g.Symbol, strings.Join(have, ", "))
 }
 
 // settings says what each column sets.

@@ -12,7 +12,6 @@
 package history
 
 import (
-	"errors"
 	"fmt"
 	"sort"
 	"strings"
@@ -22,8 +21,6 @@ import (
 	"github.com/foilrun/foilrun/recipe"
 )
 
-// ErrInvalid is wrapped by every error about the map, the sheet or a cell.
-var ErrInvalid = errors.New("invalid history input")
 
 // Column is one column of the sheet that feeds a field, with the unit its
 // bare numbers are in ("" when the cells carry their own).
@@ -127,7 +124,7 @@ func (p *mapParser) fail(at recipe.Pos, format string, args ...any) error {
 	if at.Line > 0 {
 		where = at.String() + ": "
 	}
-	return fmt.Errorf("map %q: %s%s: %w", p.m.File, where, fmt.Sprintf(format, args...), ErrInvalid)
+	return invalid("", "map %q: %s%s", p.m.File, where, fmt.Sprintf(format, args...))
 }
 
 func (p *mapParser) top(k, v *yaml.Node) error {
@@ -219,7 +216,11 @@ func (p *mapParser) steps(v *yaml.Node) error {
 			}
 			dim, ok := recipe.EditDimension(fk.Value)
 			if !ok || fk.Value == recipe.EditFlow {
-				return p.fail(pos(fk), "steps.%s.%s: no step field %q; want one of %s, or flows.GAS", k.Value, fk.Value, fk.Value, strings.Join(stepFields(), ", "))
+				also := ""
+				if fk.Value == "time" {
+					also = ` (a step's time is "duration")`
+				}
+				return p.fail(pos(fk), "steps.%s.%s: no step field %q%s; want one of %s, or flows.GAS", k.Value, fk.Value, fk.Value, also, strings.Join(stepFields(), ", "))
 			}
 			c, err := p.column(fv)
 			if err != nil {

@@ -1,6 +1,7 @@
 package history
 
 import (
+	"errors"
 	"fmt"
 	"strconv"
 	"strings"
@@ -164,11 +165,8 @@ func (c *converter) source(row Row) string {
 	return fmt.Sprintf("%s, row %d", c.in.Sheet.label(), row.N)
 }
 
-// trimInvalid drops the trailing ": invalid input" of a wrapped sentinel.
+// trimInvalid drops the trailing ": invalid input" of store's sentinel.
 func trimInvalid(err error) error {
 	s := err.Error()
-	for _, suffix := range []string{": " + store.ErrInvalid.Error(), ": " + ErrInvalid.Error()} {
-		s = strings.TrimSuffix(s, suffix)
-	}
-	return fmt.Errorf("%s", s)
+	return errors.New(strings.TrimSuffix(s, ": "+store.ErrInvalid.Error()))
 }

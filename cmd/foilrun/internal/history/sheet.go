@@ -43,7 +43,7 @@ func ReadSheet(name string, r io.Reader, sheet string) (*Sheet, error) {
 		rows, err = readXLSX(s, r, sheet)
 	} else {
 		if sheet != "" {
-			return nil, fmt.Errorf("sheet %q: --sheet %q: a CSV file has one sheet; give --sheet for an XLSX workbook only: %w", s.File, sheet, ErrInvalid)
+			return nil, invalid("", "sheet %q: --sheet %q: a CSV file has one sheet; give --sheet for an XLSX workbook only", s.File, sheet)
 		}
 		rows, err = readCSV(r)
 	}
@@ -51,7 +51,7 @@ func ReadSheet(name string, r io.Reader, sheet string) (*Sheet, error) {
 		return nil, fmt.Errorf("sheet %q: %w", s.label(), err)
 	}
 	if len(rows) == 0 || allEmpty(rows[0]) {
-		return nil, fmt.Errorf("sheet %q: the sheet is empty (no heading row): %w\n  hint: the first row names the columns, each row under it is one run", s.label(), ErrInvalid)
+		return nil, invalid("the first row names the columns, each row under it is one run", "sheet %q: the sheet is empty (no heading row)", s.label())
 	}
 	for _, h := range rows[0] {
 		s.Headings = append(s.Headings, strings.TrimSpace(h))
@@ -65,13 +65,13 @@ func ReadSheet(name string, r io.Reader, sheet string) (*Sheet, error) {
 			if j < len(row.Cells) {
 				row.Cells[j] = strings.TrimSpace(c)
 			} else if strings.TrimSpace(c) != "" {
-				return nil, fmt.Errorf("sheet %q: row %d: cell %d %q has no heading above it: %w", s.label(), row.N, j+1, c, ErrInvalid)
+				return nil, invalid("", "sheet %q: row %d: cell %d %q has no heading above it", s.label(), row.N, j+1, c)
 			}
 		}
 		s.Rows = append(s.Rows, row)
 	}
 	if len(s.Rows) == 0 {
-		return nil, fmt.Errorf("sheet %q: the sheet has headings but no rows: %w", s.label(), ErrInvalid)
+		return nil, invalid("", "sheet %q: the sheet has headings but no rows", s.label())
 	}
 	return s, nil
 }
@@ -96,13 +96,13 @@ func allEmpty(cells []string) bool {
 func readXLSX(s *Sheet, r io.Reader, sheet string) ([][]string, error) {
 	f, err := excelize.OpenReader(r, excelize.Options{RawCellValue: true})
 	if err != nil {
-		return nil, fmt.Errorf("not an XLSX workbook (%v): %w\n  hint: save the sheet as .xlsx, or as CSV with a .csv name", err, ErrInvalid)
+		return nil, invalid("save the sheet as .xlsx, or as CSV with a .csv name", "not an XLSX workbook (%v)", err)
 	}
 	defer f.Close()
 	list := f.GetSheetList()
 	if sheet == "" {
 		if len(list) == 0 {
-			return nil, fmt.Errorf("the workbook has no sheet: %w", ErrInvalid)
+			return nil, invalid("", "the workbook has no sheet")
 		}
 		sheet = list[0]
 	}
@@ -110,10 +110,10 @@ func readXLSX(s *Sheet, r io.Reader, sheet string) ([][]string, error) {
 	rows, err := f.GetRows(sheet, excelize.Options{RawCellValue: true})
 	var missing excelize.ErrSheetNotExist
 	if errors.As(err, &missing) {
-		return nil, fmt.Errorf("no sheet %q; the workbook has %s: %w", sheet, quoteList(list), ErrInvalid)
+		return nil, invalid("", "no sheet %q; the workbook has %s", sheet, quoteList(list))
 	}
 	if err != nil {
-		return nil, fmt.Errorf("read sheet %q: %v: %w", sheet, err, ErrInvalid)
+		return nil, invalid("", "read sheet %q: %v", sheet, err)
 	}
 	return rows, nil
 }
@@ -137,9 +137,9 @@ func readCSV(r io.Reader) ([][]string, error) {
 	if err != nil {
 		var pe *csv.ParseError
 		if errors.As(err, &pe) {
-			return nil, fmt.Errorf("row %d col %d: %v: %w", pe.StartLine, pe.Column, pe.Err, ErrInvalid)
+			return nil, invalid("", "row %d col %d: %v", pe.StartLine, pe.Column, pe.Err)
 		}
-		return nil, fmt.Errorf("%v: %w", err, ErrInvalid)
+		return nil, invalid("", "%v", err)
 	}
 	return rows, nil
 }
