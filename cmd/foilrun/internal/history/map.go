@@ -21,7 +21,6 @@ import (
 	"github.com/foilrun/foilrun/recipe"
 )
 
-
 // Column is one column of the sheet that feeds a field, with the unit its
 // bare numbers are in ("" when the cells carry their own).
 type Column struct {
