@@ -117,6 +117,24 @@ func EditRecipe(data []byte, e Edit) ([]byte, error) {
 // later step's change. from and to are Edit's From and To (the Edits'
 // own are not read).
 func EditSteps(data []byte, from, to string, edits []Edit) ([]byte, error) {
+	ed, err := NewEditor(data, from)
+	if err != nil {
+		return nil, err
+	}
+	return ed.Apply(to, edits)
+}
+
+// Editor edits one recipe text many times (a template, once per row of a
+// sheet), reading its YAML once. Apply works on a copy of the tree, so an
+// Editor may be used from several goroutines at once.
+type Editor struct {
+	doc  *yaml.Node
+	from string
+}
+
+// NewEditor reads the recipe text data; from names it in messages and is
+// where relative paths start (Edit.From).
+func NewEditor(data []byte, from string) (*Editor, error) {
 	var doc yaml.Node
 	if err := yaml.Unmarshal(data, &doc); err != nil {
 		return nil, fmt.Errorf("edit recipe %q: %w", from, err)
@@ -124,6 +142,14 @@ func EditSteps(data []byte, from, to string, edits []Edit) ([]byte, error) {
 	if len(doc.Content) != 1 || doc.Content[0].Kind != yaml.MappingNode {
 		return nil, fmt.Errorf("edit recipe %q: not a YAML mapping: %w", from, ErrEdit)
 	}
+	return &Editor{doc: &doc, from: from}, nil
+}
+
+// Apply returns the recipe text with the edits made, as EditSteps does;
+// to is Edit.To.
+func (ed *Editor) Apply(to string, edits []Edit) ([]byte, error) {
+	from := ed.from
+	doc := copyNode(ed.doc, map[*yaml.Node]*yaml.Node{})
 	root := doc.Content[0]
 	steps := mapValue(root, "steps")
 	order := make([]Edit, len(edits))
@@ -146,13 +172,32 @@ func EditSteps(data []byte, from, to string, edits []Edit) ([]byte, error) {
 	var b bytes.Buffer
 	enc := yaml.NewEncoder(&b)
 	enc.SetIndent(2)
-	if err := enc.Encode(&doc); err != nil {
+	if err := enc.Encode(doc); err != nil {
 		return nil, fmt.Errorf("edit recipe %q: %w", from, err)
 	}
 	if err := enc.Close(); err != nil {
 		return nil, fmt.Errorf("edit recipe %q: %w", from, err)
 	}
 	return b.Bytes(), nil
+}
+
+// copyNode copies a YAML node tree; seen maps nodes already copied to
+// their copies, so an alias points at the copy of its anchor.
+func copyNode(n *yaml.Node, seen map[*yaml.Node]*yaml.Node) *yaml.Node {
+	if n == nil {
+		return nil
+	}
+	if c, ok := seen[n]; ok {
+		return c
+	}
+	c := *n
+	seen[n] = &c
+	c.Content = make([]*yaml.Node, len(n.Content))
+	for i, k := range n.Content {
+		c.Content[i] = copyNode(k, seen)
+	}
+	c.Alias = copyNode(n.Alias, seen)
+	return &c
 }
 
 // applyEdit makes one change to the step node st; before are the step

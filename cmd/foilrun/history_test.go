@@ -222,3 +222,36 @@ func TestHistoryRecovery(t *testing.T) {
 		}
 	}
 }
+
+// BenchmarkHistoryImport10k is runs import --map of a 10,000-row CSV
+// sheet into a new SQLite log, every row a different recipe (the worst
+// case: no two rows share a snapshot). Target: under 5 s per import.
+func BenchmarkHistoryImport10k(b *testing.B) {
+	dir := b.TempDir()
+	t := &testing.T{}
+	copyTemplates(t, dir, "furnace.yaml", "site.yaml", "recipe-lowpressure.yaml")
+	mapFile := filepath.Join(dir, "map.yaml")
+	if err := os.WriteFile(mapFile, []byte(historyMap), 0o644); err != nil {
+		b.Fatal(err)
+	}
+	var sb strings.Builder
+	sb.WriteString(strings.Join(historyHeadings, ",") + "\n")
+	for i := range 10_000 {
+		fmt.Fprintf(&sb, "H25-%05d,%02d/03/2025,%.2f,%.2f,%.1f,%.1f,%.3f,%d,row %d\n",
+			i+1, 1+i%28, 960+float64(i)/100, 0.5+float64(i%7)/2, 5+float64(i%31), 10+float64(i%53), 50+float64(i%40), 100+i%900, i)
+	}
+	sheet := filepath.Join(dir, "runs.csv")
+	if err := os.WriteFile(sheet, []byte(sb.String()), 0o644); err != nil {
+		b.Fatal(err)
+	}
+	b.ResetTimer()
+	for i := 0; b.Loop(); i++ {
+		db := filepath.Join(dir, fmt.Sprintf("runs-%d.db", i))
+		var out, errb strings.Builder
+		code := run([]string{"--db", db, "runs", "import", sheet, "--recipe", filepath.Join(dir, "recipe-lowpressure.yaml"), "--map", mapFile},
+			&streams{Out: &out, Err: &errb, In: strings.NewReader("")})
+		if code != 0 {
+			b.Fatalf("import: exit %d: %s", code, errb.String())
+		}
+	}
+}

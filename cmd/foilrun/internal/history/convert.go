@@ -65,19 +65,29 @@ func Convert(in Input) (*Result, error) {
 	if err != nil {
 		return nil, err
 	}
-	res := &Result{Settings: c.settings()}
 	var problems []string
+	rows := make([]pending, 0, len(in.Sheet.Rows))
 	for _, row := range in.Sheet.Rows {
-		run, errs := c.row(row)
+		p, errs := c.read(row)
 		problems = append(problems, errs...)
-		if len(errs) == 0 && len(problems) == 0 {
+		rows = append(rows, p)
+	}
+	if len(problems) == 0 {
+		recipes := c.buildAll(rows)
+		res := &Result{Settings: c.settings(), Runs: make([]Run, 0, len(rows))}
+		for _, p := range rows {
+			run, err := c.finish(p, recipes[p.key])
+			if err != nil {
+				problems = append(problems, err.Error())
+				continue
+			}
 			res.Runs = append(res.Runs, run)
 		}
+		if len(problems) == 0 {
+			return res, nil
+		}
 	}
-	if len(problems) > 0 {
-		return nil, &RowsError{Sheet: in.Sheet.label(), Rows: len(in.Sheet.Rows), Problems: problems}
-	}
-	return res, nil
+	return nil, &RowsError{Sheet: in.Sheet.label(), Rows: len(in.Sheet.Rows), Problems: problems}
 }
 
 // RowsError lists the problems found in a sheet's rows; nothing was
@@ -120,13 +130,14 @@ type field struct {
 }
 
 type converter struct {
-	in                                    Input
-	tmpl                                  *recipe.Recipe
-	fields                                []field
-	outcomes                              []int // sheet column of each Map.Outcomes
-	notes                                 []int
-	code, started, operator, furnace, lot int              // sheet columns, -1 when not mapped
-	built                                 map[string]built // recipe by row values
+	in       Input
+	tmpl     *recipe.Recipe
+	editor   *recipe.Editor // the template, read once
+	fields   []field
+	outcomes []int // sheet column of each Map.Outcomes
+	notes    []int
+	// sheet columns of the run's own fields, -1 when not mapped
+	code, started, operator, furnace, lot int
 }
 
 // built is a recipe made from one set of row values, shared by the rows
@@ -145,7 +156,11 @@ func newConverter(in Input) (*converter, error) {
 	if err != nil {
 		return nil, fmt.Errorf("template: %w", err)
 	}
-	c := &converter{in: in, tmpl: tmpl, built: map[string]built{}}
+	editor, err := recipe.NewEditor(in.Template, in.TemplateFile)
+	if err != nil {
+		return nil, fmt.Errorf("template: %w", err)
+	}
+	c := &converter{in: in, tmpl: tmpl, editor: editor}
 	heading := map[string]int{}
 	for i, h := range in.Sheet.Headings {
 		if _, dup := heading[h]; !dup && h != "" {

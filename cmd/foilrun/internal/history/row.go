@@ -3,16 +3,27 @@ package history
 import (
 	"errors"
 	"fmt"
+	"runtime"
 	"strconv"
 	"strings"
+	"sync"
 	"time"
 
 	"github.com/foilrun/foilrun/recipe"
 	"github.com/foilrun/foilrun/store"
 )
 
-// row turns one sheet row into a run, or returns its problems.
-func (c *converter) row(row Row) (Run, []string) {
+// pending is a row read and checked, waiting for its recipe.
+type pending struct {
+	row   Row
+	rec   store.RunRecord
+	key   string // the furnace and the row's values: rows with one key share a recipe
+	edits map[int][]recipe.StepEdit
+	fu    Furnace
+}
+
+// read reads one sheet row, or returns its problems.
+func (c *converter) read(row Row) (pending, []string) {
 	var problems []string
 	bad := func(col int, err error) {
 		problems = append(problems, c.problem(row, col, err.Error()))
@@ -20,7 +31,7 @@ func (c *converter) row(row Row) (Run, []string) {
 	fu, err := c.rowFurnace(row)
 	if err != nil {
 		bad(c.furnace, err)
-		return Run{}, problems
+		return pending{}, problems
 	}
 	edits := map[int][]recipe.StepEdit{}
 	key := []string{fu.Snapshot.SHA256}
@@ -41,13 +52,15 @@ func (c *converter) row(row Row) (Run, []string) {
 		FurnaceHash: fu.Snapshot.SHA256, Lot: c.tmpl.Substrate.Lot, Source: c.source(row)}}
 	c.text(row, &rec, bad)
 	rec.Outcomes = c.rowOutcomes(row, bad)
-	if len(problems) > 0 {
-		return Run{}, problems
-	}
-	b := c.build(strings.Join(key, "|"), edits, fu)
+	return pending{row: row, rec: rec, key: strings.Join(key, "|"), edits: edits, fu: fu}, problems
+}
+
+// finish makes a read row a run with its built recipe.
+func (c *converter) finish(p pending, b built) (Run, error) {
 	if b.err != nil {
-		return Run{}, []string{fmt.Sprintf("row %d: the template with this row's values: %v", row.N, b.err)}
+		return Run{}, fmt.Errorf("row %d: the template with this row's values: %v", p.row.N, b.err)
 	}
+	rec := p.rec
 	rec.RecipeHash, rec.Params = b.snap.SHA256, b.params
 	if !rec.Started.IsZero() {
 		rec.Ended = rec.Started.Add(time.Duration(b.total * float64(time.Second)))
@@ -55,7 +68,7 @@ func (c *converter) row(row Row) (Run, []string) {
 	for i := range rec.Notes {
 		rec.Notes[i].At = rec.Started
 	}
-	return Run{Record: rec, Recipe: b.snap, Furnace: fu.Snapshot, Findings: b.findings}, nil
+	return Run{Record: rec, Recipe: b.snap, Furnace: p.fu.Snapshot, Findings: b.findings}, nil
 }
 
 // text reads the row's code, start, operator, lot and notes into rec.
@@ -109,28 +122,55 @@ func (c *converter) rowOutcomes(row Row, bad func(int, error)) []store.Outcome {
 	return out
 }
 
-// build returns the recipe the template becomes with the edits, made
-// once per key (the furnace and the row's values).
-func (c *converter) build(key string, edits map[int][]recipe.StepEdit, fu Furnace) built {
-	if b, ok := c.built[key]; ok {
-		return b
-	}
+// build returns the recipe the template becomes with the edits on the
+// furnace. It only reads c, so several may run at once.
+func (c *converter) build(edits map[int][]recipe.StepEdit, fu Furnace) built {
 	var es []recipe.Edit
 	for step, ch := range edits {
 		es = append(es, recipe.Edit{Step: step, Changes: ch})
 	}
-	var b built
-	content, err := recipe.EditSteps(c.in.Template, c.in.TemplateFile, "", es)
-	if err == nil {
-		var r *recipe.Recipe
-		if r, err = recipe.ParseRecipe(c.in.TemplateFile, content); err == nil {
-			plan := recipe.Derive(r, fu.Furnace)
-			b = built{snap: store.NewSnapshot(r.Name, c.in.TemplateFile, content), params: plan.Parameters(), total: plan.Total, findings: recipe.Check(plan)}
+	content, err := c.editor.Apply("", es)
+	if err != nil {
+		return built{err: err}
+	}
+	r, err := recipe.ParseRecipe(c.in.TemplateFile, content)
+	if err != nil {
+		return built{err: err}
+	}
+	plan := recipe.Derive(r, fu.Furnace)
+	return built{snap: store.NewSnapshot(r.Name, c.in.TemplateFile, content), params: plan.Parameters(), total: plan.Total, findings: recipe.Check(plan)}
+}
+
+// buildAll builds the recipe of every distinct key among the rows, on
+// all processors.
+func (c *converter) buildAll(rows []pending) map[string]built {
+	out := map[string]built{}
+	var todo []pending
+	for _, p := range rows {
+		if _, ok := out[p.key]; !ok {
+			out[p.key] = built{}
+			todo = append(todo, p)
 		}
 	}
-	b.err = err
-	c.built[key] = b
-	return b
+	res := make([]built, len(todo))
+	var wg sync.WaitGroup
+	next := make(chan int)
+	for range runtime.GOMAXPROCS(0) {
+		wg.Go(func() {
+			for i := range next {
+				res[i] = c.build(todo[i].edits, todo[i].fu)
+			}
+		})
+	}
+	for i := range todo {
+		next <- i
+	}
+	close(next)
+	wg.Wait()
+	for i, p := range todo {
+		out[p.key] = res[i]
+	}
+	return out
 }
 
 // rowFurnace is the furnace the row names, else the default.
