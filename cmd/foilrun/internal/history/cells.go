@@ -50,8 +50,17 @@ func quantity(cell string, c Column, dim recipe.Dimension, decimal string) (floa
 // date reads a start date (and time): 2025-03-04, 2025-03-04 09:30,
 // 04/03/2025 and 04.03.2025 (09:30) in the map's date_order, or an XLSX
 // date serial. A day-month date that reads both ways is an error without
-// date_order. Times are UTC.
+// date_order, and so is a year outside 1900 to 2199 (a number that is no
+// date). Times are UTC.
 func date(cell, order string, xlsx bool) (time.Time, error) {
+	t, err := readDate(cell, order, xlsx)
+	if err == nil && (t.Year() < 1900 || t.Year() > 2199) {
+		return time.Time{}, fmt.Errorf("'%s' is not a date a run started on (year %d)", cell, t.Year())
+	}
+	return t, err
+}
+
+func readDate(cell, order string, xlsx bool) (time.Time, error) {
 	if xlsx {
 		if v, err := strconv.ParseFloat(cell, 64); err == nil {
 			t, err := excelize.ExcelDateToTime(v, false)
