@@ -255,3 +255,42 @@ func BenchmarkHistoryImport10k(b *testing.B) {
 		}
 	}
 }
+
+// A row whose recipe fails check is imported (it happened) and run show
+// lists the findings and the row it came from; --dry-run imports nothing.
+// Row 3 sets 0.5 Torr with 55 sccm, below the 602 mTorr the template
+// furnace's 5.5 m3/h pump holds (the pressure.pump-limit rule).
+func TestHistoryCheckFindingsShown(t *testing.T) {
+	dir := t.TempDir()
+	copyTemplates(t, dir, "furnace.yaml", "site.yaml", "recipe-lowpressure.yaml")
+	sheet := filepath.Join(dir, "runs.csv")
+	csv := "Run;Date;P (Torr);CH4 (sccm);Coverage (%)\nA-0001;2025-03-04;;10;93,5\nA-0002;2025-03-05 09:30;0,5;35 sccm;\n"
+	m := "code: Run\nstarted: Date\ndecimal: comma\nsteps:\n  grow:\n    pressure: {column: \"P (Torr)\", unit: Torr}\n    flows:\n      CH4: {column: \"CH4 (sccm)\", unit: sccm}\noutcomes:\n  coverage: {column: \"Coverage (%)\", unit: \"%\"}\n"
+	for name, text := range map[string]string{sheet: csv, filepath.Join(dir, "map.yaml"): m} {
+		if err := os.WriteFile(name, []byte(text), 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	db := filepath.Join(dir, "runs.db")
+	args := []string{"--db", db, "runs", "import", sheet, "--recipe", filepath.Join(dir, "recipe-lowpressure.yaml"), "--map", filepath.Join(dir, "map.yaml")}
+	code, out, errs := runArgs(t, append(args, "--dry-run")...)
+	if code != 0 || !strings.Contains(out, "2 rows of runs.csv would be imported") || !strings.Contains(out, "1 recipes fail check") {
+		t.Fatalf("dry run: exit %d, out %q, err %q", code, out, errs)
+	}
+	if _, err := os.Stat(db); err == nil {
+		t.Errorf("dry run made the run log %s; want nothing written", db)
+	}
+	if code, _, errs := runArgs(t, args...); code != 0 || !strings.Contains(errs, "1 of them have recipes that fail check") {
+		t.Fatalf("import: exit %d, err %q", code, errs)
+	}
+	_, show, _ := runArgs(t, "--db", db, "run", "show", "A-0002")
+	for _, want := range []string{"source    runs.csv, row 3", "started   2025-03-05 09:30", "pressure.pump-limit", "set-point 500 mTorr"} {
+		if !strings.Contains(show, want) {
+			t.Errorf("run show A-0002: want %q in\n%s", want, show)
+		}
+	}
+	_, show1, _ := runArgs(t, "--db", db, "run", "show", "A-0001")
+	if !strings.Contains(show1, "coverage\t0.935") || strings.Contains(show1, "pressure.pump-limit") {
+		t.Errorf("run show A-0001: want coverage 0.935 and no pump-limit finding in\n%s", show1)
+	}
+}
