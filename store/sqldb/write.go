@@ -219,11 +219,11 @@ func (w *writer) flushRuns(ctx context.Context) ([]string, error) {
 	}
 	w.pending = w.pending[:0]
 	now := w.s.now()
-	need := 0
+	need := map[string]int{} // new codes per counter
 	raise := map[string]int64{}
 	for _, p := range q {
 		if p.rec.Code == "" {
-			need++
+			need[store.CodeCounter(store.CodeTime(p.rec.Started, now))]++
 		} else if c, n, ok := store.ParseCode(p.rec.Code); ok && n > raise[c] {
 			raise[c] = n
 		}
@@ -238,14 +238,20 @@ func (w *writer) flushRuns(ctx context.Context) ([]string, error) {
 			return nil, fmt.Errorf("run code counter: %w", err)
 		}
 	}
-	if need > 0 {
-		next, err := w.reserveCodes(ctx, store.CodeCounter(now), need)
+	counters := make([]string, 0, len(need))
+	for c := range need {
+		counters = append(counters, c)
+	}
+	sort.Strings(counters)
+	for _, c := range counters {
+		next, err := w.reserveCodes(ctx, c, need[c])
 		if err != nil {
 			return nil, err
 		}
 		for i := range q {
-			if q[i].rec.Code == "" {
-				q[i].rec.Code = store.FormatCode(now, next)
+			t := store.CodeTime(q[i].rec.Started, now)
+			if q[i].rec.Code == "" && store.CodeCounter(t) == c {
+				q[i].rec.Code = store.FormatCode(t, next)
 				next++
 			}
 		}

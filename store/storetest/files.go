@@ -3,8 +3,10 @@ package storetest
 import (
 	"bytes"
 	"context"
+	"sort"
 	"strings"
 	"testing"
+	"time"
 
 	"github.com/foilrun/foilrun/store"
 )
@@ -85,5 +87,39 @@ func testFileSnapshots(t *testing.T, open Opener) {
 	_, err = other.CreateRun(ctx, store.RunRecord{Run: store.Run{FurnaceHash: fa.SHA256}})
 	if !errorsIs(err, store.ErrInvalid) || !strings.Contains(err.Error(), "furnace snapshot") {
 		t.Errorf("run naming a missing furnace snapshot: got %v, want ErrInvalid naming the furnace snapshot", err)
+	}
+}
+
+// testCodeYear: a new code takes the year the run started, so runs of
+// 2025 logged in 2026 (one by one or in one import) get 2025 codes, each
+// year its own sequence; a run with no start, or one outside 2000–2099,
+// takes the year it is logged.
+func testCodeYear(t *testing.T, open Opener) {
+	l := open(t)
+	ctx := context.Background()
+	setClock(t, l, time.Date(2026, 5, 1, 8, 0, 0, 0, time.UTC))
+	in2025 := time.Date(2025, 3, 4, 9, 30, 0, 0, time.UTC)
+	c1, err := l.CreateRun(ctx, store.RunRecord{Run: store.Run{Started: in2025}})
+	must(t, err)
+	c2, err := l.CreateRun(ctx, store.RunRecord{})
+	must(t, err)
+	b := store.Bundle{Runs: []store.RunRecord{
+		{Run: store.Run{Status: store.Done, Started: in2025.AddDate(0, 1, 0)}},
+		{Run: store.Run{Status: store.Done, Started: time.Date(1999, 12, 31, 0, 0, 0, 0, time.UTC)}},
+		{Run: store.Run{Status: store.Done, Started: in2025.AddDate(0, 2, 0)}},
+	}}
+	if _, err := l.Import(ctx, b, nil); err != nil {
+		t.Fatal(err)
+	}
+	runs, err := l.List(ctx, store.Filter{})
+	must(t, err)
+	var got []string
+	for _, r := range runs {
+		got = append(got, r.Code)
+	}
+	sort.Strings(got)
+	want := []string{"G25-0001", "G25-0002", "G25-0003", "G26-0001", "G26-0002"}
+	if c1 != "G25-0001" || c2 != "G26-0001" || strings.Join(got, " ") != strings.Join(want, " ") {
+		t.Errorf("codes: got %s, %s and %v; want G25-0001, G26-0001 and %v", c1, c2, got, want)
 	}
 }

@@ -40,6 +40,7 @@ func Run(t *testing.T, open Opener) {
 	}{
 		{"SnapshotByteIdentical", testSnapshot},
 		{"FileSnapshots", testFileSnapshots},
+		{"CodeYear", testCodeYear},
 		{"RunLifecycle", testLifecycle},
 		{"Codes", testCodes},
 		{"CodeCounters", testCodeCounters},
