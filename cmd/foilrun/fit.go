@@ -146,6 +146,9 @@ func (opts *fitOptions) collect(ctx context.Context, start kinetics.Params) ([]k
 	for _, u := range col.Furnaces {
 		fmt.Fprintf(opts.f.io.Err, "furnace %q from %s for %d runs\n", u.Name, u.Path, u.Runs)
 	}
+	if col.Repeated > 0 {
+		fmt.Fprintf(opts.f.io.Err, "%d runs have more than one measurement of a fitted metric; the fit uses each run's mean\n", col.Repeated)
+	}
 	for _, s := range col.Skipped {
 		fmt.Fprintln(opts.f.io.Err, "skipped "+s.String())
 	}

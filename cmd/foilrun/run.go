@@ -396,6 +396,9 @@ func printRun(w io.Writer, rec store.RunRecord) error {
 		if err := section(w, "Outcomes", outcomeTable(rec.Outcomes)); err != nil {
 			return err
 		}
+		if err := printRepeated(w, rec.Outcomes); err != nil {
+			return err
+		}
 	}
 	if len(rec.Notes) > 0 {
 		heading(w, "Notes")

@@ -39,6 +39,9 @@ type Observations struct {
 	Skipped []Skip
 	// Furnaces are the furnace files the plans were rebuilt on.
 	Furnaces []FurnaceUse
+	// Repeated counts the fitted runs with more than one measurement of a
+	// chosen metric (their mean is fitted).
+	Repeated int
 }
 
 // Collect reads the runs that pass filter, keeps those with a measured
@@ -51,8 +54,9 @@ type Observations struct {
 func Collect(ctx context.Context, b *Rebuilder, filter store.Filter, m Metrics, start kinetics.Params) (Observations, error) {
 	var out Observations
 	type run struct {
-		obs  kinetics.Observation
-		prof kinetics.Profile
+		obs      kinetics.Observation
+		prof     kinetics.Profile
+		repeated bool
 	}
 	var runs []run
 	profiles := map[*Rebuilt]kinetics.Profile{}
@@ -72,6 +76,7 @@ func Collect(ctx context.Context, b *Rebuilder, filter store.Filter, m Metrics, 
 		if math.IsNaN(o.Coverage) && math.IsNaN(o.NucleiDensity) {
 			return nil
 		}
+		repeated := m.Coverage && count(rec, "coverage") > 1 || m.Density && count(rec, "nuclei_density") > 1
 		rb, err := b.Rebuild(ctx, rec)
 		if errors.Is(err, ErrNoSnapshot) {
 			out.Skipped = append(out.Skipped, Skip{Code: rec.Code, Reason: ErrNoSnapshot.Error()})
@@ -85,7 +90,7 @@ func Collect(ctx context.Context, b *Rebuilder, filter store.Filter, m Metrics, 
 			prof = kinetics.NewProfile(rb.Plan)
 			profiles[rb] = prof
 		}
-		runs = append(runs, run{o, prof})
+		runs = append(runs, run{o, prof, repeated})
 		return nil
 	})
 	if err != nil {
@@ -99,9 +104,23 @@ func Collect(ctx context.Context, b *Rebuilder, filter store.Filter, m Metrics, 
 		}
 		r.obs.Prepared = pr
 		out.Observations = append(out.Observations, r.obs)
+		if r.repeated {
+			out.Repeated++
+		}
 	}
 	out.Furnaces = b.Used()
 	return out, nil
+}
+
+// count is how many measurements of the metric the run has.
+func count(rec store.RunRecord, metric string) int {
+	n := 0
+	for _, o := range rec.Outcomes {
+		if o.Metric == metric {
+			n++
+		}
+	}
+	return n
 }
 
 // meanSI returns the mean of a run's measurements of a metric in SI, NaN
