@@ -28,6 +28,12 @@ type RunLog interface {
 	FinishRun(ctx context.Context, code string, f Finish) error
 	// AddOutcomes adds measured outcomes to a run, all or none.
 	AddOutcomes(ctx context.Context, code string, outcomes []Outcome) error
+	// ReplaceOutcomes corrects a run's measurements: every logged value of
+	// each outcome's metric is replaced by the outcome, and each replaced
+	// value is kept as a Correction by who, at the log's clock, all in one
+	// transaction. A metric the run has no value of, or one given twice,
+	// is ErrInvalid.
+	ReplaceOutcomes(ctx context.Context, code string, outcomes []Outcome, who string) error
 	// AddAttachment records a file that belongs to a run.
 	AddAttachment(ctx context.Context, code string, a Attachment) error
 

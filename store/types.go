@@ -177,6 +177,21 @@ type RunRecord struct {
 	Actuals     []Actual           `json:"actuals,omitempty"`
 	Deviations  []Deviation        `json:"deviations,omitempty"`
 	Attachments []Attachment       `json:"attachments,omitempty"`
+	Corrections []Correction       `json:"corrections,omitempty"`
+}
+
+// Correction is a measurement replaced with `outcome add --replace`: the
+// value it had and the one that replaced it (both in Unit, the metric's
+// stored unit, and as typed), who replaced it and when.
+type Correction struct {
+	Metric     string    `json:"metric"`
+	Unit       string    `json:"unit"`
+	OldValue   float64   `json:"old_value"`
+	OldEntered string    `json:"old_entered"`
+	NewValue   float64   `json:"new_value"`
+	NewEntered string    `json:"new_entered"`
+	Who        string    `json:"who"`
+	At         time.Time `json:"at"`
 }
 
 // Finish is what `run finish` adds to a running run.

@@ -480,3 +480,17 @@ func (s Snapshot) validate() error {
 	}
 	return s.Verify()
 }
+
+// Validate checks a correction's text (UTF-8, no NUL, lengths) and that
+// both values are finite.
+func (c Correction) Validate() error {
+	for _, f := range []struct{ name, v string }{{"metric", c.Metric}, {"unit", c.Unit}, {"old_entered", c.OldEntered}, {"new_entered", c.NewEntered}, {"who", c.Who}} {
+		if err := checkText(f.v, MaxNameLength); err != nil {
+			return fmt.Errorf("%s: %v", f.name, err)
+		}
+	}
+	if math.IsNaN(c.OldValue) || math.IsInf(c.OldValue, 0) || math.IsNaN(c.NewValue) || math.IsInf(c.NewValue, 0) {
+		return fmt.Errorf("values %g and %g: want finite numbers", c.OldValue, c.NewValue)
+	}
+	return nil
+}

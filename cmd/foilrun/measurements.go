@@ -1,8 +1,11 @@
 package main
 
 import (
+	"context"
+	"fmt"
 	"io"
 	"math"
+	"os"
 
 	"github.com/foilrun/foilrun/store"
 )
@@ -64,4 +67,26 @@ func printRepeated(w io.Writer, ocs []store.Outcome) error {
 		return nil
 	}
 	return section(w, "Repeated measurements (fit uses the mean)", t)
+}
+
+// replaceOutcomes is outcome add --replace.
+func replaceOutcomes(ctx context.Context, o *outcomeAddOptions, l store.RunLog, ocs []store.Outcome) error {
+	who := o.who
+	if who == "" {
+		who = os.Getenv("USER")
+	}
+	if err := l.ReplaceOutcomes(ctx, o.code, ocs, who); err != nil {
+		return err
+	}
+	fmt.Fprintf(o.f.io.Err, "run %s: %d outcomes replaced; run show %s --history lists the old values\n", o.code, len(ocs), o.code)
+	return nil
+}
+
+// correctionTable is a run's audit trail of corrected measurements.
+func correctionTable(cs []store.Correction) table {
+	t := table{Header: []string{"when", "who", "metric", "old", "new", "unit"}}
+	for _, c := range cs {
+		t.add(when(c.At), c.Who, c.Metric, c.OldEntered+" ("+num(c.OldValue, 6)+")", c.NewEntered+" ("+num(c.NewValue, 6)+")", c.Unit)
+	}
+	return t
 }

@@ -339,6 +339,7 @@ type runShowOptions struct {
 	f       *factory
 	code    string
 	furnace string // --furnace: override the run's logged furnace
+	history bool   // --history: the corrected measurements too
 	output  outputFormat
 }
 
@@ -354,6 +355,7 @@ func newRunShowCmd(f *factory) *cobra.Command {
 		},
 	}
 	cmd.Flags().StringVar(&opts.furnace, "furnace", "", "check the recipe on this furnace file instead of the one the run was logged with")
+	cmd.Flags().BoolVar(&opts.history, "history", false, "list corrected measurements: who, when, old and new value")
 	addOutputFlag(cmd, &opts.output)
 	return cmd
 }
@@ -376,6 +378,11 @@ func runShowRun(ctx context.Context, o *runShowOptions) error {
 	}
 	if err := printRun(w, rec); err != nil {
 		return err
+	}
+	if o.history && len(rec.Corrections) > 0 {
+		if err := section(w, "Corrected measurements", correctionTable(rec.Corrections)); err != nil {
+			return err
+		}
 	}
 	return printLoggedPlan(ctx, w, o.f.io.Err, l, rec, o.furnace)
 }

@@ -13,7 +13,7 @@ import (
 )
 
 // copyTables are the tables whose rows a copy must carry over one for one.
-var copyTables = []string{"runs", "snapshots", "run_params", "run_notes", "outcomes", "run_actuals", "run_deviations", "attachments", "names"}
+var copyTables = []string{"runs", "snapshots", "run_params", "run_notes", "outcomes", "run_actuals", "run_deviations", "attachments", "outcome_history", "names"}
 
 type digester struct {
 	h hash.Hash

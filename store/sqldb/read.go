@@ -310,9 +310,9 @@ func (s *DB) readRuns(ctx context.Context, q Querier, qs string, args []any) ([]
 	return recs, ids, rows.Err()
 }
 
-// readChildren fills params, notes, outcomes, actuals, deviations and
-// attachments of the runs (ids ascending), one query per table over the
-// id range.
+// readChildren fills params, notes, outcomes, actuals, deviations,
+// corrections and attachments of the runs (ids ascending), one query per
+// table over the id range.
 func (s *DB) readChildren(ctx context.Context, q Querier, ids []int64, recs []*store.RunRecord) error {
 	byID := make(map[int64]*store.RunRecord, len(ids))
 	for i, id := range ids {
@@ -407,6 +407,21 @@ func (s *DB) readChildren(ctx context.Context, q Querier, ids []int64, recs []*s
 		r := pick()
 		r.Deviations = append(r.Deviations, d)
 		return nil
+	})
+	if err != nil {
+		return err
+	}
+	err = read("outcome_history", "run_id, metric, unit, old_value, old_entered, new_value, new_entered, who, at", "id", func(rows *sql.Rows) error {
+		var c store.Correction
+		var at sql.NullString
+		if err := rows.Scan(&id, &c.Metric, &c.Unit, &c.OldValue, &c.OldEntered, &c.NewValue, &c.NewEntered, &c.Who, &at); err != nil {
+			return err
+		}
+		var err error
+		c.At, err = parseTime(at)
+		r := pick()
+		r.Corrections = append(r.Corrections, c)
+		return err
 	})
 	if err != nil {
 		return err

@@ -19,7 +19,7 @@ type writer struct {
 	names map[string]store.Name // the names registry, loaded once
 	snaps map[string]bool       // snapshot hashes known to be stored
 
-	params, outcomes, notes, actuals, deviations, attachments, newNames *batch
+	params, outcomes, notes, actuals, deviations, attachments, corrections, newNames *batch
 
 	runStmts map[int]*sql.Stmt // INSERT of n runs
 	pending  []queued          // checked runs not yet inserted
@@ -42,6 +42,7 @@ func (s *DB) begin(ctx context.Context) (*writer, error) {
 	w.actuals = newBatch(tx, d, "run_actuals", []string{"run_id", "step", "label", "quantity", "unit", "planned", "mean", "min", "max", "samples"}, "")
 	w.deviations = newBatch(tx, d, "run_deviations", []string{"run_id", "step", "label", "quantity", "unit", "planned", "actual", "tolerance", "message"}, "")
 	w.attachments = newBatch(tx, d, "attachments", []string{"run_id", "path", "sha256", "kind", "added_at"}, "")
+	w.corrections = newBatch(tx, d, "outcome_history", []string{"run_id", "metric", "unit", "old_value", "old_entered", "new_value", "new_entered", "who", "at"}, "")
 	w.newNames = newBatch(tx, d, "names", []string{"name", "kind", "unit"}, "ON CONFLICT (name) DO NOTHING")
 	if err := w.loadNames(ctx); err != nil {
 		w.rollback()
@@ -51,7 +52,7 @@ func (s *DB) begin(ctx context.Context) (*writer, error) {
 }
 
 func (w *writer) batches() []*batch {
-	return []*batch{w.params, w.outcomes, w.notes, w.actuals, w.deviations, w.attachments, w.newNames}
+	return []*batch{w.params, w.outcomes, w.notes, w.actuals, w.deviations, w.attachments, w.corrections, w.newNames}
 }
 
 func (w *writer) rollback() {
@@ -325,6 +326,11 @@ func (w *writer) addRows(ctx context.Context, id int64, rec store.RunRecord) err
 	}
 	for _, a := range rec.Attachments {
 		if err := w.addAttachment(ctx, id, a); err != nil {
+			return err
+		}
+	}
+	for _, c := range rec.Corrections {
+		if err := w.addCorrection(ctx, id, c); err != nil {
 			return err
 		}
 	}

@@ -3,6 +3,7 @@ package storetest
 import (
 	"bytes"
 	"context"
+	"fmt"
 	"sort"
 	"strings"
 	"testing"
@@ -121,5 +122,59 @@ func testCodeYear(t *testing.T, open Opener) {
 	want := []string{"G25-0001", "G25-0002", "G25-0003", "G26-0001", "G26-0002"}
 	if c1 != "G25-0001" || c2 != "G26-0001" || strings.Join(got, " ") != strings.Join(want, " ") {
 		t.Errorf("codes: got %s, %s and %v; want G25-0001, G26-0001 and %v", c1, c2, got, want)
+	}
+}
+
+// testCorrections: outcome add --replace replaces every value of the
+// metric, keeps each replaced one with who and when, all in one
+// transaction; a metric the run lacks is refused and changes nothing;
+// export and import keep the trail.
+func testCorrections(t *testing.T, open Opener) {
+	l := open(t)
+	ctx := context.Background()
+	at := time.Date(2026, 5, 2, 10, 0, 0, 0, time.UTC)
+	setClock(t, l, at)
+	code, err := l.CreateRun(ctx, store.RunRecord{Outcomes: []store.Outcome{
+		{Metric: "coverage", Value: 0.5, Unit: "1", Entered: "50%"}, {Metric: "coverage", Value: 0.6, Unit: "1", Entered: "0.6"},
+		{Metric: "domain_size", Value: 12, Unit: "um", Entered: "12um"}}})
+	must(t, err)
+	before := Fingerprint(t, l)
+	err = l.ReplaceOutcomes(ctx, code, []store.Outcome{{Metric: "coverage", Value: 0.93, Unit: "1", Entered: "93%"}, {Metric: "nuclei_density", Value: 100, Unit: "1/mm2"}}, "ana")
+	if !errorsIs(err, store.ErrInvalid) || !strings.Contains(err.Error(), "no nuclei_density to replace") {
+		t.Errorf("replace of a metric the run lacks: got %v, want ErrInvalid naming it", err)
+	}
+	if Fingerprint(t, l) != before {
+		t.Errorf("a refused replace changed the log")
+	}
+	must(t, l.ReplaceOutcomes(ctx, code, []store.Outcome{{Metric: "coverage", Value: 0.93, Unit: "1", Entered: "93%"}}, "ana"))
+	rec, err := l.Record(ctx, code)
+	must(t, err)
+	var cov []float64
+	for _, o := range rec.Outcomes {
+		if o.Metric == "coverage" {
+			cov = append(cov, o.Value)
+		}
+	}
+	want := []store.Correction{
+		{Metric: "coverage", Unit: "1", OldValue: 0.5, OldEntered: "50%", NewValue: 0.93, NewEntered: "93%", Who: "ana", At: at},
+		{Metric: "coverage", Unit: "1", OldValue: 0.6, OldEntered: "0.6", NewValue: 0.93, NewEntered: "93%", Who: "ana", At: at},
+	}
+	if len(cov) != 1 || cov[0] != 0.93 || len(rec.Outcomes) != 2 || fmt.Sprint(rec.Corrections) != fmt.Sprint(want) {
+		t.Errorf("after replace: got coverage %v, %d outcomes, corrections %+v; want [0.93], 2 and %+v", cov, len(rec.Outcomes), rec.Corrections, want)
+	}
+	var buf bytes.Buffer
+	if _, err := store.WriteJSON(ctx, &buf, l, store.Filter{}); err != nil {
+		t.Fatal(err)
+	}
+	b, err := store.ReadJSON(&buf)
+	must(t, err)
+	dst := open(t)
+	if _, err := dst.Import(ctx, b, nil); err != nil {
+		t.Fatal(err)
+	}
+	got, err := dst.Record(ctx, code)
+	must(t, err)
+	if fmt.Sprint(got.Corrections) != fmt.Sprint(want) {
+		t.Errorf("imported corrections: got %+v, want %+v", got.Corrections, want)
 	}
 }

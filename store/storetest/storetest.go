@@ -41,6 +41,7 @@ func Run(t *testing.T, open Opener) {
 		{"SnapshotByteIdentical", testSnapshot},
 		{"FileSnapshots", testFileSnapshots},
 		{"CodeYear", testCodeYear},
+		{"Corrections", testCorrections},
 		{"RunLifecycle", testLifecycle},
 		{"Codes", testCodes},
 		{"CodeCounters", testCodeCounters},
