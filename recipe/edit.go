@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"math"
 	"path/filepath"
+	"sort"
 	"strconv"
 	"strings"
 
@@ -14,18 +15,24 @@ import (
 	"github.com/foilrun/foilrun/recipe/gas"
 )
 
-// The fields of a step a StepEdit can change.
+// The fields of a step a StepEdit can change (each the step's YAML key,
+// but EditFlow, which is one gas of "flows").
 const (
 	EditTemperature = "temperature" // hold temperature, K
 	EditDuration    = "duration"    // s
 	EditPressure    = "pressure"    // set-point, Pa
 	EditFlow        = "flow"        // one gas's flow, mol/s
+	EditTo          = "to"          // a ramp's or cool's target temperature, K
+	EditRate        = "rate"        // a ramp's or cool's rate, K/s
+	EditUntil       = "until"       // a pump step's end pressure, Pa
+	EditBackfill    = "backfill"    // a purge's backfill pressure, Pa
+	EditMaxRise     = "max_rise"    // a leak check's allowed rise, Pa/s
 )
 
 // StepEdit is one change to a step of a recipe file: a field and its new
 // value in SI.
 type StepEdit struct {
-	// Field is EditTemperature, EditDuration, EditPressure or EditFlow.
+	// Field is one of the Edit constants (EditTemperature, …, EditFlow).
 	Field string
 	// Gas names the gas whose flow changes (EditFlow only), by symbol or
 	// any name the gas table knows ("CH4", "methane").
@@ -66,13 +73,32 @@ var defaultUnits = map[string]struct {
 	EditDuration:    {Duration, "min"},
 	EditPressure:    {Pressure, "Torr"},
 	EditFlow:        {Flow, "sccm"},
+	EditTo:          {Temperature, "C"},
+	EditRate:        {TemperatureRate, "C/min"},
+	EditUntil:       {Pressure, "mTorr"},
+	EditBackfill:    {Pressure, "Torr"},
+	EditMaxRise:     {PressureRate, "mTorr/min"},
+}
+
+// EditFields lists the fields a StepEdit can change, in the order of the
+// Edit constants.
+func EditFields() []string {
+	return []string{EditTemperature, EditDuration, EditPressure, EditFlow, EditTo, EditRate, EditUntil, EditBackfill, EditMaxRise}
+}
+
+// EditDimension returns the dimension of a StepEdit field; false for a
+// field an edit cannot change.
+func EditDimension(field string) (Dimension, bool) {
+	du, ok := defaultUnits[field]
+	return du.dim, ok
 }
 
 // EditRecipe returns the recipe text data with one step changed. It edits
 // the YAML node tree, so comments, key order and the rest of the file
 // stay; only YAML's own re-indentation (two spaces) may move text. Each
 // value is written in the unit the file already used for that field when
-// it had one (a flow in "slm" stays in slm), else in C, min, Torr or sccm.
+// it had one (a flow in "slm" stays in slm), else in C, min, Torr, sccm,
+// C/min, mTorr or mTorr/min.
 //
 // A temperature change also moves the anneal, ramp and grow steps just
 // before the step that sat at its old temperature (a ramp's "to"), up to
@@ -82,37 +108,96 @@ var defaultUnits = map[string]struct {
 // The result is not validated; parse it with ParseRecipe. Errors wrap
 // ErrEdit, or are YAML errors for text that is not a YAML mapping.
 func EditRecipe(data []byte, e Edit) ([]byte, error) {
+	return EditSteps(data, e.From, e.To, []Edit{e})
+}
+
+// EditSteps is EditRecipe for changes to several steps, in one pass over
+// the YAML: edits are applied from the last step to the first, so a step's
+// own temperature, when an edit sets it, wins over one that followed a
+// later step's change. from and to are Edit's From and To (the Edits'
+// own are not read).
+func EditSteps(data []byte, from, to string, edits []Edit) ([]byte, error) {
+	ed, err := NewEditor(data, from)
+	if err != nil {
+		return nil, err
+	}
+	return ed.Apply(to, edits)
+}
+
+// Editor edits one recipe text many times (a template, once per row of a
+// sheet), reading its YAML once. Apply works on a copy of the tree, so an
+// Editor may be used from several goroutines at once.
+type Editor struct {
+	doc  *yaml.Node
+	from string
+}
+
+// NewEditor reads the recipe text data; from names it in messages and is
+// where relative paths start (Edit.From).
+func NewEditor(data []byte, from string) (*Editor, error) {
 	var doc yaml.Node
 	if err := yaml.Unmarshal(data, &doc); err != nil {
-		return nil, fmt.Errorf("edit recipe %q: %w", e.From, err)
+		return nil, fmt.Errorf("edit recipe %q: %w", from, err)
 	}
 	if len(doc.Content) != 1 || doc.Content[0].Kind != yaml.MappingNode {
-		return nil, fmt.Errorf("edit recipe %q: not a YAML mapping: %w", e.From, ErrEdit)
+		return nil, fmt.Errorf("edit recipe %q: not a YAML mapping: %w", from, ErrEdit)
 	}
+	return &Editor{doc: &doc, from: from}, nil
+}
+
+// Apply returns the recipe text with the edits made, as EditSteps does;
+// to is Edit.To.
+func (ed *Editor) Apply(to string, edits []Edit) ([]byte, error) {
+	from := ed.from
+	doc := copyNode(ed.doc, map[*yaml.Node]*yaml.Node{})
 	root := doc.Content[0]
 	steps := mapValue(root, "steps")
-	if steps == nil || steps.Kind != yaml.SequenceNode || e.Step < 0 || e.Step >= len(steps.Content) || steps.Content[e.Step].Kind != yaml.MappingNode {
-		return nil, fmt.Errorf("edit recipe %q: cannot find step %d: %w", e.From, e.Step+1, ErrEdit)
-	}
-	st := steps.Content[e.Step]
-	for _, c := range e.Changes {
-		if err := applyEdit(steps.Content[:e.Step], st, c); err != nil {
-			return nil, fmt.Errorf("edit recipe %q: step %d (line %d): %w", e.From, e.Step+1, st.Line, err)
+	order := make([]Edit, len(edits))
+	copy(order, edits)
+	sort.SliceStable(order, func(i, j int) bool { return order[i].Step > order[j].Step })
+	for _, e := range order {
+		if steps == nil || steps.Kind != yaml.SequenceNode || e.Step < 0 || e.Step >= len(steps.Content) || steps.Content[e.Step].Kind != yaml.MappingNode {
+			return nil, fmt.Errorf("edit recipe %q: cannot find step %d: %w", from, e.Step+1, ErrEdit)
+		}
+		st := steps.Content[e.Step]
+		for _, c := range e.Changes {
+			if err := applyEdit(steps.Content[:e.Step], st, c); err != nil {
+				return nil, fmt.Errorf("edit recipe %q: step %d (line %d): %w", from, e.Step+1, st.Line, err)
+			}
 		}
 	}
-	if e.To != "" {
-		relocate(root, e.From, e.To)
+	if to != "" {
+		relocate(root, from, to)
 	}
 	var b bytes.Buffer
 	enc := yaml.NewEncoder(&b)
 	enc.SetIndent(2)
-	if err := enc.Encode(&doc); err != nil {
-		return nil, fmt.Errorf("edit recipe %q: %w", e.From, err)
+	if err := enc.Encode(doc); err != nil {
+		return nil, fmt.Errorf("edit recipe %q: %w", from, err)
 	}
 	if err := enc.Close(); err != nil {
-		return nil, fmt.Errorf("edit recipe %q: %w", e.From, err)
+		return nil, fmt.Errorf("edit recipe %q: %w", from, err)
 	}
 	return b.Bytes(), nil
+}
+
+// copyNode copies a YAML node tree; seen maps nodes already copied to
+// their copies, so an alias points at the copy of its anchor.
+func copyNode(n *yaml.Node, seen map[*yaml.Node]*yaml.Node) *yaml.Node {
+	if n == nil {
+		return nil
+	}
+	if c, ok := seen[n]; ok {
+		return c
+	}
+	c := *n
+	seen[n] = &c
+	c.Content = make([]*yaml.Node, len(n.Content))
+	for i, k := range n.Content {
+		c.Content[i] = copyNode(k, seen)
+	}
+	c.Alias = copyNode(n.Alias, seen)
+	return &c
 }
 
 // applyEdit makes one change to the step node st; before are the step
@@ -120,7 +205,7 @@ func EditRecipe(data []byte, e Edit) ([]byte, error) {
 func applyEdit(before []*yaml.Node, st *yaml.Node, c StepEdit) error {
 	du, ok := defaultUnits[c.Field]
 	if !ok {
-		return fmt.Errorf("field %q: want temperature, duration, pressure or flow: %w", c.Field, ErrEdit)
+		return fmt.Errorf("field %q: want one of %s: %w", c.Field, strings.Join(EditFields(), ", "), ErrEdit)
 	}
 	if c.Digits < 0 {
 		return fmt.Errorf("%s: %d significant digits: want 0 or more: %w", c.Field, c.Digits, ErrEdit)

@@ -173,7 +173,7 @@ func TestEditRecipeErrors(t *testing.T) {
 	}{
 		{"step out of range", in, 12, StepEdit{Field: EditDuration, SI: 60}, "cannot find step 13"},
 		{"negative step", in, -1, StepEdit{Field: EditDuration, SI: 60}, "cannot find step 0"},
-		{"unknown field", in, 5, StepEdit{Field: "time", SI: 60}, `field "time": want temperature, duration, pressure or flow`},
+		{"unknown field", in, 5, StepEdit{Field: "time", SI: 60}, `field "time": want one of temperature, duration, pressure, flow`},
 		{"unknown gas", in, 5, StepEdit{Field: EditFlow, Gas: "XeF2", SI: sccm(5)}, `flow of "XeF2"`},
 		{"not finite", in, 5, StepEdit{Field: EditTemperature, SI: math.Inf(1)}, "not a finite value"},
 		{"negative digits", in, 5, StepEdit{Field: EditDuration, SI: 60, Digits: -2}, "-2 significant digits"},
@@ -255,4 +255,59 @@ func FuzzEditRecipe(f *testing.F) {
 			t.Fatalf("%s: read back %g, want %g ± %g\n%s", e.Field, got, e.SI, tol, out)
 		}
 	})
+}
+
+// EditSteps: a growth temperature moves the ramp and anneal before it,
+// unless an edit of the anneal sets its own, which then leads the ramp;
+// a ramp's rate and a grow pressure are written in the file's units or
+// the defaults. Values are exact by construction (Kelvin of whole °C).
+func TestEditSteps(t *testing.T) {
+	data, err := os.ReadFile("../templates/recipe-lowpressure.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	r, err := ParseRecipe("t.yaml", data)
+	if err != nil {
+		t.Fatal(err)
+	}
+	grow, anneal, ramp := r.FirstStep(KindGrow), r.FirstStep(KindAnneal), r.FirstStep(KindRamp)
+	tests := []struct {
+		name                                       string
+		edits                                      []Edit
+		wantGrow, wantAnneal, wantRampTo, wantRate float64 // K, K, K, K/s
+	}{
+		{"grow alone moves anneal and ramp", []Edit{{Step: grow, Changes: []StepEdit{{Field: EditTemperature, SI: Kelvin(1040)}}}},
+			Kelvin(1040), Kelvin(1040), Kelvin(1040), 20.0 / 60},
+		{"anneal set too leads the ramp", []Edit{
+			{Step: anneal, Changes: []StepEdit{{Field: EditTemperature, SI: Kelvin(990)}}},
+			{Step: grow, Changes: []StepEdit{{Field: EditTemperature, SI: Kelvin(1040)}}}},
+			Kelvin(1040), Kelvin(990), Kelvin(990), 20.0 / 60},
+		{"ramp rate and to", []Edit{{Step: ramp, Changes: []StepEdit{{Field: EditRate, SI: 0.25}, {Field: EditTo, SI: Kelvin(1000)}}}},
+			Kelvin(1000), Kelvin(1000), Kelvin(1000), 0.25},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			out, err := EditSteps(data, "t.yaml", "", tt.edits)
+			if err != nil {
+				t.Fatal(err)
+			}
+			got, err := ParseRecipe("t.yaml", out)
+			if err != nil {
+				t.Fatalf("%v\n%s", err, out)
+			}
+			for _, c := range []struct {
+				what      string
+				got, want float64
+			}{
+				{"grow temperature", got.Steps[grow].Temperature.SI, tt.wantGrow},
+				{"anneal temperature", got.Steps[anneal].Temperature.SI, tt.wantAnneal},
+				{"ramp to", got.Steps[ramp].To.SI, tt.wantRampTo},
+				{"ramp rate", got.Steps[ramp].Rate.SI, tt.wantRate},
+			} {
+				if math.Abs(c.got-c.want) > 1e-9 {
+					t.Errorf("%s: got %.9g, want %.9g", c.what, c.got, c.want)
+				}
+			}
+		})
+	}
 }

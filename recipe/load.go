@@ -102,7 +102,7 @@ func ParseFurnace(name string, data []byte) (*Furnace, error) {
 	if err := parse("furnace", name, data, f, func() []Problem { return validateFurnace(f) }); err != nil {
 		return nil, err
 	}
-	f.File = name
+	f.File, f.Content = name, data
 	f.applyDefaults()
 	return f, nil
 }
@@ -113,7 +113,7 @@ func ParseSite(name string, data []byte) (*Site, error) {
 	if err := parse("site", name, data, s, func() []Problem { return validateSite(s) }); err != nil {
 		return nil, err
 	}
-	s.File = name
+	s.File, s.Content = name, data
 	return s, nil
 }
 

@@ -21,6 +21,7 @@ type Furnace struct {
 	Comments string     `yaml:"notes"`
 	Pos      Pos        `yaml:"-"`
 	File     string     `yaml:"-"` // path it was loaded from
+	Content  []byte     `yaml:"-"` // the file's bytes as loaded, for the run log's snapshot
 }
 
 // Tube is the process tube.
@@ -153,6 +154,7 @@ type Site struct {
 	Notes             string            `yaml:"notes"`
 	Pos               Pos               `yaml:"-"`
 	File              string            `yaml:"-"`
+	Content           []byte            `yaml:"-"` // the file's bytes as loaded, for the run log's snapshot
 	// Imaging lists the site's microscopes and cameras as presets for
 	// measuring micrographs (foilrun measure image --instrument NAME).
 	Imaging []ImagingPreset `yaml:"imaging"`

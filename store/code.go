@@ -8,8 +8,9 @@ import (
 )
 
 // Run codes are short and human: "G" (growth), the two-digit year the run
-// was logged, a dash and a sequence number of four to six digits that
-// restarts each year: G26-0001, G26-0002, … G26-999999. The sequence comes
+// started (the year it was logged when it has no start, or one outside
+// 2000 to 2099; see CodeTime), a dash and a sequence number of four to
+// six digits that restarts each year: G26-0001, G26-0002, … G26-999999. The sequence comes
 // from a counter row updated in the same transaction that inserts the
 // run, so codes stay unique however many processes (or, on a shared
 // server, machines) log at once.
@@ -29,7 +30,17 @@ const MaxCodeNumber = 999999
 // MaxCodeLength is the longest code, of any shape, a run may have.
 const MaxCodeLength = 32
 
-// CodeCounter returns the counter name for runs logged at t.
+// CodeTime returns the time whose year a new run code takes: the run's
+// start when it has one from 2000 to 2099 (a 2025 run imported today
+// gets a 2025 code), else now, when it is logged.
+func CodeTime(started, now time.Time) time.Time {
+	if y := started.UTC().Year(); !started.IsZero() && y >= 2000 && y <= 2099 {
+		return started
+	}
+	return now
+}
+
+// CodeCounter returns the counter name for runs of the year of t.
 func CodeCounter(t time.Time) string { return "run-" + strconv.Itoa(t.UTC().Year()) }
 
 // FormatCode returns the run code for sequence n (1 to MaxCodeNumber) of

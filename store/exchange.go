@@ -104,9 +104,11 @@ func WriteJSON(ctx context.Context, w io.Writer, log RunLog, f Filter) (int, err
 			sep = "\n"
 		}
 		n++
-		if rec.RecipeHash != "" && !hashes[rec.RecipeHash] {
-			hashes[rec.RecipeHash] = true
-			order = append(order, rec.RecipeHash)
+		for _, h := range []string{rec.RecipeHash, rec.FurnaceHash, rec.SiteHash} {
+			if h != "" && !hashes[h] {
+				hashes[h] = true
+				order = append(order, h)
+			}
 		}
 		_, err = io.WriteString(w, sep+string(b))
 		return err

@@ -13,11 +13,12 @@ import (
 // at all.
 type RunLog interface {
 	// CreateRun logs a new run with everything in rec (params, notes,
-	// outcomes, actuals, …) and, when snap is not nil, stores the recipe
-	// snapshot (once per hash; the bytes are kept as given). An empty
-	// rec.Code gets a fresh code (see NextCode); an empty rec.Status
-	// becomes Running. It returns the run's code.
-	CreateRun(ctx context.Context, rec RunRecord, snap *Snapshot) (string, error)
+	// outcomes, actuals, …) and stores each snapshot that is not nil (once
+	// per hash; the bytes are kept as given): the recipe's, and the
+	// furnace's and site's when given, each setting the run's hash of its
+	// kind. An empty rec.Code gets a fresh code (see NextCode); an empty
+	// rec.Status becomes Running. It returns the run's code.
+	CreateRun(ctx context.Context, rec RunRecord, snaps ...*Snapshot) (string, error)
 	// AddNote adds a timestamped note to a run.
 	AddNote(ctx context.Context, code string, n Note) error
 	// FinishRun ends a planned or running run: status, end time, actuals
@@ -27,13 +28,20 @@ type RunLog interface {
 	FinishRun(ctx context.Context, code string, f Finish) error
 	// AddOutcomes adds measured outcomes to a run, all or none.
 	AddOutcomes(ctx context.Context, code string, outcomes []Outcome) error
+	// ReplaceOutcomes corrects a run's measurements: every logged value of
+	// each outcome's metric is replaced by the outcome, and each replaced
+	// value is kept as a Correction by who, at the log's clock, all in one
+	// transaction. A metric the run has no value of, or one given twice,
+	// is ErrInvalid.
+	ReplaceOutcomes(ctx context.Context, code string, outcomes []Outcome, who string) error
 	// AddAttachment records a file that belongs to a run.
 	AddAttachment(ctx context.Context, code string, a Attachment) error
 
 	// Record returns a run with everything logged about it; ErrNotFound
 	// (wrapped) for an unknown code.
 	Record(ctx context.Context, code string) (RunRecord, error)
-	// Snapshot returns the recipe snapshot with the given SHA-256.
+	// Snapshot returns the snapshot (recipe, furnace or site) with the
+	// given SHA-256.
 	Snapshot(ctx context.Context, sha256 string) (Snapshot, error)
 	// List returns the runs that pass the filter, oldest first.
 	List(ctx context.Context, f Filter) ([]Run, error)

@@ -32,19 +32,42 @@ func (s Status) Valid() bool {
 // Finished reports whether the run has ended (done or aborted).
 func (s Status) Finished() bool { return s == Done || s == Aborted }
 
-// Snapshot is a recipe file kept byte for byte, keyed by the SHA-256 of
-// its bytes, so a run always shows the exact recipe it ran.
+// Snapshot is one of the user's files (a recipe, a furnace or a site file)
+// kept byte for byte, keyed by the SHA-256 of its bytes, so a run always
+// shows the exact recipe it ran, on the furnace it ran on.
 type Snapshot struct {
 	SHA256  string    `json:"sha256"`
-	Name    string    `json:"name"` // recipe name from the file
-	File    string    `json:"file"` // path it was read from, for people
+	Kind    string    `json:"kind,omitempty"` // SnapshotRecipe ("" reads as one), SnapshotFurnace or SnapshotSite
+	Name    string    `json:"name"`           // the recipe's, furnace's or site's name from the file
+	File    string    `json:"file"`           // path it was read from, for people
 	Content []byte    `json:"content"`
 	Created time.Time `json:"created,omitzero"`
 }
 
+// Kinds of Snapshot.
+const (
+	SnapshotRecipe  = "recipe"
+	SnapshotFurnace = "furnace"
+	SnapshotSite    = "site"
+)
+
 // NewSnapshot returns the snapshot of a recipe file's bytes.
 func NewSnapshot(name, file string, content []byte) Snapshot {
-	return Snapshot{SHA256: HashOf(content), Name: name, File: file, Content: content}
+	return NewFileSnapshot(SnapshotRecipe, name, file, content)
+}
+
+// NewFileSnapshot returns the snapshot of a file of the kind
+// (SnapshotRecipe, SnapshotFurnace or SnapshotSite).
+func NewFileSnapshot(kind, name, file string, content []byte) Snapshot {
+	return Snapshot{SHA256: HashOf(content), Kind: kind, Name: name, File: file, Content: content}
+}
+
+// KindOrRecipe returns the snapshot's kind, SnapshotRecipe when unset.
+func (s Snapshot) KindOrRecipe() string {
+	if s.Kind == "" {
+		return SnapshotRecipe
+	}
+	return s.Kind
 }
 
 // HashOf returns the lowercase hex SHA-256 of data.
@@ -56,7 +79,7 @@ func HashOf(data []byte) string {
 // Verify checks that the content hashes to SHA256.
 func (s Snapshot) Verify() error {
 	if got := HashOf(s.Content); got != s.SHA256 {
-		return fmt.Errorf("recipe snapshot %q: content hashes to %s, want %s", s.Name, short(got), short(s.SHA256))
+		return fmt.Errorf("%s snapshot %q: content hashes to %s, want %s", s.KindOrRecipe(), s.Name, short(got), short(s.SHA256))
 	}
 	return nil
 }
@@ -70,16 +93,24 @@ func short(h string) string {
 
 // Run is one furnace run.
 type Run struct {
-	Code       string    `json:"code"`
-	Status     Status    `json:"status"`
-	RecipeName string    `json:"recipe_name"`
-	RecipeHash string    `json:"recipe_sha256,omitempty"` // "" when logged without a recipe file (CSV import)
-	Furnace    string    `json:"furnace"`
-	Operator   string    `json:"operator"`
-	Lot        string    `json:"lot"` // foil lot
-	Started    time.Time `json:"started,omitzero"`
-	Ended      time.Time `json:"ended,omitzero"`
-	Created    time.Time `json:"created,omitzero"`
+	Code       string `json:"code"`
+	Status     Status `json:"status"`
+	RecipeName string `json:"recipe_name"`
+	RecipeHash string `json:"recipe_sha256,omitempty"` // "" when logged without a recipe file (CSV import)
+	Furnace    string `json:"furnace"`
+	// FurnaceHash and SiteHash name the snapshots of the furnace and site
+	// files the run was logged with; "" for runs logged before the log
+	// kept them (their furnace is found through the recipe's path).
+	FurnaceHash string `json:"furnace_sha256,omitempty"`
+	SiteHash    string `json:"site_sha256,omitempty"`
+	// Source is where a run imported from a lab's history sheet came
+	// from ("runs.xlsx, sheet 2025, row 17"); "" for a run logged here.
+	Source   string    `json:"source,omitempty"`
+	Operator string    `json:"operator"`
+	Lot      string    `json:"lot"` // foil lot
+	Started  time.Time `json:"started,omitzero"`
+	Ended    time.Time `json:"ended,omitzero"`
+	Created  time.Time `json:"created,omitzero"`
 }
 
 // Note is a timestamped remark on a run.
@@ -147,6 +178,21 @@ type RunRecord struct {
 	Deviations  []Deviation        `json:"deviations,omitempty"`
 	Attachments []Attachment       `json:"attachments,omitempty"`
 	Override    *Override          `json:"override,omitempty"` // nil: the recipe passed check and safety when logged
+	Corrections []Correction       `json:"corrections,omitempty"`
+}
+
+// Correction is a measurement replaced with `outcome add --replace`: the
+// value it had and the one that replaced it (both in Unit, the metric's
+// stored unit, and as typed), who replaced it and when.
+type Correction struct {
+	Metric     string    `json:"metric"`
+	Unit       string    `json:"unit"`
+	OldValue   float64   `json:"old_value"`
+	OldEntered string    `json:"old_entered"`
+	NewValue   float64   `json:"new_value"`
+	NewEntered string    `json:"new_entered"`
+	Who        string    `json:"who"`
+	At         time.Time `json:"at"`
 }
 
 // Finish is what `run finish` adds to a running run.

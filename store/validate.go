@@ -185,10 +185,16 @@ func (rec RunRecord) Validate(now time.Time) error {
 	if rec.Status != "" && !rec.Status.Valid() {
 		return fieldError(run, "status", "%s: want planned, running, done or aborted", quoteShort(string(rec.Status)))
 	}
-	if rec.RecipeHash != "" {
-		if err := checkHash(rec.RecipeHash); err != nil {
-			return fieldError(run, "recipe_sha256", "%v", err)
+	for _, h := range []struct{ name, v string }{{"recipe_sha256", rec.RecipeHash}, {"furnace_sha256", rec.FurnaceHash}, {"site_sha256", rec.SiteHash}} {
+		if h.v == "" {
+			continue
 		}
+		if err := checkHash(h.v); err != nil {
+			return fieldError(run, h.name, "%v", err)
+		}
+	}
+	if err := checkText(rec.Source, MaxPathLength); err != nil {
+		return fieldError(run, "source", "%v", err)
 	}
 	for _, f := range []struct{ name, v string }{{"recipe_name", rec.RecipeName}, {"furnace", rec.Furnace}, {"operator", rec.Operator}, {"lot", rec.Lot}} {
 		if err := checkText(f.v, MaxNameLength); err != nil {
@@ -467,14 +473,34 @@ func (s Snapshot) validate() error {
 	if err := checkHash(s.SHA256); err != nil {
 		return fmt.Errorf("sha256: %v", err)
 	}
+	kind := s.KindOrRecipe()
+	switch kind {
+	case SnapshotRecipe, SnapshotFurnace, SnapshotSite:
+	default:
+		return fmt.Errorf("snapshot %.12s: kind %s: want recipe, furnace or site", s.SHA256, quoteShort(kind))
+	}
 	if len(s.Content) > MaxRecipeSize {
-		return fmt.Errorf("recipe snapshot %.12s: %d bytes, a recipe file is at most %d", s.SHA256, len(s.Content), MaxRecipeSize)
+		return fmt.Errorf("%s snapshot %.12s: %d bytes, a %s file is at most %d", kind, s.SHA256, len(s.Content), kind, MaxRecipeSize)
 	}
 	if err := checkText(s.Name, MaxNameLength); err != nil {
-		return fmt.Errorf("recipe snapshot %.12s: name: %v", s.SHA256, err)
+		return fmt.Errorf("%s snapshot %.12s: name: %v", kind, s.SHA256, err)
 	}
 	if err := checkText(s.File, MaxPathLength); err != nil {
-		return fmt.Errorf("recipe snapshot %.12s: file: %v", s.SHA256, err)
+		return fmt.Errorf("%s snapshot %.12s: file: %v", kind, s.SHA256, err)
 	}
 	return s.Verify()
+}
+
+// Validate checks a correction's text (UTF-8, no NUL, lengths) and that
+// both values are finite.
+func (c Correction) Validate() error {
+	for _, f := range []struct{ name, v string }{{"metric", c.Metric}, {"unit", c.Unit}, {"old_entered", c.OldEntered}, {"new_entered", c.NewEntered}, {"who", c.Who}} {
+		if err := checkText(f.v, MaxNameLength); err != nil {
+			return fmt.Errorf("%s: %v", f.name, err)
+		}
+	}
+	if math.IsNaN(c.OldValue) || math.IsInf(c.OldValue, 0) || math.IsNaN(c.NewValue) || math.IsInf(c.NewValue, 0) {
+		return fmt.Errorf("values %g and %g: want finite numbers", c.OldValue, c.NewValue)
+	}
+	return nil
 }

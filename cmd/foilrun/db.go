@@ -190,7 +190,7 @@ func dbCopyRun(ctx context.Context, o *dbCopyOptions) error {
 	if cerr != nil {
 		return cerr
 	}
-	fmt.Fprintf(o.f.io.Err, "copied %d runs and %d recipe snapshots from %s to %s\n", dg.Counts["runs"], dg.Counts["snapshots"], shown(o.from), shown(o.to))
+	fmt.Fprintf(o.f.io.Err, "copied %d runs and %d snapshots (recipe, furnace and site files) from %s to %s\n", dg.Counts["runs"], dg.Counts["snapshots"], shown(o.from), shown(o.to))
 	fmt.Fprintf(o.f.io.Err, "verified: row counts equal in %d tables, content sha256 %s on both sides\n", len(dg.Counts), dg.SHA256)
 	return nil
 }

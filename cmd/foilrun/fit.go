@@ -188,9 +188,13 @@ func (opts *fitOptions) collect(ctx context.Context, start kinetics.Params) (lab
 	if err != nil {
 		return lab.Observations{}, fmt.Errorf("fit: %w", err)
 	}
+	furnaceStatus(opts.f.io.Err, b, opts.furnace)
 	for _, u := range col.Furnaces {
 		fmt.Fprintf(opts.f.io.Err, "furnace %q from %s for %d runs\n", u.Name, u.Path, u.Runs)
 		opts.inputs = append(opts.inputs, outfile.Input{What: "furnace file", Path: u.Path})
+	}
+	if col.Repeated > 0 {
+		fmt.Fprintf(opts.f.io.Err, "%d runs have more than one measurement of a fitted metric; the fit uses each run's mean\n", col.Repeated)
 	}
 	for _, s := range col.Skipped {
 		fmt.Fprintln(opts.f.io.Err, "skipped "+s.String())

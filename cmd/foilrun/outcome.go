@@ -27,6 +27,8 @@ type outcomeAddOptions struct {
 	values   []string
 	method   string
 	measured string
+	replace  bool // --replace: correct the logged values, keeping them in the run's history
+	who      string
 }
 
 func newOutcomeAddCmd(f *factory) *cobra.Command {
@@ -47,6 +49,8 @@ metric keeps the unit it was first logged with.`,
 	}
 	cmd.Flags().StringVar(&opts.method, "method", "", "how they were measured, e.g. micrograph, raman, four-point probe")
 	cmd.Flags().StringVar(&opts.measured, "measured", "", "when (RFC 3339; default now)")
+	cmd.Flags().BoolVar(&opts.replace, "replace", false, "correct a mistaken entry: replace the run's values of each metric (run show --history lists the old ones)")
+	cmd.Flags().StringVar(&opts.who, "operator", "", "who makes the correction (with --replace; default $USER)")
 	return cmd
 }
 
@@ -79,6 +83,9 @@ func outcomeAddRun(ctx context.Context, o *outcomeAddOptions) error {
 	l, err := o.f.writeLog(ctx)
 	if err != nil {
 		return err
+	}
+	if o.replace {
+		return replaceOutcomes(ctx, o, l, os)
 	}
 	if err := l.AddOutcomes(ctx, o.code, os); err != nil {
 		return err

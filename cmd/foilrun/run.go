@@ -2,7 +2,6 @@ package main
 
 import (
 	"context"
-	"errors"
 	"fmt"
 	"io"
 	"maps"
@@ -130,7 +129,8 @@ func runStartRun(ctx context.Context, o *runOptions) error {
 	if err != nil {
 		return err
 	}
-	code, err := l.CreateRun(ctx, rec, &snap)
+	furnaceSnap, siteSnap := lab.Snapshots(plan, site)
+	code, err := l.CreateRun(ctx, rec, &snap, furnaceSnap, siteSnap)
 	if err != nil {
 		return err
 	}
@@ -336,10 +336,11 @@ func runFinishRun(ctx context.Context, o *runFinishOptions) error {
 		return fmt.Errorf("run %q is already %s: %w", o.code, rec.Status, store.ErrConflict)
 	}
 	if o.log != "" {
-		plan, err := planOfRun(ctx, l, rec, o.flags.furnace)
+		rb, err := rebuildRun(ctx, l, rec, o.flags.furnace, o.f.io.Err)
 		if err != nil {
 			return err
 		}
+		plan := rb.Plan
 		res, a, err := readFurnaceLog(o.log, plan, o.logStart, o.f.io.Err)
 		if err != nil {
 			return err
@@ -354,29 +355,12 @@ func runFinishRun(ctx context.Context, o *runFinishOptions) error {
 	return printDeviations(o.f.io.Out, o.code, fin.Deviations)
 }
 
-// planOfRun rebuilds the plan of a logged run from its recipe snapshot,
-// on the furnace file given or else the one the recipe names.
-func planOfRun(ctx context.Context, l store.RunLog, rec store.RunRecord, furnace string) (*recipe.Plan, error) {
-	b, err := lab.NewRebuilder(l, furnace)
-	if err != nil {
-		return nil, err
-	}
-	rb, err := b.Rebuild(ctx, rec)
-	switch {
-	case errors.Is(err, lab.ErrNoSnapshot):
-		return nil, withHint(err, "a run logged without a recipe cannot be matched to a furnace log")
-	case errors.Is(err, lab.ErrNoFurnace):
-		return nil, withHint(err, "pass --furnace FILE")
-	case err != nil:
-		return nil, err
-	}
-	return rb.Plan, nil
-}
-
 type runShowOptions struct {
-	f      *factory
-	code   string
-	output outputFormat
+	f       *factory
+	code    string
+	furnace string // --furnace: override the run's logged furnace
+	history bool   // --history: the corrected measurements too
+	output  outputFormat
 }
 
 func newRunShowCmd(f *factory) *cobra.Command {
@@ -390,6 +374,8 @@ func newRunShowCmd(f *factory) *cobra.Command {
 			return runShowRun(cmd.Context(), opts)
 		},
 	}
+	cmd.Flags().StringVar(&opts.furnace, "furnace", "", "check the recipe on this furnace file instead of the one the run was logged with")
+	cmd.Flags().BoolVar(&opts.history, "history", false, "list corrected measurements: who, when, old and new value")
 	addOutputFlag(cmd, &opts.output)
 	return cmd
 }
@@ -410,7 +396,15 @@ func runShowRun(ctx context.Context, o *runShowOptions) error {
 	case formatCSV:
 		return writeCSV(w, paramTable(rec))
 	}
-	return printRun(w, rec)
+	if err := printRun(w, rec); err != nil {
+		return err
+	}
+	if o.history && len(rec.Corrections) > 0 {
+		if err := section(w, "Corrected measurements", correctionTable(rec.Corrections)); err != nil {
+			return err
+		}
+	}
+	return printLoggedPlan(ctx, w, o.f.io.Err, l, rec, o.furnace)
 }
 
 // printRun prints a run for people: its header and parameters, then each
@@ -418,8 +412,11 @@ func runShowRun(ctx context.Context, o *runShowOptions) error {
 func printRun(w io.Writer, rec store.RunRecord) error {
 	e := escapeControl
 	fmt.Fprintf(w, "run %s  %s\n", e(rec.Code), e(string(rec.Status)))
-	fmt.Fprintf(w, "recipe    %s (sha256 %.12s)\nfurnace   %s\noperator  %s\nfoil lot  %s\nstarted   %s\nended     %s\n",
-		e(rec.RecipeName), e(rec.RecipeHash), e(rec.Furnace), e(rec.Operator), e(rec.Lot), when(rec.Started), when(rec.Ended))
+	fmt.Fprintf(w, "recipe    %s (sha256 %.12s)\nfurnace   %s%s\noperator  %s\nfoil lot  %s\nstarted   %s\nended     %s\n",
+		e(rec.RecipeName), e(rec.RecipeHash), e(rec.Furnace), hashNote(rec.FurnaceHash), e(rec.Operator), e(rec.Lot), when(rec.Started), when(rec.Ended))
+	if rec.Source != "" {
+		fmt.Fprintf(w, "source    %s\n", e(rec.Source))
+	}
 	if err := section(w, "Recipe parameters", paramTable(rec)); err != nil {
 		return err
 	}
@@ -432,6 +429,9 @@ func printRun(w io.Writer, rec store.RunRecord) error {
 	}
 	if len(rec.Outcomes) > 0 {
 		if err := section(w, "Outcomes", outcomeTable(rec.Outcomes)); err != nil {
+			return err
+		}
+		if err := printRepeated(w, rec.Outcomes); err != nil {
 			return err
 		}
 	}

@@ -507,21 +507,42 @@ func runsExportRun(ctx context.Context, o *runsExportOptions) error {
 }
 
 type runsImportOptions struct {
-	f      *factory
-	format string
-	file   string
+	f       *factory
+	format  string
+	file    string
+	history historyFlags // --map and the flags that go with it
 }
 
 func newRunsImportCmd(f *factory) *cobra.Command {
 	opts := &runsImportOptions{f: f}
 	cmd := &cobra.Command{
 		Use:   "import FILE",
-		Short: "Add runs from a JSON or CSV export, all or nothing",
-		Long: `Add runs from a JSON or CSV export (runs export), all or nothing. The file
-must be a regular file of at most 1 GiB.`,
-		Args: cobra.ExactArgs(1),
+		Short: "Add runs from a JSON or CSV export, or from a lab's own sheet with --map; all or nothing",
+		Long: `Add runs to the log, all or nothing. Without --map, FILE is an export of a
+run log (runs export, --format json or csv). With --map, FILE is the lab's own
+sheet of past runs (CSV, or XLSX with --sheet NAME): every row becomes a run
+whose recipe is the --recipe template with the row's values written in, as
+MAP.yaml says which column feeds which field (see the README, "Bring your
+past runs"). --dry-run shows what would be imported. FILE must be a
+regular file of at most 1 GiB.`,
+		Example: `  foilrun runs import runs.xlsx --sheet 2025 --recipe growth.yaml --map map.yaml --dry-run`,
+		Args:    cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			opts.file = args[0]
+			if opts.history.mapFile != "" {
+				if cmd.Flags().Changed("format") {
+					return usagef("--format is for a run-log export; a sheet read with --map is CSV or XLSX by its name")
+				}
+				if opts.history.template == "" {
+					return usagef("--map needs --recipe TEMPLATE.yaml, the recipe each row's values are written into")
+				}
+				return runsHistoryRun(cmd.Context(), opts)
+			}
+			for _, name := range []string{"recipe", "sheet", "dry-run", "furnace"} {
+				if cmd.Flags().Changed(name) {
+					return usagef("--%s is for importing a lab's sheet: give --map MAP.yaml too", name)
+				}
+			}
 			if opts.format != formatCSV && opts.format != formatJSON {
 				return usagef("--format %q: want csv or json", opts.format)
 			}
@@ -529,6 +550,7 @@ must be a regular file of at most 1 GiB.`,
 		},
 	}
 	cmd.Flags().StringVar(&opts.format, "format", formatJSON, "csv or json")
+	opts.history.register(cmd)
 	return cmd
 }
 

@@ -13,7 +13,7 @@ import (
 )
 
 // copyTables are the tables whose rows a copy must carry over one for one.
-var copyTables = []string{"runs", "snapshots", "run_params", "run_notes", "outcomes", "run_actuals", "run_deviations", "attachments", "run_overrides", "names"}
+var copyTables = []string{"runs", "snapshots", "run_params", "run_notes", "outcomes", "run_actuals", "run_deviations", "attachments", "run_overrides", "outcome_history", "names"}
 
 type digester struct {
 	h hash.Hash
@@ -63,7 +63,7 @@ func (s *DB) Digest(ctx context.Context) (store.Digest, error) {
 }
 
 func readSnapshots(ctx context.Context, q Querier, d Dialect, each func(store.Snapshot) error) error {
-	rows, err := q.QueryContext(ctx, `SELECT sha256, name, file, content, created_at FROM snapshots ORDER BY sha256`)
+	rows, err := q.QueryContext(ctx, `SELECT sha256, kind, name, file, content, created_at FROM snapshots ORDER BY sha256`)
 	if err != nil {
 		return fmt.Errorf("read snapshots: %w", err)
 	}
@@ -71,7 +71,7 @@ func readSnapshots(ctx context.Context, q Querier, d Dialect, each func(store.Sn
 	for rows.Next() {
 		var sn store.Snapshot
 		var created sql.NullString
-		if err := rows.Scan(&sn.SHA256, &sn.Name, &sn.File, &sn.Content, &created); err != nil {
+		if err := rows.Scan(&sn.SHA256, &sn.Kind, &sn.Name, &sn.File, &sn.Content, &created); err != nil {
 			return err
 		}
 		if sn.Created, err = parseTime(created); err != nil {

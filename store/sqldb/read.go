@@ -35,17 +35,17 @@ func Columns() []string {
 	return cs
 }
 
-const runSelect = `SELECT r.id, r.code, r.status, r.recipe_sha256, r.recipe_name, r.furnace, r.operator, r.lot, r.started_at, r.ended_at, r.created_at FROM runs r`
+const runSelect = `SELECT r.id, r.code, r.status, r.recipe_sha256, r.recipe_name, r.furnace, r.operator, r.lot, r.started_at, r.ended_at, r.created_at, r.furnace_sha256, r.site_sha256, r.source FROM runs r`
 
 func scanRun(rows *sql.Rows) (int64, store.Run, error) {
 	var id int64
 	var r store.Run
 	var st string
-	var hash, started, ended, created sql.NullString
-	if err := rows.Scan(&id, &r.Code, &st, &hash, &r.RecipeName, &r.Furnace, &r.Operator, &r.Lot, &started, &ended, &created); err != nil {
+	var hash, started, ended, created, furnace, site sql.NullString
+	if err := rows.Scan(&id, &r.Code, &st, &hash, &r.RecipeName, &r.Furnace, &r.Operator, &r.Lot, &started, &ended, &created, &furnace, &site, &r.Source); err != nil {
 		return 0, r, err
 	}
-	r.Status, r.RecipeHash = store.Status(st), hash.String
+	r.Status, r.RecipeHash, r.FurnaceHash, r.SiteHash = store.Status(st), hash.String, furnace.String, site.String
 	var err1, err2, err3 error
 	r.Started, err1 = parseTime(started)
 	r.Ended, err2 = parseTime(ended)
@@ -204,14 +204,14 @@ func (s *DB) Samples(ctx context.Context, f store.Filter, metric string, params 
 	return out, rows.Err()
 }
 
-// Snapshot returns the recipe snapshot with the hash.
+// Snapshot returns the snapshot (recipe, furnace or site) with the hash.
 func (s *DB) Snapshot(ctx context.Context, hash string) (store.Snapshot, error) {
 	sn := store.Snapshot{SHA256: hash}
 	var created sql.NullString
-	err := s.db.QueryRowContext(ctx, s.d.Rebind(`SELECT name, file, content, created_at FROM snapshots WHERE sha256 = ?`), hash).
-		Scan(&sn.Name, &sn.File, &sn.Content, &created)
+	err := s.db.QueryRowContext(ctx, s.d.Rebind(`SELECT kind, name, file, content, created_at FROM snapshots WHERE sha256 = ?`), hash).
+		Scan(&sn.Kind, &sn.Name, &sn.File, &sn.Content, &created)
 	if errors.Is(err, sql.ErrNoRows) {
-		return sn, fmt.Errorf("recipe snapshot %.12s: %w", hash, store.ErrNotFound)
+		return sn, fmt.Errorf("snapshot %.12s: %w", hash, store.ErrNotFound)
 	}
 	if err != nil {
 		return sn, err
@@ -313,8 +313,8 @@ func (s *DB) readRuns(ctx context.Context, q Querier, qs string, args []any) ([]
 }
 
 // readChildren fills params, notes, outcomes, actuals, deviations,
-// attachments and the override of the runs (ids ascending), one query
-// per table over the id range.
+// corrections, attachments and the override of the runs (ids ascending),
+// one query per table over the id range.
 func (s *DB) readChildren(ctx context.Context, q Querier, ids []int64, recs []*store.RunRecord) error {
 	byID := make(map[int64]*store.RunRecord, len(ids))
 	for i, id := range ids {
@@ -409,6 +409,21 @@ func (s *DB) readChildren(ctx context.Context, q Querier, ids []int64, recs []*s
 		r := pick()
 		r.Deviations = append(r.Deviations, d)
 		return nil
+	})
+	if err != nil {
+		return err
+	}
+	err = read("outcome_history", "run_id, metric, unit, old_value, old_entered, new_value, new_entered, who, at", "id", func(rows *sql.Rows) error {
+		var c store.Correction
+		var at sql.NullString
+		if err := rows.Scan(&id, &c.Metric, &c.Unit, &c.OldValue, &c.OldEntered, &c.NewValue, &c.NewEntered, &c.Who, &at); err != nil {
+			return err
+		}
+		var err error
+		c.At, err = parseTime(at)
+		r := pick()
+		r.Corrections = append(r.Corrections, c)
+		return err
 	})
 	if err != nil {
 		return err

@@ -20,7 +20,7 @@ type writer struct {
 	names map[string]store.Name // the names registry, loaded once
 	snaps map[string]bool       // snapshot hashes known to be stored
 
-	params, outcomes, notes, actuals, deviations, attachments, overrides, newNames *batch
+	params, outcomes, notes, actuals, deviations, attachments, overrides, corrections, newNames *batch
 
 	runStmts map[int]*sql.Stmt // INSERT of n runs
 	pending  []queued          // checked runs not yet inserted
@@ -44,6 +44,7 @@ func (s *DB) begin(ctx context.Context) (*writer, error) {
 	w.deviations = newBatch(tx, d, "run_deviations", []string{"run_id", "step", "label", "quantity", "unit", "planned", "actual", "tolerance", "message"}, "")
 	w.attachments = newBatch(tx, d, "attachments", []string{"run_id", "path", "sha256", "kind", "added_at"}, "")
 	w.overrides = newBatch(tx, d, "run_overrides", []string{"run_id", "reason", "operator", "at", "findings"}, "")
+	w.corrections = newBatch(tx, d, "outcome_history", []string{"run_id", "metric", "unit", "old_value", "old_entered", "new_value", "new_entered", "who", "at"}, "")
 	w.newNames = newBatch(tx, d, "names", []string{"name", "kind", "unit"}, "ON CONFLICT (name) DO NOTHING")
 	if err := w.loadNames(ctx); err != nil {
 		w.rollback()
@@ -53,7 +54,7 @@ func (s *DB) begin(ctx context.Context) (*writer, error) {
 }
 
 func (w *writer) batches() []*batch {
-	return []*batch{w.params, w.outcomes, w.notes, w.actuals, w.deviations, w.attachments, w.overrides, w.newNames}
+	return []*batch{w.params, w.outcomes, w.notes, w.actuals, w.deviations, w.attachments, w.overrides, w.corrections, w.newNames}
 }
 
 func (w *writer) rollback() {
@@ -127,41 +128,6 @@ func (w *writer) runID(ctx context.Context, code string) (int64, store.Status, e
 	return id, store.Status(st), err
 }
 
-func (w *writer) putSnapshot(ctx context.Context, sn store.Snapshot) error {
-	if w.snaps[sn.SHA256] {
-		return nil
-	}
-	if err := sn.Verify(); err != nil {
-		return fmt.Errorf("%v: %w", err, store.ErrInvalid)
-	}
-	created := sn.Created
-	if created.IsZero() {
-		created = w.s.now()
-	}
-	_, err := w.tx.ExecContext(ctx, w.s.d.Rebind(`INSERT INTO snapshots (sha256, name, file, content, created_at) VALUES (?, ?, ?, ?, ?)
-		ON CONFLICT (sha256) DO NOTHING`), sn.SHA256, sn.Name, sn.File, sn.Content, formatTime(created))
-	if err != nil {
-		return fmt.Errorf("store recipe snapshot: %w", err)
-	}
-	w.snaps[sn.SHA256] = true
-	return nil
-}
-
-func (w *writer) haveSnapshot(ctx context.Context, hash string) (bool, error) {
-	if w.snaps[hash] {
-		return true, nil
-	}
-	var one int
-	err := w.tx.QueryRowContext(ctx, w.s.d.Rebind(`SELECT 1 FROM snapshots WHERE sha256 = ?`), hash).Scan(&one)
-	if errors.Is(err, sql.ErrNoRows) {
-		return false, nil
-	}
-	if err == nil {
-		w.snaps[hash] = true
-	}
-	return err == nil, err
-}
-
 // runBatch is how many runs one INSERT writes.
 const runBatch = 100
 
@@ -181,13 +147,16 @@ func (w *writer) queue(ctx context.Context, rec store.RunRecord) error {
 	if rec.Status == "" {
 		rec.Status = store.Running
 	}
-	if rec.RecipeHash != "" {
-		ok, err := w.haveSnapshot(ctx, rec.RecipeHash)
+	for _, h := range []struct{ kind, hash string }{{store.SnapshotRecipe, rec.RecipeHash}, {store.SnapshotFurnace, rec.FurnaceHash}, {store.SnapshotSite, rec.SiteHash}} {
+		if h.hash == "" {
+			continue
+		}
+		ok, err := w.haveSnapshot(ctx, h.hash)
 		if err != nil {
 			return err
 		}
 		if !ok {
-			return fmt.Errorf("run %q: recipe snapshot %.12s is neither given nor in the log: %w", rec.Code, rec.RecipeHash, store.ErrInvalid)
+			return fmt.Errorf("run %q: %s snapshot %.12s is neither given nor in the log: %w", rec.Code, h.kind, h.hash, store.ErrInvalid)
 		}
 	}
 	for name := range rec.Params {
@@ -218,11 +187,11 @@ func (w *writer) flushRuns(ctx context.Context) ([]string, error) {
 	}
 	w.pending = w.pending[:0]
 	now := w.s.now()
-	need := 0
+	need := map[string]int{} // new codes per counter
 	raise := map[string]int64{}
 	for _, p := range q {
 		if p.rec.Code == "" {
-			need++
+			need[store.CodeCounter(store.CodeTime(p.rec.Started, now))]++
 		} else if c, n, ok := store.ParseCode(p.rec.Code); ok && n > raise[c] {
 			raise[c] = n
 		}
@@ -237,14 +206,20 @@ func (w *writer) flushRuns(ctx context.Context) ([]string, error) {
 			return nil, fmt.Errorf("run code counter: %w", err)
 		}
 	}
-	if need > 0 {
-		next, err := w.reserveCodes(ctx, store.CodeCounter(now), need)
+	counters := make([]string, 0, len(need))
+	for c := range need {
+		counters = append(counters, c)
+	}
+	sort.Strings(counters)
+	for _, c := range counters {
+		next, err := w.reserveCodes(ctx, c, need[c])
 		if err != nil {
 			return nil, err
 		}
 		for i := range q {
-			if q[i].rec.Code == "" {
-				q[i].rec.Code = store.FormatCode(now, next)
+			t := store.CodeTime(q[i].rec.Started, now)
+			if q[i].rec.Code == "" && store.CodeCounter(t) == c {
+				q[i].rec.Code = store.FormatCode(t, next)
 				next++
 			}
 		}
@@ -253,7 +228,7 @@ func (w *writer) flushRuns(ctx context.Context) ([]string, error) {
 	if err != nil {
 		return nil, err
 	}
-	args := make([]any, 0, len(q)*10)
+	args := make([]any, 0, len(q)*runColumns)
 	for _, p := range q {
 		r := p.rec
 		created := r.Created
@@ -261,7 +236,7 @@ func (w *writer) flushRuns(ctx context.Context) ([]string, error) {
 			created = now
 		}
 		args = append(args, r.Code, string(r.Status), nullString(r.RecipeHash), r.RecipeName, r.Furnace, r.Operator, r.Lot,
-			nullTime(r.Started), nullTime(r.Ended), formatTime(created))
+			nullTime(r.Started), nullTime(r.Ended), formatTime(created), nullString(r.FurnaceHash), nullString(r.SiteHash), r.Source)
 	}
 	rows, err := st.QueryContext(ctx, args...)
 	if err != nil {
@@ -305,18 +280,22 @@ type runError struct {
 func (e *runError) Error() string { return e.err.Error() }
 func (e *runError) Unwrap() error { return e.err }
 
+// runColumns is how many columns one run's INSERT sets.
+const runColumns = 13
+
 // runStmt returns the prepared INSERT of n runs.
 func (w *writer) runStmt(ctx context.Context, n int) (*sql.Stmt, error) {
 	if st, ok := w.runStmts[n]; ok {
 		return st, nil
 	}
 	var b strings.Builder
-	b.WriteString(`INSERT INTO runs (code, status, recipe_sha256, recipe_name, furnace, operator, lot, started_at, ended_at, created_at) VALUES `)
+	b.WriteString(`INSERT INTO runs (code, status, recipe_sha256, recipe_name, furnace, operator, lot, started_at, ended_at, created_at, furnace_sha256, site_sha256, source) VALUES `)
+	row := "(?" + strings.Repeat(", ?", runColumns-1) + ")"
 	for i := 0; i < n; i++ {
 		if i > 0 {
 			b.WriteString(", ")
 		}
-		b.WriteString("(?, ?, ?, ?, ?, ?, ?, ?, ?, ?)")
+		b.WriteString(row)
 	}
 	b.WriteString(" ON CONFLICT (code) DO NOTHING RETURNING id, code")
 	st, err := w.tx.PrepareContext(ctx, w.s.d.Rebind(b.String()))
@@ -349,6 +328,11 @@ func (w *writer) addRows(ctx context.Context, id int64, rec store.RunRecord) err
 	}
 	for _, a := range rec.Attachments {
 		if err := w.addAttachment(ctx, id, a); err != nil {
+			return err
+		}
+	}
+	for _, c := range rec.Corrections {
+		if err := w.addCorrection(ctx, id, c); err != nil {
 			return err
 		}
 	}
@@ -428,24 +412,34 @@ func (w *writer) addAttachment(ctx context.Context, id int64, a store.Attachment
 }
 
 // CreateRun logs a new run; see store.RunLog.
-func (s *DB) CreateRun(ctx context.Context, rec store.RunRecord, snap *store.Snapshot) (string, error) {
-	code, err := s.createRun(ctx, rec, snap)
+func (s *DB) CreateRun(ctx context.Context, rec store.RunRecord, snaps ...*store.Snapshot) (string, error) {
+	code, err := s.createRun(ctx, rec, snaps)
 	return code, s.refused("log the run", err)
 }
 
-func (s *DB) createRun(ctx context.Context, rec store.RunRecord, snap *store.Snapshot) (string, error) {
+func (s *DB) createRun(ctx context.Context, rec store.RunRecord, snaps []*store.Snapshot) (string, error) {
 	w, err := s.begin(ctx)
 	if err != nil {
 		return "", err
 	}
 	defer w.rollback()
-	if snap != nil {
+	for _, snap := range snaps {
+		if snap == nil {
+			continue
+		}
 		if err := w.putSnapshot(ctx, *snap); err != nil {
 			return "", err
 		}
-		rec.RecipeHash = snap.SHA256
-		if rec.RecipeName == "" {
-			rec.RecipeName = snap.Name
+		switch snap.KindOrRecipe() {
+		case store.SnapshotFurnace:
+			rec.FurnaceHash = snap.SHA256
+		case store.SnapshotSite:
+			rec.SiteHash = snap.SHA256
+		default:
+			rec.RecipeHash = snap.SHA256
+			if rec.RecipeName == "" {
+				rec.RecipeName = snap.Name
+			}
 		}
 	}
 	if err := w.queue(ctx, rec); err != nil {

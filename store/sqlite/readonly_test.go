@@ -5,6 +5,7 @@ import (
 	"context"
 	"database/sql"
 	"errors"
+	"fmt"
 	"io/fs"
 	"os"
 	"path/filepath"
@@ -93,8 +94,8 @@ func TestReadOnlyOpenErrors(t *testing.T) {
 		t.Fatal(err)
 	}
 	raw.Close()
-	if _, err := OpenReadOnly(ctx, path); !errors.Is(err, store.ErrSchemaBehind) || !strings.Contains(err.Error(), "version 1, this foilrun needs 4") {
-		t.Errorf("read-only open of an old schema: got %v, want ErrSchemaBehind naming 1 and 4", err)
+	if _, err := OpenReadOnly(ctx, path); !errors.Is(err, store.ErrSchemaBehind) || !strings.Contains(err.Error(), fmt.Sprintf("version 1, this foilrun needs %d", storetest.SchemaVersion)) {
+		t.Errorf("read-only open of an old schema: got %v, want ErrSchemaBehind naming 1 and %d", err, storetest.SchemaVersion)
 	}
 	ro, err := sql.Open("sqlite3", dsn(path, true))
 	if err != nil {

@@ -3,6 +3,7 @@ package storetest
 import (
 	"context"
 	"database/sql"
+	"fmt"
 	"strconv"
 	"testing"
 	"time"
@@ -22,8 +23,8 @@ type Fresh func(t *testing.T) (raw *sql.DB, open func() (store.RunLog, error))
 func Migrations(t *testing.T, d sqldb.Dialect, fresh Fresh) {
 	ctx := context.Background()
 	latest, err := sqldb.Latest(d)
-	if err != nil || latest != 4 {
-		t.Fatalf("Latest: got %d, %v; want 4", latest, err)
+	if err != nil || latest != SchemaVersion {
+		t.Fatalf("Latest: got %d, %v; want %d", latest, err, SchemaVersion)
 	}
 	for v := 0; v < latest; v++ {
 		t.Run("from"+strconv.Itoa(v), func(t *testing.T) {
@@ -101,8 +102,8 @@ func SchemaTooNew(t *testing.T, l store.RunLog, reopen func() (store.RunLog, err
 	if err == nil {
 		l2.Close()
 	}
-	if !errorsIs(err, store.ErrSchemaTooNew) || !contains(err, "version 99, this foilrun knows up to 4") {
-		t.Errorf("open of a newer schema: got %v, want ErrSchemaTooNew naming 99 and 4", err)
+	if !errorsIs(err, store.ErrSchemaTooNew) || !contains(err, fmt.Sprintf("version 99, this foilrun knows up to %d", SchemaVersion)) {
+		t.Errorf("open of a newer schema: got %v, want ErrSchemaTooNew naming 99 and %d", err, SchemaVersion)
 	}
 	if after := Fingerprint(t, l); after != before {
 		t.Errorf("opening a newer schema changed the log")

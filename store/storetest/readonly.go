@@ -75,8 +75,8 @@ func ReadOnly(t *testing.T, w, r store.RunLog, codes []string) {
 		if probs, err := r.Check(ctx); err != nil || len(probs) != 0 {
 			t.Errorf("db check: got %v, %v; want no problems", probs, err)
 		}
-		if v, err := r.SchemaVersion(ctx); err != nil || v != 4 {
-			t.Errorf("schema version: got %d, %v; want 4", v, err)
+		if v, err := r.SchemaVersion(ctx); err != nil || v != SchemaVersion {
+			t.Errorf("schema version: got %d, %v; want %d", v, err, SchemaVersion)
 		}
 	})
 	writes := []struct {

@@ -39,6 +39,9 @@ func Run(t *testing.T, open Opener) {
 		fn   func(*testing.T, Opener)
 	}{
 		{"SnapshotByteIdentical", testSnapshot},
+		{"FileSnapshots", testFileSnapshots},
+		{"CodeYear", testCodeYear},
+		{"Corrections", testCorrections},
 		{"RunLifecycle", testLifecycle},
 		{"Codes", testCodes},
 		{"CodeCounters", testCodeCounters},
@@ -509,8 +512,8 @@ func testCheck(t *testing.T, open Opener) {
 	if err != nil || len(probs) != 0 {
 		t.Errorf("Check of a good log: got %v, %v; want no problems", probs, err)
 	}
-	if v, err := l.SchemaVersion(ctx); err != nil || v != 4 {
-		t.Errorf("SchemaVersion: got %d, %v; want 4", v, err)
+	if v, err := l.SchemaVersion(ctx); err != nil || v != SchemaVersion {
+		t.Errorf("SchemaVersion: got %d, %v; want %d", v, err, SchemaVersion)
 	}
 }
 

@@ -45,7 +45,8 @@ func Seed(ctx context.Context, log store.RunLog, paths Paths, n int) error {
 	rng := rand.New(rand.NewPCG(2026, 12))
 	operators := []string{"operator A", "operator B", "operator C"}
 	start := time.Date(2026, 9, 1, 9, 0, 0, 0, time.UTC)
-	bundle := store.Bundle{}
+	fsnap := store.NewFileSnapshot(store.SnapshotFurnace, furnace.Name, paths.FurnaceA, furnace.Content)
+	bundle := store.Bundle{Snapshots: []store.Snapshot{fsnap}}
 	seen := map[string]bool{}
 	for i := range n {
 		T := 960 + 10*float64(rng.IntN(10))             // 960…1050 °C
@@ -69,7 +70,7 @@ func Seed(ctx context.Context, log store.RunLog, paths Paths, n int) error {
 		t0 := start.Add(time.Duration(i) * 26 * time.Hour)
 		rec := store.RunRecord{
 			Run: store.Run{Code: store.FormatCode(t0, int64(i+1)), Status: store.Done, RecipeName: r.Name, RecipeHash: snap.SHA256,
-				Furnace: furnace.Name, Operator: operators[i%3], Lot: "demo-lot-" + strconv.Itoa(1+i/20),
+				Furnace: furnace.Name, FurnaceHash: fsnap.SHA256, Operator: operators[i%3], Lot: "demo-lot-" + strconv.Itoa(1+i/20),
 				Started: t0, Ended: t0.Add(time.Duration(plan.Total) * time.Second)},
 			Params: plan.Parameters(),
 		}

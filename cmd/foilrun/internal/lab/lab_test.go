@@ -104,7 +104,7 @@ func TestRebuildFurnaceRule(t *testing.T) {
 		{"override wins over a missing file", abs, elsewhere, string(lb.recipe), abs, nil, ""},
 		{"override wins over no furnace", abs, here, lb.withFurnace(""), abs, nil, ""},
 		{"relative file gone", "", elsewhere, string(lb.recipe) + "# moved\n", "", ErrNoFurnace,
-			`names furnace "furnace.yaml", not found at ` + filepath.Join(filepath.Dir(elsewhere), "furnace.yaml") + " (the log keeps recipe snapshots, not furnace files)"},
+			`names furnace "furnace.yaml", not found at ` + filepath.Join(filepath.Dir(elsewhere), "furnace.yaml") + " (the run was logged before the log kept furnace files)"},
 		{"recipe names no furnace", "", here, lb.withFurnace(""), "", ErrNoFurnace, `recipe "low-pressure monolayer" names no furnace`},
 		{"no snapshot", "", "", "", "", ErrNoSnapshot, "logged without a recipe snapshot"},
 	}

@@ -39,6 +39,9 @@ type Observations struct {
 	Skipped []Skip
 	// Furnaces are the furnace files the plans were rebuilt on.
 	Furnaces []FurnaceUse
+	// Repeated counts the fitted runs with more than one measurement of a
+	// chosen metric (their mean is fitted).
+	Repeated int
 	// Logged[i] reports whether Observations[i] was prepared on the run's
 	// logged conditions (else on its plan).
 	Logged []bool
@@ -67,9 +70,10 @@ func (o Observations) Counts() (logged, planned int) {
 func Collect(ctx context.Context, b *Rebuilder, filter store.Filter, m Metrics, start kinetics.Params, src Source) (Observations, error) {
 	var out Observations
 	type run struct {
-		obs    kinetics.Observation
-		prof   kinetics.Profile
-		shared *Rebuilt // the plan's own profile, prepared once; nil when logged
+		obs      kinetics.Observation
+		prof     kinetics.Profile
+		shared   *Rebuilt // the plan's own profile, prepared once; nil when logged
+		repeated bool
 	}
 	var runs []run
 	profiles := map[*Rebuilt]kinetics.Profile{}
@@ -89,6 +93,7 @@ func Collect(ctx context.Context, b *Rebuilder, filter store.Filter, m Metrics, 
 		if math.IsNaN(o.Coverage) && math.IsNaN(o.NucleiDensity) {
 			return nil
 		}
+		repeated := m.Coverage && count(rec, "coverage") > 1 || m.Density && count(rec, "nuclei_density") > 1
 		rb, err := b.Rebuild(ctx, rec)
 		if errors.Is(err, ErrNoSnapshot) {
 			out.Skipped = append(out.Skipped, Skip{Code: rec.Code, Reason: ErrNoSnapshot.Error()})
@@ -106,7 +111,7 @@ func Collect(ctx context.Context, b *Rebuilder, filter store.Filter, m Metrics, 
 			prof = kinetics.NewProfile(rb.Plan)
 			profiles[rb] = prof
 		}
-		runs = append(runs, run{obs: o, prof: prof, shared: rb})
+		runs = append(runs, run{obs: o, prof: prof, shared: rb, repeated: repeated})
 		return nil
 	})
 	if err != nil {
@@ -132,6 +137,9 @@ func Collect(ctx context.Context, b *Rebuilder, filter store.Filter, m Metrics, 
 		r.obs.Prepared = p.pr
 		out.Observations = append(out.Observations, r.obs)
 		out.Logged = append(out.Logged, r.shared == nil)
+		if r.repeated {
+			out.Repeated++
+		}
 	}
 	out.Furnaces = b.Used()
 	return out, nil
@@ -153,6 +161,17 @@ func readRuns(ctx context.Context, l store.RunLog, filter store.Filter, m Metric
 		metrics = append(metrics, "nuclei_density")
 	}
 	return fr.FitRuns(ctx, filter, metrics, each)
+}
+
+// count is how many measurements of the metric the run has.
+func count(rec store.RunRecord, metric string) int {
+	n := 0
+	for _, o := range rec.Outcomes {
+		if o.Metric == metric {
+			n++
+		}
+	}
+	return n
 }
 
 // meanSI returns the mean of a run's measurements of a metric in SI, NaN
