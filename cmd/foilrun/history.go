@@ -56,7 +56,7 @@ func runsHistoryRun(ctx context.Context, o *runsImportOptions) error {
 	if h.dryRun {
 		return printDryRun(o.f.io.Out, in.Sheet, res)
 	}
-	l, err := o.f.writeLog(ctx)
+	l, err := o.f.createLog(ctx)
 	if err != nil {
 		return err
 	}

@@ -36,7 +36,7 @@ func (s *DB) FitRuns(ctx context.Context, f store.Filter, metrics []string, each
 		margs[i] = m
 	}
 	args = append(margs, args...)
-	qs := s.d.Rebind("SELECT r.id, r.code, r.recipe_sha256 FROM runs r" + w + " AND r.id > ? ORDER BY r.id LIMIT ?")
+	qs := s.d.Rebind("SELECT r.id, r.code, r.recipe_sha256, r.furnace_sha256 FROM runs r" + w + " AND r.id > ? ORDER BY r.id LIMIT ?")
 	last, sent := int64(math.MinInt64), 0
 	for {
 		n := exportChunk
@@ -77,12 +77,12 @@ func (s *DB) fitRuns(ctx context.Context, q Querier, qs string, args []any) ([]*
 	var ids []int64
 	for rows.Next() {
 		var id int64
-		var hash sql.NullString
+		var hash, furnace sql.NullString
 		r := &store.RunRecord{}
-		if err := rows.Scan(&id, &r.Code, &hash); err != nil {
+		if err := rows.Scan(&id, &r.Code, &hash, &furnace); err != nil {
 			return nil, nil, err
 		}
-		r.RecipeHash = hash.String
+		r.RecipeHash, r.FurnaceHash = hash.String, furnace.String
 		recs, ids = append(recs, r), append(ids, id)
 	}
 	return recs, ids, rows.Err()

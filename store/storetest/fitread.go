@@ -65,7 +65,7 @@ func FitRuns(t *testing.T, open Opener) {
 				if len(c.where) > 0 && rec.Operator != "op1" {
 					continue
 				}
-				w := store.RunRecord{Run: store.Run{Code: rec.Code, RecipeHash: rec.RecipeHash}, Actuals: actuals[rec.Code]}
+				w := store.RunRecord{Run: store.Run{Code: rec.Code, RecipeHash: rec.RecipeHash, FurnaceHash: rec.FurnaceHash}, Actuals: actuals[rec.Code]}
 				for _, o := range rec.Outcomes {
 					for _, m := range c.metrics {
 						if o.Metric == m {
