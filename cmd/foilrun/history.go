@@ -4,7 +4,6 @@ import (
 	"context"
 	"fmt"
 	"io"
-	"os"
 	"sort"
 	"strings"
 
@@ -12,6 +11,7 @@ import (
 
 	"github.com/foilrun/foilrun/cmd/foilrun/internal/history"
 	"github.com/foilrun/foilrun/recipe"
+	"github.com/foilrun/foilrun/recipe/infile"
 	"github.com/foilrun/foilrun/store"
 )
 
@@ -73,7 +73,7 @@ func runsHistoryRun(ctx context.Context, o *runsImportOptions) error {
 
 // historyInput reads the map, the template, its furnace and the sheet.
 func historyInput(file string, h historyFlags) (history.Input, error) {
-	mapData, err := os.ReadFile(h.mapFile)
+	mapData, err := infile.ReadFile(h.mapFile, infile.Recipe) // a YAML file of the same size class
 	if err != nil {
 		return history.Input{}, fmt.Errorf("map: %w", err)
 	}
@@ -81,7 +81,7 @@ func historyInput(file string, h historyFlags) (history.Input, error) {
 	if err != nil {
 		return history.Input{}, err
 	}
-	tmpl, err := os.ReadFile(h.template)
+	tmpl, err := infile.ReadFile(h.template, infile.Recipe)
 	if err != nil {
 		return history.Input{}, fmt.Errorf("template: %w", err)
 	}
@@ -93,7 +93,7 @@ func historyInput(file string, h historyFlags) (history.Input, error) {
 	if err != nil {
 		return history.Input{}, err
 	}
-	fh, err := os.Open(file)
+	fh, err := infile.Open(file, infile.Import)
 	if err != nil {
 		return history.Input{}, err
 	}
