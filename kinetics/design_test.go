@@ -32,9 +32,8 @@ func simulated(pr *Prepared, truth Params, rnd *rand.Rand, density bool) Observa
 	return o
 }
 
-// randomRuns draws n feasible settings uniformly inside the ranges (the
-// design's own candidate sampler) and measures them.
-func randomRuns(t testing.TB, plan *recipe.Plan, n int, truth Params, rnd *rand.Rand, density bool) []Observation {
+// simSearcher is the design's searcher over designVary.
+func simSearcher(t testing.TB, plan *recipe.Plan, truth Params, rnd *rand.Rand) (*searcher, DesignSpec) {
 	t.Helper()
 	spec, err := DesignSpec{Runs: 1, Vary: designVary, Params: truth, Rand: rnd}.withDefaults()
 	if err != nil {
@@ -44,6 +43,14 @@ func randomRuns(t testing.TB, plan *recipe.Plan, n int, truth Params, rnd *rand.
 	if err != nil {
 		t.Fatal(err)
 	}
+	return s, spec
+}
+
+// randomRuns draws n feasible settings uniformly inside the ranges (the
+// design's own candidate sampler) and measures them.
+func randomRuns(t testing.TB, plan *recipe.Plan, n int, truth Params, rnd *rand.Rand, density bool) []Observation {
+	t.Helper()
+	s, spec := simSearcher(t, plan, truth, rnd)
 	spec.Candidates = n
 	pool, err := s.pool(spec)
 	if err != nil {
@@ -88,14 +95,7 @@ func designed(t testing.TB, plan *recipe.Plan, obs []Observation, res *FitResult
 // others held; each setting is measured.
 func oneFactorRuns(t testing.TB, plan *recipe.Plan, r int, truth Params, rnd *rand.Rand, density bool) []Observation {
 	t.Helper()
-	spec, err := DesignSpec{Runs: 1, Vary: designVary, Params: truth, Rand: rnd}.withDefaults()
-	if err != nil {
-		t.Fatal(err)
-	}
-	s, err := newDesignSearcher(plan, spec)
-	if err != nil {
-		t.Fatal(err)
-	}
+	s, _ := simSearcher(t, plan, truth, rnd)
 	st := plan.Recipe.Steps[s.grow]
 	centre := make([]float64, len(s.axes))
 	for i, a := range s.axes {
