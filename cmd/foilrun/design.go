@@ -49,6 +49,9 @@ information of the fitted parameters (D-optimal design): the runs that
 shrink the volume of the parameters' confidence region most. When neither
 the log nor the new runs measure nuclei_density the criterion is on what
 coverage identifies (En+2Eg and I·G²·κ at T_ref), as foilrun fit does.
+--criterion target --target 'coverage>=0.99' instead picks the runs that
+shrink the expected variance of the target quantity at the recipe foilrun
+suggest would choose for that target, so the runs go where the decision is.
 
 The calibration is --params FILE, else a fit of the logged runs selected by
 --where, else the illustrative defaults (said which). Measurement errors come
