@@ -58,6 +58,13 @@ type DesignSpec struct {
 	Options Options
 	// MaxMFCShare and MeltMargin limit the space as in SuggestSpec.
 	MaxMFCShare, MeltMargin float64
+	// Criterion is DesignD (default) or DesignTarget.
+	Criterion string
+	// Targets are what the recipe Suggest would choose must meet (as
+	// SuggestSpec.Targets; the first one's quantity is watched there):
+	// required by DesignTarget; with DesignD they only add the target's
+	// expected standard errors to the result.
+	Targets []Target
 }
 
 // DesignRun is one proposed run.
@@ -95,11 +102,21 @@ type DesignResult struct {
 	// LogDetNow and LogDetAfter are ln det of the information (with the
 	// ridge of designRidge), before and after.
 	LogDetNow, LogDetAfter float64
-	Pool                   int     // feasible candidates chosen from
-	Restarts               int     // exchange searches run
-	ReferenceTemperature   float64 // K, of the fit coordinates
-	CoverageScale          float64 // σ used
-	DensityScale           float64
+	// Criterion is the one maximised (DesignD or DesignTarget).
+	Criterion string
+	// Target is the setting Suggest chose for DesignSpec.Targets (nil
+	// without targets), TargetQuantity what is watched there
+	// ("cloglog coverage" or "ln nuclei_density"), and TargetSENow and
+	// TargetSEAfter its expected standard error on that scale,
+	// σ·√(gᵀF⁺g), before and after the K runs (NaN: not identified).
+	Target                     *Candidate
+	TargetQuantity             string
+	TargetSENow, TargetSEAfter float64
+	Pool                       int     // feasible candidates chosen from
+	Restarts                   int     // exchange searches run
+	ReferenceTemperature       float64 // K, of the fit coordinates
+	CoverageScale              float64 // σ used
+	DensityScale               float64
 }
 
 // DesignScales returns σ of one coverage measurement (cloglog scale) and
@@ -144,6 +161,12 @@ func DesignScales(res *FitResult) (coverage, density float64) {
 // element) keeps ln det finite when a parameter is not identified by any
 // choice (b with the H2 flow fixed, say).
 //
+// The target criterion (DesignTarget) instead minimises gᵀF⁻¹g, the
+// expected variance of the target quantity (cloglog θ or ln N) at the
+// setting Suggest chooses for spec.Targets, g its σ-scaled gradient with
+// respect to x there: the runs go where the decision is (a c-optimal
+// design, Atkinson et al. ch. 17).
+//
 // The candidates are Candidates settings drawn uniformly inside the
 // ranges (log-uniformly for flows, pressure and duration), rounded as a
 // recipe file carries them, kept when recipe.Check gives no error. The
@@ -153,7 +176,10 @@ func DesignScales(res *FitResult) (coverage, density float64) {
 // designs, and keeps the best. Runs may repeat a candidate (replicates).
 //
 // Errors (*InputError): Runs outside 1 … MaxDesignRuns (ReasonRunCount,
-// kind KindSuggest), the ranges as in Suggest (kind KindVary), a recipe
+// kind KindSuggest), the ranges as in Suggest (kind KindVary), an unknown
+// criterion, the target criterion without a target, a domain_size or
+// unmeasured nuclei_density target watched, targets no setting meets
+// (kind KindTarget), a recipe
 // without a grow step, no feasible candidate, an existing observation out
 // of range (kind KindFit). It panics if spec.Rand, plan, plan.Recipe or
 // plan.Furnace is nil.
@@ -186,16 +212,23 @@ func Design(plan *recipe.Plan, spec DesignSpec) (*DesignResult, error) {
 		return nil, err
 	}
 	coverageOnly := !spec.Density && !anyDensity(spec.Existing)
-	info, err := newDesignInfo(spec, pool, coverageOnly)
+	tg, err := designTarget(plan, spec, coverageOnly)
 	if err != nil {
 		return nil, err
 	}
+	info, err := newDesignInfo(spec, pool, coverageOnly, tg.at())
+	if err != nil {
+		return nil, err
+	}
+	tg.watch(info, spec.Criterion == DesignTarget)
 	pick := info.exchange(spec.Runs, spec.Restarts, spec.Rand)
 	res := info.result(pick)
+	res.Criterion = spec.Criterion
+	tg.report(res, info, pick)
 	res.Step, res.Pool, res.Restarts = s.grow, len(pool), spec.Restarts
 	full := info
 	if coverageOnly {
-		if full, err = newDesignInfo(spec, pool, false); err != nil {
+		if full, err = newDesignInfo(spec, pool, false, nil); err != nil {
 			return nil, err
 		}
 	}
@@ -221,6 +254,9 @@ func (spec DesignSpec) withDefaults() (DesignSpec, error) {
 			hinted(fmt.Sprintf("ask for the runs the furnace can do before the next fit, e.g. 4; more than %d at once is a plan, not a design", MaxDesignRuns))
 	}
 	if err := spec.Params.Validate(); err != nil {
+		return spec, err
+	}
+	if err := spec.checkCriterion(); err != nil {
 		return spec, err
 	}
 	if len(spec.Vary) == 0 {

@@ -32,9 +32,8 @@ func simulated(pr *Prepared, truth Params, rnd *rand.Rand, density bool) Observa
 	return o
 }
 
-// randomRuns draws n feasible settings uniformly inside the ranges (the
-// design's own candidate sampler) and measures them.
-func randomRuns(t testing.TB, plan *recipe.Plan, n int, truth Params, rnd *rand.Rand, density bool) []Observation {
+// simSearcher is the design's searcher over designVary.
+func simSearcher(t testing.TB, plan *recipe.Plan, truth Params, rnd *rand.Rand) (*searcher, DesignSpec) {
 	t.Helper()
 	spec, err := DesignSpec{Runs: 1, Vary: designVary, Params: truth, Rand: rnd}.withDefaults()
 	if err != nil {
@@ -44,6 +43,14 @@ func randomRuns(t testing.TB, plan *recipe.Plan, n int, truth Params, rnd *rand.
 	if err != nil {
 		t.Fatal(err)
 	}
+	return s, spec
+}
+
+// randomRuns draws n feasible settings uniformly inside the ranges (the
+// design's own candidate sampler) and measures them.
+func randomRuns(t testing.TB, plan *recipe.Plan, n int, truth Params, rnd *rand.Rand, density bool) []Observation {
+	t.Helper()
+	s, spec := simSearcher(t, plan, truth, rnd)
 	spec.Candidates = n
 	pool, err := s.pool(spec)
 	if err != nil {
@@ -81,11 +88,62 @@ func designed(t testing.TB, plan *recipe.Plan, obs []Observation, res *FitResult
 	return out
 }
 
+// oneFactorRuns is round r of a one-factor-at-a-time plan: the recipe's
+// own grow-step settings (clamped into the ranges) with one factor — the
+// axes, then the grow time, in turn — moved to 4 levels evenly spread
+// over its range (on the sampler's scale: log for flows and time), the
+// others held; each setting is measured.
+func oneFactorRuns(t testing.TB, plan *recipe.Plan, r int, truth Params, rnd *rand.Rand, density bool) []Observation {
+	t.Helper()
+	s, _ := simSearcher(t, plan, truth, rnd)
+	st := plan.Recipe.Steps[s.grow]
+	centre := make([]float64, len(s.axes))
+	for i, a := range s.axes {
+		v := st.Flows.Of(a.name)
+		switch a.name {
+		case ParamTemperature:
+			v = st.Temperature.SI
+		case ParamPressure:
+			v = st.Pressure.Setpoint.SI
+		}
+		centre[i] = math.Min(math.Max(v, a.lo), a.hi)
+	}
+	t0 := math.Min(math.Max(s.fixedTime, s.tlo), s.thi)
+	factor := r % (len(s.axes) + 1)
+	var out []Observation
+	for k := range 4 {
+		f := float64(k) / 3
+		x, dur := slices.Clone(centre), t0
+		if factor < len(s.axes) {
+			a := s.axes[factor]
+			lo, hi := s.coord(a, a.lo), s.coord(a, a.hi)
+			x[factor] = s.value(a, lo+f*(hi-lo))
+		} else {
+			dur = math.Min(roundTime(s.tlo*math.Pow(s.thi/s.tlo, f)), s.thi)
+		}
+		p, ok := s.feasible(s.quantise(x), dur)
+		if !ok {
+			t.Fatalf("one-factor run %d of round %d (x %v, %g s) fails check", k, r, x, dur)
+		}
+		out = append(out, simulated(p.pr, truth, rnd, density))
+	}
+	return out
+}
+
+// The arms of the simulation.
+const (
+	armDesign = iota
+	armRandom
+	armOneFactor
+)
+
+var armNames = []string{"design", "random", "one factor"}
+
 // finalSE runs one arm of the simulation: 6 random starting runs, then 4
-// rounds of 4 runs (designed or random), re-fitted after each round. It
+// rounds of 4 runs (designed, random or one factor at a time), re-fitted after each round. It
 // returns the final estimate and SE of the quantity watched: Eg with
 // density, En+2Eg (a combination) with coverage only.
-func finalSE(t testing.TB, plan *recipe.Plan, seed uint64, design, density bool) (est, se float64) {
+func finalSE(t testing.TB, plan *recipe.Plan, seed uint64, arm int, density bool) (est, se float64) {
 	truth := DefaultParams()
 	rnd := rand.New(rand.NewPCG(seed, 20))
 	obs := randomRuns(t, plan, 6, truth, rnd, density)
@@ -98,11 +156,14 @@ func finalSE(t testing.TB, plan *recipe.Plan, seed uint64, design, density bool)
 		}
 	}
 	fit()
-	for range 4 {
-		if design {
+	for r := range 4 {
+		switch arm {
+		case armDesign:
 			obs = append(obs, designed(t, plan, obs, res, truth, rnd, density)...)
-		} else {
+		case armRandom:
 			obs = append(obs, randomRuns(t, plan, 4, truth, rnd, density)...)
+		default:
+			obs = append(obs, oneFactorRuns(t, plan, r, truth, rnd, density)...)
 		}
 		fit()
 	}
@@ -138,77 +199,88 @@ func median(xs []float64) float64 {
 	return (s[n/2-1] + s[n/2]) / 2
 }
 
-// TestDesignSimulation is the simulation of issue 20 on 12 seeds (not 20,
-// to stay quick in CI): the median final standard error of Eg (with
-// nuclei density) and of En+2Eg (coverage only) must be at least 30 %
-// lower with designed runs than with random ones inside the same ranges,
-// and every designed arm's estimate within 3 SE of the truth (the random
-// arm's misses are logged: with runs that saturate, its fits are the
-// comparison, not the product under test; the truth is the
-// simulation's own; 3 SE is the usual check, failing by chance with
-// probability 0.3 % per estimate for a normal error).
+// TestDesignSimulation is the simulation of issue 20 on 20 seeds: the
+// median final standard error of Eg (with nuclei density) and of En+2Eg
+// (coverage only) must be lower with designed runs than with random ones
+// and than with a one-factor-at-a-time plan inside the same ranges, by
+// the least fall each case states, and every designed arm's estimate
+// within 3 SE of the truth (the other arms' misses are logged: with runs
+// that saturate, their fits are the comparison, not the product under
+// test; the truth is the simulation's own; 3 SE is the usual check,
+// failing by chance with probability 0.3 % per estimate for a normal
+// error). The table of medians is in the log (go test -v).
 func TestDesignSimulation(t *testing.T) {
 	plan := loadTemplate(t, "lowpressure")
 	truth := DefaultParams()
-	const seeds = 12
+	const seeds = 20
 	for _, c := range []struct {
 		name    string
 		density bool
-		want    float64 // true value of the quantity watched, eV
-		gain    float64 // least fall of the median SE asserted
+		want    float64    // true value of the quantity watched, eV
+		gain    [3]float64 // least fall of the median SE below each arm, asserted
 	}{
-		{"Eg with density", true, truth.Eg, 0.30},
-		// Coverage only measured 29 % (12 seeds) to 34 % (20 seeds, 600
-		// candidates): below the issue's 30 % on this seed set, so only
-		// 20 % is asserted here and the shortfall is reported.
-		{"En+2Eg coverage only", false, truth.En + 2*truth.Eg, 0.20},
+		// Measured (20 seeds, 600 candidates): with density 35 % below
+		// random and 35 % below one factor; coverage only 34 % and 50 %.
+		{"Eg with density", true, truth.Eg, [3]float64{0, 0.30, 0.30}},
+		{"En+2Eg coverage only", false, truth.En + 2*truth.Eg, [3]float64{0, 0.30, 0.30}},
 	} {
 		t.Run(c.name, func(t *testing.T) {
-			var des, rnd []float64
-			missed := 0 // random-arm estimates beyond 3 SE, reported
+			var se [3][]float64
+			var missed [3]int // estimates beyond 3 SE
 			for seed := range uint64(seeds) {
-				for _, arm := range []bool{true, false} {
-					est, se := finalSE(t, plan, seed+1, arm, c.density)
-					switch off := math.Abs(est-c.want) / se; {
-					case !(off <= 3) && arm:
-						t.Errorf("seed %d design=%v: estimate %.4g eV is %.2g SE from the truth %.4g eV, want within 3 SE", seed+1, arm, est, math.Abs(est-c.want)/se, c.want)
-					case !(off <= 3):
-						missed++
+				for arm := range se {
+					est, e := finalSE(t, plan, seed+1, arm, c.density)
+					off := math.Abs(est-c.want) / e
+					if !(off <= 3) {
+						missed[arm]++
+						if arm == armDesign {
+							t.Errorf("seed %d designed: estimate %.4g eV is %.2g SE from the truth %.4g eV, want within 3 SE", seed+1, est, off, c.want)
+						}
 					}
-					if arm {
-						des = append(des, se)
-					} else {
-						rnd = append(rnd, se)
-					}
+					se[arm] = append(se[arm], e)
 				}
 			}
-			md, mr := median(des), median(rnd)
-			t.Logf("%s over %d seeds: median final SE designed %.4g eV, random %.4g eV (%.0f %% lower); random-arm estimates beyond 3 SE: %d of %d", c.name, seeds, md, mr, 100*(1-md/mr), missed, seeds)
-			if !(md <= (1-c.gain)*mr) {
-				t.Errorf("median final SE: designed %.4g eV, random %.4g eV; want designed at least %.0f %% lower", md, mr, 100*c.gain)
+			md := median(se[armDesign])
+			t.Logf("%s, median final SE over %d seeds:", c.name, seeds)
+			t.Logf("  %-10s %.4g eV; estimates beyond 3 SE: %d of %d", armNames[armDesign], md, missed[armDesign], seeds)
+			for arm := armRandom; arm < len(se); arm++ {
+				m := median(se[arm])
+				t.Logf("  %-10s %.4g eV (design %.0f %% lower); estimates beyond 3 SE: %d of %d", armNames[arm], m, 100*(1-md/m), missed[arm], seeds)
+				if !(md <= (1-c.gain[arm])*m) {
+					t.Errorf("median final SE: designed %.4g eV, %s %.4g eV; want designed at least %.0f %% lower", md, armNames[arm], m, 100*c.gain[arm])
+				}
 			}
 		})
 	}
 }
 
-// TestDesignErrors checks the refusals: the run count, an empty range and
-// a range outside the furnace's limits.
+// TestDesignErrors checks the refusals: the run count, an empty range, a
+// range outside the furnace's limits and the criterion's mistakes.
 func TestDesignErrors(t *testing.T) {
 	plan := loadTemplate(t, "lowpressure")
+	size, err := ParseTarget("domain_size>=40um")
+	if err != nil {
+		t.Fatal(err)
+	}
 	for _, c := range []struct {
-		name string
-		runs int
-		vary []string
-		want string
+		name      string
+		runs      int
+		vary      []string
+		criterion string
+		targets   []Target
+		want      string
 	}{
-		{"no runs", 0, nil, "0 runs asked for, want 1 to 50"},
-		{"too many runs", 51, nil, "51 runs asked for, want 1 to 50"},
-		{"empty range", 4, []string{"temperature=1000C:1000C"}, "from must be below to"},
-		{"above the ceiling", 4, []string{"temperature=950C:1100C"}, "beyond the"},
-		{"flow above the line", 4, []string{"CH4=1sccm:60sccm"}, "beyond the"},
+		{"no runs", 0, nil, "", nil, "0 runs asked for, want 1 to 50"},
+		{"too many runs", 51, nil, "", nil, "51 runs asked for, want 1 to 50"},
+		{"empty range", 4, []string{"temperature=1000C:1000C"}, "", nil, "from must be below to"},
+		{"above the ceiling", 4, []string{"temperature=950C:1100C"}, "", nil, "beyond the"},
+		{"flow above the line", 4, []string{"CH4=1sccm:60sccm"}, "", nil, "beyond the"},
+		{"target criterion without a target", 4, nil, DesignTarget, nil, "the target criterion needs a target"},
+		{"domain size watched", 4, nil, DesignTarget, []Target{size}, "not domain_size"},
+		{"unknown criterion", 4, nil, "a", nil, `criterion "a": want d or target`},
 	} {
 		t.Run(c.name, func(t *testing.T) {
-			_, err := Design(plan, DesignSpec{Runs: c.runs, Vary: c.vary, Params: DefaultParams(), Rand: rand.New(rand.NewPCG(1, 2))})
+			_, err := Design(plan, DesignSpec{Runs: c.runs, Vary: c.vary, Criterion: c.criterion, Targets: c.targets, Params: DefaultParams(), Rand: rand.New(rand.NewPCG(1, 2))})
 			var ie *InputError
 			if !errors.As(err, &ie) || !strings.Contains(err.Error(), c.want) {
 				t.Fatalf("got %v, want an InputError containing %q", err, c.want)
@@ -264,5 +336,56 @@ func BenchmarkDesign500(b *testing.B) {
 			Rand: rand.New(rand.NewPCG(1, 1))}); err != nil {
 			b.Fatal(err)
 		}
+	}
+}
+
+// TestDesignTargetCriterion: on seeded cases (6 random logged runs, the
+// illustrative parameters as calibration), the runs the target criterion
+// chooses give a lower expected SE of the target quantity at the recipe
+// suggest chooses for coverage>=0.99 than the D-optimal runs do, and the
+// D-optimal runs a higher ln det: each criterion wins on its own measure,
+// both as computed by Design (the property holds by construction only if
+// the exchange search works; a broken criterion or search fails it).
+func TestDesignTargetCriterion(t *testing.T) {
+	plan := loadTemplate(t, "lowpressure")
+	truth := DefaultParams()
+	target, err := ParseTarget("coverage>=0.99")
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range []struct {
+		name    string
+		density bool
+		seed    uint64
+	}{
+		{"coverage only", false, 5},
+		{"with density", true, 6},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			obs := randomRuns(t, plan, 6, truth, rand.New(rand.NewPCG(c.seed, 1)), c.density)
+			run := func(criterion string) *DesignResult {
+				d, err := Design(plan, DesignSpec{Runs: 4, Vary: designVary, Density: c.density, Params: truth, Existing: obs, Fixed: designFixed,
+					Criterion: criterion, Targets: []Target{target}, Candidates: 200, Restarts: 4, Rand: rand.New(rand.NewPCG(c.seed, 2))})
+				if err != nil {
+					t.Fatal(err)
+				}
+				return d
+			}
+			dopt, tgt := run(DesignD), run(DesignTarget)
+			t.Logf("target SE (%s) now %.4g; after D-optimal %.4g, after target %.4g; ln det D-optimal %.4g, target %.4g",
+				tgt.TargetQuantity, tgt.TargetSENow, dopt.TargetSEAfter, tgt.TargetSEAfter, dopt.LogDetAfter, tgt.LogDetAfter)
+			if tgt.Target == nil || dopt.Target == nil || !(tgt.Target.Coverage >= 0.99) {
+				t.Fatalf("got target settings %+v, want suggest's choice meeting coverage >= 0.99", tgt.Target)
+			}
+			if !(tgt.TargetSEAfter < dopt.TargetSEAfter) {
+				t.Errorf("target SE after: target criterion %.4g, D-optimal %.4g; want the target criterion lower", tgt.TargetSEAfter, dopt.TargetSEAfter)
+			}
+			if !(dopt.LogDetAfter > tgt.LogDetAfter) {
+				t.Errorf("ln det after: D-optimal %.4g, target criterion %.4g; want D-optimal higher", dopt.LogDetAfter, tgt.LogDetAfter)
+			}
+			if !(tgt.TargetSEAfter > 0) || tgt.TargetSEAfter >= tgt.TargetSENow {
+				t.Errorf("target SE: now %.4g, after %.4g; want the runs to identify it (NaN now: not yet) or shrink it", tgt.TargetSENow, tgt.TargetSEAfter)
+			}
+		})
 	}
 }

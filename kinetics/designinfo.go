@@ -19,16 +19,25 @@ type designInfo struct {
 	cand         []*mat.SymDense // per candidate: its information as designed
 	ridge        []float64
 	density      bool
+	buf          []float64 // chol's work space
+	// at are the coverage and density rows of the target's setting (nil:
+	// none); g is the one the target criterion watches, nil for D.
+	at [2][]float64
+	g  []float64
 }
 
 // newDesignInfo evaluates the Jacobian rows of every existing run and
 // every candidate with the fit's own machinery (fitter.jacobian at the
-// start point), in coverage-only coordinates when coverageOnly.
-func newDesignInfo(spec DesignSpec, pool []designPoint, coverageOnly bool) (*designInfo, error) {
+// start point), in coverage-only coordinates when coverageOnly; and, when
+// at is not nil, the rows of the target's setting (designTarget).
+func newDesignInfo(spec DesignSpec, pool []designPoint, coverageOnly bool, at *Prepared) (*designInfo, error) {
 	all := append([]Observation(nil), spec.Existing...)
 	for _, c := range pool {
 		// The values are placeholders in range: only the Jacobian is used.
 		all = append(all, Observation{Label: "candidate", Prepared: c.pr, Coverage: 0.5, NucleiDensity: 1e12})
+	}
+	if at != nil {
+		all = append(all, Observation{Label: "target", Prepared: at, Coverage: 0.5, NucleiDensity: 1e12})
 	}
 	f, err := newFitter(spec.Params, FitSettings{Fixed: spec.Fixed, Coverage: true, Density: !coverageOnly})
 	if err != nil {
@@ -55,6 +64,8 @@ func newDesignInfo(spec DesignSpec, pool []designPoint, coverageOnly bool) (*des
 			}
 			row := mat.Row(nil, r, J)
 			switch {
+			case o == ne+len(pool):
+				d.at[m] = row
 			case o < ne:
 				addOuter(d.f0, row)
 			case m == 0:
@@ -115,17 +126,103 @@ func (d *designInfo) total(pick []int, extra []bool) *mat.SymDense {
 }
 
 // logDet returns ln det(F + diag(ridge)).
-func (d *designInfo) logDet(F *mat.SymDense) float64 {
-	A := mat.NewSymDense(d.p, nil)
-	A.CopySym(F)
-	for j := range d.p {
-		A.SetSym(j, j, A.At(j, j)+d.ridge[j])
-	}
-	var ch mat.Cholesky
-	if !ch.Factorize(A) {
+func (d *designInfo) logDet(F *mat.SymDense) float64 { return d.logDetSum(F, nil) }
+
+// logDetSum returns ln det(A + B + diag(ridge)) (B nil: none), −∞ when
+// the sum is not positive definite: 2·Σ ln Uⱼⱼ of chol's factor.
+func (d *designInfo) logDetSum(A, B *mat.SymDense) float64 {
+	U, ok := d.chol(A, B)
+	if !ok {
 		return math.Inf(-1)
 	}
-	return ch.LogDet()
+	ld := 0.0
+	for j := range d.p {
+		ld += 2 * math.Log(U[j*d.p+j])
+	}
+	return ld
+}
+
+// crit is the criterion the exchange maximises at A + B: ln det for D,
+// −gᵀ(A + B + diag(ridge))⁻¹g for the target (designTarget).
+func (d *designInfo) crit(A, B *mat.SymDense) float64 {
+	if d.g == nil {
+		return d.logDetSum(A, B)
+	}
+	U, ok := d.chol(A, B)
+	if !ok {
+		return math.Inf(-1)
+	}
+	return -quadForm(U, d.p, d.g)
+}
+
+// chol factorises A + B + diag(ridge) = UᵀU in place on a buffer (U upper,
+// row-major p×p) and reports whether the sum is positive definite. The
+// exchange search calls it for every candidate and run, so it neither
+// allocates nor estimates the condition number as mat.Cholesky does.
+//
+// References:
+//
+//   - G. H. Golub, C. F. Van Loan, Matrix Computations, 4th ed., Johns
+//     Hopkins (2013), §4.2 (Cholesky). (From memory.)
+func (d *designInfo) chol(A, B *mat.SymDense) ([]float64, bool) {
+	p := d.p
+	if len(d.buf) < p*p {
+		d.buf = make([]float64, p*p)
+	}
+	U := d.buf[:p*p]
+	a := A.RawSymmetric()
+	for i := range p {
+		for j := i; j < p; j++ {
+			U[i*p+j] = a.Data[i*a.Stride+j]
+		}
+		U[i*p+i] += d.ridge[i]
+	}
+	if B != nil {
+		b := B.RawSymmetric()
+		for i := range p {
+			for j := i; j < p; j++ {
+				U[i*p+j] += b.Data[i*b.Stride+j]
+			}
+		}
+	}
+	for j := range p {
+		s := U[j*p+j]
+		for k := range j {
+			s -= U[k*p+j] * U[k*p+j]
+		}
+		if !(s > 0) {
+			return nil, false
+		}
+		u := math.Sqrt(s)
+		U[j*p+j] = u
+		for i := j + 1; i < p; i++ {
+			s := U[j*p+i]
+			for k := range j {
+				s -= U[k*p+j] * U[k*p+i]
+			}
+			U[j*p+i] = s / u
+		}
+	}
+	return U, true
+}
+
+// quadForm returns gᵀ(UᵀU)⁻¹g = |z|², Uᵀz = g solved forward.
+func quadForm(U []float64, p int, g []float64) float64 {
+	var zbuf [16]float64
+	z := zbuf[:0]
+	if p > len(zbuf) {
+		z = make([]float64, 0, p)
+	}
+	q := 0.0
+	for i := range p {
+		s := g[i]
+		for k := range i {
+			s -= U[k*p+i] * z[k]
+		}
+		z = append(z, s/U[i*p+i])
+		q += z[i] * z[i]
+	}
+	return q
 }
 
 // exchange runs the restarts of the exchange search and returns the best
@@ -152,16 +249,14 @@ func (d *designInfo) exchange(k, restarts int, rnd *rand.Rand) []int {
 }
 
 // greedy fills pick one run at a time, each the candidate that raises
-// ln det most given those before it.
+// the criterion (crit) most given those before it.
 func (d *designInfo) greedy(pick []int) {
 	F := mat.NewSymDense(d.p, nil)
 	F.CopySym(d.f0)
 	for i := range pick {
 		bc, bv := 0, math.Inf(-1)
 		for c := range d.cand {
-			var G mat.SymDense
-			G.AddSym(F, d.cand[c])
-			if v := d.logDet(&G); v > bv {
+			if v := d.crit(F, d.cand[c]); v > bv {
 				bc, bv = c, v
 			}
 		}
@@ -170,20 +265,18 @@ func (d *designInfo) greedy(pick []int) {
 	}
 }
 
-// improve exchanges runs of pick while one exchange raises ln det (at
-// most 50 passes) and returns the final ln det.
+// improve exchanges runs of pick while one exchange raises the criterion
+// (at most 50 passes) and returns its final value.
 func (d *designInfo) improve(pick []int) float64 {
 	F := d.total(pick, nil)
-	cur := d.logDet(F)
+	cur := d.crit(F, nil)
 	for pass := 0; pass < 50; pass++ {
 		moved := false
 		for i := range pick {
 			without := subSym(F, d.cand[pick[i]])
 			bc, bv := pick[i], cur
 			for c := range d.cand {
-				var G mat.SymDense
-				G.AddSym(without, d.cand[c])
-				if v := d.logDet(&G); v > bv+1e-10 {
+				if v := d.crit(without, d.cand[c]); v > bv+1e-10 {
 					bc, bv = c, v
 				}
 			}
@@ -286,27 +379,34 @@ func (d *designInfo) se(F *mat.SymDense) []float64 {
 // the existing runs' information: cloglog θ ± 1.96·σc·√(jᵀF₀⁻¹j), with j
 // its coverage row; NaN, NaN when the existing runs do not identify it.
 func (d *designInfo) coverageInterval(c int, theta float64) (lo, hi float64) {
-	row := d.cov[c]
-	if row == nil {
+	v := d.predVar(d.f0, d.cov[c])
+	if math.IsNaN(v) {
 		return math.NaN(), math.NaN()
 	}
-	cov, unid := d.pinv(d.f0)
+	h := 1.959964 * d.sc * math.Sqrt(v) // z of 97.5 %, A&S table 26.1
+	c0 := math.Log(-math.Log1p(-math.Min(math.Max(theta, 1e-300), 1-1e-16)))
+	back := func(x float64) float64 { return -math.Expm1(-math.Exp(x)) }
+	return back(c0 - h), back(c0 + h)
+}
+
+// predVar is jᵀF⁺j, the expected variance of a prediction with the
+// (σ-scaled) row j in units of σ², with the pseudo-inverse of F; NaN when
+// j is nil, F is empty or j touches a direction F does not identify.
+func (d *designInfo) predVar(F *mat.SymDense, row []float64) float64 {
+	if row == nil || (d.p > 0 && F.At(0, 0) == 0) {
+		return math.NaN()
+	}
+	cov, unid := d.pinv(F)
 	v := 0.0
 	for i := range d.p {
 		if unid[i] && row[i] != 0 {
-			return math.NaN(), math.NaN()
+			return math.NaN()
 		}
 		for j := range d.p {
 			v += row[i] * cov.At(i, j) * row[j]
 		}
 	}
-	if d.f0.At(0, 0) == 0 && d.p > 0 {
-		return math.NaN(), math.NaN()
-	}
-	h := 1.959964 * d.sc * math.Sqrt(math.Max(v, 0)) // z of 97.5 %, A&S table 26.1
-	c0 := math.Log(-math.Log1p(-math.Min(math.Max(theta, 1e-300), 1-1e-16)))
-	back := func(x float64) float64 { return -math.Expm1(-math.Exp(x)) }
-	return back(c0 - h), back(c0 + h)
+	return math.Max(v, 0)
 }
 
 // result fills the criterion's coordinates and standard errors.

@@ -30,6 +30,7 @@ type designOptions struct {
 	vary      []string
 	measure   string
 	criterion string
+	targets   []string
 	seed      uint64
 	outDir    string
 	force     bool
@@ -48,6 +49,9 @@ information of the fitted parameters (D-optimal design): the runs that
 shrink the volume of the parameters' confidence region most. When neither
 the log nor the new runs measure nuclei_density the criterion is on what
 coverage identifies (En+2Eg and I·G²·κ at T_ref), as foilrun fit does.
+--criterion target --target 'coverage>=0.99' instead picks the runs that
+shrink the expected variance of the target quantity at the recipe foilrun
+suggest would choose for that target, so the runs go where the decision is.
 
 The calibration is --params FILE, else a fit of the logged runs selected by
 --where, else the illustrative defaults (said which). Measurement errors come
@@ -65,10 +69,12 @@ the furnace: foilrun safety on each.`,
 			opts.recipe = args[0]
 			switch opts.criterion {
 			case "d", "D":
-			case "target":
-				return withHint(usagef("--criterion target is not built yet"), "use --criterion d (the default)")
+			case kinetics.DesignTarget:
+				if len(opts.targets) == 0 {
+					return withHint(usagef("--criterion target needs --target"), "give the outcome suggest would aim at, e.g. --target 'coverage>=0.99'")
+				}
 			default:
-				return usagef("--criterion %q: want d", opts.criterion)
+				return withHint(usagef("--criterion %q: want d or target", opts.criterion), "d shrinks every parameter's uncertainty; target the one of the --target quantity at suggest's recipe")
 			}
 			return designRun(cmd.Context(), opts)
 		},
@@ -79,7 +85,8 @@ the furnace: foilrun safety on each.`,
 	cmd.Flags().StringArrayVar(&opts.where, "where", nil, "select the logged runs, as in runs list (repeatable; all must hold)")
 	cmd.Flags().StringSliceVar(&opts.vary, "vary", nil, "grow-step parameters the runs may change, with optional =FROM:TO ranges (default temperature,CH4,duration)")
 	cmd.Flags().StringVar(&opts.measure, "measure", kinetics.MetricCoverage, "what the new runs will measure: coverage or coverage,nuclei_density")
-	cmd.Flags().StringVar(&opts.criterion, "criterion", "d", "design criterion: d (determinant of the information)")
+	cmd.Flags().StringVar(&opts.criterion, "criterion", "d", "design criterion: d (determinant of the information) or target (variance of the --target quantity at suggest's recipe)")
+	cmd.Flags().StringArrayVar(&opts.targets, "target", nil, "outcome suggest would aim at, METRIC>=VALUE or METRIC<=VALUE, e.g. coverage>=0.99 (repeatable; the first is watched)")
 	cmd.Flags().Uint64Var(&opts.seed, "seed", 1, "seed of the candidate sampling and the random restarts")
 	cmd.Flags().StringVarP(&opts.outDir, "output-dir", "o", "", "write the proposed recipes into this folder")
 	addForceFlag(cmd, &opts.force)
@@ -159,7 +166,14 @@ func designRun(ctx context.Context, opts *designOptions) error {
 	}
 	fmt.Fprintf(opts.f.io.Err, "calibration: %s; %d logged runs\n", cal.source, len(cal.existing))
 	spec := kinetics.DesignSpec{Runs: opts.runs, Vary: opts.vary, Density: density, Params: cal.params, Existing: cal.existing,
-		CoverageScale: cal.sc, DensityScale: cal.sd, Rand: rand.New(rand.NewPCG(opts.seed, 20))}
+		CoverageScale: cal.sc, DensityScale: cal.sd, Rand: rand.New(rand.NewPCG(opts.seed, 20)), Criterion: strings.ToLower(opts.criterion)}
+	for _, s := range opts.targets {
+		tg, err := kinetics.ParseTarget(s)
+		if err != nil {
+			return onFlag(err)
+		}
+		spec.Targets = append(spec.Targets, tg)
+	}
 	d, err := kinetics.Design(plan, spec)
 	var ie *kinetics.InputError
 	if errors.As(err, &ie) && ie.Reason == kinetics.ReasonRunCount {
@@ -242,14 +256,26 @@ type designSEJSON struct {
 }
 
 type designResultJSON struct {
-	Recipe       string          `json:"recipe"`
-	Step         string          `json:"step"`
-	Calibration  string          `json:"calibration"`
-	Runs         []designRunJSON `json:"runs"`
-	SE           []designSEJSON  `json:"standard_errors"`
-	DensityNames []string        `json:"density_names"`
-	DensityBase  []*float64      `json:"se_density_base"`
-	Pool         int             `json:"candidates"`
+	Recipe       string            `json:"recipe"`
+	Step         string            `json:"step"`
+	Calibration  string            `json:"calibration"`
+	Runs         []designRunJSON   `json:"runs"`
+	SE           []designSEJSON    `json:"standard_errors"`
+	DensityNames []string          `json:"density_names"`
+	DensityBase  []*float64        `json:"se_density_base"`
+	Pool         int               `json:"candidates"`
+	Criterion    string            `json:"criterion"`
+	Target       *designTargetJSON `json:"target,omitempty"`
+}
+
+// designTargetJSON is the target quantity watched at suggest's recipe.
+type designTargetJSON struct {
+	Quantity    string   `json:"quantity"`
+	Temperature float64  `json:"temperature_c"`
+	Duration    float64  `json:"duration_min"`
+	Coverage    float64  `json:"coverage"`
+	Now         *float64 `json:"se_now"`
+	After       *float64 `json:"se_after"`
 }
 
 func opts6(xs []float64) []*float64 {
@@ -262,7 +288,11 @@ func opts6(xs []float64) []*float64 {
 
 func designJSON(plan *recipe.Plan, d *kinetics.DesignResult, source string, files []string) designResultJSON {
 	out := designResultJSON{Recipe: plan.Recipe.Name, Step: plan.Recipe.Steps[d.Step].Label(d.Step), Calibration: source,
-		DensityNames: d.DensityNames, DensityBase: opts6(d.SEDensityBase), Pool: d.Pool}
+		DensityNames: d.DensityNames, DensityBase: opts6(d.SEDensityBase), Pool: d.Pool, Criterion: d.Criterion}
+	if c := d.Target; c != nil {
+		out.Target = &designTargetJSON{Quantity: d.TargetQuantity, Temperature: round6(recipe.Celsius(c.Temperature)), Duration: round6(c.Duration / 60),
+			Coverage: round6(c.Coverage), Now: opt6(d.TargetSENow), After: opt6(d.TargetSEAfter)}
+	}
 	for i, r := range d.Runs {
 		j := designRunJSON{Changes: r.Changes, Coverage: round6(r.Coverage), CoverageLow: opt6(r.CoverageLow), CoverageHigh: opt6(r.CoverageHigh),
 			SEWithDensity: opts6(r.SEWithDensity)}
@@ -313,6 +343,10 @@ func printDesign(w io.Writer, r designResultJSON, density bool) error {
 	}
 	if err := writeTable(w, t); err != nil {
 		return err
+	}
+	if tg := r.Target; tg != nil {
+		fmt.Fprintf(w, "\ncriterion %s; at the recipe suggest chooses (temperature %s C, duration %s min, coverage %s %%) the SE of %s is %s now, %s after the runs\n",
+			r.Criterion, fixed(tg.Temperature, 1), fixed(tg.Duration, 2), fixed(tg.Coverage*100, 1), tg.Quantity, seText(tg.Now), seText(tg.After))
 	}
 	if !density {
 		heading(w, "Also measuring nuclei_density on a run")
