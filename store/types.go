@@ -111,6 +111,10 @@ type Run struct {
 	Started  time.Time `json:"started,omitzero"`
 	Ended    time.Time `json:"ended,omitzero"`
 	Created  time.Time `json:"created,omitzero"`
+	// CodePrefix is the prefix of the code a run logged without one is
+	// given (the site file's run_codes; "" for DefaultCodePrefix). It is
+	// not stored: the code carries it.
+	CodePrefix string `json:"-"`
 }
 
 // Note is a timestamped remark on a run.

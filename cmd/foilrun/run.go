@@ -116,6 +116,7 @@ func runStartRun(ctx context.Context, o *runOptions) error {
 	}
 	now := o.f.now().UTC()
 	rec := o.record(plan, now)
+	rec.CodePrefix = site.CodePrefix(plan.Furnace.Name) // the site file's run_codes
 	if !o.startOnly {
 		if err := o.finished(&rec, plan, now); err != nil {
 			return err

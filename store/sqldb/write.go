@@ -191,7 +191,7 @@ func (w *writer) flushRuns(ctx context.Context) ([]string, error) {
 	raise := map[string]int64{}
 	for _, p := range q {
 		if p.rec.Code == "" {
-			need[store.CodeCounter(store.CodeTime(p.rec.Started, now))]++
+			need[store.CodeCounter(p.rec.CodePrefix, store.CodeTime(p.rec.Started, now))]++
 		} else if c, n, ok := store.ParseCode(p.rec.Code); ok && n > raise[c] {
 			raise[c] = n
 		}
@@ -218,8 +218,8 @@ func (w *writer) flushRuns(ctx context.Context) ([]string, error) {
 		}
 		for i := range q {
 			t := store.CodeTime(q[i].rec.Started, now)
-			if q[i].rec.Code == "" && store.CodeCounter(t) == c {
-				q[i].rec.Code = store.FormatCode(t, next)
+			if q[i].rec.Code == "" && store.CodeCounter(q[i].rec.CodePrefix, t) == c {
+				q[i].rec.Code = store.FormatCode(q[i].rec.CodePrefix, t, next)
 				next++
 			}
 		}
