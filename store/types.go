@@ -183,6 +183,9 @@ type RunRecord struct {
 	Attachments []Attachment       `json:"attachments,omitempty"`
 	Override    *Override          `json:"override,omitempty"` // nil: the recipe passed check and safety when logged
 	Corrections []Correction       `json:"corrections,omitempty"`
+	// Aliases are the codes the run had in other logs before an import
+	// with renumbering gave it a new one; run show finds it by them.
+	Aliases []string `json:"aliases,omitempty"`
 }
 
 // Correction is a measurement replaced with `outcome add --replace`: the

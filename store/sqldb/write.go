@@ -6,6 +6,7 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
+	"slices"
 	"sort"
 	"strings"
 
@@ -20,7 +21,7 @@ type writer struct {
 	names map[string]store.Name // the names registry, loaded once
 	snaps map[string]bool       // snapshot hashes known to be stored
 
-	params, outcomes, notes, actuals, deviations, attachments, overrides, corrections, newNames *batch
+	params, outcomes, notes, actuals, deviations, attachments, overrides, corrections, aliases, newNames *batch
 
 	runStmts map[int]*sql.Stmt // INSERT of n runs
 	pending  []queued          // checked runs not yet inserted
@@ -45,6 +46,7 @@ func (s *DB) begin(ctx context.Context) (*writer, error) {
 	w.attachments = newBatch(tx, d, "attachments", []string{"run_id", "path", "sha256", "kind", "added_at"}, "")
 	w.overrides = newBatch(tx, d, "run_overrides", []string{"run_id", "reason", "operator", "at", "findings"}, "")
 	w.corrections = newBatch(tx, d, "outcome_history", []string{"run_id", "metric", "unit", "old_value", "old_entered", "new_value", "new_entered", "who", "at"}, "")
+	w.aliases = newBatch(tx, d, "run_aliases", []string{"run_id", "alias"}, "")
 	w.newNames = newBatch(tx, d, "names", []string{"name", "kind", "unit"}, "ON CONFLICT (name) DO NOTHING")
 	if err := w.loadNames(ctx); err != nil {
 		w.rollback()
@@ -54,7 +56,7 @@ func (s *DB) begin(ctx context.Context) (*writer, error) {
 }
 
 func (w *writer) batches() []*batch {
-	return []*batch{w.params, w.outcomes, w.notes, w.actuals, w.deviations, w.attachments, w.overrides, w.corrections, w.newNames}
+	return []*batch{w.params, w.outcomes, w.notes, w.actuals, w.deviations, w.attachments, w.overrides, w.corrections, w.aliases, w.newNames}
 }
 
 func (w *writer) rollback() {
@@ -336,6 +338,11 @@ func (w *writer) addRows(ctx context.Context, id int64, rec store.RunRecord) err
 			return err
 		}
 	}
+	for _, a := range rec.Aliases {
+		if err := w.aliases.add(ctx, id, a); err != nil {
+			return err
+		}
+	}
 	if o := rec.Override; o != nil {
 		fs, err := json.Marshal(o.Findings)
 		if err != nil {
@@ -553,6 +560,11 @@ func (s *DB) importBundle(ctx context.Context, b store.Bundle, progress func(int
 			return 0, err
 		}
 	}
+	if b.Renumber {
+		if b.Runs, err = w.renumber(ctx, b.Runs); err != nil {
+			return 0, err
+		}
+	}
 	for i, rec := range b.Runs {
 		if err := ctx.Err(); err != nil {
 			return 0, err
@@ -582,6 +594,50 @@ func (s *DB) importBundle(ctx context.Context, b store.Bundle, progress func(int
 		progress(len(b.Runs))
 	}
 	return len(b.Runs), nil
+}
+
+// renumber returns the runs with the code of every run whose code is in
+// the log (or twice in runs) cleared, for a new one of its prefix and
+// year, and kept among its aliases. The counters of the codes kept are
+// moved past them first, so no new code can take one of theirs.
+func (w *writer) renumber(ctx context.Context, runs []store.RunRecord) ([]store.RunRecord, error) {
+	out := make([]store.RunRecord, len(runs))
+	seen := map[string]bool{}
+	for i, rec := range runs {
+		out[i] = rec
+		if rec.Code == "" {
+			continue
+		}
+		var one int
+		err := w.tx.QueryRowContext(ctx, w.s.d.Rebind(`SELECT 1 FROM runs WHERE code = ?`), rec.Code).Scan(&one)
+		if err != nil && !errors.Is(err, sql.ErrNoRows) {
+			return nil, fmt.Errorf("renumber run %q: %w", rec.Code, err)
+		}
+		if err == nil || seen[rec.Code] {
+			out[i].Aliases = append(slices.Clone(rec.Aliases), rec.Code)
+			out[i].CodePrefix = codePrefixOf(rec.Code)
+			out[i].Code = ""
+			continue
+		}
+		seen[rec.Code] = true
+		if c, n, ok := store.ParseCode(rec.Code); ok {
+			if err := w.raiseCounter(ctx, c, n); err != nil {
+				return nil, fmt.Errorf("run code counter: %w", err)
+			}
+		}
+	}
+	return out, nil
+}
+
+// codePrefixOf returns the prefix of a code of our shape, "" (the
+// default) for any other.
+func codePrefixOf(code string) string {
+	c, _, ok := store.ParseCode(code)
+	if !ok {
+		return ""
+	}
+	prefix, _, _ := store.ParseCounterName(c)
+	return prefix
 }
 
 // importError names the run of an import that failed (a write error
