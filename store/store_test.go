@@ -97,6 +97,31 @@ func TestCodes(t *testing.T) {
 	}
 }
 
+// FuzzParseCode: ParseCode never panics, and a code it reads is one
+// ValidateCode accepts and that its counter and number write back to,
+// byte for byte.
+func FuzzParseCode(f *testing.F) {
+	for _, s := range []string{"G26-0001", "T225-0042", "LAB-7", "X26-999999", "G26-00042", "26-0001", "-", ""} {
+		f.Add(s)
+	}
+	f.Fuzz(func(t *testing.T, code string) {
+		c, n, ok := ParseCode(code)
+		if !ok {
+			return
+		}
+		if err := ValidateCode(code); err != nil {
+			t.Errorf("ParseCode(%q) ok but ValidateCode: %v", code, err)
+		}
+		prefix, year, ok := ParseCounterName(c)
+		if !ok {
+			t.Fatalf("ParseCode(%q): counter %q does not read back", code, c)
+		}
+		if again := FormatCode(prefix, time.Date(year, 6, 1, 0, 0, 0, 0, time.UTC), n); again != code {
+			t.Errorf("ParseCode(%q) → %q %d → FormatCode %q, want the code back", code, c, n, again)
+		}
+	})
+}
+
 // TestCodePrefix: prefixes from a site file, and the codes they give.
 func TestCodePrefix(t *testing.T) {
 	start := time.Date(2025, 3, 4, 9, 30, 0, 0, time.UTC)

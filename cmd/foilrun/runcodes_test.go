@@ -7,6 +7,23 @@ import (
 	"testing"
 )
 
+// labWithRunCodes returns a folder with the template furnace, recipe and
+// site, the site file ending in runCodes.
+func labWithRunCodes(t *testing.T, runCodes string) string {
+	t.Helper()
+	dir := t.TempDir()
+	copyTemplates(t, dir, "furnace.yaml", "site.yaml", "recipe-lowpressure.yaml")
+	site := filepath.Join(dir, "site.yaml")
+	b, err := os.ReadFile(site)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(site, append(b, runCodes...), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	return dir
+}
+
 // TestRunCodePrefix: run add gives codes with the prefix the recipe's
 // site file sets (the furnace's own before the site's, G when it sets
 // nothing), the two digits of the year the run started and a sequence
@@ -24,16 +41,7 @@ func TestRunCodePrefix(t *testing.T) {
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
-			dir := t.TempDir()
-			copyTemplates(t, dir, "furnace.yaml", "site.yaml", "recipe-lowpressure.yaml")
-			site := filepath.Join(dir, "site.yaml")
-			b, err := os.ReadFile(site)
-			if err != nil {
-				t.Fatal(err)
-			}
-			if err := os.WriteFile(site, append(b, tt.runCodes...), 0o644); err != nil {
-				t.Fatal(err)
-			}
+			dir := labWithRunCodes(t, tt.runCodes)
 			db := filepath.Join(dir, "runs.db")
 			for i, started := range tt.started {
 				code, out, errs := runArgs(t, "--db", db, "run", "add", filepath.Join(dir, "recipe-lowpressure.yaml"), "--started", started)
@@ -51,16 +59,7 @@ func TestRunCodePrefix(t *testing.T) {
 // TestRunCodePrefixRefused: a prefix that would not read back is an error
 // at the site file's line.
 func TestRunCodePrefixRefused(t *testing.T) {
-	dir := t.TempDir()
-	copyTemplates(t, dir, "furnace.yaml", "site.yaml", "recipe-lowpressure.yaml")
-	site := filepath.Join(dir, "site.yaml")
-	b, err := os.ReadFile(site)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if err := os.WriteFile(site, append(b, "run_codes:\n  prefix: t-2\n"...), 0o644); err != nil {
-		t.Fatal(err)
-	}
+	dir := labWithRunCodes(t, "run_codes:\n  prefix: t-2\n")
 	code, _, errs := runArgs(t, "--db", filepath.Join(dir, "runs.db"), "run", "add", filepath.Join(dir, "recipe-lowpressure.yaml"))
 	if code != 2 || !strings.Contains(errs, `run-code prefix "t-2"`) || !strings.Contains(errs, "site.yaml\": line ") {
 		t.Errorf("got exit %d, stderr %q; want 2 and the prefix named at site.yaml's line", code, errs)
