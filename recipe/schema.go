@@ -158,6 +158,9 @@ type Site struct {
 	// Imaging lists the site's microscopes and cameras as presets for
 	// measuring micrographs (foilrun measure image --instrument NAME).
 	Imaging []ImagingPreset `yaml:"imaging"`
+	// RunCodes sets the prefix of the run codes the log gives; nil: the
+	// default, G.
+	RunCodes *RunCodes `yaml:"run_codes"`
 }
 
 // ImagingPreset is how one instrument shows graphene on copper: which way

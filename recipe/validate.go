@@ -286,6 +286,7 @@ func validateSite(s *Site) []Problem {
 		}
 	}
 	ps.imaging(s.Imaging)
+	ps.runCodes(s.RunCodes)
 	return ps
 }
 

@@ -5,13 +5,17 @@ import (
 	"strconv"
 	"strings"
 	"time"
+
+	"github.com/foilrun/foilrun/recipe"
 )
 
-// Run codes are short and human: "G" (growth), the two-digit year the run
+// Run codes are short and human: a prefix, "G" (growth) unless the site
+// file sets another (recipe.CodePrefixProblem), the two-digit year the run
 // started (the year it was logged when it has no start, or one outside
 // 2000 to 2099; see CodeTime), a dash and a sequence number of four to
-// six digits that restarts each year: G26-0001, G26-0002, … G26-999999. The sequence comes
-// from a counter row updated in the same transaction that inserts the
+// six digits that restarts each year: G26-0001, G26-0002, … G26-999999,
+// or T226-0001 for the prefix T2. Each prefix and year has its own
+// sequence. The sequence comes from a counter row updated in the same transaction that inserts the
 // run, so codes stay unique however many processes (or, on a shared
 // server, machines) log at once.
 //
@@ -40,13 +44,55 @@ func CodeTime(started, now time.Time) time.Time {
 	return now
 }
 
-// CodeCounter returns the counter name for runs of the year of t.
-func CodeCounter(t time.Time) string { return "run-" + strconv.Itoa(t.UTC().Year()) }
+// DefaultCodePrefix is the prefix of run codes for a site that sets none.
+const DefaultCodePrefix = "G"
+
+// codePrefix is prefix, or DefaultCodePrefix for "".
+func codePrefix(prefix string) string {
+	if prefix == "" {
+		return DefaultCodePrefix
+	}
+	return prefix
+}
+
+// CodeCounter returns the counter name for runs of the prefix ("" for
+// DefaultCodePrefix) and the year of t: run-2026 for G, run-T2-2026 for T2.
+func CodeCounter(prefix string, t time.Time) string {
+	return counterName(codePrefix(prefix), t.UTC().Year())
+}
+
+func counterName(prefix string, year int) string {
+	if prefix == DefaultCodePrefix {
+		return "run-" + strconv.Itoa(year)
+	}
+	return "run-" + prefix + "-" + strconv.Itoa(year)
+}
+
+// ParseCounterName splits a counter name made by CodeCounter into its
+// prefix and year; ok is false for any other name.
+func ParseCounterName(name string) (prefix string, year int, ok bool) {
+	rest, found := strings.CutPrefix(name, "run-")
+	if !found {
+		return "", 0, false
+	}
+	prefix = DefaultCodePrefix
+	if i := strings.LastIndexByte(rest, '-'); i >= 0 {
+		prefix, rest = rest[:i], rest[i+1:]
+		if prefix == DefaultCodePrefix || recipe.CodePrefixProblem(prefix) != "" {
+			return "", 0, false
+		}
+	}
+	year, err := strconv.Atoi(rest)
+	if err != nil || !digits(rest) || year < 2000 || year > 2099 {
+		return "", 0, false
+	}
+	return prefix, year, true
+}
 
 // FormatCode returns the run code for sequence n (1 to MaxCodeNumber) of
-// the year of t.
-func FormatCode(t time.Time, n int64) string {
-	return fmt.Sprintf("G%02d-%04d", t.UTC().Year()%100, n)
+// the prefix ("" for DefaultCodePrefix) and the year of t.
+func FormatCode(prefix string, t time.Time, n int64) string {
+	return fmt.Sprintf("%s%02d-%04d", codePrefix(prefix), t.UTC().Year()%100, n)
 }
 
 // ParseCode splits a code of our shape into its counter name and sequence
@@ -54,11 +100,11 @@ func FormatCode(t time.Time, n int64) string {
 // from elsewhere), which are kept as they are, and for codes of our shape
 // that ValidateCode refuses.
 func ParseCode(code string) (counter string, n int64, ok bool) {
-	yy, n, ours, err := parseOurs(code)
+	prefix, yy, n, ours, err := parseOurs(code)
 	if !ours || err != nil {
 		return "", 0, false
 	}
-	return "run-" + strconv.Itoa(2000+yy), n, true
+	return counterName(prefix, 2000+yy), n, true
 }
 
 // ParseCounter reads a code counter's stored value (as text, whatever
@@ -88,31 +134,34 @@ func ValidateCode(code string) error {
 				quoteShort(code), r, i+1, ErrInvalid)
 		}
 	}
-	if _, _, ours, err := parseOurs(code); ours && err != nil {
+	if _, _, _, ours, err := parseOurs(code); ours && err != nil {
 		return fmt.Errorf("code %q: %v: %w", code, err, ErrInvalid)
 	}
 	return nil
 }
 
-// parseOurs reads a code of the shape G<yy>-<digits>. ours is true when
-// the code has that shape; err says what is wrong with its number.
-func parseOurs(code string) (yy int, n int64, ours bool, err error) {
-	if len(code) < 5 || code[0] != 'G' || code[3] != '-' || !digits(code[1:3]) || !digits(code[4:]) {
-		return 0, 0, false, nil
+// parseOurs reads a code of the shape <prefix><yy>-<digits>. ours is
+// true when the code has that shape; err says what is wrong with its
+// number.
+func parseOurs(code string) (prefix string, yy int, n int64, ours bool, err error) {
+	dash := strings.IndexByte(code, '-')
+	if dash < 3 || !digits(code[dash-2:dash]) || !digits(code[dash+1:]) || recipe.CodePrefixProblem(code[:dash-2]) != "" {
+		return "", 0, 0, false, nil
 	}
-	yy, _ = strconv.Atoi(code[1:3])
-	num := code[4:]
+	prefix = code[:dash-2]
+	yy, _ = strconv.Atoi(code[dash-2 : dash])
+	num := code[dash+1:]
 	if len(num) < 4 || len(num) > 6 {
-		return yy, 0, true, fmt.Errorf("sequence number %q has %d digits, want 4 to 6 (at most %d)", num, len(num), MaxCodeNumber)
+		return prefix, yy, 0, true, fmt.Errorf("sequence number %q has %d digits, want 4 to 6 (at most %d)", num, len(num), MaxCodeNumber)
 	}
 	n, _ = strconv.ParseInt(num, 10, 64) // at most six digits: always fits
 	if n < 1 {
-		return yy, 0, true, fmt.Errorf("sequence number %q: runs are numbered from 1", num)
+		return prefix, yy, 0, true, fmt.Errorf("sequence number %q: runs are numbered from 1", num)
 	}
 	if want := fmt.Sprintf("%04d", n); num != want {
-		return yy, 0, true, fmt.Errorf("sequence number %q: write it %s (four digits, no other leading zeros)", num, want)
+		return prefix, yy, 0, true, fmt.Errorf("sequence number %q: write it %s (four digits, no other leading zeros)", num, want)
 	}
-	return yy, n, true, nil
+	return prefix, yy, n, true, nil
 }
 
 func digits(s string) bool {

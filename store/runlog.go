@@ -55,9 +55,14 @@ type RunLog interface {
 	// first, from one consistent read.
 	Export(ctx context.Context, f Filter, each func(RunRecord) error) error
 	// Import adds runs and snapshots in one transaction: all or none. Runs
-	// keep their codes; a code already in the log is an error. progress,
+	// keep their codes; a code already in the log is an error unless the
+	// bundle renumbers (Bundle.Renumber). progress,
 	// when not nil, is called with the number of runs written so far.
 	Import(ctx context.Context, b Bundle, progress func(done int)) (int, error)
+
+	// Renamed returns the codes of the runs an import renumbered from the
+	// code old (see Bundle.Renumber), oldest first; none: empty.
+	Renamed(ctx context.Context, old string) ([]string, error)
 
 	// SchemaVersion returns the database's schema version.
 	SchemaVersion(ctx context.Context) (int, error)
@@ -108,6 +113,10 @@ type Sample struct {
 type Bundle struct {
 	Snapshots []Snapshot
 	Runs      []RunRecord
+	// Renumber gives a run whose code is already in the log a new code
+	// (of its prefix, and the year it started) and keeps the old code
+	// among its Aliases; false: such a run is an error.
+	Renumber bool
 }
 
 // Errors callers can branch on (with errors.Is).

@@ -8,6 +8,9 @@ import (
 	"os"
 	"strings"
 	"testing"
+	"time"
+
+	"github.com/foilrun/foilrun/recipe"
 )
 
 // TestSpearmanScipy compares Spearman and Quantile with values computed by
@@ -66,14 +69,88 @@ func TestBest(t *testing.T) {
 }
 
 func TestCodes(t *testing.T) {
-	c, n, ok := ParseCode("G26-0042")
-	if !ok || c != "run-2026" || n != 42 {
-		t.Errorf("ParseCode(G26-0042) = %q %d %v", c, n, ok)
+	good := []struct {
+		name, code, counter string
+		n                   int64
+	}{
+		{"default prefix", "G26-0042", "run-2026", 42},
+		{"one letter", "X26-0001", "run-X-2026", 1},
+		{"prefix ending in a digit", "T225-0007", "run-T2-2025", 7},
+		{"long prefix", "LABAB12-123456", "run-LABAB-2012", 123456},
 	}
-	for _, bad := range []string{"G26-", "X26-0001", "G2a-0001", "G26-00-1", "G26+0001", "G26-9223372036854775807", "G26-1000000", "G26-00042", "G26-0000"} {
+	for _, tt := range good {
+		t.Run(tt.name, func(t *testing.T) {
+			c, n, ok := ParseCode(tt.code)
+			if !ok || c != tt.counter || n != tt.n {
+				t.Errorf("ParseCode(%q): got %q %d %v, want %q %d true", tt.code, c, n, ok, tt.counter, tt.n)
+			}
+			prefix, year, ok := ParseCounterName(c)
+			if again := FormatCode(prefix, time.Date(year, 3, 1, 0, 0, 0, 0, time.UTC), n); !ok || again != tt.code {
+				t.Errorf("counter %q back to a code: got %q (ok %v), want %q", c, again, ok, tt.code)
+			}
+		})
+	}
+	for _, bad := range []string{"G26-", "x26-0001", "2X26-0001", "ABCDEFGHI26-0001", "G2a-0001", "G26-00-1", "G26+0001", "G26-9223372036854775807", "G26-1000000", "G26-00042", "G26-0000"} {
 		if _, _, ok := ParseCode(bad); ok {
 			t.Errorf("ParseCode(%q) ok, want not", bad)
 		}
+	}
+}
+
+// FuzzParseCode: ParseCode never panics, and a code it reads is one
+// ValidateCode accepts and that its counter and number write back to,
+// byte for byte.
+func FuzzParseCode(f *testing.F) {
+	for _, s := range []string{"G26-0001", "T225-0042", "LAB-7", "X26-999999", "G26-00042", "26-0001", "-", ""} {
+		f.Add(s)
+	}
+	f.Fuzz(func(t *testing.T, code string) {
+		c, n, ok := ParseCode(code)
+		if !ok {
+			return
+		}
+		if err := ValidateCode(code); err != nil {
+			t.Errorf("ParseCode(%q) ok but ValidateCode: %v", code, err)
+		}
+		prefix, year, ok := ParseCounterName(c)
+		if !ok {
+			t.Fatalf("ParseCode(%q): counter %q does not read back", code, c)
+		}
+		if again := FormatCode(prefix, time.Date(year, 6, 1, 0, 0, 0, 0, time.UTC), n); again != code {
+			t.Errorf("ParseCode(%q) → %q %d → FormatCode %q, want the code back", code, c, n, again)
+		}
+	})
+}
+
+// TestCodePrefix: prefixes from a site file, and the codes they give.
+func TestCodePrefix(t *testing.T) {
+	start := time.Date(2025, 3, 4, 9, 30, 0, 0, time.UTC)
+	tests := []struct{ name, prefix, code, problem string }{
+		{"site sets nothing", "", "G25-0012", ""},
+		{"two characters", "T2", "T225-0012", ""},
+		{"eight characters", "ABCDEFGH", "ABCDEFGH25-0012", ""},
+		{"lower case", "t2", "", "capital letters"},
+		{"starts with a digit", "2T", "", "starting with a letter"},
+		{"dash", "T-2", "", "capital letters"},
+		{"nine characters", "ABCDEFGHI", "", "want 1 to 8 characters"},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			if tt.prefix != "" {
+				if got := recipe.CodePrefixProblem(tt.prefix); tt.problem == "" && got != "" || !strings.Contains(got, tt.problem) {
+					t.Fatalf("recipe.CodePrefixProblem(%q): got %q, want %q", tt.prefix, got, tt.problem)
+				}
+			}
+			if tt.problem != "" {
+				return
+			}
+			if got := FormatCode(tt.prefix, start, 12); got != tt.code {
+				t.Errorf("FormatCode(%q, 2025, 12): got %q, want %q", tt.prefix, got, tt.code)
+			}
+			if err := ValidateCode(tt.code); err != nil {
+				t.Errorf("ValidateCode(%q): got %v, want nil", tt.code, err)
+			}
+		})
 	}
 }
 
@@ -90,6 +167,8 @@ func TestValidateCode(t *testing.T) {
 		{"two digits", "G26-12", "has 2 digits"},
 		{"zero", "G26-0000", "numbered from 1"},
 		{"extra zeros", "G26-00042", "write it 0042"},
+		{"prefixed", "T226-0001", ""},
+		{"prefixed, two digits", "T226-12", "has 2 digits"},
 		{"empty", "", "want 1 to 32 characters"},
 		{"too long", strings.Repeat("A", 33), "want 1 to 32 characters"},
 		{"right-to-left override", "G26-0001‮", "character U+202E at byte 9"},

@@ -111,6 +111,10 @@ type Run struct {
 	Started  time.Time `json:"started,omitzero"`
 	Ended    time.Time `json:"ended,omitzero"`
 	Created  time.Time `json:"created,omitzero"`
+	// CodePrefix is the prefix of the code a run logged without one is
+	// given (the site file's run_codes; "" for DefaultCodePrefix). It is
+	// not stored: the code carries it.
+	CodePrefix string `json:"-"`
 }
 
 // Note is a timestamped remark on a run.
@@ -179,6 +183,9 @@ type RunRecord struct {
 	Attachments []Attachment       `json:"attachments,omitempty"`
 	Override    *Override          `json:"override,omitempty"` // nil: the recipe passed check and safety when logged
 	Corrections []Correction       `json:"corrections,omitempty"`
+	// Aliases are the codes the run had in other logs before an import
+	// with renumbering gave it a new one; run show finds it by them.
+	Aliases []string `json:"aliases,omitempty"`
 }
 
 // Correction is a measurement replaced with `outcome add --replace`: the

@@ -182,6 +182,11 @@ func (rec RunRecord) Validate(now time.Time) error {
 			return err // names the run by its code
 		}
 	}
+	for i, a := range rec.Aliases {
+		if err := ValidateCode(a); err != nil {
+			return fieldError(run, fmt.Sprintf("aliases[%d]", i), "%s", strings.TrimSuffix(err.Error(), ": "+ErrInvalid.Error()))
+		}
+	}
 	if rec.Status != "" && !rec.Status.Valid() {
 		return fieldError(run, "status", "%s: want planned, running, done or aborted", quoteShort(string(rec.Status)))
 	}

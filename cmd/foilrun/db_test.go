@@ -31,7 +31,7 @@ func TestDBCopy(t *testing.T) {
 	for _, to := range hops {
 		code, out, errs := runArgs(t, "db", "copy", "--from", from, "--to", to)
 		// The report is status: on stderr, leaving stdout empty.
-		if code != 0 || out != "" || !strings.Contains(errs, "copied 3 runs and 3 snapshots") || !strings.Contains(errs, "verified: row counts equal in 11 tables") {
+		if code != 0 || out != "" || !strings.Contains(errs, "copied 3 runs and 3 snapshots") || !strings.Contains(errs, "verified: row counts equal in 12 tables") {
 			t.Fatalf("db copy --from %s --to %s: exit %d, out %q, err %q", from, to, code, out, errs)
 		}
 		from = to

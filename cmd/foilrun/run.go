@@ -2,6 +2,7 @@ package main
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"io"
 	"maps"
@@ -116,6 +117,7 @@ func runStartRun(ctx context.Context, o *runOptions) error {
 	}
 	now := o.f.now().UTC()
 	rec := o.record(plan, now)
+	rec.CodePrefix = site.CodePrefix(plan.Furnace.Name) // the site file's run_codes
 	if !o.startOnly {
 		if err := o.finished(&rec, plan, now); err != nil {
 			return err
@@ -385,7 +387,7 @@ func runShowRun(ctx context.Context, o *runShowOptions) error {
 	if err != nil {
 		return err
 	}
-	rec, err := l.Record(ctx, o.code)
+	rec, err := recordOrRenamed(ctx, l, o.code, o.f.io.Err)
 	if err != nil {
 		return err
 	}
@@ -407,6 +409,33 @@ func runShowRun(ctx context.Context, o *runShowOptions) error {
 	return printLoggedPlan(ctx, w, o.f.io.Err, l, rec, o.furnace)
 }
 
+// recordOrRenamed returns the run with the code, or, when no run has it,
+// the one run an import renumbered from it (runs import --renumber). A
+// note on stderr names the run a code was renumbered to.
+func recordOrRenamed(ctx context.Context, l store.RunLog, code string, stderr io.Writer) (store.RunRecord, error) {
+	rec, err := l.Record(ctx, code)
+	if err != nil && !errors.Is(err, store.ErrNotFound) {
+		return rec, err
+	}
+	renamed, rerr := l.Renamed(ctx, code)
+	if rerr != nil {
+		return rec, rerr
+	}
+	e := escapeControl
+	switch {
+	case err == nil && len(renamed) > 0:
+		fmt.Fprintf(stderr, "note: %s is also the old code of %s, renumbered on import\n", e(code), e(strings.Join(renamed, ", ")))
+		return rec, nil
+	case err == nil || len(renamed) == 0:
+		return rec, err
+	case len(renamed) > 1:
+		return rec, inputError(fmt.Errorf("run %s: no run has this code, and imports renumbered %d runs from it: %s: %w",
+			e(code), len(renamed), e(strings.Join(renamed, ", ")), store.ErrNotFound))
+	}
+	fmt.Fprintf(stderr, "note: %s was renumbered to %s on import\n", e(code), e(renamed[0]))
+	return l.Record(ctx, renamed[0])
+}
+
 // printRun prints a run for people: its header and parameters, then each
 // section the log holds.
 func printRun(w io.Writer, rec store.RunRecord) error {
@@ -416,6 +445,9 @@ func printRun(w io.Writer, rec store.RunRecord) error {
 		e(rec.RecipeName), e(rec.RecipeHash), e(rec.Furnace), hashNote(rec.FurnaceHash), e(rec.Operator), e(rec.Lot), when(rec.Started), when(rec.Ended))
 	if rec.Source != "" {
 		fmt.Fprintf(w, "source    %s\n", e(rec.Source))
+	}
+	if len(rec.Aliases) > 0 {
+		fmt.Fprintf(w, "was       %s (renumbered on import)\n", e(strings.Join(rec.Aliases, ", ")))
 	}
 	if err := section(w, "Recipe parameters", paramTable(rec)); err != nil {
 		return err

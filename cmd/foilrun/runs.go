@@ -3,6 +3,7 @@ package main
 import (
 	"bufio"
 	"context"
+	"errors"
 	"fmt"
 	"io"
 	"math"
@@ -507,10 +508,11 @@ func runsExportRun(ctx context.Context, o *runsExportOptions) error {
 }
 
 type runsImportOptions struct {
-	f       *factory
-	format  string
-	file    string
-	history historyFlags // --map and the flags that go with it
+	f        *factory
+	format   string
+	file     string
+	renumber bool         // --renumber: new codes for codes already in the log
+	history  historyFlags // --map and the flags that go with it
 }
 
 func newRunsImportCmd(f *factory) *cobra.Command {
@@ -523,13 +525,19 @@ run log (runs export, --format json or csv). With --map, FILE is the lab's own
 sheet of past runs (CSV, or XLSX with --sheet NAME): every row becomes a run
 whose recipe is the --recipe template with the row's values written in, as
 MAP.yaml says which column feeds which field (see the README, "Bring your
-past runs"). --dry-run shows what would be imported. FILE must be a
-regular file of at most 1 GiB.`,
-		Example: `  foilrun runs import runs.xlsx --sheet 2025 --recipe growth.yaml --map map.yaml --dry-run`,
-		Args:    cobra.ExactArgs(1),
+past runs"). --dry-run shows what would be imported. --renumber merges an
+export of another log whose codes clash with this one's: a run whose code is
+taken gets the next free code of its prefix and year, and run show finds it
+by its old code too. FILE must be a regular file of at most 1 GiB.`,
+		Example: `  foilrun runs import runs.xlsx --sheet 2025 --recipe growth.yaml --map map.yaml --dry-run
+  foilrun runs import other-lab.json --renumber`,
+		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			opts.file = args[0]
 			if opts.history.mapFile != "" {
+				if opts.renumber {
+					return usagef("--renumber is for a run-log export (runs export); a sheet read with --map gets new codes unless its map names a code column")
+				}
 				if cmd.Flags().Changed("format") {
 					return usagef("--format is for a run-log export; a sheet read with --map is CSV or XLSX by its name")
 				}
@@ -550,6 +558,7 @@ regular file of at most 1 GiB.`,
 		},
 	}
 	cmd.Flags().StringVar(&opts.format, "format", formatJSON, "csv or json")
+	cmd.Flags().BoolVar(&opts.renumber, "renumber", false, "give runs whose code is already in the log new codes, keeping the old one as an alias")
 	opts.history.register(cmd)
 	return cmd
 }
@@ -573,9 +582,14 @@ func runsImportRun(ctx context.Context, o *runsImportOptions) error {
 	if err != nil {
 		return err
 	}
+	b.Renumber = o.renumber
 	n, err := l.Import(ctx, b, nil)
 	if err != nil {
-		return fmt.Errorf("import %q (nothing was imported): %w", o.file, err)
+		err = fmt.Errorf("import %q (nothing was imported): %w", o.file, err)
+		if errors.Is(err, store.ErrConflict) && !o.renumber {
+			err = withHint(err, "to merge another log whose codes clash with this one's, add --renumber")
+		}
+		return err
 	}
 	fmt.Fprintf(o.f.io.Err, "%d runs imported\n", n)
 	return nil

@@ -50,7 +50,7 @@ func TestScripts(t *testing.T) {
 }
 
 // runCodePattern matches a run code as the log hands them out (store.FormatCode).
-var runCodePattern = regexp.MustCompile(`\bG[0-9]{2}-[0-9]{4,}\b`)
+var runCodePattern = regexp.MustCompile(`\b[A-Z][A-Z0-9]*[0-9]{2}-[0-9]{4,}\b`)
 
 // cmdRunCode is "runcode NAME": it sets $NAME to the first run code in
 // the standard output of the last command, so scripts name the runs they

@@ -13,7 +13,7 @@ import (
 )
 
 // copyTables are the tables whose rows a copy must carry over one for one.
-var copyTables = []string{"runs", "snapshots", "run_params", "run_notes", "outcomes", "run_actuals", "run_deviations", "attachments", "run_overrides", "outcome_history", "names"}
+var copyTables = []string{"runs", "snapshots", "run_params", "run_notes", "outcomes", "run_actuals", "run_deviations", "attachments", "run_overrides", "outcome_history", "run_aliases", "names"}
 
 type digester struct {
 	h hash.Hash

@@ -6,7 +6,6 @@ import (
 	"errors"
 	"fmt"
 	"sort"
-	"strconv"
 	"strings"
 	"time"
 
@@ -45,23 +44,24 @@ func (w *writer) counter(ctx context.Context, name string) (int64, error) {
 	return w.highestLogged(ctx, name)
 }
 
-// counterYear returns the year of a counter's name (run-2026).
-func counterYear(name string) (int, error) {
-	year, err := strconv.Atoi(strings.TrimPrefix(name, "run-"))
-	if err != nil || !strings.HasPrefix(name, "run-") || year < 2000 || year > 2099 {
-		return 0, fmt.Errorf("run code counter %q: want a name such as run-2026", name)
+// counterCode returns the prefix and year of a counter's name (run-2026,
+// run-T2-2026).
+func counterCode(name string) (string, int, error) {
+	prefix, year, ok := store.ParseCounterName(name)
+	if !ok {
+		return "", 0, fmt.Errorf("run code counter %q: want a name such as run-2026 or run-T2-2026", name)
 	}
-	return year, nil
+	return prefix, year, nil
 }
 
 // codeTaken reports whether the code numbered n under the counter is logged.
 func (w *writer) codeTaken(ctx context.Context, name string, n int64) (bool, error) {
-	year, err := counterYear(name)
+	prefix, year, err := counterCode(name)
 	if err != nil {
 		return false, err
 	}
 	var one int
-	err = w.tx.QueryRowContext(ctx, w.s.d.Rebind(`SELECT 1 FROM runs WHERE code = ?`), store.FormatCode(time.Date(year, 6, 1, 0, 0, 0, 0, time.UTC), n)).Scan(&one)
+	err = w.tx.QueryRowContext(ctx, w.s.d.Rebind(`SELECT 1 FROM runs WHERE code = ?`), store.FormatCode(prefix, time.Date(year, 6, 1, 0, 0, 0, 0, time.UTC), n)).Scan(&one)
 	if errors.Is(err, sql.ErrNoRows) {
 		return false, nil
 	}
@@ -71,11 +71,11 @@ func (w *writer) codeTaken(ctx context.Context, name string, n int64) (bool, err
 // highestLogged returns the highest sequence number among the codes
 // logged under the counter (0 for none).
 func (w *writer) highestLogged(ctx context.Context, name string) (int64, error) {
-	year, err := counterYear(name)
+	prefix, year, err := counterCode(name)
 	if err != nil {
 		return 0, err
 	}
-	rows, err := w.tx.QueryContext(ctx, w.s.d.Rebind(`SELECT code FROM runs WHERE code LIKE ?`), fmt.Sprintf("G%02d-%%", year%100))
+	rows, err := w.tx.QueryContext(ctx, w.s.d.Rebind(`SELECT code FROM runs WHERE code LIKE ?`), fmt.Sprintf("%s%02d-%%", prefix, year%100))
 	if err != nil {
 		return 0, fmt.Errorf("run code counter %s: %w", name, err)
 	}

@@ -204,6 +204,24 @@ func (s *DB) Samples(ctx context.Context, f store.Filter, metric string, params 
 	return out, rows.Err()
 }
 
+// Renamed returns the codes of the runs renumbered from the code old.
+func (s *DB) Renamed(ctx context.Context, old string) ([]string, error) {
+	rows, err := s.db.QueryContext(ctx, s.d.Rebind(`SELECT r.code FROM run_aliases a JOIN runs r ON r.id = a.run_id WHERE a.alias = ? ORDER BY r.id`), old)
+	if err != nil {
+		return nil, fmt.Errorf("run aliases: %w", err)
+	}
+	defer rows.Close()
+	codes := []string{}
+	for rows.Next() {
+		var c string
+		if err := rows.Scan(&c); err != nil {
+			return nil, err
+		}
+		codes = append(codes, c)
+	}
+	return codes, rows.Err()
+}
+
 // Snapshot returns the snapshot (recipe, furnace or site) with the hash.
 func (s *DB) Snapshot(ctx context.Context, hash string) (store.Snapshot, error) {
 	sn := store.Snapshot{SHA256: hash}
@@ -424,6 +442,18 @@ func (s *DB) readChildren(ctx context.Context, q Querier, ids []int64, recs []*s
 		r := pick()
 		r.Corrections = append(r.Corrections, c)
 		return err
+	})
+	if err != nil {
+		return err
+	}
+	err = read("run_aliases", "run_id, alias", "alias", func(rows *sql.Rows) error {
+		var a string
+		if err := rows.Scan(&id, &a); err != nil {
+			return err
+		}
+		r := pick()
+		r.Aliases = append(r.Aliases, a)
+		return nil
 	})
 	if err != nil {
 		return err

@@ -20,7 +20,7 @@ type writer struct {
 	names map[string]store.Name // the names registry, loaded once
 	snaps map[string]bool       // snapshot hashes known to be stored
 
-	params, outcomes, notes, actuals, deviations, attachments, overrides, corrections, newNames *batch
+	params, outcomes, notes, actuals, deviations, attachments, overrides, corrections, aliases, newNames *batch
 
 	runStmts map[int]*sql.Stmt // INSERT of n runs
 	pending  []queued          // checked runs not yet inserted
@@ -45,6 +45,7 @@ func (s *DB) begin(ctx context.Context) (*writer, error) {
 	w.attachments = newBatch(tx, d, "attachments", []string{"run_id", "path", "sha256", "kind", "added_at"}, "")
 	w.overrides = newBatch(tx, d, "run_overrides", []string{"run_id", "reason", "operator", "at", "findings"}, "")
 	w.corrections = newBatch(tx, d, "outcome_history", []string{"run_id", "metric", "unit", "old_value", "old_entered", "new_value", "new_entered", "who", "at"}, "")
+	w.aliases = newBatch(tx, d, "run_aliases", []string{"run_id", "alias"}, "")
 	w.newNames = newBatch(tx, d, "names", []string{"name", "kind", "unit"}, "ON CONFLICT (name) DO NOTHING")
 	if err := w.loadNames(ctx); err != nil {
 		w.rollback()
@@ -54,7 +55,7 @@ func (s *DB) begin(ctx context.Context) (*writer, error) {
 }
 
 func (w *writer) batches() []*batch {
-	return []*batch{w.params, w.outcomes, w.notes, w.actuals, w.deviations, w.attachments, w.overrides, w.corrections, w.newNames}
+	return []*batch{w.params, w.outcomes, w.notes, w.actuals, w.deviations, w.attachments, w.overrides, w.corrections, w.aliases, w.newNames}
 }
 
 func (w *writer) rollback() {
@@ -191,7 +192,7 @@ func (w *writer) flushRuns(ctx context.Context) ([]string, error) {
 	raise := map[string]int64{}
 	for _, p := range q {
 		if p.rec.Code == "" {
-			need[store.CodeCounter(store.CodeTime(p.rec.Started, now))]++
+			need[store.CodeCounter(p.rec.CodePrefix, store.CodeTime(p.rec.Started, now))]++
 		} else if c, n, ok := store.ParseCode(p.rec.Code); ok && n > raise[c] {
 			raise[c] = n
 		}
@@ -218,8 +219,8 @@ func (w *writer) flushRuns(ctx context.Context) ([]string, error) {
 		}
 		for i := range q {
 			t := store.CodeTime(q[i].rec.Started, now)
-			if q[i].rec.Code == "" && store.CodeCounter(t) == c {
-				q[i].rec.Code = store.FormatCode(t, next)
+			if q[i].rec.Code == "" && store.CodeCounter(q[i].rec.CodePrefix, t) == c {
+				q[i].rec.Code = store.FormatCode(q[i].rec.CodePrefix, t, next)
 				next++
 			}
 		}
@@ -333,6 +334,11 @@ func (w *writer) addRows(ctx context.Context, id int64, rec store.RunRecord) err
 	}
 	for _, c := range rec.Corrections {
 		if err := w.addCorrection(ctx, id, c); err != nil {
+			return err
+		}
+	}
+	for _, a := range rec.Aliases {
+		if err := w.aliases.add(ctx, id, a); err != nil {
 			return err
 		}
 	}
@@ -550,6 +556,11 @@ func (s *DB) importBundle(ctx context.Context, b store.Bundle, progress func(int
 	}
 	for _, sn := range b.Snapshots {
 		if err := w.putSnapshot(ctx, sn); err != nil {
+			return 0, err
+		}
+	}
+	if b.Renumber {
+		if b.Runs, err = w.renumber(ctx, b.Runs); err != nil {
 			return 0, err
 		}
 	}

@@ -24,7 +24,7 @@ func FitRuns(t *testing.T, open Opener) {
 	var recs []store.RunRecord
 	for i := range 30 {
 		rec := FullRecord(i, snap.SHA256)
-		rec.Code = store.FormatCode(T0, int64(i+1))
+		rec.Code = store.FormatCode("", T0, int64(i+1))
 		if i%4 == 0 { // no coverage, a nuclei density twice
 			rec.Outcomes = []store.Outcome{
 				{Metric: "nuclei_density", Value: float64(100 + i), Unit: "1/mm2"},

@@ -42,7 +42,7 @@ func Migrations(t *testing.T, d sqldb.Dialect, fresh Fresh) {
 					}
 				}
 				content := []byte{0, 0xff}
-				exec(`INSERT INTO snapshots VALUES (?, 'demo', 'a.yaml', ?, '2026-01-01T00:00:00.000000Z')`, store.HashOf(content), content)
+				exec(`INSERT INTO snapshots (sha256, name, file, content, created_at) VALUES (?, 'demo', 'a.yaml', ?, '2026-01-01T00:00:00.000000Z')`, store.HashOf(content), content)
 				exec(`INSERT INTO runs (code, status, recipe_sha256, recipe_name, furnace, operator, lot, created_at)
 					VALUES ('G26-0007', 'done', ?, 'demo', 'tube-1', 'op', 'L1', '2026-01-01T00:00:00.000000Z')`, store.HashOf(content))
 				exec(`INSERT INTO counters VALUES ('run-2026', 7)`)

@@ -45,6 +45,7 @@ func Run(t *testing.T, open Opener) {
 		{"RunLifecycle", testLifecycle},
 		{"Codes", testCodes},
 		{"CodeCounters", testCodeCounters},
+		{"Renumber", testRenumber},
 		{"ImportValidated", testImportValidated},
 		{"BadInput", testBadInput},
 		{"ListBestRank", testListBestRank},

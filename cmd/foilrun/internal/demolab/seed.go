@@ -69,7 +69,7 @@ func Seed(ctx context.Context, log store.RunLog, paths Paths, n int) error {
 		}
 		t0 := start.Add(time.Duration(i) * 26 * time.Hour)
 		rec := store.RunRecord{
-			Run: store.Run{Code: store.FormatCode(t0, int64(i+1)), Status: store.Done, RecipeName: r.Name, RecipeHash: snap.SHA256,
+			Run: store.Run{Code: store.FormatCode("", t0, int64(i+1)), Status: store.Done, RecipeName: r.Name, RecipeHash: snap.SHA256,
 				Furnace: furnace.Name, FurnaceHash: fsnap.SHA256, Operator: operators[i%3], Lot: "demo-lot-" + strconv.Itoa(1+i/20),
 				Started: t0, Ended: t0.Add(time.Duration(plan.Total) * time.Second)},
 			Params: plan.Parameters(),

@@ -38,7 +38,7 @@ func benchLog(b *testing.B, n int) (store.RunLog, demolab.Paths) {
 		}
 		t0 := start.Add(time.Duration(i) * time.Hour)
 		bundle.Runs = append(bundle.Runs, store.RunRecord{
-			Run: store.Run{Code: store.FormatCode(t0, int64(i+1)), Status: store.Done, RecipeName: "lowpressure", RecipeHash: snap.SHA256,
+			Run: store.Run{Code: store.FormatCode("", t0, int64(i+1)), Status: store.Done, RecipeName: "lowpressure", RecipeHash: snap.SHA256,
 				Furnace: "tube-a", Started: t0, Ended: t0.Add(time.Hour)},
 			Outcomes: []store.Outcome{
 				{Metric: "coverage", Value: 0.5, Unit: "1", Measured: t0.Add(2 * time.Hour)},
