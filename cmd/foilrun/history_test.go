@@ -237,7 +237,7 @@ func BenchmarkHistoryImport10k(b *testing.B) {
 	var sb strings.Builder
 	sb.WriteString(strings.Join(historyHeadings, ",") + "\n")
 	for i := range 10_000 {
-		fmt.Fprintf(&sb, "H25-%05d,%02d/03/2025,%.2f,%.2f,%.1f,%.1f,%.3f,%d,row %d\n",
+		fmt.Fprintf(&sb, "H25-%04d,%02d/03/2025,%.2f,%.2f,%.1f,%.1f,%.3f,%d,row %d\n",
 			i+1, 1+i%28, 960+float64(i)/100, 0.5+float64(i%7)/2, 5+float64(i%31), 10+float64(i%53), 50+float64(i%40), 100+i%900, i)
 	}
 	sheet := filepath.Join(dir, "runs.csv")
