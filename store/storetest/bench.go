@@ -2,6 +2,7 @@ package storetest
 
 import (
 	"context"
+	"syscall"
 	"testing"
 	"time"
 
@@ -55,6 +56,7 @@ func BenchBest2(b *testing.B, l store.RunLog) {
 	ctx := context.Background()
 	params := []string{"growth_temperature_c", "ch4_flow_sccm"}
 	b.ResetTimer()
+	defer reportCPU(b, cpuTime())
 	for i := 0; i < b.N; i++ {
 		s, err := l.Samples(ctx, store.Filter{}, "coverage", params)
 		if err != nil {
@@ -97,6 +99,7 @@ func BenchRank(b *testing.B, l store.RunLog) {
 		}
 	}
 	b.ResetTimer()
+	defer reportCPU(b, cpuTime())
 	for i := 0; i < b.N; i++ {
 		s, err := l.Samples(ctx, store.Filter{}, "coverage", params)
 		if err != nil {
@@ -115,6 +118,21 @@ func BenchExportJSON(b *testing.B, l store.RunLog) {
 			b.Fatal(err)
 		}
 	}
+}
+
+// cpuTime returns the CPU time the process has used (user and system):
+// on a machine shared with other work it varies less than wall time.
+func cpuTime() time.Duration {
+	var ru syscall.Rusage
+	if err := syscall.Getrusage(syscall.RUSAGE_SELF, &ru); err != nil {
+		return 0
+	}
+	return time.Duration(ru.Utime.Nano() + ru.Stime.Nano())
+}
+
+// reportCPU reports the CPU time per operation since start (from cpuTime).
+func reportCPU(b *testing.B, start time.Duration) {
+	b.ReportMetric(float64(cpuTime()-start)/float64(b.N), "cpu-ns/op")
 }
 
 type discard struct{}
