@@ -1,8 +1,10 @@
 package store
 
 import (
+	"cmp"
 	"fmt"
 	"math"
+	"slices"
 	"sort"
 )
 
@@ -73,23 +75,17 @@ func Best(samples []Sample, metric string, params []string, n int, goal Goal) Be
 	for j := range params {
 		lo[j], hi[j] = math.Inf(1), math.Inf(-1)
 	}
-	use := samples[:0:0]
 	for _, s := range samples {
-		ok := len(s.Params) >= len(params)
-		for j := 0; ok && j < len(params); j++ {
-			ok = !math.IsNaN(s.Params[j])
-		}
-		if !ok {
+		if !hasParams(s, len(params)) {
 			t.Missing++
 			continue
 		}
-		use = append(use, s)
 		for j := range params {
 			lo[j], hi[j] = math.Min(lo[j], s.Params[j]), math.Max(hi[j], s.Params[j])
 		}
 	}
-	t.Runs = len(use)
-	if len(use) == 0 {
+	t.Runs = len(samples) - t.Missing
+	if t.Runs == 0 {
 		return t
 	}
 	nb := make([]int, len(params))
@@ -112,7 +108,10 @@ func Best(samples []Sample, metric string, params []string, n int, goal Goal) Be
 	for i := range accs {
 		accs[i].min, accs[i].max = math.Inf(1), math.Inf(-1)
 	}
-	for _, s := range use {
+	for _, s := range samples {
+		if !hasParams(s, len(params)) {
+			continue
+		}
 		cell := 0
 		for j := range params {
 			k := 0
@@ -152,6 +151,19 @@ func Best(samples []Sample, metric string, params []string, n int, goal Goal) Be
 		t.Bins = append(t.Bins, b)
 	}
 	return t
+}
+
+// hasParams reports whether the sample has its first n parameters.
+func hasParams(s Sample, n int) bool {
+	if len(s.Params) < n {
+		return false
+	}
+	for _, v := range s.Params[:n] {
+		if math.IsNaN(v) {
+			return false
+		}
+	}
+	return true
 }
 
 // RankRow is one parameter of a Rank result.
@@ -194,33 +206,31 @@ func Rank(samples []Sample, metric string, params []string, goal Goal, lowerBett
 		}
 	}
 	res := RankResult{Metric: metric, Goal: goal}
-	for j, p := range params {
-		var xs, ys []float64
-		row := RankRow{Param: p, GoodMin: math.Inf(1), GoodMax: math.Inf(-1), RestMin: math.Inf(1), RestMax: math.Inf(-1)}
-		for _, s := range samples {
-			if j >= len(s.Params) || math.IsNaN(s.Params[j]) || math.IsNaN(s.Metric) {
-				continue
-			}
-			v := s.Params[j]
-			xs, ys = append(xs, v), append(ys, s.Metric)
-			if goal.Met(s.Metric) {
-				row.Good++
-				row.GoodMin, row.GoodMax = math.Min(row.GoodMin, v), math.Max(row.GoodMax, v)
-			} else {
-				row.RestMin, row.RestMax = math.Min(row.RestMin, v), math.Max(row.RestMax, v)
-			}
+	// The metric's ranks over the runs that have it serve every parameter
+	// that all of those runs have.
+	var all []float64
+	for _, s := range samples {
+		if !math.IsNaN(s.Metric) {
+			all = append(all, s.Metric)
 		}
-		row.N = len(xs)
+	}
+	var allRanks []float64
+	xs, ys := make([]float64, 0, len(all)), make([]float64, 0, len(all))
+	for j, p := range params {
+		row := rankRow(samples, j, p, goal, &xs, &ys)
 		if row.N == 0 {
 			continue
 		}
-		if row.Good == 0 {
-			row.GoodMin, row.GoodMax = math.NaN(), math.NaN()
+		var ry []float64
+		if row.N == len(all) {
+			if allRanks == nil {
+				allRanks = ranks(all)
+			}
+			ry = allRanks
+		} else {
+			ry = ranks(ys)
 		}
-		if row.Good == row.N {
-			row.RestMin, row.RestMax = math.NaN(), math.NaN()
-		}
-		row.Rho = Spearman(xs, ys)
+		row.Rho = rankCorrelation(ranks(xs), ry)
 		res.Rows = append(res.Rows, row)
 	}
 	sort.SliceStable(res.Rows, func(a, b int) bool {
@@ -231,6 +241,34 @@ func Rank(samples []Sample, metric string, params []string, goal Goal, lowerBett
 		return math.Abs(ra) > math.Abs(rb)
 	})
 	return res
+}
+
+// rankRow fills the counts and ranges of parameter j (named p) and leaves
+// in xs and ys the parameter and metric of the runs that have both.
+func rankRow(samples []Sample, j int, p string, goal Goal, xs, ys *[]float64) RankRow {
+	*xs, *ys = (*xs)[:0], (*ys)[:0]
+	row := RankRow{Param: p, GoodMin: math.Inf(1), GoodMax: math.Inf(-1), RestMin: math.Inf(1), RestMax: math.Inf(-1)}
+	for _, s := range samples {
+		if j >= len(s.Params) || math.IsNaN(s.Params[j]) || math.IsNaN(s.Metric) {
+			continue
+		}
+		v := s.Params[j]
+		*xs, *ys = append(*xs, v), append(*ys, s.Metric)
+		if goal.Met(s.Metric) {
+			row.Good++
+			row.GoodMin, row.GoodMax = math.Min(row.GoodMin, v), math.Max(row.GoodMax, v)
+		} else {
+			row.RestMin, row.RestMax = math.Min(row.RestMin, v), math.Max(row.RestMax, v)
+		}
+	}
+	row.N = len(*xs)
+	if row.Good == 0 {
+		row.GoodMin, row.GoodMax = math.NaN(), math.NaN()
+	}
+	if row.Good == row.N {
+		row.RestMin, row.RestMax = math.NaN(), math.NaN()
+	}
+	return row
 }
 
 // Spearman returns Spearman's rank correlation coefficient of x and y: the
@@ -253,8 +291,16 @@ func Spearman(x, y []float64) float64 {
 	if len(x) < 2 {
 		return math.NaN()
 	}
-	rx, ry := ranks(x), ranks(y)
-	m := (float64(len(x)) + 1) / 2
+	return rankCorrelation(ranks(x), ranks(y))
+}
+
+// rankCorrelation is the Pearson correlation of the ranks rx and ry (of
+// the same length, at least 2): Spearman's rho.
+func rankCorrelation(rx, ry []float64) float64 {
+	if len(rx) < 2 {
+		return math.NaN()
+	}
+	m := (float64(len(rx)) + 1) / 2
 	var sxy, sxx, syy float64
 	for i := range rx {
 		dx, dy := rx[i]-m, ry[i]-m
@@ -268,22 +314,27 @@ func Spearman(x, y []float64) float64 {
 	return sxy / math.Sqrt(sxx*syy)
 }
 
-// ranks returns the 1-based ranks of v with ties averaged.
+// ranks returns the 1-based ranks of v with ties averaged (NaNs, which
+// equal nothing, each get a rank of their own below every number).
 func ranks(v []float64) []float64 {
-	idx := make([]int, len(v))
-	for i := range idx {
-		idx[i] = i
+	type entry struct {
+		v float64
+		i int
 	}
-	sort.SliceStable(idx, func(a, b int) bool { return v[idx[a]] < v[idx[b]] })
+	es := make([]entry, len(v))
+	for i, x := range v {
+		es[i] = entry{x, i}
+	}
+	slices.SortFunc(es, func(a, b entry) int { return cmp.Compare(a.v, b.v) })
 	r := make([]float64, len(v))
-	for i := 0; i < len(idx); {
+	for i := 0; i < len(es); {
 		j := i + 1
-		for j < len(idx) && v[idx[j]] == v[idx[i]] {
+		for j < len(es) && es[j].v == es[i].v {
 			j++
 		}
 		avg := float64(i+j+1) / 2 // mean of ranks i+1 … j
 		for k := i; k < j; k++ {
-			r[idx[k]] = avg
+			r[es[k].i] = avg
 		}
 		i = j
 	}

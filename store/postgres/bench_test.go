@@ -41,6 +41,7 @@ func benchLog(b *testing.B) *DB {
 		if benchDB, benchErr = Open(context.Background(), withParam(base, "search_path", benchSchema)); benchErr != nil {
 			return
 		}
+		benchDB.SetClock(storetest.BenchNow)
 		_, benchErr = benchDB.Import(context.Background(), storetest.BenchBundle(), nil)
 	})
 	if benchErr != nil {
@@ -94,6 +95,7 @@ func BenchmarkCopy100k(b *testing.B) {
 		b.Fatal(err)
 	}
 	defer src.Close()
+	src.SetClock(storetest.BenchNow)
 	if _, err := src.Import(ctx, storetest.BenchBundle(), nil); err != nil {
 		b.Fatal(err)
 	}

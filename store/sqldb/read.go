@@ -155,55 +155,6 @@ func (s *DB) List(ctx context.Context, f store.Filter) ([]store.Run, error) {
 	return out, rows.Err()
 }
 
-// Samples returns the metric and parameters of every run that passes the
-// filter and has the metric.
-func (s *DB) Samples(ctx context.Context, f store.Filter, metric string, params []string) ([]store.Sample, error) {
-	if len(params) > 60 {
-		return nil, fmt.Errorf("samples: %d parameters, at most 60: %w", len(params), store.ErrInvalid)
-	}
-	var b strings.Builder
-	b.WriteString("SELECT r.code, m.v")
-	for i := range params {
-		fmt.Fprintf(&b, ", p%d.value", i)
-	}
-	b.WriteString(" FROM runs r JOIN (SELECT run_id, AVG(value) AS v FROM outcomes WHERE metric = ? GROUP BY run_id) m ON m.run_id = r.id")
-	args := []any{metric}
-	for i, p := range params {
-		fmt.Fprintf(&b, " LEFT JOIN run_params p%d ON p%d.run_id = r.id AND p%d.name = ?", i, i, i)
-		args = append(args, p)
-	}
-	w, wargs, err := s.where(ctx, s.db, f, "")
-	if err != nil {
-		return nil, err
-	}
-	b.WriteString(w + " ORDER BY r.id")
-	args = append(args, wargs...)
-	rows, err := s.db.QueryContext(ctx, s.d.Rebind(b.String()), args...)
-	if err != nil {
-		return nil, err
-	}
-	defer rows.Close()
-	var out []store.Sample
-	vals := make([]sql.NullFloat64, len(params))
-	dest := make([]any, 2+len(params))
-	for rows.Next() {
-		var sm store.Sample
-		dest[0], dest[1] = &sm.Code, &sm.Metric
-		for i := range vals {
-			dest[2+i] = &vals[i]
-		}
-		if err := rows.Scan(dest...); err != nil {
-			return nil, err
-		}
-		sm.Params = make([]float64, len(params))
-		for i, v := range vals {
-			sm.Params[i] = floatOr(v)
-		}
-		out = append(out, sm)
-	}
-	return out, rows.Err()
-}
-
 // Renamed returns the codes of the runs renumbered from the code old.
 func (s *DB) Renamed(ctx context.Context, old string) ([]string, error) {
 	rows, err := s.db.QueryContext(ctx, s.d.Rebind(`SELECT r.code FROM run_aliases a JOIN runs r ON r.id = a.run_id WHERE a.alias = ? ORDER BY r.id`), old)

@@ -33,6 +33,7 @@ func benchLog(b *testing.B) *DB {
 		if benchErr != nil {
 			return
 		}
+		benchDB.SetClock(storetest.BenchNow)
 		_, benchErr = benchDB.Import(context.Background(), storetest.BenchBundle(), nil)
 	})
 	if benchErr != nil {
