@@ -4,7 +4,6 @@ import (
 	"context"
 	"database/sql"
 	"fmt"
-	"math"
 	"strings"
 
 	"github.com/foilrun/foilrun/store"
@@ -37,33 +36,13 @@ func (s *DB) FitRuns(ctx context.Context, f store.Filter, metrics []string, each
 	}
 	args = append(margs, args...)
 	qs := s.d.Rebind("SELECT r.id, r.code, r.recipe_sha256, r.furnace_sha256 FROM runs r" + w + " AND r.id > ? ORDER BY r.id LIMIT ?")
-	last, sent := int64(math.MinInt64), 0
-	for {
-		n := exportChunk
-		if f.Limit > 0 {
-			n = min(n, f.Limit-sent)
-		}
-		if n <= 0 {
-			return nil
-		}
+	return inChunks(f.Limit, func(last int64, n int) ([]*store.RunRecord, []int64, error) {
 		recs, ids, err := s.fitRuns(ctx, q, qs, append(args, last, n))
-		if err != nil || len(recs) == 0 {
-			return err
+		if err == nil && len(recs) > 0 {
+			err = s.fitChildren(ctx, q, ids, recs, margs, marks)
 		}
-		if err := s.fitChildren(ctx, q, ids, recs, margs, marks); err != nil {
-			return err
-		}
-		for _, r := range recs {
-			if err := each(*r); err != nil {
-				return err
-			}
-		}
-		sent += len(recs)
-		last = ids[len(ids)-1]
-		if len(recs) < n {
-			return nil
-		}
-	}
+		return recs, ids, err
+	}, each)
 }
 
 // fitRuns reads one chunk of FitRuns' run rows.

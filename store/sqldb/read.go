@@ -226,13 +226,25 @@ const exportChunk = 2000
 // export reads runs matching cond (SQL, may be "") in id order, chunk by
 // chunk, with their child rows; limit > 0 stops after that many.
 func (s *DB) export(ctx context.Context, q Querier, cond string, args []any, limit int, each func(store.RunRecord) error) error {
-	last := int64(math.MinInt64)
-	sent := 0
 	w := " WHERE r.id > ?"
 	if cond != "" {
 		w += " AND (" + cond + ")"
 	}
 	qs := s.d.Rebind(runSelect + w + " ORDER BY r.id LIMIT ?")
+	return inChunks(limit, func(last int64, n int) ([]*store.RunRecord, []int64, error) {
+		recs, ids, err := s.readRuns(ctx, q, qs, append(append([]any{last}, args...), n))
+		if err == nil && len(recs) > 0 {
+			err = s.readChildren(ctx, q, ids, recs)
+		}
+		return recs, ids, err
+	}, each)
+}
+
+// inChunks calls each for the runs read chunk by chunk in id order: read
+// returns at most n runs (with their ids) after the id last, filled in;
+// limit > 0 stops after that many runs.
+func inChunks(limit int, read func(last int64, n int) ([]*store.RunRecord, []int64, error), each func(store.RunRecord) error) error {
+	last, sent := int64(math.MinInt64), 0
 	for {
 		n := exportChunk
 		if limit > 0 {
@@ -241,16 +253,12 @@ func (s *DB) export(ctx context.Context, q Querier, cond string, args []any, lim
 		if n <= 0 {
 			return nil
 		}
-		a := append(append([]any{last}, args...), n)
-		recs, ids, err := s.readRuns(ctx, q, qs, a)
+		recs, ids, err := read(last, n)
 		if err != nil || len(recs) == 0 {
 			return err
 		}
-		if err := s.readChildren(ctx, q, ids, recs); err != nil {
-			return err
-		}
-		for i := range recs {
-			if err := each(*recs[i]); err != nil {
+		for _, r := range recs {
+			if err := each(*r); err != nil {
 				return err
 			}
 		}
