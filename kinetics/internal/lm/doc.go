@@ -61,8 +61,8 @@
 //   - D. W. Marquardt, "An algorithm for least-squares estimation of
 //     nonlinear parameters", J. SIAM 11, 431 (1963).
 //   - J. J. Moré, "The Levenberg–Marquardt algorithm: implementation and
-//     theory", in G. A. Watson (ed.), Numerical Analysis, Lecture Notes in
-//     Mathematics 630, Springer (1978), 105–116.
+//     theory", in G. A. Watson (ed.), Numerical Analysis (Dundee 1977),
+//     Springer LNM 630 (1978), 105–116.
 //   - H. B. Nielsen, "Damping parameter in Marquardt's method", IMM-REP-
 //     1999-05, Technical University of Denmark (1999).
 //   - K. Madsen, H. B. Nielsen, O. Tingleff, "Methods for non-linear least
