@@ -58,6 +58,7 @@ func (r refusal) print(w io.Writer) error {
 		if err := section(w, "Safety stops", findingsTable(r.safety, true)); err != nil {
 			return err
 		}
+		fmt.Fprintln(w, safety.Disclaimer)
 	}
 	return nil
 }
