@@ -61,14 +61,26 @@ func (c *checker) add(sev Severity, sp *StepPlan, rule string, pos Pos, hint, fo
 // and returns the findings, most serious first, then by step.
 func Check(p *Plan) []Finding {
 	c := &checker{p: p, f: p.Furnace}
-	for i := range p.Steps {
-		sp := &p.Steps[i]
+	c.steps(0, len(p.Steps))
+	return c.finish()
+}
+
+// steps runs the checks of one step on steps from … to−1 of the plan. Those
+// of step i read only the plans of steps up to i (see Prefix).
+func (c *checker) steps(from, to int) {
+	for i := from; i < to; i++ {
+		sp := &c.p.Steps[i]
 		c.temperature(sp)
 		c.flows(sp)
 		c.pressure(sp)
 		c.copper(sp)
 		c.growth(sp)
 	}
+}
+
+// finish runs the checks that read the whole plan and sorts the findings,
+// most serious first, then by step.
+func (c *checker) finish() []Finding {
 	c.copperMelting()
 	c.sequence()
 	sort.SliceStable(c.fs, func(i, j int) bool {

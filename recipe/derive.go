@@ -96,13 +96,36 @@ type Plan struct {
 // loaded (validated) by this package.
 func Derive(r *Recipe, f *Furnace) *Plan {
 	p := &Plan{Recipe: r, Furnace: f, Steps: make([]StepPlan, len(r.Steps))}
-	T := DefaultStartTemperature
+	p.deriveFrom(0, startState(r))
+	return p
+}
+
+// deriveState is what Derive carries from one step to the next: the
+// temperature and time the step starts at and the valve state the steps
+// before left.
+type deriveState struct {
+	T, t float64 // K, s
+	v    valve
+}
+
+// startState is the state before a recipe's first step: the recipe's start
+// temperature (DefaultStartTemperature without one), time 0, the tube
+// closed at atmosphere.
+func startState(r *Recipe) deriveState {
+	st := deriveState{T: DefaultStartTemperature, v: valve{pressure: atmosphere, from: -1}}
 	if !r.StartTemperature.IsZero() {
-		T = r.StartTemperature.SI
+		st.T = r.StartTemperature.SI
 	}
-	v := valve{pressure: atmosphere, from: -1}
-	t := 0.0
-	for i := range r.Steps {
+	return st
+}
+
+// deriveFrom derives steps k… of the plan from the state st the steps
+// before k leave, and sets the total time. Step i reads only st and the
+// plan of step i−1 (prevPressure), so steps before k are left as they are.
+func (p *Plan) deriveFrom(k int, st deriveState) {
+	r, f := p.Recipe, p.Furnace
+	T, t, v := st.T, st.t, st.v
+	for i := k; i < len(r.Steps); i++ {
 		s := &r.Steps[i]
 		sp := &p.Steps[i]
 		sp.Index, sp.Step, sp.Label, sp.Start = i, s, s.Label(i), t
@@ -120,7 +143,6 @@ func Derive(r *Recipe, f *Furnace) *Plan {
 		t += sp.Duration
 	}
 	p.Total = t
-	return p
 }
 
 // temperatures sets the step's start and end temperatures from the

@@ -1,0 +1,99 @@
+package recipe
+
+// Prefix is the first steps of a derived and checked plan, kept so that
+// recipes differing from its recipe only from step K on (a process window
+// varies the grow step) can be derived and checked without redoing those
+// steps. Derive and Check on a Prefix give exactly what Derive and Check
+// give on the whole recipe (the same float64 values, the same findings in
+// the same order); the steps before K are copied, not recomputed.
+//
+// What the steps before K leave for the rest, and why nothing else is
+// needed:
+//
+//   - Derive: step i reads the temperature and time step i−1 ends at, the
+//     valve state (open to the pump, the held set-point and the step that
+//     set it) the steps before it leave, and the pressure of step i−1.
+//     Nothing reads a later step. Prefix keeps the end temperature, the
+//     time and the valve state after step K−1; the pressure of step K−1 is
+//     in its copied plan.
+//   - Check: the checks of one step i (temperature and ramps, flows,
+//     pressure, copper loss, growth) read step i's plan, step i−1's end
+//     temperature (sequence.missing-ramp), the label of the step whose
+//     set-point step i carries (at or before i), the recipe's substrate and
+//     the furnace. For i < K none of them changes, so Prefix keeps their
+//     findings and the steps near copper's melting point. The checks that
+//     read the whole plan, the copper-melting summary and the sequence
+//     (leak check, purge, vent, the last step), run again every time.
+//
+// A Prefix is read-only once made and may be used from many goroutines.
+type Prefix struct {
+	base  *Plan
+	k     int
+	state deriveState // before step k
+	fs    []Finding   // of the checks of steps before k, in the order Check makes them
+	melt  [2][]int    // steps before k too near copper's melting point: [0] warning, [1] error
+}
+
+// NewPrefix keeps steps 0 … k−1 of a plan made by Derive (with the Site
+// the later plans are checked against set on it, or nil), for recipes that
+// change only steps k and later. It panics if k is outside 0 … len(Steps).
+func NewPrefix(base *Plan, k int) *Prefix {
+	if k < 0 || k > len(base.Steps) {
+		panic("recipe: NewPrefix: step index out of range")
+	}
+	px := &Prefix{base: base, k: k, state: startState(base.Recipe)}
+	for i := range k {
+		px.state.v.step(&base.Recipe.Steps[i], i)
+	}
+	if k > 0 {
+		last := base.Steps[k-1]
+		px.state.T, px.state.t = last.T1, last.Start+last.Duration
+	}
+	c := &checker{p: base, f: base.Furnace}
+	c.steps(0, k)
+	px.fs = c.fs
+	for sev, sps := range c.melt {
+		for _, sp := range sps {
+			px.melt[sev] = append(px.melt[sev], sp.Index)
+		}
+	}
+	return px
+}
+
+// Step is the index K of the first step a Prefix re-derives.
+func (px *Prefix) Step() int { return px.k }
+
+// Derive lays recipe r out on the prefix's furnace as Derive(r, furnace)
+// would: the plans of steps before K are copied from the prefix (their
+// Step fields point into r, their Flows are shared with the prefix's
+// plan and must not be written), steps K… are derived. The plan's Site
+// is the prefix plan's. r must have as many steps as the prefix's recipe
+// and be equal to it in every field Derive reads except in steps K and
+// later; Derive panics if the step counts differ.
+func (px *Prefix) Derive(r *Recipe) *Plan {
+	if len(r.Steps) != len(px.base.Steps) {
+		panic("recipe: Prefix.Derive: the recipe has a different number of steps")
+	}
+	p := &Plan{Recipe: r, Furnace: px.base.Furnace, Site: px.base.Site, Steps: make([]StepPlan, len(r.Steps))}
+	copy(p.Steps, px.base.Steps[:px.k])
+	for i := range px.k {
+		p.Steps[i].Step = &r.Steps[i]
+	}
+	p.deriveFrom(px.k, px.state)
+	return p
+}
+
+// Check returns what Check(p) returns for a plan made by px.Derive: the
+// kept findings of the steps before K, the checks of steps K… run on p,
+// then the checks of the whole plan, sorted as Check sorts them.
+func (px *Prefix) Check(p *Plan) []Finding {
+	c := &checker{p: p, f: p.Furnace, fs: make([]Finding, len(px.fs), len(px.fs)+8)}
+	copy(c.fs, px.fs)
+	for sev, idx := range px.melt {
+		for _, i := range idx {
+			c.melt[sev] = append(c.melt[sev], &p.Steps[i])
+		}
+	}
+	c.steps(px.k, len(p.Steps))
+	return c.finish()
+}
