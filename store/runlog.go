@@ -72,6 +72,10 @@ type RunLog interface {
 	// Check runs the back end's integrity checks and returns the problems
 	// found (none: an empty slice).
 	Check(ctx context.Context) ([]string, error)
+	// Repair rebuilds, in one transaction, every table the log derives
+	// from the runs (the run summary that best, rank and --where read)
+	// and says what it rebuilt, one line each.
+	Repair(ctx context.Context) ([]string, error)
 
 	Copier
 	io.Closer

@@ -53,8 +53,20 @@ func scanRun(rows *sql.Rows) (int64, store.Run, error) {
 	return id, r, errors.Join(err1, err2, err3)
 }
 
-// where compiles the filter to " WHERE …" (or "") and its arguments.
+// where compiles the filter to " WHERE …" (or "") and its arguments; a
+// parameter or metric is read from run_params and outcomes.
 func (s *DB) where(ctx context.Context, q Querier, f store.Filter, extra string) (string, []any, error) {
+	return s.compileWhere(ctx, q, f, extra, false)
+}
+
+// whereSummary is where for a query that joins run_summary as su (and
+// runs as r): a name with a column of the summary is read from it, any
+// other from run_summary_extra.
+func (s *DB) whereSummary(ctx context.Context, q Querier, f store.Filter, extra string) (string, []any, error) {
+	return s.compileWhere(ctx, q, f, extra, true)
+}
+
+func (s *DB) compileWhere(ctx context.Context, q Querier, f store.Filter, extra string, summary bool) (string, []any, error) {
 	var parts []string
 	if extra != "" {
 		parts = append(parts, extra)
@@ -64,6 +76,9 @@ func (s *DB) where(ctx context.Context, q Querier, f store.Filter, extra string)
 		sch, err := s.schema(ctx, q)
 		if err != nil {
 			return "", nil, err
+		}
+		if summary {
+			sch.Summary = summarySchema
 		}
 		sqlText, a, err := query.CompileAll(f.Where, sch)
 		if err != nil {
@@ -128,13 +143,18 @@ func (s *DB) names(ctx context.Context, q Querier) ([]store.Name, error) {
 	return out, rows.Err()
 }
 
-// List returns the runs that pass the filter, oldest first.
+// List returns the runs that pass the filter, oldest first; a filter
+// reads parameters and metrics from the run summary.
 func (s *DB) List(ctx context.Context, f store.Filter) ([]store.Run, error) {
-	w, args, err := s.where(ctx, s.db, f, "")
+	w, args, err := s.whereSummary(ctx, s.db, f, "")
 	if err != nil {
 		return nil, err
 	}
-	q := runSelect + w + " ORDER BY r.id"
+	q := runSelect
+	if w != "" {
+		q += " JOIN run_summary su ON su.run_id = r.id"
+	}
+	q += w + " ORDER BY r.id"
 	if f.Limit > 0 {
 		q += " LIMIT ?"
 		args = append(args, f.Limit)
