@@ -160,7 +160,7 @@ func readRuns(ctx context.Context, l store.RunLog, filter store.Filter, m Metric
 	if m.Density {
 		metrics = append(metrics, "nuclei_density")
 	}
-	return fr.FitRuns(ctx, filter, metrics, each)
+	return fr.FitRuns(ctx, filter, metrics, store.ProfileKey{}, func(rec store.RunRecord, _ []byte) error { return each(rec) })
 }
 
 // count is how many measurements of the metric the run has.
