@@ -101,7 +101,9 @@ var repairs = []struct {
 	what string
 	run  func(ctx context.Context, l store.RunLog) (int, []string, error)
 }{
-	{"kinetics profiles", func(ctx context.Context, l store.RunLog) (int, []string, error) { return lab.FillProfiles(ctx, l, true) }},
+	{"kinetics profiles", func(ctx context.Context, l store.RunLog) (int, []string, error) {
+		return lab.FillProfiles(ctx, l, true)
+	}},
 }
 
 // repairLog runs the repairs on the log opened for writing, saying on status
