@@ -188,6 +188,9 @@ func (opts *fitOptions) collect(ctx context.Context, start kinetics.Params) (lab
 	if err != nil {
 		return lab.Observations{}, fmt.Errorf("fit: %w", err)
 	}
+	if len(col.Derived) > 0 && !col.Stored {
+		storeDerived(ctx, opts.f, col.Derived)
+	}
 	furnaceStatus(opts.f.io.Err, b, opts.furnace)
 	for _, u := range col.Furnaces {
 		fmt.Fprintf(opts.f.io.Err, "furnace %q from %s for %d runs\n", u.Name, u.Path, u.Runs)

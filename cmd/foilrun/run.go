@@ -136,6 +136,7 @@ func runStartRun(ctx context.Context, o *runOptions) error {
 	if err != nil {
 		return err
 	}
+	storeRunProfile(ctx, l, snap.SHA256, plan, o.f.io.Err)
 	fmt.Fprintln(o.f.io.Out, code)
 	return printDeviations(o.f.io.Out, code, rec.Deviations)
 }
@@ -353,6 +354,7 @@ func runFinishRun(ctx context.Context, o *runFinishOptions) error {
 	if err := l.FinishRun(ctx, o.code, fin); err != nil {
 		return err
 	}
+	fillProfiles(ctx, l, o.f.io.Err)
 	fmt.Fprintf(o.f.io.Err, "run %s %s\n", o.code, fin.Status)
 	return printDeviations(o.f.io.Out, o.code, fin.Deviations)
 }

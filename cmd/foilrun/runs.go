@@ -591,6 +591,7 @@ func runsImportRun(ctx context.Context, o *runsImportOptions) error {
 		}
 		return err
 	}
+	fillProfiles(ctx, l, o.f.io.Err)
 	fmt.Fprintf(o.f.io.Err, "%d runs imported\n", n)
 	return nil
 }
