@@ -89,7 +89,7 @@ func Migrate(ctx context.Context, db *sql.DB, d Dialect, to int) error {
 	}
 	for i, m := range ms[cur:to] {
 		var after func(context.Context, execer, Dialect) error
-		if cur+i+1 == to && cur < summaryVersion && to >= summaryVersion {
+		if cur+i+1 == to && cur < SummaryVersion && to >= SummaryVersion {
 			after = rebuildSummary
 		}
 		if err := apply(ctx, db, d, m, after); err != nil {
@@ -99,11 +99,11 @@ func Migrate(ctx context.Context, db *sql.DB, d Dialect, to int) error {
 	return nil
 }
 
-// summaryVersion is the migration that creates the run summary. A run of
+// SummaryVersion is the migration that creates the run summary. A run of
 // migrations that passes it fills the summary in the transaction of its
 // last migration, from the runs as they are then, so a killed process
 // leaves either the old version or the new one with its summary filled.
-const summaryVersion = 7
+const SummaryVersion = 7
 
 // apply runs one migration and then after (when not nil) in one
 // transaction.
