@@ -14,6 +14,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"github.com/foilrun/foilrun/cmd/foilrun/internal/lab"
+	"github.com/foilrun/foilrun/cmd/foilrun/internal/tabular"
 	"github.com/foilrun/foilrun/recipe"
 	"github.com/foilrun/foilrun/recipe/infile"
 	"github.com/foilrun/foilrun/store"
@@ -551,9 +552,4 @@ func actualTable(as []store.Actual) table {
 	return t
 }
 
-func when(t time.Time) string {
-	if t.IsZero() {
-		return ""
-	}
-	return t.Local().Format("2006-01-02 15:04")
-}
+func when(t time.Time) string { return tabular.When(t) }

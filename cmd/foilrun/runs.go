@@ -14,6 +14,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"github.com/foilrun/foilrun/cmd/foilrun/internal/lab"
+	"github.com/foilrun/foilrun/cmd/foilrun/internal/tabular"
 	"github.com/foilrun/foilrun/recipe"
 	"github.com/foilrun/foilrun/recipe/infile"
 	"github.com/foilrun/foilrun/store"
@@ -72,19 +73,13 @@ func runsListRun(ctx context.Context, o *runsListOptions) error {
 	if err != nil {
 		return err
 	}
-	t := table{Header: []string{"code", "status", "recipe", "furnace", "operator", "lot", "started", "ended"}}
-	for _, r := range runs {
-		t.add(r.Code, string(r.Status), r.RecipeName, r.Furnace, r.Operator, r.Lot, when(r.Started), when(r.Ended))
+	if o.output != formatTable {
+		return tabular.WriteRuns(o.f.io.Out, runs, o.output == formatCSV)
 	}
-	if runs == nil {
-		runs = []store.Run{}
-	}
-	if err := render(o.f.io.Out, o.output, t, runs); err != nil {
+	if err := writeTable(o.f.io.Out, table{Header: tabular.RunHeader, Rows: tabular.RunRows(runs)}); err != nil {
 		return err
 	}
-	if o.output == formatTable {
-		fmt.Fprintf(o.f.io.Err, "%d runs\n", len(runs))
-	}
+	fmt.Fprintf(o.f.io.Err, "%d runs\n", len(runs))
 	return nil
 }
 
