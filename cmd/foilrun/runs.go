@@ -148,36 +148,6 @@ func (c *conditionsFlag) parse() error {
 	return nil
 }
 
-// maxSampleParams is how many parameter columns one Samples query takes.
-const maxSampleParams = 60
-
-// twinSamples returns the metric and params of the runs that pass the
-// filter, each parameter on conditions src (see lab.Pick): the planned
-// value, or with logged conditions its logged twin where the run has one.
-// Long parameter lists are queried in parts, joined run by run.
-func twinSamples(ctx context.Context, l store.RunLog, f store.Filter, metric string, params []string, src lab.Source) (lab.Picked, error) {
-	cols := lab.Twins(params, src)
-	var all []store.Sample
-	for lo := 0; lo < len(cols) || lo == 0; lo += maxSampleParams {
-		part := cols[lo:min(len(cols), lo+maxSampleParams)]
-		s, err := l.Samples(ctx, f, metric, part)
-		if err != nil {
-			return lab.Picked{}, err
-		}
-		if lo == 0 {
-			all = s
-			continue
-		}
-		if len(s) != len(all) {
-			return lab.Picked{}, fmt.Errorf("samples of %s: the log changed while it was read; run the query again", metric)
-		}
-		for i := range all {
-			all[i].Params = append(all[i].Params, s[i].Params...)
-		}
-	}
-	return lab.Pick(all, params, src), nil
-}
-
 // metricFlag checks a --metric value: old spellings of the known metrics
 // are refused naming the new one; any other name is left to checkNames.
 func metricFlag(metric string) error {
@@ -289,7 +259,7 @@ func runsBestRun(ctx context.Context, o *runsBestOptions) error {
 	if err := checkNames(ctx, l, o.metric, o.by); err != nil {
 		return err
 	}
-	pk, err := twinSamples(ctx, l, store.Filter{Where: o.where}, o.metric, o.by, o.conds.src)
+	pk, err := lab.TwinSamples(ctx, l, store.Filter{Where: o.where}, o.metric, o.by, o.conds.src)
 	if err != nil {
 		return err
 	}
@@ -404,7 +374,7 @@ func runsRankRun(ctx context.Context, o *runsRankOptions) error {
 		}
 	}
 	store.SortParams(params)
-	pk, err := twinSamples(ctx, l, store.Filter{Where: o.where}, o.metric, params, o.conds.src)
+	pk, err := lab.TwinSamples(ctx, l, store.Filter{Where: o.where}, o.metric, params, o.conds.src)
 	if err != nil {
 		return err
 	}
