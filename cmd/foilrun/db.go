@@ -101,6 +101,14 @@ var repairs = []struct {
 	what string
 	run  func(ctx context.Context, l store.RunLog) (int, []string, error)
 }{
+	{"run summaries", func(ctx context.Context, l store.RunLog) (int, []string, error) {
+		// the store's own derived tables, rebuilt in one transaction
+		if _, err := l.Repair(ctx); err != nil {
+			return 0, nil, err
+		}
+		n, err := l.Count(ctx, store.Filter{})
+		return n, nil, err
+	}},
 	{"kinetics profiles", func(ctx context.Context, l store.RunLog) (int, []string, error) {
 		return lab.FillProfiles(ctx, l, true)
 	}},

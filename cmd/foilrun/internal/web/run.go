@@ -119,7 +119,15 @@ func (s *Server) planSVG(w http.ResponseWriter, r *http.Request) {
 	if !ok {
 		return
 	}
+	if rec.RecipeHash == "" {
+		s.fail(w, r, http.StatusNotFound, fmt.Errorf("run %s was logged without its recipe file: no plan to draw", rec.Code))
+		return
+	}
 	fig, _, err := runfig.PlanFigure(r.Context(), s.log, rec)
+	if errors.Is(err, store.ErrNotFound) {
+		s.fail(w, r, http.StatusNotFound, err)
+		return
+	}
 	if err != nil {
 		s.fail(w, r, http.StatusInternalServerError, err)
 		return

@@ -123,11 +123,40 @@ func (s *Server) Handler() http.Handler {
 	mux.HandleFunc("GET /runs.json", s.runsDownload)
 	s.runRoutes(mux)
 	s.analysisRoutes(mux)
-	mux.HandleFunc("/", func(w http.ResponseWriter, r *http.Request) {
+	return s.logged(secured(s.authenticated(s.themedMisses(mux))))
+}
+
+// themedMisses serves what mux has no handler for with the error page: a
+// path no route has is 404, a path a route has for another method is 405
+// with the Allow header the mux gives.
+func (s *Server) themedMisses(mux *http.ServeMux) http.Handler {
+	return http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+		h, pattern := mux.Handler(r)
+		if pattern != "" {
+			mux.ServeHTTP(w, r)
+			return
+		}
+		probe := &headerProbe{header: http.Header{}}
+		h.ServeHTTP(probe, r)
+		if probe.status == http.StatusMethodNotAllowed {
+			w.Header().Set("Allow", probe.header.Get("Allow"))
+			s.fail(w, r, http.StatusMethodNotAllowed, fmt.Errorf("%s is not taken at %s", r.Method, r.URL.Path))
+			return
+		}
 		s.fail(w, r, http.StatusNotFound, fmt.Errorf("no page at %s", r.URL.Path))
 	})
-	return s.logged(secured(s.authenticated(mux)))
 }
+
+// headerProbe records the status and headers the mux's own miss
+// handler would send, and drops its body.
+type headerProbe struct {
+	header http.Header
+	status int
+}
+
+func (p *headerProbe) Header() http.Header         { return p.header }
+func (p *headerProbe) Write(b []byte) (int, error) { return len(b), nil }
+func (p *headerProbe) WriteHeader(code int)        { p.status = code }
 
 // view is what every page's template sees.
 type view struct {
