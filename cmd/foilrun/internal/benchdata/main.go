@@ -45,9 +45,9 @@ func main() {
 // Side and domain layout of the benchmark micrograph: 4096² pixels with
 // 4,000 hexagonal domains of circumradius 24 pixels, about 33 % covered.
 const (
-	micrographSide  = 4096
-	micrographN     = 4000
-	micrographR     = 24
+	micrographSide = 4096
+	micrographN    = 4000
+	micrographR    = 24
 	micrographSeed = 18
 )
 
