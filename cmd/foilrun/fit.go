@@ -7,6 +7,7 @@ import (
 	"io"
 	"sort"
 	"strings"
+	"time"
 
 	"github.com/spf13/cobra"
 
@@ -225,15 +226,19 @@ func fitRun(ctx context.Context, opts *fitOptions) error {
 			return err
 		}
 	}
+	loadStart := time.Now()
 	col, err := opts.collect(ctx, start)
 	if err != nil {
 		return err
 	}
+	load := time.Since(loadStart)
 	obs := col.Observations
 	bar := opts.f.io.progress("fitting")
 	settings.MaxIterations = fitIterations
 	settings.Progress = func(it int, _ float64) { bar.update(min(it, fitIterations), fitIterations) }
+	fitStart := time.Now()
 	res, err := kinetics.Fit(obs, start, settings)
+	fitTime := time.Since(fitStart)
 	bar.finish()
 	if err != nil {
 		return fitError(err)
@@ -244,6 +249,7 @@ func fitRun(ctx context.Context, opts *fitOptions) error {
 		codes[i] = o.Label
 	}
 	out := fitJSON(res, codes)
+	out.Seconds = fitSecondsJSON{Load: load.Seconds(), Fit: fitTime.Seconds()}
 	out.addConditions(opts.conds, col)
 	switch opts.output {
 	case formatJSON:
@@ -364,6 +370,15 @@ type fitResultJSON struct {
 	Residuals             []fitResidualJSON `json:"residuals"`
 	Warnings              []string          `json:"warnings"`
 	Method                string            `json:"method"`
+	// Seconds is where the command's time went: reading the log into
+	// observations, and the fit itself.
+	Seconds fitSecondsJSON `json:"seconds"`
+}
+
+// fitSecondsJSON is fit's own timing, wall-clock seconds.
+type fitSecondsJSON struct {
+	Load float64 `json:"load"`
+	Fit  float64 `json:"fit"`
 }
 
 func fitJSON(res *kinetics.FitResult, codes []string) fitResultJSON {
