@@ -29,8 +29,8 @@ func newServeCmd(f *factory) *cobra.Command {
 		Use:   "serve",
 		Short: "Serve the run log to browsers on the lab's network",
 		Long: `Serve the run log (--db) as web pages: the runs with the --where filter, one
-run with its plan, outcomes, micrographs and notes, its pre-run checklist, and
-the analysis pages. People add notes, outcomes and micrographs unless
+run with its plan, outcomes, micrographs and notes, and its pre-run
+checklist. People add notes, outcomes and micrographs unless
 --read-only. It listens on loopback by default; any other address needs
 --tokens FILE (one "name token" line per person, mode 600). It has no TLS of
 its own: put it behind the lab's reverse proxy. Stop it with Ctrl-C.`,

@@ -122,7 +122,6 @@ func (s *Server) Handler() http.Handler {
 	mux.HandleFunc("GET /runs.csv", s.runsDownload)
 	mux.HandleFunc("GET /runs.json", s.runsDownload)
 	s.runRoutes(mux)
-	s.analysisRoutes(mux)
 	return s.logged(secured(s.authenticated(s.themedMisses(mux))))
 }
 
@@ -174,7 +173,9 @@ type navItem struct {
 	Current    bool
 }
 
-var nav = []navItem{{"Runs", "/runs", false}, {"Best", "/best", false}, {"Rank", "/rank", false}, {"Fit", "/fit", false}, {"Window", "/window", false}}
+// nav lists only pages that exist: the analysis pages (best, rank, fit,
+// window) are not served yet.
+var nav = []navItem{{"Runs", "/runs", false}}
 
 // render executes pages/layout.html with pages/<page>.html, whose
 // {{define "content"}} fills the page, and writes it with status. The

@@ -6,6 +6,7 @@ import (
 	"encoding/hex"
 	"errors"
 	"fmt"
+	"github.com/foilrun/foilrun/cmd/foilrun/internal/imageoutcome"
 	"io"
 	"net/http"
 	"net/url"
@@ -215,15 +216,14 @@ func (s *Server) measureUpload(r *http.Request, code, who string, up *upload) er
 		return err
 	}
 	now := s.now().UTC()
-	method := fmt.Sprintf("micrograph: otsu threshold after polynomial flattening; domains %s, polarity_source given; uploaded in the browser", res.Polarity)
+	suffix := "uploaded in the browser"
 	if who != "" {
-		method += " by " + who
+		suffix += " by " + who
 	}
-	ocs := []store.Outcome{{Metric: "coverage", Value: res.Coverage, Unit: "1", Entered: fmt.Sprintf("%.1f %%", 100*res.Coverage), Method: method, Measured: now}}
-	if res.Sizes.N > 0 {
-		um := res.Sizes.Mean * 1e6
-		ocs = append(ocs, store.Outcome{Metric: "domain_size", Value: um, Unit: "um", Entered: fmt.Sprintf("%.4g um", um),
-			Method: method + "; mean area-equivalent diameter, interior domains", Measured: now})
+	ms, _ := imageoutcome.Measurements(res, imageoutcome.Settings{Source: "given", IslandLimit: imageoutcome.DefaultIslandLimit, Suffix: suffix})
+	ocs := make([]store.Outcome, len(ms))
+	for i, m := range ms {
+		ocs[i] = store.Outcome{Metric: m.Metric, Value: m.Value, Unit: m.Unit, Entered: m.Text, Method: m.Method, Measured: now}
 	}
 	if err := s.log.AddOutcomes(ctx, code, ocs); err != nil {
 		return err
