@@ -223,7 +223,7 @@ func TestReadOnlyRefusesWrites(t *testing.T) {
 
 func TestTokens(t *testing.T) {
 	l, _ := testLog(t, 1)
-	secret := strings.Repeat("ab12", 8)
+	secret := strings.Repeat("ab12", 8) // MinTokenLength characters
 	srv, c := testServer(t, l, Config{Tokens: []Token{{Name: "ana", Secret: secret}}})
 	if code, _ := get(t, c, srv.URL+"/runs"); code != http.StatusUnauthorized {
 		t.Errorf("/runs without a session: got %d, want 401", code)
@@ -313,6 +313,8 @@ func TestUploadTooLarge(t *testing.T) {
 			if rec.Code != http.StatusRequestEntityTooLarge {
 				t.Errorf("got %d, want 413", rec.Code)
 			}
+			// the slack is the pipe's and the multipart reader's buffering:
+			// far below the 100 MB sent, so a server that read it all fails
 			if body.n > limit+(1<<20) {
 				t.Errorf("the server read %d bytes of a %d-byte upload with a %d-byte limit", body.n, size, limit)
 			}
