@@ -283,12 +283,8 @@ func (b *browser) runList() {
 		chromedp.WaitVisible("#runs"),
 		chromedp.WaitReady(`#where[value="growth_temperature_c >= 1000"]`))
 	rows := b.count("#runs tbody tr")
-	temps := eval[[]string](b, "read the filtered temperatures", `Array.from(document.querySelectorAll("#runs tbody tr")).map(r => r.textContent)`)
 	if rows == 0 || rows >= browserRuns {
 		b.t.Errorf("after %q /runs shows %d rows, want some but fewer than %d", where, rows, browserRuns)
-	}
-	if len(temps) != rows {
-		b.t.Errorf("read %d rows, counted %d", len(temps), rows)
 	}
 	after := b.text("#count")
 	if want := fmt.Sprintf("%d shown · %d matching", rows, rows); !strings.Contains(after, want) {
