@@ -3,13 +3,18 @@ package web
 import (
 	"bytes"
 	"context"
+	"crypto/rand"
+	"database/sql"
+	"encoding/hex"
 	"flag"
 	"fmt"
 	"image"
 	"image/png"
 	"net/http"
 	"net/http/httptest"
+	"net/url"
 	"os"
+	"path"
 	"path/filepath"
 	"strings"
 	"testing"
@@ -22,6 +27,7 @@ import (
 
 	"github.com/foilrun/foilrun/cmd/foilrun/internal/demolab"
 	"github.com/foilrun/foilrun/store"
+	"github.com/foilrun/foilrun/store/postgres"
 	"github.com/foilrun/foilrun/store/sqlite"
 )
 
@@ -47,17 +53,73 @@ func TestBrowser(t *testing.T) {
 		}
 		t.Skipf("no browser at %s: install Debian's chromium to run the browser test", chromiumPath)
 	}
+	t.Run("sqlite", func(t *testing.T) {
+		log, err := sqlite.Open(context.Background(), filepath.Join(t.TempDir(), "browser.db"))
+		if err != nil {
+			t.Fatal(err)
+		}
+		t.Cleanup(func() { log.Close() })
+		walkPages(t, log)
+	})
+	t.Run("postgres", func(t *testing.T) {
+		u := os.Getenv(postgresEnv)
+		if u == "" {
+			if os.Getenv("CI") == "true" {
+				t.Fatalf("%s is not set and CI=true: source .ci/postgres first", postgresEnv)
+			}
+			t.Skipf("%s is not set: source .ci/postgres from the repository root to run this back end too", postgresEnv)
+		}
+		log, err := postgres.Open(context.Background(), pgSchema(t, u))
+		if err != nil {
+			t.Fatal(err)
+		}
+		t.Cleanup(func() { log.Close() })
+		walkPages(t, log)
+	})
+}
+
+// postgresEnv names the PostgreSQL database the store tests use (.ci/postgres
+// exports it); the browser test works in a schema of its own there.
+const postgresEnv = "FOILRUN_TEST_POSTGRES"
+
+// pgSchema creates an empty schema in the database at base, dropped when
+// the test ends, and returns the URL that works in it.
+func pgSchema(t *testing.T, base string) string {
+	t.Helper()
+	b := make([]byte, 6)
+	rand.Read(b)
+	name := "web_" + hex.EncodeToString(b)
+	db, err := sql.Open("pgx", base)
+	if err != nil {
+		t.Fatal(err)
+	}
 	ctx := context.Background()
+	if _, err := db.ExecContext(ctx, "CREATE SCHEMA "+name); err != nil {
+		db.Close()
+		t.Fatalf("create a schema for the browser test: %v", err)
+	}
+	t.Cleanup(func() {
+		db.ExecContext(ctx, "DROP SCHEMA "+name+" CASCADE")
+		db.Close()
+	})
+	u, err := url.Parse(base)
+	if err != nil {
+		t.Fatal(err)
+	}
+	q := u.Query()
+	q.Set("search_path", name)
+	u.RawQuery = q.Encode()
+	return u.String()
+}
+
+// walkPages serves log, seeded with the demo runs, and walks the pages in
+// a fresh Chromium.
+func walkPages(t *testing.T, log store.RunLog) {
 	dir := t.TempDir()
 	paths, err := demolab.Lay(dir)
 	if err != nil {
 		t.Fatal(err)
 	}
-	log, err := sqlite.Open(ctx, filepath.Join(dir, "browser.db"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	t.Cleanup(func() { log.Close() })
 	code := seedBrowserLog(t, log, paths)
 	srv, err := New(Config{Log: log, Files: filepath.Join(dir, "files"),
 		Now: func() time.Time { return time.Date(2026, 12, 1, 12, 0, 0, 0, time.UTC) }})
@@ -69,8 +131,8 @@ func TestBrowser(t *testing.T) {
 	shots := *screenshots
 	if shots == "" {
 		shots = t.TempDir()
-	} else if err := os.MkdirAll(shots, 0o755); err != nil {
-		t.Fatal(err)
+	} else if shots = filepath.Join(shots, path.Base(t.Name())); os.MkdirAll(shots, 0o755) != nil {
+		t.Fatalf("cannot make the screenshot directory %s", shots)
 	}
 	b := &browser{t: t, ctx: startBrowser(t, hs.URL+"/runs"), base: hs.URL, shots: shots}
 
