@@ -9,22 +9,48 @@ import (
 	"net/http/cookiejar"
 	"net/http/httptest"
 	"net/url"
+	"os"
 	"path/filepath"
 	"regexp"
 	"strings"
 	"testing"
 
 	"github.com/foilrun/foilrun/store"
+	"github.com/foilrun/foilrun/store/postgres"
 	"github.com/foilrun/foilrun/store/sqlite"
 	"github.com/foilrun/foilrun/store/storetest"
 )
 
-// testLog is a SQLite run log in t.TempDir with n generated runs; it
-// returns the log and the runs' codes, oldest first.
+// backends runs f once per store back end, as the subtests "sqlite" and
+// "postgres"; testLog opens the one the subtest names. PostgreSQL runs
+// when .ci/postgres's environment is set, and must under CI=true.
+func backends(t *testing.T, f func(t *testing.T)) {
+	t.Run("sqlite", f)
+	t.Run("postgres", func(t *testing.T) {
+		if os.Getenv(postgresEnv) == "" {
+			if os.Getenv("CI") == "true" {
+				t.Fatalf("%s is not set and CI=true: source .ci/postgres first", postgresEnv)
+			}
+			t.Skipf("%s is not set: source .ci/postgres from the repository root to run this back end too", postgresEnv)
+		}
+		f(t)
+	})
+}
+
+// testLog is a run log with n generated runs, on the back end named by
+// the test's backends subtest (SQLite in t.TempDir, or PostgreSQL in a
+// schema of its own); it returns the log and the runs' codes, oldest
+// first.
 func testLog(t *testing.T, n int) (store.RunLog, []string) {
 	t.Helper()
 	ctx := context.Background()
-	l, err := sqlite.Open(ctx, filepath.Join(t.TempDir(), "runs.db"))
+	var l store.RunLog
+	var err error
+	if parts := strings.Split(t.Name(), "/"); len(parts) > 1 && parts[1] == "postgres" {
+		l, err = postgres.Open(ctx, pgSchema(t, os.Getenv(postgresEnv)))
+	} else {
+		l, err = sqlite.Open(ctx, filepath.Join(t.TempDir(), "runs.db"))
+	}
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -83,7 +109,9 @@ func csrf(t *testing.T, c *http.Client, u string) string {
 	return m[1]
 }
 
-func TestRoutes(t *testing.T) {
+func TestRoutes(t *testing.T) { backends(t, testRoutes) }
+
+func testRoutes(t *testing.T) {
 	l, codes := testLog(t, 3)
 	srv, c := testServer(t, l, Config{})
 	tests := []struct {
@@ -129,7 +157,9 @@ func TestRoutes(t *testing.T) {
 
 // TestStaticTraversal asks for files outside the embedded assets with
 // the dots sent as they are (no client-side cleaning).
-func TestStaticTraversal(t *testing.T) {
+func TestStaticTraversal(t *testing.T) { backends(t, testStaticTraversal) }
+
+func testStaticTraversal(t *testing.T) {
 	l, _ := testLog(t, 1)
 	srv, _ := testServer(t, l, Config{})
 	for _, p := range []string{"/static/../../etc/passwd", "/static/%2e%2e/%2e%2e/etc/passwd", "/static/..%2f..%2fetc/passwd"} {
@@ -154,7 +184,9 @@ func notes(t *testing.T, l store.RunLog, code string) []store.Note {
 	return rec.Notes
 }
 
-func TestNotesCSRFAndEscaping(t *testing.T) {
+func TestNotesCSRFAndEscaping(t *testing.T) { backends(t, testNotesCSRFAndEscaping) }
+
+func testNotesCSRFAndEscaping(t *testing.T) {
 	l, codes := testLog(t, 1)
 	srv, c := testServer(t, l, Config{})
 	page := srv.URL + "/runs/" + codes[0]
@@ -197,7 +229,9 @@ func TestNotesCSRFAndEscaping(t *testing.T) {
 	}
 }
 
-func TestReadOnlyRefusesWrites(t *testing.T) {
+func TestReadOnlyRefusesWrites(t *testing.T) { backends(t, testReadOnlyRefusesWrites) }
+
+func testReadOnlyRefusesWrites(t *testing.T) {
 	l, codes := testLog(t, 1)
 	srv, c := testServer(t, l, Config{ReadOnly: true})
 	page := srv.URL + "/runs/" + codes[0]
@@ -221,7 +255,9 @@ func TestReadOnlyRefusesWrites(t *testing.T) {
 	}
 }
 
-func TestTokens(t *testing.T) {
+func TestTokens(t *testing.T) { backends(t, testTokens) }
+
+func testTokens(t *testing.T) {
 	l, _ := testLog(t, 1)
 	secret := strings.Repeat("ab12", 8) // MinTokenLength characters
 	srv, c := testServer(t, l, Config{Tokens: []Token{{Name: "ana", Secret: secret}}})
@@ -259,7 +295,9 @@ func (r *countingReader) Read(p []byte) (int, error) {
 	return len(p), nil
 }
 
-func TestUploadTooLarge(t *testing.T) {
+func TestUploadTooLarge(t *testing.T) { backends(t, testUploadTooLarge) }
+
+func testUploadTooLarge(t *testing.T) {
 	l, codes := testLog(t, 1)
 	const limit = 1 << 20
 	s, err := New(Config{Log: l, Files: t.TempDir(), MaxUpload: limit})

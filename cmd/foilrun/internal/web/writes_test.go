@@ -30,7 +30,9 @@ func outcomeValue(rec store.RunRecord, metric string) (store.Outcome, bool) {
 	return store.Outcome{}, false
 }
 
-func TestOutcomeAdded(t *testing.T) {
+func TestOutcomeAdded(t *testing.T) { backends(t, testOutcomeAdded) }
+
+func testOutcomeAdded(t *testing.T) {
 	l, codes := testLog(t, 1)
 	srv, c := testServer(t, l, Config{})
 	page := srv.URL + "/runs/" + codes[0]
@@ -79,7 +81,9 @@ func TestOutcomeAdded(t *testing.T) {
 // TestMicrographUploaded uploads a synthetic micrograph whose coverage is
 // known from its geometry (demolab.WriteMicrograph) and checks the
 // outcome, the attachments and that the page shows no server path.
-func TestMicrographUploaded(t *testing.T) {
+func TestMicrographUploaded(t *testing.T) { backends(t, testMicrographUploaded) }
+
+func testMicrographUploaded(t *testing.T) {
 	l, codes := testLog(t, 1)
 	files := t.TempDir()
 	srv, c := testServer(t, l, Config{Files: files})
