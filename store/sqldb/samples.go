@@ -43,7 +43,7 @@ func (s *DB) Samples(ctx context.Context, f store.Filter, metric string, params 
 		fmt.Fprintf(&from, " LEFT JOIN run_summary_extra x%d ON x%d.name = ? AND x%d.run_id = su.run_id", i, i, i)
 		args = append(args, p)
 	}
-	if len(f.Where) > 0 {
+	if len(f.Where) > 0 || len(f.Codes) > 0 {
 		from.WriteString(" JOIN runs r ON r.id = su.run_id")
 	}
 	w, wargs, err := s.whereSummary(ctx, s.db, f, has)

@@ -84,7 +84,7 @@ const postgresEnv = "FOILRUN_TEST_POSTGRES"
 
 // pgSchema creates an empty schema in the database at base, dropped when
 // the test ends, and returns the URL that works in it.
-func pgSchema(t *testing.T, base string) string {
+func pgSchema(t testing.TB, base string) string {
 	t.Helper()
 	b := make([]byte, 6)
 	rand.Read(b)
