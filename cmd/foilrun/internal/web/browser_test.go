@@ -53,13 +53,17 @@ func TestBrowser(t *testing.T) {
 		}
 		t.Skipf("no browser at %s: install Debian's chromium to run the browser test", chromiumPath)
 	}
+	root := startBrowser(t)
+	// The back ends walk one after the other, each in a tab of its own:
+	// a background tab does not take typed keys, so they cannot share the
+	// browser in parallel.
 	t.Run("sqlite", func(t *testing.T) {
 		log, err := sqlite.Open(context.Background(), filepath.Join(t.TempDir(), "browser.db"))
 		if err != nil {
 			t.Fatal(err)
 		}
 		t.Cleanup(func() { log.Close() })
-		walkPages(t, log)
+		walkPages(t, root, log)
 	})
 	t.Run("postgres", func(t *testing.T) {
 		u := os.Getenv(postgresEnv)
@@ -74,7 +78,7 @@ func TestBrowser(t *testing.T) {
 			t.Fatal(err)
 		}
 		t.Cleanup(func() { log.Close() })
-		walkPages(t, log)
+		walkPages(t, root, log)
 	})
 }
 
@@ -113,8 +117,8 @@ func pgSchema(t testing.TB, base string) string {
 }
 
 // walkPages serves log, seeded with the demo runs, and walks the pages in
-// a fresh Chromium.
-func walkPages(t *testing.T, log store.RunLog) {
+// a new tab of the browser root.
+func walkPages(t *testing.T, root context.Context, log store.RunLog) {
 	dir := t.TempDir()
 	paths, err := demolab.Lay(dir)
 	if err != nil {
@@ -134,7 +138,7 @@ func walkPages(t *testing.T, log store.RunLog) {
 	} else if shots = filepath.Join(shots, path.Base(t.Name())); os.MkdirAll(shots, 0o755) != nil {
 		t.Fatalf("cannot make the screenshot directory %s", shots)
 	}
-	b := &browser{t: t, ctx: startBrowser(t, hs.URL+"/runs"), base: hs.URL, shots: shots}
+	b := &browser{t: t, ctx: openTab(t, root, hs.URL+"/runs"), base: hs.URL, shots: shots}
 
 	b.runList()
 	b.runPage(code, filepath.Join(dir, "micrograph.png"))
@@ -193,10 +197,11 @@ func seedBrowserLog(t *testing.T, log store.RunLog, paths demolab.Paths) string 
 	return rec.Code
 }
 
-// startBrowser starts Chromium on its first page and stops it when the
-// test ends. The first call has no timeout: a timeout there would stop
-// the whole browser.
-func startBrowser(t *testing.T, first string) context.Context {
+// startBrowser starts one Chromium for the whole test and stops it when
+// the test ends; each back end's walk opens a tab of its own in it
+// (openTab). The start has no timeout: a timeout there would stop the
+// whole browser.
+func startBrowser(t *testing.T) context.Context {
 	t.Helper()
 	opts := append(chromedp.DefaultExecAllocatorOptions[:],
 		chromedp.ExecPath(chromiumPath), chromedp.NoSandbox, chromedp.WindowSize(1280, 900),
@@ -209,10 +214,22 @@ func startBrowser(t *testing.T, first string) context.Context {
 	actx, cancelAlloc := chromedp.NewExecAllocator(context.Background(), opts...)
 	bctx, cancelBrowser := chromedp.NewContext(actx)
 	t.Cleanup(func() { cancelBrowser(); cancelAlloc() })
-	if err := chromedp.Do(bctx, chromedp.Navigate(first)); err != nil {
-		t.Fatalf("start %s on %s: %v", chromiumPath, first, err)
+	if err := chromedp.Do(bctx, chromedp.Navigate("about:blank")); err != nil {
+		t.Fatalf("start %s: %v", chromiumPath, err)
 	}
 	return bctx
+}
+
+// openTab opens a new tab of the browser on its first page, closed when
+// the (sub)test ends.
+func openTab(t *testing.T, browser context.Context, first string) context.Context {
+	t.Helper()
+	tctx, cancel := chromedp.NewContext(browser)
+	t.Cleanup(cancel)
+	if err := chromedp.Do(tctx, chromedp.Navigate(first)); err != nil {
+		t.Fatalf("open %s in a new tab: %v", first, err)
+	}
+	return tctx
 }
 
 // browser is the test's browser tab and where its screenshots go.
