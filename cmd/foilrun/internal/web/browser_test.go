@@ -356,8 +356,9 @@ func (b *browser) runList() {
 	}
 	b.shot("runs")
 	const where = "growth_temperature_c >= 1000"
-	b.do("filter "+where,
+	b.do("filter "+where+" with a coverage column",
 		chromedp.SetValue("#where", where),
+		chromedp.Click(`input[name="metric"][value="coverage"]`),
 		chromedp.Click("#apply"),
 		chromedp.WaitVisible("#runs"),
 		chromedp.WaitReady(`#where[value="growth_temperature_c >= 1000"]`))
@@ -368,6 +369,9 @@ func (b *browser) runList() {
 	after := b.text("#count")
 	if want := fmt.Sprintf("%d shown · %d matching", rows, rows); !strings.Contains(after, want) {
 		b.t.Errorf("#count after the filter reads %q, want it to contain %q", after, want)
+	}
+	if head := b.text("#runs thead"); !strings.Contains(head, "coverage") {
+		b.t.Errorf("the filtered list's header reads %q, want a coverage column", head)
 	}
 	b.shot("runs-filtered")
 	b.do("clear the filter", chromedp.Navigate(b.base+"/runs"), chromedp.WaitVisible("#runs"))

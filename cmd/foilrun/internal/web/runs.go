@@ -127,6 +127,9 @@ func (d *runsData) chooseMetrics(names []store.Name) error {
 		if !ok {
 			return fmt.Errorf("metric %q: the log holds no such metric; choose among the checkboxes", c)
 		}
+		if u == "1" { // a fraction: the header needs no unit
+			u = ""
+		}
 		d.Units = append(d.Units, u)
 	}
 	return nil

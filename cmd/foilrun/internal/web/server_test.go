@@ -122,7 +122,7 @@ func testRoutes(t *testing.T) {
 		{"runs", "GET", "/runs", 200, codes[2]},
 		{"root goes to runs", "GET", "/", 303, ""},
 		{"runs filtered", "GET", "/runs?where=" + url.QueryEscape("growth_temperature_c >= 900"), 200, codes[0]},
-		{"metric columns with a filter", "GET", "/runs?metric=coverage&where=" + url.QueryEscape("growth_temperature_c >= 900"), 200, `<th class="num">coverage`},
+		{"metric columns with a filter", "GET", "/runs?metric=coverage&where=" + url.QueryEscape("growth_temperature_c >= 900"), 200, `<th class="num">coverage</th>`},
 		{"where error with its column", "GET", "/runs?where=" + url.QueryEscape("coverage >"), 400, "column"},
 		{"csv download", "GET", "/runs.csv", 200, codes[1]},
 		{"json download", "GET", "/runs.json", 200, `"` + codes[1] + `"`},
