@@ -85,7 +85,8 @@ func New(cfg Config) (*Server, error) {
 	return s, nil
 }
 
-// parsePages parses every page of pages/ together with the layout, one
+// parsePages parses every page of pages/ together with the layout and the
+// shared pieces (pages/partial_*.html), one
 // template set per page, named by its file name without .html.
 func parsePages() (map[string]*template.Template, error) {
 	names, err := fs.Glob(pageFiles, "pages/*.html")
@@ -95,10 +96,10 @@ func parsePages() (map[string]*template.Template, error) {
 	out := map[string]*template.Template{}
 	for _, n := range names {
 		page := strings.TrimSuffix(path.Base(n), ".html")
-		if page == "layout" {
+		if page == "layout" || strings.HasPrefix(page, "partial_") {
 			continue
 		}
-		t, err := template.New("layout.html").Funcs(funcs).ParseFS(pageFiles, "pages/layout.html", n)
+		t, err := template.New("layout.html").Funcs(funcs).ParseFS(pageFiles, "pages/layout.html", "pages/partial_*.html", n)
 		if err != nil {
 			return nil, fmt.Errorf("page %s: %w", page, err)
 		}
@@ -122,6 +123,7 @@ func (s *Server) Handler() http.Handler {
 	mux.HandleFunc("GET /runs.csv", s.runsDownload)
 	mux.HandleFunc("GET /runs.json", s.runsDownload)
 	s.runRoutes(mux)
+	s.analysisRoutes(mux)
 	return s.logged(secured(s.authenticated(s.themedMisses(mux))))
 }
 
@@ -173,9 +175,8 @@ type navItem struct {
 	Current    bool
 }
 
-// nav lists only pages that exist: the analysis pages (best, rank, fit,
-// window) are not served yet.
-var nav = []navItem{{"Runs", "/runs", false}}
+// nav is the nav bar: every page a person starts from.
+var nav = []navItem{{"Runs", "/runs", false}, {"Best settings", "/best", false}, {"Rank", "/rank", false}}
 
 // render executes pages/layout.html with pages/<page>.html, whose
 // {{define "content"}} fills the page, and writes it with status. The

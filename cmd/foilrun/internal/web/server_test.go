@@ -123,7 +123,7 @@ func testRoutes(t *testing.T) {
 		{"root goes to runs", "GET", "/", 303, ""},
 		{"runs filtered", "GET", "/runs?where=" + url.QueryEscape("growth_temperature_c >= 900"), 200, codes[0]},
 		{"metric columns with a filter", "GET", "/runs?metric=coverage&where=" + url.QueryEscape("growth_temperature_c >= 900"), 200, `<th class="num">coverage</th>`},
-		{"where error with its column", "GET", "/runs?where=" + url.QueryEscape("coverage >"), 400, "column"},
+		{"where error with its column", "GET", "/runs?where=" + url.QueryEscape("coverage >"), 400, `id="where-error">where &#34;coverage &gt;&#34;: col 11:`},
 		{"csv download", "GET", "/runs.csv", 200, codes[1]},
 		{"json download", "GET", "/runs.json", 200, `"` + codes[1] + `"`},
 		{"one run", "GET", "/runs/" + codes[0], 200, "<h1>" + codes[0]},
