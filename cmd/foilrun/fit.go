@@ -5,7 +5,6 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"sort"
 	"strings"
 	"time"
 
@@ -489,35 +488,9 @@ func printFit(w io.Writer, r fitResultJSON) error {
 // (coverage in %, nuclei density per mm²), with the line of equality,
 // into path through the guard.
 func writeParity(path string, g outfile.Guard, res *kinetics.FitResult) error {
-	panels := map[string]*chart.ParityPanel{}
-	var names []string
-	for _, r := range res.Residuals {
-		pn := panels[r.Metric]
-		if pn == nil {
-			pn = &chart.ParityPanel{Quantity: r.Metric}
-			switch r.Metric {
-			case "coverage":
-				pn.Quantity, pn.Range = "coverage (%)", [2]float64{0, 100}
-			case "nuclei_density":
-				pn.Quantity = "nuclei density (1/mm²)"
-			}
-			panels[r.Metric] = pn
-			names = append(names, r.Metric)
-		}
-		unit := "%" // coverage, a fraction
-		if r.Metric == "nuclei_density" {
-			unit = "1/mm2"
-		}
-		pn.Measured = append(pn.Measured, inUnit(r.Measured, unit))
-		pn.Predicted = append(pn.Predicted, inUnit(r.Predicted, unit))
-	}
-	if len(names) == 0 {
+	fig, ok := chart.FitParity(res.Residuals)
+	if !ok {
 		return nil
-	}
-	sort.Strings(names)
-	fig := chart.Parity{Title: fmt.Sprintf("fit of %d measurements: predicted against measured", len(res.Residuals))}
-	for _, n := range names {
-		fig.Panels = append(fig.Panels, *panels[n])
 	}
 	return writeOutput(path, g, func(w io.Writer) error { return chart.WriteParity(w, path, fig) })
 }

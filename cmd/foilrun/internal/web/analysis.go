@@ -29,6 +29,8 @@ func (s *Server) analysisRoutes(mux *http.ServeMux) {
 	mux.HandleFunc("GET /best", s.bestPage)
 	mux.HandleFunc("GET /best.svg", s.bestSVG)
 	mux.HandleFunc("GET /rank", s.rankPage)
+	mux.HandleFunc("GET /fit", s.fitPage)
+	mux.HandleFunc("GET /fit/parity.svg", s.fitParity)
 }
 
 // badRequest is a request whose parameters the page refuses: 400 with the

@@ -3,15 +3,18 @@ package web
 import (
 	"context"
 	"encoding/xml"
+	"html"
 	"errors"
 	"io"
 	"net/http"
+	"net/http/httptest"
 	"net/url"
 	"regexp"
 	"strconv"
 	"strings"
 	"testing"
 
+	"github.com/foilrun/foilrun/cmd/foilrun/internal/chart"
 	"github.com/foilrun/foilrun/cmd/foilrun/internal/lab"
 	"github.com/foilrun/foilrun/store"
 )
@@ -86,7 +89,7 @@ func tableRows(t *testing.T, page string) [][]string {
 	for _, r := range rowRe.FindAllStringSubmatch(m[1], -1) {
 		var cells []string
 		for _, c := range cellRe.FindAllStringSubmatch(r[1], -1) {
-			cells = append(cells, c[1])
+			cells = append(cells, html.UnescapeString(c[1]))
 		}
 		out = append(out, cells)
 	}
@@ -179,3 +182,13 @@ func testRankTableIsTheLibrarys(t *testing.T) {
 		}
 	}
 }
+
+// serve answers a GET of path through h and returns the status.
+func serve(h http.Handler, path string) int {
+	w := httptest.NewRecorder()
+	h.ServeHTTP(w, httptest.NewRequest("GET", path, nil))
+	return w.Code
+}
+
+// formatValue is how the analysis pages write a number.
+func formatValue(v float64) string { return chart.FormatValue(v) }
