@@ -3,8 +3,8 @@ package web
 import (
 	"context"
 	"encoding/xml"
-	"html"
 	"errors"
+	"html"
 	"io"
 	"net/http"
 	"net/http/httptest"
