@@ -193,7 +193,7 @@ func (s *Server) bestSVG(w http.ResponseWriter, r *http.Request) {
 	for _, sm := range pk.Samples {
 		m.Points = append(m.Points, chart.MapPoint{X: sm.Params[0], Y: sm.Params[1]})
 	}
-	m.Title = fmt.Sprintf("mean %s by %s and %s, %d runs (%s)", b.metric, b.by[0], b.by[1], bt.Runs, pk.Line())
+	m.Title = fmt.Sprintf("mean %s, %d runs", b.metric, bt.Runs)
 	s.writeSVG(w, r, func(out io.Writer) error { return chart.WriteHeatMap(out, "best.svg", m) })
 }
 
