@@ -1,5 +1,7 @@
 package recipe
 
+import "slices"
+
 // Prefix is the first steps of a derived and checked plan, kept so that
 // recipes differing from its recipe only from step K on (a process window
 // varies the grow step) can be derived and checked without redoing those
@@ -71,15 +73,22 @@ func (px *Prefix) Step() int { return px.k }
 // and be equal to it in every field Derive reads except in steps K and
 // later; Derive panics if the step counts differ.
 func (px *Prefix) Derive(r *Recipe) *Plan {
+	p := px.plan(r, "Prefix.Derive")
+	p.deriveFrom(px.k, px.state)
+	return p
+}
+
+// plan is a plan of r with the prefix's steps copied, pointing into r. It
+// panics, naming the caller, if r has a different number of steps.
+func (px *Prefix) plan(r *Recipe, caller string) *Plan {
 	if len(r.Steps) != len(px.base.Steps) {
-		panic("recipe: Prefix.Derive: the recipe has a different number of steps")
+		panic("recipe: " + caller + ": the recipe has a different number of steps")
 	}
 	p := &Plan{Recipe: r, Furnace: px.base.Furnace, Site: px.base.Site, Steps: make([]StepPlan, len(r.Steps))}
 	copy(p.Steps, px.base.Steps[:px.k])
 	for i := range px.k {
 		p.Steps[i].Step = &r.Steps[i]
 	}
-	p.deriveFrom(px.k, px.state)
 	return p
 }
 
@@ -87,6 +96,14 @@ func (px *Prefix) Derive(r *Recipe) *Plan {
 // kept findings of the steps before K, the checks of steps K… run on p,
 // then the checks of the whole plan, sorted as Check sorts them.
 func (px *Prefix) Check(p *Plan) []Finding {
+	c := px.checker(p)
+	c.steps(px.k, len(p.Steps))
+	return c.finish()
+}
+
+// checker is a checker of plan p that holds the kept findings of the
+// steps before K.
+func (px *Prefix) checker(p *Plan) *checker {
 	c := &checker{p: p, f: p.Furnace, fs: make([]Finding, len(px.fs), len(px.fs)+8)}
 	copy(c.fs, px.fs)
 	for sev, idx := range px.melt {
@@ -94,6 +111,101 @@ func (px *Prefix) Check(p *Plan) []Finding {
 			c.melt[sev] = append(c.melt[sev], &p.Steps[i])
 		}
 	}
-	c.steps(px.k, len(p.Steps))
-	return c.finish()
+	return c
+}
+
+// Deriver derives and checks recipes that differ from a Prefix's recipe
+// only in step K (a window's grow step), and remembers the steps after K:
+// a step after K whose inputs are the same as at an earlier call gets the
+// plan and findings it got then instead of being derived and checked
+// again. The inputs of step i are, by deriveStep and the checks of one
+// step (see Prefix): the recipe's step i (unchanged), the temperature and
+// valve state the steps before leave, and the pressure of step i−1 for the
+// kinds readsPrevPressure names; the start time only shifts Start. The
+// checks of the whole plan run every time. A Deriver is not safe for
+// concurrent use: make one per goroutine.
+type Deriver struct {
+	px   *Prefix
+	memo map[stepKey]*stepMemo
+}
+
+// stepKey is what the plan and the one-step findings of a step after K
+// depend on.
+type stepKey struct {
+	i     int
+	T     float64 // K the step starts at
+	v     valve   // before the step
+	prevP float64 // Pa; 0 where the kind does not read it
+}
+
+// stepMemo is a remembered step: its plan (Start and Step are set again
+// on use), the valve state after it, its findings and whether it is near
+// copper's melting point ([0] warning, [1] error).
+type stepMemo struct {
+	plan StepPlan
+	v    valve
+	fs   []Finding
+	melt [2]bool
+}
+
+// maxMemo bounds a Deriver's memory: past this many remembered steps it
+// forgets them all and starts again.
+const maxMemo = 1 << 14
+
+// NewDeriver returns a Deriver over the prefix.
+func (px *Prefix) NewDeriver() *Deriver {
+	return &Deriver{px: px, memo: make(map[stepKey]*stepMemo)}
+}
+
+// DeriveCheck returns what Derive(r, furnace) and then Check give, with the
+// plan's Site the prefix plan's. r must equal the prefix's recipe except in
+// step K; it panics if the step counts differ. The plans of the steps
+// before K and of remembered steps share their Flows with other plans:
+// they must not be written.
+func (d *Deriver) DeriveCheck(r *Recipe) (*Plan, []Finding) {
+	px := d.px
+	p := px.plan(r, "Deriver.DeriveCheck")
+	c := px.checker(p)
+	st := px.state
+	for i := px.k; i < len(p.Steps); i++ {
+		if i == px.k {
+			p.deriveStep(i, &st)
+			c.steps(i, i+1)
+			continue
+		}
+		d.step(c, i, &st)
+	}
+	p.Total = st.t
+	return p, c.finish()
+}
+
+// step derives and checks step i after K from the state st, or takes it
+// from the memo.
+func (d *Deriver) step(c *checker, i int, st *deriveState) {
+	p := c.p
+	key := stepKey{i: i, T: st.T, v: st.v}
+	if readsPrevPressure(p.Recipe.Steps[i].Kind) {
+		key.prevP = p.prevPressure(i)
+	}
+	if m, ok := d.memo[key]; ok {
+		sp := &p.Steps[i]
+		*sp = m.plan
+		sp.Start, sp.Step = st.t, &p.Recipe.Steps[i]
+		st.T, st.t, st.v = sp.T1, st.t+sp.Duration, m.v
+		c.fs = append(c.fs, m.fs...)
+		for sev, near := range m.melt {
+			if near {
+				c.melt[sev] = append(c.melt[sev], sp)
+			}
+		}
+		return
+	}
+	nfs, nmelt := len(c.fs), [2]int{len(c.melt[0]), len(c.melt[1])}
+	p.deriveStep(i, st)
+	c.steps(i, i+1)
+	if len(d.memo) >= maxMemo {
+		clear(d.memo)
+	}
+	d.memo[key] = &stepMemo{plan: p.Steps[i], v: st.v, fs: slices.Clone(c.fs[nfs:]),
+		melt: [2]bool{len(c.melt[0]) > nmelt[0], len(c.melt[1]) > nmelt[1]}}
 }

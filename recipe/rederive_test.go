@@ -120,3 +120,34 @@ func firstDifference(got, want string) string {
 	from := max(0, i-120)
 	return fmt.Sprintf("at byte %d:\ngot  …%.240s\nwant …%.240s", i, got[from:], want[from:])
 }
+
+// A Deriver over the prefix up to the grow step gives exactly what Derive
+// and Check give (compared as in TestPrefixMatchesDerive), the first time
+// a step after the grow step is seen and when it comes from the memo: every
+// edit is made twice, in two rounds.
+func TestDeriverMatchesDerive(t *testing.T) {
+	for _, name := range []string{"lowpressure", "atmospheric", "largedomain"} {
+		base := loadTemplatePlan(t, name)
+		grow := base.Recipe.FirstStep(KindGrow)
+		d := NewPrefix(base, grow).NewDeriver()
+		for round := range 2 {
+			for _, e := range growEdits {
+				r := *base.Recipe
+				r.Steps = append([]Step(nil), base.Recipe.Steps...)
+				e.edit(&r.Steps[grow])
+				want := Derive(&r, base.Furnace)
+				got, fs := d.DeriveCheck(&r)
+				where := fmt.Sprintf("%s, round %d, %s", name, round+1, e.name)
+				if g, w := fmt.Sprintf("%#v", *got), fmt.Sprintf("%#v", *want); g != w {
+					t.Errorf("%s: plans differ: %s", where, firstDifference(g, w))
+				}
+				if g, w := fmt.Sprintf("%#v", fs), fmt.Sprintf("%#v", Check(want)); g != w {
+					t.Errorf("%s: findings differ: %s", where, firstDifference(g, w))
+				}
+			}
+		}
+		if len(d.memo) == 0 {
+			t.Errorf("%s: got an empty memo after %d recipes", name, 2*len(growEdits))
+		}
+	}
+}
