@@ -195,10 +195,12 @@ type Map struct {
 }
 
 // Window maps predictions over two grow-step parameters of the plan's
-// recipe. For every grid point it copies the recipe with the first grow
-// step changed, lays it out again with recipe.Derive, checks it with
-// recipe.Check (an error finding makes the point infeasible; it is still
-// predicted) and predicts it. It returns an error (wrapping ErrAxis) for two
+// recipe. Every grid point is the recipe with the first grow step changed,
+// laid out again as recipe.Derive would, checked as recipe.Check would (an
+// error finding makes the point infeasible; it is still predicted) and
+// predicted as Predict would, with exactly their results; the steps
+// before the grow step are derived, checked and predicted once for the
+// whole map (see windowBase). It returns an error (wrapping ErrAxis) for two
 // axes on the same parameter or a range outside the furnace's limits, and
 // an error when the recipe has no grow step or the parameters are invalid.
 // It panics if plan, plan.Recipe or plan.Furnace is nil.
@@ -227,7 +229,11 @@ func Window(plan *recipe.Plan, spec WindowSpec) (*Map, error) {
 	for iy := range m.Points {
 		m.Points[iy] = make([]Point, len(m.Xs))
 	}
-	if err := m.fill(r, f, grow, spec); err != nil {
+	base, err := newWindowBase(r, f, grow, spec)
+	if err != nil {
+		return nil, err
+	}
+	if err := m.fill(base, spec); err != nil {
 		return nil, err
 	}
 	return m, nil
@@ -235,7 +241,7 @@ func Window(plan *recipe.Plan, spec WindowSpec) (*Map, error) {
 
 // fill predicts every point of the map on spec.Workers goroutines and
 // returns the first error.
-func (m *Map) fill(r *recipe.Recipe, f *recipe.Furnace, grow int, spec WindowSpec) error {
+func (m *Map) fill(base *windowBase, spec WindowSpec) error {
 	total := len(m.Xs) * len(m.Ys)
 	workers := spec.Workers
 	if workers <= 0 {
@@ -253,9 +259,10 @@ func (m *Map) fill(r *recipe.Recipe, f *recipe.Furnace, grow int, spec WindowSpe
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
+			d := base.prefix.NewDeriver()
 			for k := range jobs {
 				iy, ix := k/len(m.Xs), k%len(m.Xs)
-				pt, err := windowPoint(r, f, grow, spec, m.Xs[ix], m.Ys[iy])
+				pt, err := base.point(d, m.Xs[ix], m.Ys[iy])
 				m.Points[iy][ix] = pt
 				mu.Lock()
 				if err != nil && firstErr == nil {
@@ -275,30 +282,6 @@ func (m *Map) fill(r *recipe.Recipe, f *recipe.Furnace, grow int, spec WindowSpe
 	close(jobs)
 	wg.Wait()
 	return firstErr
-}
-
-// windowPoint predicts one grid point on a copy of the recipe.
-func windowPoint(base *recipe.Recipe, f *recipe.Furnace, grow int, spec WindowSpec, x, y float64) (Point, error) {
-	r := *base
-	r.Steps = append([]recipe.Step(nil), base.Steps...)
-	s := &r.Steps[grow]
-	setParam(s, spec.X, x)
-	setParam(s, spec.Y, y)
-	plan := recipe.Derive(&r, f)
-	pt := Point{X: x, Y: y, Feasible: true}
-	for _, fd := range recipe.Check(plan) {
-		if fd.Severity == recipe.Error {
-			pt.Feasible, pt.Rule, pt.Message = false, fd.Rule, fd.Message
-			break
-		}
-	}
-	res, err := Predict(plan, spec.Params, spec.Options)
-	if err != nil {
-		return pt, err
-	}
-	pt.Coverage, pt.NucleiDensity, pt.DomainSize, pt.T99 = res.Coverage, res.NucleiDensity, res.DomainSize, res.T99
-	pt.Etching = res.Steps[grow].Etching
-	return pt, nil
 }
 
 // setParam sets one axis value on the (copied) grow step; a gas flow gets a

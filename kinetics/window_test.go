@@ -2,9 +2,12 @@ package kinetics
 
 import (
 	"errors"
+	"fmt"
 	"math"
 	"strings"
 	"testing"
+
+	"github.com/foilrun/foilrun/recipe"
 )
 
 func TestParseAxis(t *testing.T) {
@@ -153,5 +156,74 @@ func TestWindowFeasibility(t *testing.T) {
 	again, _ := Predict(plan, DefaultParams(), Options{})
 	if base.NucleiDensity != again.NucleiDensity || math.Abs(m.Points[2][1].NucleiDensity-base.NucleiDensity) == 0 {
 		t.Errorf("base recipe changed by the window: N %g vs %g", again.NucleiDensity, base.NucleiDensity)
+	}
+}
+
+// slowPoint is the reference for a window point: the whole changed recipe
+// derived with recipe.Derive, checked with recipe.Check and predicted with
+// Predict, as Window did before it kept the steps before the grow step.
+func slowPoint(t *testing.T, plan *recipe.Plan, spec WindowSpec, x, y float64) (*recipe.Plan, []recipe.Finding, Result) {
+	t.Helper()
+	grow := plan.Recipe.FirstStep(recipe.KindGrow)
+	r := *plan.Recipe
+	r.Steps = append([]recipe.Step(nil), plan.Recipe.Steps...)
+	setParam(&r.Steps[grow], spec.X, x)
+	setParam(&r.Steps[grow], spec.Y, y)
+	p := recipe.Derive(&r, plan.Furnace)
+	res, err := Predict(p, spec.Params, spec.Options)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return p, recipe.Check(p), res
+}
+
+// Every cell of a window gives exactly the plan, findings and prediction of
+// the slow path (slowPoint), for the three templates and a grid over each
+// parameter --vary takes, inside and at the edges of the template furnace's
+// limits (templates/furnace.yaml). Exactly: %#v prints every float64 in its
+// shortest form that reads back to the same bits (strconv 'g', −1), so
+// equal text is equal values (==, NaN as NaN); the plans' Step pointers
+// point into different recipe copies, so the steps are compared by value.
+func TestWindowMatchesSlowPath(t *testing.T) {
+	axes := []string{
+		"temperature=950C:1075C:6", "duration=1min:600min:5", "pressure=1Torr:1atm:5",
+		"CH4=0.2sccm:36sccm:5", "H2=0sccm:200sccm:5",
+	}
+	for _, name := range []string{"lowpressure", "atmospheric", "largedomain"} {
+		plan := loadTemplate(t, name)
+		grow := plan.Recipe.FirstStep(recipe.KindGrow)
+		for i, xs := range axes {
+			spec := WindowSpec{X: mustAxis(t, xs), Y: mustAxis(t, axes[(i+1)%len(axes)]), Params: DefaultParams()}
+			base, err := newWindowBase(plan.Recipe, plan.Furnace, grow, spec)
+			if err != nil {
+				t.Fatal(err)
+			}
+			d := base.prefix.NewDeriver()
+			for _, y := range spec.Y.Values() {
+				for _, x := range spec.X.Values() {
+					where := fmt.Sprintf("%s, %s=%g, %s=%g", name, spec.X.Param, x, spec.Y.Param, y)
+					wp, wfs, wres := slowPoint(t, plan, spec, x, y)
+					gp, gfs, gres, err := base.evaluate(d, x, y)
+					if err != nil {
+						t.Fatalf("%s: %v", where, err)
+					}
+					for j := range gp.Steps {
+						if g, w := fmt.Sprintf("%#v", *gp.Steps[j].Step), fmt.Sprintf("%#v", *wp.Steps[j].Step); g != w {
+							t.Errorf("%s: step %d differs:\ngot  %s\nwant %s", where, j, g, w)
+						}
+						gp.Steps[j].Step, wp.Steps[j].Step = nil, nil
+					}
+					gp.Recipe, wp.Recipe = nil, nil
+					for _, c := range []struct {
+						what      string
+						got, want any
+					}{{"plan", *gp, *wp}, {"findings", gfs, wfs}, {"prediction", gres, wres}} {
+						if g, w := fmt.Sprintf("%#v", c.got), fmt.Sprintf("%#v", c.want); g != w {
+							t.Errorf("%s: %s differs:\ngot  %.300s\nwant %.300s", where, c.what, g, w)
+						}
+					}
+				}
+			}
+		}
 	}
 }
