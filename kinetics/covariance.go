@@ -1,10 +1,10 @@
 package kinetics
 
 import (
+	"cmp"
 	"fmt"
 	"math"
 	"slices"
-	"sort"
 	"strings"
 
 	"gonum.org/v1/gonum/mat"
@@ -50,7 +50,7 @@ func (f *fitter) result(x []float64) *FitResult {
 	res.Params.Bounds = f.usedBounds()
 	res.Params.CoverageOnly = f.unidentified != [nFit]bool{}
 	res.Params.Source = fmt.Sprintf("fit of %d runs (%d measurements, %d free parameters), %s", len(f.obs), n, p, f.status)
-	res.Residuals = f.residualList(res.Params, r)
+	res.Residuals = f.residualList(x, r)
 	if f.status != Converged {
 		f.warn("the fit did not converge (%s after %d iterations); the estimates are the best point reached", f.status, f.iters)
 	}
@@ -339,24 +339,47 @@ func (f *fitter) storedCovariance(p Params, cv *mat.Dense) *Covariance {
 	return c
 }
 
-// residualList returns each measurement against its prediction with p,
-// worst (largest weighted residual) first.
-func (f *fitter) residualList(p Params, r []float64) []Residual {
-	var out []Residual
-	for k, row := range f.rows {
-		o := f.all[row.obs]
-		theta, N := o.Prepared.Evaluate(p)
+// residualList returns each measurement against its prediction at x,
+// worst (largest weighted residual) first, ties in row order. The
+// predictions are the model values the fit already holds at x (see
+// values); the order comes from sorting (|weighted|, row) keys, not the
+// residual records.
+func (f *fitter) residualList(x, r []float64) []Residual {
+	vals := f.values(x, true)
+	pos := make([]int, len(f.rows)) // row → used-observation position
+	for k, rows := range f.idx {
+		for _, i := range rows {
+			if i >= 0 {
+				pos[i] = k
+			}
+		}
+	}
+	type key struct {
+		abs float64
+		row int
+	}
+	keys := make([]key, len(f.rows))
+	for i := range keys {
+		keys[i] = key{math.Abs(r[i]), i}
+	}
+	slices.SortFunc(keys, func(a, b key) int {
+		if c := cmp.Compare(b.abs, a.abs); c != 0 {
+			return c
+		}
+		return cmp.Compare(a.row, b.row)
+	})
+	out := make([]Residual, len(keys))
+	for n, kk := range keys {
+		k, row := kk.row, f.rows[kk.row]
+		o, rv := f.all[row.obs], vals[pos[k]]
 		rr := Residual{Label: o.Label, Weighted: r[k]}
 		if row.density {
-			rr.Metric, rr.Measured, rr.Predicted, rr.Raw = MetricNucleiDensity, o.NucleiDensity, N, r[k]*f.sd
+			rr.Metric, rr.Measured, rr.Predicted, rr.Raw = MetricNucleiDensity, o.NucleiDensity, rv.N, r[k]*f.sd
 		} else {
-			rr.Metric, rr.Measured, rr.Predicted, rr.Raw = MetricCoverage, o.Coverage, theta, r[k]*f.sc
+			rr.Metric, rr.Measured, rr.Predicted, rr.Raw = MetricCoverage, o.Coverage, -math.Expm1(-rv.X), r[k]*f.sc
 		}
-		out = append(out, rr)
+		out[n] = rr
 	}
-	sort.SliceStable(out, func(i, j int) bool {
-		return math.Abs(out[i].Weighted) > math.Abs(out[j].Weighted)
-	})
 	return out
 }
 

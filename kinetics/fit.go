@@ -4,7 +4,6 @@ import (
 	"fmt"
 	"math"
 	"runtime"
-	"slices"
 	"strings"
 
 	"github.com/foilrun/foilrun/recipe"
@@ -393,7 +392,7 @@ func (f *fitter) solve() *FitResult {
 			f.sd = 1
 		}
 	}
-	x := f.minimize(slices.Clone(f.x0))
+	x := f.minimize(f.startPoint())
 	if twoStage {
 		var sc, sd float64
 		nc, nd := f.rowCounts()

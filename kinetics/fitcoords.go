@@ -1,9 +1,6 @@
 package kinetics
 
-import (
-	"math"
-	"sort"
-)
+import "math"
 
 // The minimiser does not move the parameter vector v itself but a few
 // coordinates x, each a linear function of v,
@@ -78,12 +75,57 @@ func (f *fitter) referenceTemperature() float64 {
 		lo, hi := f.all[k].Prepared.CarbonTemperatures()
 		ts = append(ts, (lo+hi)/2)
 	}
-	sort.Float64s(ts)
-	n := len(ts)
+	return selectMedian(ts)
+}
+
+// selectMedian returns the median of xs, the mean of the two middle values for
+// an even count, reordering xs: a selection of the middle (Hoare's FIND,
+// expected O(n)), not a full sort. It panics on an empty slice.
+//
+// References: C. A. R. Hoare, "Algorithm 65: Find", Comm. ACM 4, 321
+// (1961) (from memory).
+func selectMedian(xs []float64) float64 {
+	n := len(xs)
+	hi := nth(xs, n/2)
 	if n%2 == 1 {
-		return ts[n/2]
+		return hi
 	}
-	return (ts[n/2-1] + ts[n/2]) / 2
+	lo := xs[0] // the lower middle: the largest of those before n/2
+	for _, x := range xs[1 : n/2] {
+		lo = math.Max(lo, x)
+	}
+	return (lo + hi) / 2
+}
+
+// nth reorders xs so that xs[k] holds the value a sort would put there,
+// nothing larger before it and nothing smaller after it, and returns it.
+func nth(xs []float64, k int) float64 {
+	lo, hi := 0, len(xs)-1
+	for lo < hi {
+		p := xs[lo+(hi-lo)/2]
+		i, j := lo, hi
+		for i <= j {
+			for xs[i] < p {
+				i++
+			}
+			for xs[j] > p {
+				j--
+			}
+			if i <= j {
+				xs[i], xs[j] = xs[j], xs[i]
+				i, j = i+1, j-1
+			}
+		}
+		switch { // xs[lo..j] ≤ p ≤ xs[i..hi], and xs[j+1..i-1] = p
+		case k <= j:
+			hi = j
+		case k >= i:
+			lo = i
+		default:
+			return xs[k]
+		}
+	}
+	return xs[k]
 }
 
 func unit(i int) fitVec {
@@ -157,6 +199,7 @@ func (f *fitter) coordinates(coverageOnly bool) {
 		add(c)
 	}
 	f.coords = cs
+	f.slots = [2]valueSlot{} // values at x depend on the coordinates
 	f.x0 = make([]float64, len(cs))
 	f.base = f.v0
 	for j, c := range cs {

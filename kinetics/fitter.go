@@ -40,6 +40,10 @@ type fitter struct {
 	jac      *mat.Dense
 	damping  float64  // λ where the last minimisation ended; 0 before the first
 	idx      [][2]int // rows of each used observation
+	// slots hold the model at the last two points evaluated; pinned is
+	// the one of the last Jacobian (see values).
+	slots  [2]valueSlot
+	pinned int
 
 	// The coordinates the minimiser moves (see fitCoord): v = base +
 	// Σ x_j·coords[j].dir, started at x0, bounded by clo, chi.
@@ -78,6 +82,82 @@ func (f *fitter) vec(x []float64) fitVec {
 func (f *fitter) outputs(pr *Prepared, v *fitVec, iso []float64) (c, lnN float64) {
 	X, N := pr.final(v, iso, -1, math.NaN())
 	return f.clogX(X), math.Log(math.Max(N, 1))
+}
+
+// runValues are one run's model outputs at a point: the extended coverage
+// X and nuclei density N, their fit-scale forms c = ln clip(X) and
+// lnN = ln max(N, 1), and for a closed-form run (see closedForm)
+// dI = ∂ln N/∂ln I and dG = ∂ln N/∂ln G.
+type runValues struct{ X, N, c, lnN, dI, dG float64 }
+
+// valueSlot is the model evaluated for every used run at one point x.
+type valueSlot struct {
+	x    []float64
+	vals []runValues
+}
+
+// values returns the model outputs of every used run at x. Two points are
+// kept: the one the last Jacobian was taken at (pinned) and the last
+// other one, so the Jacobian at an accepted step, the next stage and the
+// result reuse the residual evaluation of that step instead of repeating
+// it; a miss evaluates into the slot that is not pinned.
+func (f *fitter) values(x []float64, pin bool) []runValues {
+	k := -1
+	for i := range f.slots {
+		if f.slots[i].vals != nil && slices.Equal(f.slots[i].x, x) {
+			k = i
+		}
+	}
+	if k < 0 {
+		k = 1 - f.pinned
+		f.evaluate(&f.slots[k], x)
+	}
+	if pin {
+		f.pinned = k
+	}
+	return f.slots[k].vals
+}
+
+// evaluate fills slot with the model at x (one pass over the runs).
+func (f *fitter) evaluate(slot *valueSlot, x []float64) {
+	if len(slot.vals) != len(f.obs) {
+		slot.vals = make([]runValues, len(f.obs))
+	}
+	slot.x = append(slot.x[:0], x...)
+	v := f.vec(x)
+	density := f.hasDensity()
+	f.parallel(func(k int) {
+		slot.vals[k] = f.model(f.all[f.obs[k]].Prepared, &v, density)
+	})
+	f.evals++
+}
+
+// model evaluates one run at v; N (and its derivatives) only when
+// density is true, for a closed-form run (X alone needs no incomplete
+// gamma function).
+func (f *fitter) model(pr *Prepared, v *fitVec, density bool) runValues {
+	var rv runValues
+	if pr.closed() {
+		ps := &pr.segs[0]
+		if !ps.iso.etch {
+			lnI, lnG := ps.iso.lnI(v), ps.iso.lnG(v)
+			if density {
+				rv.X, rv.N, rv.dI, rv.dG = closedForm(pr.Shape.Kappa(), lnI, lnG, ps.duration)
+			} else {
+				rv.X = closedX(pr.Shape.Kappa(), lnI, lnG, ps.duration)
+			}
+		}
+	} else {
+		rv.X, rv.N = pr.final(v, nil, -1, math.NaN())
+	}
+	rv.c, rv.lnN = f.clogX(rv.X), math.Log(math.Max(rv.N, 1))
+	return rv
+}
+
+// hasDensity reports whether any row is a nuclei density.
+func (f *fitter) hasDensity() bool {
+	_, nd := f.rowCounts()
+	return nd > 0
 }
 
 // parallel calls fn(k) for every used observation index position k.
@@ -125,35 +205,40 @@ func (f *fitter) rowIndex() [][2]int {
 }
 
 func (f *fitter) residuals(r, x []float64) {
-	v := f.vec(x)
-	idx := f.idx
-	f.parallel(func(k int) {
-		c, lnN := f.outputs(f.all[f.obs[k]].Prepared, &v, nil)
-		if i := idx[k][0]; i >= 0 {
-			r[i] = (f.rows[i].y - c) / f.sc
+	vals := f.values(x, false)
+	for k, rows := range f.idx {
+		if i := rows[0]; i >= 0 {
+			r[i] = (f.rows[i].y - vals[k].c) / f.sc
 		}
-		if i := idx[k][1]; i >= 0 {
-			r[i] = (f.rows[i].y - lnN) / f.sd
+		if i := rows[1]; i >= 0 {
+			r[i] = (f.rows[i].y - vals[k].lnN) / f.sd
 		}
-	})
-	f.evals++
+	}
 }
 
-// jacobian fills J (rows × free) with ∂r/∂x.
+// jacobian fills J (rows × free) with ∂r/∂x. The model values at x come
+// from values (already there when x is the step just accepted); closed-
+// form runs need nothing more, the others one difference pass per
+// channel and coordinate (counted in f.evals once per call).
 func (f *fitter) jacobian(J *mat.Dense, x []float64) {
+	vals := f.values(x, true)
 	v := f.vec(x)
 	idx := f.idx
 	const h = 1e-6
+	open := false
+	for _, o := range f.obs {
+		open = open || !f.all[o].Prepared.closed()
+	}
 	f.parallel(func(k int) {
 		pr := f.all[f.obs[k]].Prepared
 		var gc, gn fitVec // ∂(cloglog θ)/∂v, ∂(ln N)/∂v
 		if pr.closed() {
-			f.closedGrad(pr, &v, &gc, &gn)
+			f.closedGrad(pr, vals[k], &gc, &gn)
 			f.setRows(J, idx[k], &gc, &gn, nil, nil)
 			return
 		}
 		ch := pr.isoChannels(&v, make([]float64, 0, 2*pr.nIso))
-		c0, n0 := f.outputs(pr, &v, ch)
+		c0, n0 := vals[k].c, vals[k].lnN
 		for c := range ch {
 			save := ch[c]
 			ch[c] += h
@@ -178,7 +263,9 @@ func (f *fitter) jacobian(J *mat.Dense, x []float64) {
 		}
 		f.setRows(J, idx[k], &gc, &gn, dc, dn)
 	})
-	f.evals++
+	if open {
+		f.evals++
+	}
 }
 
 // setRows writes one run's gradients into its Jacobian rows: the
@@ -200,19 +287,18 @@ func (f *fitter) setRows(J *mat.Dense, rows [2]int, gc, gn *fitVec, dc, dn []flo
 }
 
 // closedGrad gives the analytic gradients of cloglog θ and ln N for a
-// closed-form run (see closedForm): ∂ln X/∂ln I = 1, ∂ln X/∂ln G = 2 inside
-// the clip, 0 outside.
-func (f *fitter) closedGrad(pr *Prepared, v *fitVec, gc, gn *fitVec) {
-	ps := &pr.segs[0]
-	if ps.iso.etch {
+// closed-form run (see closedForm) from its values rv: ∂ln X/∂ln I = 1,
+// ∂ln X/∂ln G = 2 inside the clip, 0 outside.
+func (f *fitter) closedGrad(pr *Prepared, rv runValues, gc, gn *fitVec) {
+	if pr.segs[0].iso.etch {
 		return
 	}
-	X, N, dI, dG := closedForm(pr.Shape.Kappa(), ps.iso.lnI(v), ps.iso.lnG(v), ps.duration)
 	cI, cG := 1.0, 2.0
-	if X <= f.xlo || X >= f.xhi {
+	if rv.X <= f.xlo || rv.X >= f.xhi {
 		cI, cG = 0, 0
 	}
-	if N <= 1 {
+	dI, dG := rv.dI, rv.dG
+	if rv.N <= 1 {
 		dI, dG = 0, 0
 	}
 	pr.channelGrad(0, cI, gc)

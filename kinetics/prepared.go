@@ -178,7 +178,7 @@ func closedForm(kappa, lnI, lnG, t float64) (X, N, dI, dG float64) {
 		return 0, 0, 0, 0
 	}
 	lnc := math.Log(kappa/3) + lnI + 2*lnG
-	X = math.Exp(lnc + 3*math.Log(t))
+	X = closedX(kappa, lnI, lnG, t)
 	P := mathext.GammaIncReg(1.0/3, X)
 	N = math.Exp(lnI-lnc/3) * gamma43 * P
 	D := 0.0
@@ -186,6 +186,15 @@ func closedForm(kappa, lnI, lnG, t float64) (X, N, dI, dG float64) {
 		D = math.Exp(math.Log(X)/3-X-lgamma13) / P
 	}
 	return X, N, 2.0/3 + D, -2.0/3 + 2*D
+}
+
+// closedX returns closedForm's X = κ·I·G²·t³/3 alone (0 when t ≤ 0),
+// for fits without a density to compute.
+func closedX(kappa, lnI, lnG, t float64) float64 {
+	if !(t > 0) {
+		return 0
+	}
+	return math.Exp(math.Log(kappa/3) + lnI + 2*lnG + 3*math.Log(t))
 }
 
 var (

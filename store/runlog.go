@@ -43,8 +43,12 @@ type RunLog interface {
 	// Snapshot returns the snapshot (recipe, furnace or site) with the
 	// given SHA-256.
 	Snapshot(ctx context.Context, sha256 string) (Snapshot, error)
-	// List returns the runs that pass the filter, oldest first.
+	// List returns the runs that pass the filter, oldest first (newest
+	// first with Filter.Newest).
 	List(ctx context.Context, f Filter) ([]Run, error)
+	// Count returns how many runs pass the filter's Where and Codes (its
+	// Limit and Offset do not count).
+	Count(ctx context.Context, f Filter) (int, error)
 	// Names lists the parameter and metric names the log holds.
 	Names(ctx context.Context) ([]Name, error)
 	// Samples returns, for every run that passes the filter and has the
@@ -72,6 +76,10 @@ type RunLog interface {
 	// Check runs the back end's integrity checks and returns the problems
 	// found (none: an empty slice).
 	Check(ctx context.Context) ([]string, error)
+	// Repair rebuilds, in one transaction, every table the log derives
+	// from the runs (the run summary that best, rank and --where read)
+	// and says what it rebuilt, one line each.
+	Repair(ctx context.Context) ([]string, error)
 
 	Copier
 	io.Closer
@@ -94,11 +102,16 @@ type Copier interface {
 }
 
 // Filter selects runs. Where holds expressions of the --where language
-// (store/query); a run passes when it passes all of them. Limit > 0 keeps
-// only the first Limit runs.
+// (store/query); a run passes when it passes all of them. Codes, when not
+// empty, keeps only the runs with those codes. Limit > 0 keeps only the
+// first Limit runs, after skipping the first Offset; Newest makes List
+// give the newest run first (the other reads ignore it and Offset).
 type Filter struct {
-	Where []string
-	Limit int
+	Where  []string
+	Codes  []string
+	Limit  int
+	Offset int
+	Newest bool
 }
 
 // Sample is one run's metric and parameter values for Best and Rank.

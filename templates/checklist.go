@@ -1,8 +1,10 @@
 package templates
 
 import (
+	"bytes"
 	"embed"
 	"fmt"
+	"text/template"
 )
 
 //go:embed checklist*.tmpl
@@ -32,4 +34,22 @@ func Checklist(format string) (string, error) {
 		return "", fmt.Errorf("checklist template %s: %w", name, err)
 	}
 	return string(b), nil
+}
+
+// RenderChecklist executes the checklist template of a format with sheet,
+// a safety.Sheet (`foilrun checklist` and serve's checklist page).
+func RenderChecklist(format string, sheet any) ([]byte, error) {
+	src, err := Checklist(format)
+	if err != nil {
+		return nil, err
+	}
+	tmpl, err := template.New("checklist").Option("missingkey=error").Parse(src)
+	if err != nil {
+		return nil, fmt.Errorf("checklist template: %w", err)
+	}
+	var b bytes.Buffer
+	if err := tmpl.Execute(&b, sheet); err != nil {
+		return nil, fmt.Errorf("checklist template: %w", err)
+	}
+	return b.Bytes(), nil
 }

@@ -1,9 +1,7 @@
 package main
 
 import (
-	"bytes"
 	"fmt"
-	"text/template"
 
 	"github.com/spf13/cobra"
 
@@ -54,19 +52,7 @@ the set-up.`,
 
 // renderChecklist executes the checklist template of a format with a sheet.
 func renderChecklist(format string, sh safety.Sheet) ([]byte, error) {
-	src, err := templates.Checklist(format)
-	if err != nil {
-		return nil, err
-	}
-	tmpl, err := template.New("checklist").Option("missingkey=error").Parse(src)
-	if err != nil {
-		return nil, fmt.Errorf("checklist template: %w", err)
-	}
-	var b bytes.Buffer
-	if err := tmpl.Execute(&b, sh); err != nil {
-		return nil, fmt.Errorf("checklist template: %w", err)
-	}
-	return b.Bytes(), nil
+	return templates.RenderChecklist(format, sh)
 }
 
 func checklistRun(opts *checklistOptions) error {

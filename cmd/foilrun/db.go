@@ -9,6 +9,7 @@ import (
 
 	"github.com/spf13/cobra"
 
+	"github.com/foilrun/foilrun/cmd/foilrun/internal/lab"
 	"github.com/foilrun/foilrun/cmd/foilrun/internal/outfile"
 	"github.com/foilrun/foilrun/store"
 	"github.com/foilrun/foilrun/store/postgres"
@@ -75,11 +76,14 @@ func dbBackupRun(ctx context.Context, o *dbBackupOptions) error {
 	return nil
 }
 
-type dbCheckOptions struct{ f *factory }
+type dbCheckOptions struct {
+	f      *factory
+	repair bool // --repair: rebuild the derived tables first
+}
 
 func newDBCheckCmd(f *factory) *cobra.Command {
 	opts := &dbCheckOptions{f: f}
-	return &cobra.Command{
+	cmd := &cobra.Command{
 		Use:   "check",
 		Short: "Check the run log's integrity; exit 1 when problems are found",
 		Args:  cobra.NoArgs,
@@ -87,10 +91,54 @@ func newDBCheckCmd(f *factory) *cobra.Command {
 			return dbCheckRun(cmd.Context(), opts)
 		},
 	}
+	cmd.Flags().BoolVar(&opts.repair, "repair", false, "first rebuild what the log derives from its snapshots (the kinetics profiles fit reads)")
+	return cmd
+}
+
+// repairs are what db check --repair rebuilds, in order: each returns how
+// many rows it stored and what it could not rebuild.
+var repairs = []struct {
+	what string
+	run  func(ctx context.Context, l store.RunLog) (int, []string, error)
+}{
+	{"run summaries", func(ctx context.Context, l store.RunLog) (int, []string, error) {
+		// the store's own derived tables, rebuilt in one transaction
+		if _, err := l.Repair(ctx); err != nil {
+			return 0, nil, err
+		}
+		n, err := l.Count(ctx, store.Filter{})
+		return n, nil, err
+	}},
+	{"kinetics profiles", func(ctx context.Context, l store.RunLog) (int, []string, error) {
+		return lab.FillProfiles(ctx, l, true)
+	}},
+}
+
+// repairLog runs the repairs on the log opened for writing, saying on status
+// what each rebuilt.
+func (o *dbCheckOptions) repairLog(ctx context.Context) (store.RunLog, error) {
+	l, err := o.f.writeLog(ctx)
+	if err != nil {
+		return nil, err
+	}
+	for _, r := range repairs {
+		n, failed, err := r.run(ctx, l)
+		if err != nil {
+			return nil, fmt.Errorf("db check --repair: %s: %w", r.what, err)
+		}
+		for _, f := range failed {
+			fmt.Fprintf(o.f.io.Err, "%s: not rebuilt for %s\n", r.what, f)
+		}
+		fmt.Fprintf(o.f.io.Err, "rebuilt %d %s\n", n, r.what)
+	}
+	return l, nil
 }
 
 func dbCheckRun(ctx context.Context, o *dbCheckOptions) error {
 	l, err := o.f.runLog(ctx)
+	if o.repair {
+		l, err = o.repairLog(ctx)
+	}
 	if err != nil {
 		return err
 	}

@@ -5,8 +5,8 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"sort"
 	"strings"
+	"time"
 
 	"github.com/spf13/cobra"
 
@@ -188,6 +188,9 @@ func (opts *fitOptions) collect(ctx context.Context, start kinetics.Params) (lab
 	if err != nil {
 		return lab.Observations{}, fmt.Errorf("fit: %w", err)
 	}
+	if len(col.Derived) > 0 && !col.Stored {
+		storeDerived(ctx, opts.f, col.Derived)
+	}
 	furnaceStatus(opts.f.io.Err, b, opts.furnace)
 	for _, u := range col.Furnaces {
 		fmt.Fprintf(opts.f.io.Err, "furnace %q from %s for %d runs\n", u.Name, u.Path, u.Runs)
@@ -222,15 +225,19 @@ func fitRun(ctx context.Context, opts *fitOptions) error {
 			return err
 		}
 	}
+	loadStart := time.Now()
 	col, err := opts.collect(ctx, start)
 	if err != nil {
 		return err
 	}
+	load := time.Since(loadStart)
 	obs := col.Observations
 	bar := opts.f.io.progress("fitting")
 	settings.MaxIterations = fitIterations
 	settings.Progress = func(it int, _ float64) { bar.update(min(it, fitIterations), fitIterations) }
+	fitStart := time.Now()
 	res, err := kinetics.Fit(obs, start, settings)
+	fitTime := time.Since(fitStart)
 	bar.finish()
 	if err != nil {
 		return fitError(err)
@@ -241,6 +248,7 @@ func fitRun(ctx context.Context, opts *fitOptions) error {
 		codes[i] = o.Label
 	}
 	out := fitJSON(res, codes)
+	out.Seconds = fitSecondsJSON{Load: load.Seconds(), Fit: fitTime.Seconds()}
 	out.addConditions(opts.conds, col)
 	switch opts.output {
 	case formatJSON:
@@ -361,6 +369,15 @@ type fitResultJSON struct {
 	Residuals             []fitResidualJSON `json:"residuals"`
 	Warnings              []string          `json:"warnings"`
 	Method                string            `json:"method"`
+	// Seconds is where the command's time went: reading the log into
+	// observations, and the fit itself.
+	Seconds fitSecondsJSON `json:"seconds"`
+}
+
+// fitSecondsJSON is fit's own timing, wall-clock seconds.
+type fitSecondsJSON struct {
+	Load float64 `json:"load"`
+	Fit  float64 `json:"fit"`
 }
 
 func fitJSON(res *kinetics.FitResult, codes []string) fitResultJSON {
@@ -471,35 +488,9 @@ func printFit(w io.Writer, r fitResultJSON) error {
 // (coverage in %, nuclei density per mm²), with the line of equality,
 // into path through the guard.
 func writeParity(path string, g outfile.Guard, res *kinetics.FitResult) error {
-	panels := map[string]*chart.ParityPanel{}
-	var names []string
-	for _, r := range res.Residuals {
-		pn := panels[r.Metric]
-		if pn == nil {
-			pn = &chart.ParityPanel{Quantity: r.Metric}
-			switch r.Metric {
-			case "coverage":
-				pn.Quantity, pn.Range = "coverage (%)", [2]float64{0, 100}
-			case "nuclei_density":
-				pn.Quantity = "nuclei density (1/mm²)"
-			}
-			panels[r.Metric] = pn
-			names = append(names, r.Metric)
-		}
-		unit := "%" // coverage, a fraction
-		if r.Metric == "nuclei_density" {
-			unit = "1/mm2"
-		}
-		pn.Measured = append(pn.Measured, inUnit(r.Measured, unit))
-		pn.Predicted = append(pn.Predicted, inUnit(r.Predicted, unit))
-	}
-	if len(names) == 0 {
+	fig, ok := chart.FitParity(res.Residuals)
+	if !ok {
 		return nil
-	}
-	sort.Strings(names)
-	fig := chart.Parity{Title: fmt.Sprintf("fit of %d measurements: predicted against measured", len(res.Residuals))}
-	for _, n := range names {
-		fig.Panels = append(fig.Panels, *panels[n])
 	}
 	return writeOutput(path, g, func(w io.Writer) error { return chart.WriteParity(w, path, fig) })
 }

@@ -64,6 +64,7 @@ func runsHistoryRun(ctx context.Context, o *runsImportOptions) error {
 	if err != nil {
 		return fmt.Errorf("import %q (nothing was imported): %w", o.file, err)
 	}
+	fillProfiles(ctx, l, o.f.io.Err)
 	fmt.Fprintf(o.f.io.Err, "%d runs imported from %s\n", n, o.file)
 	if bad := withCheckErrors(res); bad > 0 {
 		fmt.Fprintf(o.f.io.Err, "%d of them have recipes that fail check (imported as they happened); run show CODE lists the findings\n", bad)

@@ -3,6 +3,7 @@ package main
 import (
 	"errors"
 	"fmt"
+	"github.com/foilrun/foilrun/cmd/foilrun/internal/imageoutcome"
 	"image"
 	"io"
 	"strconv"
@@ -16,17 +17,9 @@ import (
 	"github.com/foilrun/foilrun/recipe/infile"
 )
 
-// measurement is one measured outcome, ready to print or to store.
-type measurement struct {
-	Metric string  `json:"metric"`
-	Value  float64 `json:"value"`
-	Unit   string  `json:"unit"`
-	Method string  `json:"method"`
-	Text   string  `json:"text"` // as shown to people
-	// PolaritySource says where the polarity of a micrograph measurement
-	// came from: given, instrument, prediction or guess.
-	PolaritySource string `json:"polarity_source,omitempty"`
-}
+// measurement is one measured outcome (imageoutcome.Measurement), from a
+// micrograph or entered film values.
+type measurement = imageoutcome.Measurement
 
 // measureFlags are the measurement inputs shared by `measure` and
 // `outcome measure`.
@@ -59,7 +52,7 @@ func (mf *measureFlags) registerImage(cmd *cobra.Command) {
 	cmd.Flags().BoolVar(&mf.keepBar, "keep-info-bar", false, "do not look for and cut an instrument's info bar at the top or bottom")
 	cmd.Flags().StringVar(&mf.instrument, "instrument", "", "imaging preset of the site file (polarity, pixel size, bare gray)")
 	cmd.Flags().StringVar(&mf.site, "site", "", "site file holding the imaging presets")
-	cmd.Flags().StringVar(&mf.islandLimit, "island-limit", "30%", "below this coverage islands are taken as nuclei (islands rarely merge there)")
+	cmd.Flags().StringVar(&mf.islandLimit, "island-limit", fmt.Sprintf("%g%%", 100*imageoutcome.DefaultIslandLimit), "below this coverage islands are taken as nuclei (islands rarely merge there)")
 	cmd.Flags().IntVar(&mf.minArea, "min-area", 0, "drop specks smaller than this many pixels (default 16)")
 	cmd.Flags().StringVar(&mf.overlay, "overlay", "", "write the image with detected domains outlined to this PNG")
 	addForceFlag(cmd, &mf.force)
@@ -191,23 +184,12 @@ func newImageResult(path, sum string, info micrograph.Info, res *micrograph.Resu
 	out := &imageResult{
 		File: path, SHA256: sum, Format: info.Format, Width: info.Width, Height: info.Height,
 		Region: [4]int{r.Min.X, r.Min.Y, r.Max.X, r.Max.Y}, Cuts: res.Cuts, PixelUm: inUnit(res.PixelSize, "um"), Instrument: is.instrument,
-		Coverage: res.Coverage, Phase: phaseName(res.Phase), Domains: res.Count, Interior: res.Interior, Edge: res.Edge, Specks: res.Specks,
+		Coverage: res.Coverage, Phase: imageoutcome.PhaseName(res.Phase), Domains: res.Count, Interior: res.Interior, Edge: res.Edge, Specks: res.Specks,
 		IslandPerMM2: res.DensityPerMM2(), MeanUm: inUnit(res.Sizes.Mean, "um"), MedianUm: inUnit(res.Sizes.Median, "um"),
 		P10Um: inUnit(res.Sizes.P10, "um"), P90Um: inUnit(res.Sizes.P90, "um"), Threshold: res.Threshold,
 		Polarity: res.Polarity.String(), PolaritySource: is.source, Reason: res.PolarityReason, Notes: res.Notes,
 	}
 	return out
-}
-
-// phaseName is the method name of a one-peaked field, "" for a mixed one.
-func phaseName(p micrograph.Phase) string {
-	switch p {
-	case micrograph.PhaseCovered:
-		return "continuous film"
-	case micrograph.PhaseBare:
-		return "bare copper"
-	}
-	return ""
 }
 
 // decodeImage reads and decodes a micrograph through the bounded reader

@@ -2,6 +2,7 @@ package main
 
 import (
 	"fmt"
+	"github.com/foilrun/foilrun/cmd/foilrun/internal/imageoutcome"
 	"slices"
 	"strings"
 
@@ -165,45 +166,11 @@ func (mf *measureFlags) settings(preset *recipe.ImagingPreset) (micrograph.Setti
 	return set, nil
 }
 
-// method is the stored method of a micrograph measurement: the analysis,
-// the polarity with its source, the instrument and what was cut.
-func (is *imageSettings) method(res *micrograph.Result) string {
-	m := "micrograph: otsu threshold after polynomial flattening"
-	if p := phaseName(res.Phase); p != "" {
-		m = "micrograph: " + p + " (one-peaked histogram against the bare-copper gray)"
-	}
-	m += fmt.Sprintf("; domains %s, polarity_source %s", res.Polarity, is.source)
-	if is.instrument != "" {
-		m += "; instrument " + is.instrument
-	}
-	r := res.Region
-	if len(res.Cuts) > 0 {
-		m += fmt.Sprintf("; measured x %d–%d, y %d–%d", r.Min.X, r.Max.X, r.Min.Y, r.Max.Y)
-	}
-	return m
-}
-
-// measurements are the outcomes of one micrograph: coverage, the island
-// density (stored as nuclei_density only below the island limit, where
-// islands rarely merge) and the mean interior domain size.
+// measurements are the outcomes of one micrograph (imageoutcome), with
+// the island-limit note added to out.
 func (is *imageSettings) measurements(res *micrograph.Result, out *imageResult) []measurement {
-	method := is.method(res)
-	ms := []measurement{{Metric: "coverage", Value: res.Coverage, Unit: "1", Method: method, Text: fixed(res.Coverage*100, 1) + " %"}}
-	if res.Counted > 0 {
-		metric := "nuclei_density"
-		if res.Coverage >= is.islandLimit {
-			metric = "island_density"
-			out.Notes = append(out.Notes, fmt.Sprintf("coverage %.1f %% is at or above the island limit %.0f %%: merged islands count once, so the island density is stored as island_density, not as nuclei_density",
-				100*res.Coverage, 100*is.islandLimit))
-		}
-		ms = append(ms, measurement{Metric: metric, Value: res.DensityPerMM2(), Unit: "1/mm2", Method: method + "; separate islands, counting frame", Text: num(res.DensityPerMM2(), 4) + " /mm²"})
-	}
-	if res.Sizes.N > 0 {
-		ms = append(ms, measurement{Metric: "domain_size", Value: inUnit(res.Sizes.Mean, "um"), Unit: "um", Method: method + "; mean area-equivalent diameter, interior domains", Text: num(inUnit(res.Sizes.Mean, "um"), 4) + " um"})
-	}
-	for i := range ms {
-		ms[i].PolaritySource = is.source
-	}
+	ms, notes := imageoutcome.Measurements(res, imageoutcome.Settings{Source: is.source, Instrument: is.instrument, IslandLimit: is.islandLimit})
+	out.Notes = append(out.Notes, notes...)
 	return ms
 }
 

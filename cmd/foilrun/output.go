@@ -1,8 +1,6 @@
 package main
 
 import (
-	"encoding/csv"
-	"encoding/json"
 	"fmt"
 	"io"
 	"math"
@@ -14,6 +12,7 @@ import (
 	"github.com/olekukonko/tablewriter/tw"
 	"github.com/spf13/cobra"
 
+	"github.com/foilrun/foilrun/cmd/foilrun/internal/tabular"
 	"github.com/foilrun/foilrun/recipe"
 )
 
@@ -106,43 +105,9 @@ func escapeAll(cells []string) []string {
 	return out
 }
 
-// escapeControl shows the control characters in s as escapes (\x1b, \x0d,
-// \u202e), so that free text from the log or a file (a note, an operator's
-// name, an imported code) cannot move the cursor, recolour the terminal,
-// hide a line or reorder it when printed. Escaped: C0 controls except tab
-// and line break (the renderers lay those out), DEL, C1 controls, and the
-// Unicode bidirectional controls. JSON output and the database keep the
-// text as it was.
-func escapeControl(s string) string {
-	if !strings.ContainsFunc(s, isControl) {
-		return s
-	}
-	var b strings.Builder
-	for _, r := range s {
-		switch {
-		case !isControl(r):
-			b.WriteRune(r)
-		case r < 0x80:
-			fmt.Fprintf(&b, `\x%02x`, r)
-		default:
-			fmt.Fprintf(&b, `\u%04x`, r)
-		}
-	}
-	return b.String()
-}
-
-// isControl reports whether r is escaped by escapeControl.
-func isControl(r rune) bool {
-	switch {
-	case r == '\t' || r == '\n':
-		return false
-	case r < 0x20, r == 0x7f, r >= 0x80 && r < 0xa0:
-		return true
-	case r == 0x061c, r == 0x200e, r == 0x200f, r >= 0x202a && r <= 0x202e, r >= 0x2066 && r <= 0x2069:
-		return true // bidirectional marks, embeddings, overrides and isolates
-	}
-	return false
-}
+// escapeControl shows the control characters in s as escapes
+// (tabular.Escape).
+func escapeControl(s string) string { return tabular.Escape(s) }
 
 // writeTable prints the table for people: aligned with light rules on a
 // terminal, tab-separated with the header row when standard output is
@@ -195,26 +160,11 @@ func writeTSV(w io.Writer, t table) error {
 }
 
 // writeCSV prints the table as CSV with a header row, control characters
-// escaped (escapeControl).
-func writeCSV(w io.Writer, t table) error {
-	t = t.escaped()
-	cw := csv.NewWriter(w)
-	if err := cw.Write(t.Header); err != nil {
-		return err
-	}
-	if err := cw.WriteAll(t.Rows); err != nil {
-		return err
-	}
-	cw.Flush()
-	return cw.Error()
-}
+// escaped (tabular.WriteCSV).
+func writeCSV(w io.Writer, t table) error { return tabular.WriteCSV(w, t.Header, t.Rows) }
 
 // writeJSON prints v as indented JSON.
-func writeJSON(w io.Writer, v any) error {
-	enc := json.NewEncoder(w)
-	enc.SetIndent("", "  ")
-	return enc.Encode(v)
-}
+func writeJSON(w io.Writer, v any) error { return tabular.WriteJSON(w, v) }
 
 // render writes t in the chosen format; JSON writes v instead, the
 // structured form of the same result.

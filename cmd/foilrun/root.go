@@ -83,6 +83,7 @@ command's inputs or the run log, nor over an existing file without --force.`,
 		newRunsCmd(f),
 		newOutcomeCmd(f),
 		newDBCmd(f),
+		newServeCmd(f),
 	)
 	markArgErrors(root)
 	return root

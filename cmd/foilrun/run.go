@@ -14,6 +14,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"github.com/foilrun/foilrun/cmd/foilrun/internal/lab"
+	"github.com/foilrun/foilrun/cmd/foilrun/internal/tabular"
 	"github.com/foilrun/foilrun/recipe"
 	"github.com/foilrun/foilrun/recipe/infile"
 	"github.com/foilrun/foilrun/store"
@@ -136,6 +137,7 @@ func runStartRun(ctx context.Context, o *runOptions) error {
 	if err != nil {
 		return err
 	}
+	storeRunProfile(ctx, l, snap.SHA256, plan, o.f.io.Err)
 	fmt.Fprintln(o.f.io.Out, code)
 	return printDeviations(o.f.io.Out, code, rec.Deviations)
 }
@@ -353,6 +355,7 @@ func runFinishRun(ctx context.Context, o *runFinishOptions) error {
 	if err := l.FinishRun(ctx, o.code, fin); err != nil {
 		return err
 	}
+	fillProfiles(ctx, l, o.f.io.Err)
 	fmt.Fprintf(o.f.io.Err, "run %s %s\n", o.code, fin.Status)
 	return printDeviations(o.f.io.Out, o.code, fin.Deviations)
 }
@@ -549,9 +552,4 @@ func actualTable(as []store.Actual) table {
 	return t
 }
 
-func when(t time.Time) string {
-	if t.IsZero() {
-		return ""
-	}
-	return t.Local().Format("2006-01-02 15:04")
-}
+func when(t time.Time) string { return tabular.When(t) }

@@ -45,7 +45,7 @@ func TestRunLogCommands(t *testing.T) {
 		{"best unknown param", []string{"runs", "best", "--metric", "coverage", "--by", "growth_temp"}, 2, `parameter "growth_temp" has no logged values`},
 		{"rank", []string{"runs", "rank", "--metric", "coverage", "--output", "json"}, 0, `"param": "growth_temperature_c"`},
 		{"show", []string{"run", "show", run1}, 0, "foil looked dull"},
-		{"check", []string{"db", "check"}, 0, "ok (schema version 6)"},
+		{"check", []string{"db", "check"}, 0, "ok (schema version 8)"},
 		{"backup", []string{"db", "backup", filepath.Join(dir, "copy.db")}, 0, "checked"},
 		{"export", []string{"runs", "export", "--format", "json", "-o", filepath.Join(dir, "all.json")}, 0, "2 runs exported"},
 		{"import", []string{"--db", filepath.Join(dir, "other.db"), "runs", "import", filepath.Join(dir, "all.json")}, 0, "2 runs imported"},

@@ -14,6 +14,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"github.com/foilrun/foilrun/cmd/foilrun/internal/lab"
+	"github.com/foilrun/foilrun/cmd/foilrun/internal/tabular"
 	"github.com/foilrun/foilrun/recipe"
 	"github.com/foilrun/foilrun/recipe/infile"
 	"github.com/foilrun/foilrun/store"
@@ -72,19 +73,13 @@ func runsListRun(ctx context.Context, o *runsListOptions) error {
 	if err != nil {
 		return err
 	}
-	t := table{Header: []string{"code", "status", "recipe", "furnace", "operator", "lot", "started", "ended"}}
-	for _, r := range runs {
-		t.add(r.Code, string(r.Status), r.RecipeName, r.Furnace, r.Operator, r.Lot, when(r.Started), when(r.Ended))
+	if o.output != formatTable {
+		return tabular.WriteRuns(o.f.io.Out, runs, o.output == formatCSV)
 	}
-	if runs == nil {
-		runs = []store.Run{}
-	}
-	if err := render(o.f.io.Out, o.output, t, runs); err != nil {
+	if err := writeTable(o.f.io.Out, table{Header: tabular.RunHeader, Rows: tabular.RunRows(runs)}); err != nil {
 		return err
 	}
-	if o.output == formatTable {
-		fmt.Fprintf(o.f.io.Err, "%d runs\n", len(runs))
-	}
+	fmt.Fprintf(o.f.io.Err, "%d runs\n", len(runs))
 	return nil
 }
 
@@ -151,36 +146,6 @@ func (c *conditionsFlag) parse() error {
 	}
 	c.src = src
 	return nil
-}
-
-// maxSampleParams is how many parameter columns one Samples query takes.
-const maxSampleParams = 60
-
-// twinSamples returns the metric and params of the runs that pass the
-// filter, each parameter on conditions src (see lab.Pick): the planned
-// value, or with logged conditions its logged twin where the run has one.
-// Long parameter lists are queried in parts, joined run by run.
-func twinSamples(ctx context.Context, l store.RunLog, f store.Filter, metric string, params []string, src lab.Source) (lab.Picked, error) {
-	cols := lab.Twins(params, src)
-	var all []store.Sample
-	for lo := 0; lo < len(cols) || lo == 0; lo += maxSampleParams {
-		part := cols[lo:min(len(cols), lo+maxSampleParams)]
-		s, err := l.Samples(ctx, f, metric, part)
-		if err != nil {
-			return lab.Picked{}, err
-		}
-		if lo == 0 {
-			all = s
-			continue
-		}
-		if len(s) != len(all) {
-			return lab.Picked{}, fmt.Errorf("samples of %s: the log changed while it was read; run the query again", metric)
-		}
-		for i := range all {
-			all[i].Params = append(all[i].Params, s[i].Params...)
-		}
-	}
-	return lab.Pick(all, params, src), nil
 }
 
 // metricFlag checks a --metric value: old spellings of the known metrics
@@ -294,7 +259,7 @@ func runsBestRun(ctx context.Context, o *runsBestOptions) error {
 	if err := checkNames(ctx, l, o.metric, o.by); err != nil {
 		return err
 	}
-	pk, err := twinSamples(ctx, l, store.Filter{Where: o.where}, o.metric, o.by, o.conds.src)
+	pk, err := lab.TwinSamples(ctx, l, store.Filter{Where: o.where}, o.metric, o.by, o.conds.src)
 	if err != nil {
 		return err
 	}
@@ -409,7 +374,7 @@ func runsRankRun(ctx context.Context, o *runsRankOptions) error {
 		}
 	}
 	store.SortParams(params)
-	pk, err := twinSamples(ctx, l, store.Filter{Where: o.where}, o.metric, params, o.conds.src)
+	pk, err := lab.TwinSamples(ctx, l, store.Filter{Where: o.where}, o.metric, params, o.conds.src)
 	if err != nil {
 		return err
 	}
@@ -591,6 +556,7 @@ func runsImportRun(ctx context.Context, o *runsImportOptions) error {
 		}
 		return err
 	}
+	fillProfiles(ctx, l, o.f.io.Err)
 	fmt.Fprintf(o.f.io.Err, "%d runs imported\n", n)
 	return nil
 }

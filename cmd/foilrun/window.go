@@ -10,6 +10,7 @@ import (
 
 	"github.com/spf13/cobra"
 
+	"github.com/foilrun/foilrun/cmd/foilrun/internal/chart"
 	"github.com/foilrun/foilrun/cmd/foilrun/internal/outfile"
 	"github.com/foilrun/foilrun/kinetics"
 	"github.com/foilrun/foilrun/recipe/infile"
@@ -17,7 +18,7 @@ import (
 
 // What `foilrun window --show` can map: the stored metrics' names, and
 // time_to_99.
-var windowShows = []string{"coverage", "nuclei_density", "domain_size", "time_to_99"}
+var windowShows = chart.WindowShows
 
 type windowOptions struct {
 	f      *factory
@@ -83,31 +84,11 @@ computed on all cores; a progress bar shows on a terminal. A grid has at most
 	return cmd
 }
 
-// showValue picks the --show quantity of a point in display units; NaN
-// when it has no value (e.g. 99 % never reached).
-func showValue(show string, p kinetics.Point) float64 {
-	switch show {
-	case "nuclei_density":
-		return inUnit(p.NucleiDensity, "1/mm2")
-	case "domain_size":
-		return inUnit(p.DomainSize, "um")
-	case "time_to_99":
-		return p.T99 / 60
-	}
-	return p.Coverage * 100
-}
+// showValue is the --show quantity of a point in display units.
+func showValue(show string, p kinetics.Point) float64 { return chart.WindowValue(show, p) }
 
-func showLabel(show string) string {
-	switch show {
-	case "nuclei_density":
-		return "nuclei per mm2"
-	case "domain_size":
-		return "domain size (um)"
-	case "time_to_99":
-		return "time to 99 % (min)"
-	}
-	return "coverage (%)"
-}
+// showLabel is the --show quantity's label.
+func showLabel(show string) string { return chart.WindowLabel(show) }
 
 // windowResult is the JSON form of `foilrun window`.
 type windowResult struct {
@@ -235,21 +216,8 @@ func windowJSON(m *kinetics.Map, show string, params kinetics.Params) windowResu
 // writePlot writes the --plot heat map of the map's --show quantity,
 // infeasible cells blocked.
 func (opts *windowOptions) writePlot(m *kinetics.Map, guard outfile.Guard) error {
-	z := make([][]float64, len(m.Ys))
-	blocked := make([][]bool, len(m.Ys))
-	for iy, row := range m.Points {
-		z[iy] = make([]float64, len(row))
-		blocked[iy] = make([]bool, len(row))
-		for ix, p := range row {
-			z[iy][ix] = showValue(opts.show, p)
-			if !p.Feasible {
-				z[iy][ix], blocked[iy][ix] = math.NaN(), true
-			}
-		}
-	}
-	xs, ys := displayValues(m.X, m.Xs), displayValues(m.Y, m.Ys)
-	title := fmt.Sprintf("%s: %s", m.Recipe, showLabel(opts.show))
-	if err := writeHeatMap(opts.plot, guard, title, m.X.Label(), m.Y.Label(), showLabel(opts.show), xs, ys, z, blocked); err != nil {
+	hm := chart.WindowMap(m, opts.show)
+	if err := writeOutput(opts.plot, guard, func(w io.Writer) error { return chart.WriteHeatMap(w, opts.plot, hm) }); err != nil {
 		return err
 	}
 	fmt.Fprintf(opts.f.io.Err, "wrote %s\n", opts.plot)
@@ -266,14 +234,6 @@ func (opts *windowOptions) checkGrid(axes [2]kinetics.Axis) error {
 	return withHint(usagef("window: a %d × %d grid is %d points, over the limit of %d (it would take about %s of memory)",
 		axes[0].Steps, axes[1].Steps, n, opts.maxPoints, infile.FormatSize(n*pointBytes)),
 		"use fewer steps per --vary, or raise the limit with --max-points N if the machine has the memory")
-}
-
-func displayValues(a kinetics.Axis, si []float64) []float64 {
-	out := make([]float64, len(si))
-	for i, v := range si {
-		out[i] = a.Display(v)
-	}
-	return out
 }
 
 // printWindow prints the map as a grid: one row per y value, one column

@@ -1,6 +1,7 @@
 package micrograph
 
 import (
+	"bufio"
 	"bytes"
 	"fmt"
 	"image"
@@ -64,32 +65,36 @@ func Load(path string, lim Limits) (image.Image, Info, error) {
 }
 
 // Decode reads a PNG, JPEG or TIFF image (8- or 16-bit, gray or colour).
-// It reads the header first with image.DecodeConfig and refuses an image
-// larger than lim.MaxPixels with a *TooLargeError before allocating pixel
-// memory. A truncated or non-image input returns an error wrapping
-// ErrUnreadable. Decode never panics: a panic inside a decoder is turned
-// into an ErrUnreadable error.
+// A PNG that is not interlaced is decoded by this package's own decoder
+// straight into a 16-bit gray image of the luma Analyze works on (see
+// pngdecode.go), inflating on one goroutine and unfiltering on another;
+// other images go through the standard decoders. It reads the header first
+// and refuses an image larger than lim.MaxPixels with a *TooLargeError
+// before allocating pixel memory. A truncated or non-image input returns an
+// error wrapping ErrUnreadable. Decode never panics: a panic inside a
+// decoder is turned into an ErrUnreadable error.
 func Decode(r io.Reader, lim Limits) (img image.Image, info Info, err error) {
 	lim = lim.withDefaults()
 	lr := &limitedReader{r: r, left: lim.MaxBytes}
+	br := bufio.NewReaderSize(lr, readBuffer)
+	if sig, _ := br.Peek(len(pngSignature)); string(sig) == pngSignature {
+		return decodePNG(br, lr, lim)
+	}
 	var head bytes.Buffer
-	cfg, format, err := decodeConfig(io.TeeReader(lr, &head))
+	cfg, format, err := decodeConfig(io.TeeReader(br, &head))
 	if lr.over {
-		return nil, info, &TooLargeError{MaxBytes: lim.MaxBytes, MaxPixels: lim.MaxPixels, Bytes: true}
+		return nil, info, lr.tooLarge(lim)
 	}
 	if err != nil {
 		return nil, info, fmt.Errorf("decode image header: %w: %w", ErrUnreadable, err)
 	}
 	info = Info{Format: format, Width: cfg.Width, Height: cfg.Height}
-	if cfg.Width <= 0 || cfg.Height <= 0 {
-		return nil, info, fmt.Errorf("decode image header: %w: size %d×%d", ErrUnreadable, cfg.Width, cfg.Height)
+	if err := checkSize(cfg.Width, cfg.Height, lim); err != nil {
+		return nil, info, err
 	}
-	if int64(cfg.Width)*int64(cfg.Height) > lim.MaxPixels {
-		return nil, info, &TooLargeError{Width: cfg.Width, Height: cfg.Height, MaxPixels: lim.MaxPixels, MaxBytes: lim.MaxBytes}
-	}
-	img, format, err = decodeImage(io.MultiReader(&head, lr))
+	img, format, err = decodeImage(io.MultiReader(&head, br))
 	if lr.over {
-		return nil, info, &TooLargeError{MaxBytes: lim.MaxBytes, MaxPixels: lim.MaxPixels, Bytes: true}
+		return nil, info, lr.tooLarge(lim)
 	}
 	if err != nil {
 		return nil, info, fmt.Errorf("decode %s image: %w: %w", format, ErrUnreadable, err)
@@ -101,6 +106,52 @@ func Decode(r io.Reader, lim Limits) (img image.Image, info Info, err error) {
 	}
 	info.BitDepth = bitDepth(img)
 	return img, info, nil
+}
+
+// readBuffer is the size of the buffer between the file and the decoders.
+const readBuffer = 64 << 10
+
+// decodePNG is Decode for a PNG: the chunks before the image data are the
+// header (errors there read "decode image header"), then the pixels.
+func decodePNG(br io.Reader, lr *limitedReader, lim Limits) (img image.Image, info Info, err error) {
+	defer func() {
+		if p := recover(); p != nil {
+			img, err = nil, fmt.Errorf("decode png image: %w: decoder failed: %v", ErrUnreadable, p)
+		}
+	}()
+	d := newPNGReader(br)
+	err = d.readHeader()
+	if lr.over {
+		return nil, info, lr.tooLarge(lim)
+	}
+	if err != nil {
+		return nil, info, fmt.Errorf("decode image header: %w: %w", ErrUnreadable, err)
+	}
+	info = Info{Format: "png", Width: d.hdr.width, Height: d.hdr.height}
+	if err := checkSize(d.hdr.width, d.hdr.height, lim); err != nil {
+		return nil, info, err
+	}
+	img, err = d.decodePixels()
+	if lr.over {
+		return nil, info, lr.tooLarge(lim)
+	}
+	if err != nil {
+		return nil, info, fmt.Errorf("decode png image: %w: %w", ErrUnreadable, err)
+	}
+	info.BitDepth = bitDepth(img)
+	return img, info, nil
+}
+
+// checkSize refuses a header's size that is not positive or above the
+// pixel limit.
+func checkSize(w, h int, lim Limits) error {
+	if w <= 0 || h <= 0 {
+		return fmt.Errorf("decode image header: %w: size %d×%d", ErrUnreadable, w, h)
+	}
+	if int64(w)*int64(h) > lim.MaxPixels {
+		return &TooLargeError{Width: w, Height: h, MaxPixels: lim.MaxPixels, MaxBytes: lim.MaxBytes}
+	}
+	return nil
 }
 
 func decodeConfig(r io.Reader) (cfg image.Config, format string, err error) {
@@ -129,6 +180,11 @@ type limitedReader struct {
 	over bool
 }
 
+// tooLarge is the error of a file over the byte limit.
+func (l *limitedReader) tooLarge(lim Limits) error {
+	return &TooLargeError{MaxBytes: lim.MaxBytes, MaxPixels: lim.MaxPixels, Bytes: true}
+}
+
 func (l *limitedReader) Read(p []byte) (int, error) {
 	if l.left <= 0 {
 		var one [1]byte
@@ -149,7 +205,9 @@ func (l *limitedReader) Read(p []byte) (int, error) {
 
 // bitDepth is 16 for the image types that carry 16-bit samples, else 8.
 func bitDepth(img image.Image) int {
-	switch img.(type) {
+	switch m := img.(type) {
+	case *lumaImage:
+		return m.depth
 	case *image.Gray16, *image.RGBA64, *image.NRGBA64:
 		return 16
 	}

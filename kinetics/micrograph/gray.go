@@ -83,6 +83,8 @@ func toPlane(img image.Image, bg *background) (p *plane, lo, hi uint16) {
 
 func convertRow(img image.Image, x0, y int, dst []uint16) {
 	switch m := img.(type) {
+	case *lumaImage:
+		copy(dst, m.rowFrom(x0, y))
 	case *image.Gray:
 		src := m.Pix[m.PixOffset(x0, y):]
 		for i := range dst {

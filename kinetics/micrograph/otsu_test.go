@@ -59,6 +59,16 @@ func nativeHistogram(t *testing.T, img image.Image) []uint64 {
 			h[int(m.Pix[i])<<8|int(m.Pix[i+1])]++
 		}
 		return h
+	case *lumaImage: // a PNG from this package's decoder
+		h := make([]uint64, 1<<m.depth)
+		unit := 1
+		if m.depth == 8 {
+			unit = 257
+		}
+		for _, v := range m.pix {
+			h[int(v)/unit]++
+		}
+		return h
 	}
 	t.Fatalf("unexpected image type %T", img)
 	return nil

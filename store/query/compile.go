@@ -24,6 +24,19 @@ type Schema struct {
 	Metrics map[string]bool // outcome metrics (table outcomes)
 	// RunID is the SQL of the run's id, e.g. "r.id".
 	RunID string
+	// Summary, when not nil, is a one-row-per-run summary the query
+	// joins: names it has a column for are read from that column, every
+	// other parameter or metric from its table of (name, run_id, value)
+	// rows, instead of run_params and outcomes.
+	Summary *Summary
+}
+
+// Summary is where a query with a run summary reads parameters and
+// metrics (see Schema.Summary).
+type Summary struct {
+	Params  map[string]string // parameter name → the SQL of its column
+	Metrics map[string]string // metric name → the SQL of its column (the mean)
+	Extra   string            // table of (name, run_id, value) for the rest
 }
 
 var sqlOps = map[string]string{"=": "=", "!=": "<>", "<": "<", "<=": "<=", ">": ">", ">=": ">="}
@@ -167,6 +180,22 @@ func compare(b *strings.Builder, args *[]any, c *Compare, s Schema, src string) 
 		return &Error{src, c.VPos, fmt.Sprintf("%s is a number; give a number, not %q", c.Name, c.Text)}
 	case c.IsBool:
 		return &Error{src, c.VPos, fmt.Sprintf("%s is a number; give a number, not %s", c.Name, strconv.FormatBool(c.Num != 0))}
+	}
+	if sm := s.Summary; sm != nil {
+		col, ok := sm.Params[c.Name]
+		if !isParam {
+			col, ok = sm.Metrics[c.Name]
+		}
+		if ok {
+			// a run without the value fails the comparison, and so
+			// passes its negation, as with IN below
+			b.WriteString("(" + col + " IS NOT NULL AND " + col + " " + op + " ?)")
+			*args = append(*args, c.Num)
+			return nil
+		}
+		b.WriteString(s.RunID + " IN (SELECT run_id FROM " + sm.Extra + " WHERE name = ? AND value " + op + " ?)")
+		*args = append(*args, c.Name, c.Num)
+		return nil
 	}
 	if isParam {
 		b.WriteString(s.RunID + " IN (SELECT run_id FROM run_params WHERE name = ? AND value " + op + " ?)")

@@ -95,7 +95,7 @@ type token struct {
 func describe(t token) string {
 	switch t.kind {
 	case tEOF:
-		return "the end"
+		return "end of filter"
 	case tStr:
 		return strconv.Quote(t.text)
 	}

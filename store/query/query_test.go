@@ -70,7 +70,7 @@ func TestErrors(t *testing.T) {
 		{"unit on number", `coverage > 90%`, 14, `unexpected character '%'`},
 		{"unit letters", `growth_temperature_c > 1000C`, 24, `values take no unit`},
 		{"unclosed paren", `(coverage > 0.5`, 16, `want ")" to close the "(" at col 1`},
-		{"dangling and", `coverage > 0.5 and`, 19, "unexpected the end"},
+		{"dangling and", `coverage > 0.5 and`, 19, "unexpected end of filter"},
 		{"text column number", `status = 3`, 10, "status holds text"},
 		{"metric string", `coverage = "high"`, 12, "coverage is a number"},
 		{"bool column number", `override = 1`, 12, "override is true or false"},

@@ -145,14 +145,25 @@ func (s *DB) Backup(ctx context.Context, path string) error {
 }
 
 // Check runs the back end's integrity checks, then checks the run codes
-// and their counters (see checkCodes).
+// and their counters (see checkCodes) and that every derived table agrees
+// with the runs (see checkDerived; db check --repair rebuilds them).
 func (s *DB) Check(ctx context.Context) ([]string, error) {
 	probs, err := s.d.Check(ctx, s.db)
 	if err != nil {
 		return nil, err
 	}
 	codes, err := checkCodes(ctx, s.db)
-	return append(probs, codes...), err
+	if err != nil {
+		return nil, err
+	}
+	probs = append(probs, codes...)
+	q, end, err := s.d.Read(ctx, s.db)
+	if err != nil {
+		return nil, err
+	}
+	defer end()
+	derived, err := checkDerived(ctx, q)
+	return append(probs, derived...), err
 }
 
 // writable returns store.ErrReadOnly for a log opened read-only.

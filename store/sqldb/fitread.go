@@ -13,9 +13,10 @@ var _ store.FitReader = (*DB)(nil)
 
 // FitRuns reads, for every run that passes the filter and has an outcome
 // of one of the metrics, its code, snapshot hash, outcomes of those
-// metrics and actuals: what a calibration fit needs (see store.FitReader),
-// one narrow query per table and chunk.
-func (s *DB) FitRuns(ctx context.Context, f store.Filter, metrics []string, each func(store.RunRecord) error) error {
+// metrics, actuals and, with pk.Version > 0, its stored profile (joined
+// from the profiles table): what a calibration fit needs (see
+// store.FitReader), one narrow query per table and chunk.
+func (s *DB) FitRuns(ctx context.Context, f store.Filter, metrics []string, pk store.ProfileKey, each func(store.RunRecord, []byte) error) error {
 	if len(metrics) == 0 {
 		return nil
 	}
@@ -35,36 +36,64 @@ func (s *DB) FitRuns(ctx context.Context, f store.Filter, metrics []string, each
 		margs[i] = m
 	}
 	args = append(margs, args...)
-	qs := s.d.Rebind("SELECT r.id, r.code, r.recipe_sha256, r.furnace_sha256 FROM runs r" + w + " AND r.id > ? ORDER BY r.id LIMIT ?")
+	col, join, jargs := profileJoin(pk)
+	args = append(jargs, args...)
+	qs := s.d.Rebind("SELECT r.id, r.code, r.recipe_sha256, r.furnace_sha256, " + col + " FROM runs r" + join + w + " AND r.id > ? ORDER BY r.id LIMIT ?")
+	// inChunks hands each chunk's records to each in order; profs holds
+	// the chunk's profiles in the same order and k counts them out.
+	var profs [][]byte
+	k := 0
 	return inChunks(f.Limit, func(last int64, n int) ([]*store.RunRecord, []int64, error) {
-		recs, ids, err := s.fitRuns(ctx, q, qs, append(args, last, n))
+		recs, ids, ps, err := s.fitRuns(ctx, q, qs, append(args, last, n))
 		if err == nil && len(recs) > 0 {
 			err = s.fitChildren(ctx, q, ids, recs, margs, marks)
 		}
+		profs, k = ps, 0
 		return recs, ids, err
-	}, each)
+	}, func(r store.RunRecord) error {
+		k++
+		return each(r, profs[k-1])
+	})
 }
 
-// fitRuns reads one chunk of FitRuns' run rows.
-func (s *DB) fitRuns(ctx context.Context, q Querier, qs string, args []any) ([]*store.RunRecord, []int64, error) {
+// profileJoin returns the profile column of FitRuns' run query, the join
+// that gives it and the join's arguments: the profile of pk.Version on
+// pk.Furnace, or on the run's own furnace snapshot when pk.Furnace is "";
+// a NULL column and no join when pk.Version is 0.
+func profileJoin(pk store.ProfileKey) (col, join string, args []any) {
+	if pk.Version <= 0 {
+		return "NULL", "", nil
+	}
+	furnace := "r.furnace_sha256"
+	if pk.Furnace != "" {
+		furnace, args = "?", []any{pk.Furnace}
+	}
+	join = " LEFT JOIN profiles p ON p.recipe_sha256 = r.recipe_sha256 AND p.furnace_sha256 = " + furnace + " AND p.version = ?"
+	return "p.data", join, append(args, pk.Version)
+}
+
+// fitRuns reads one chunk of FitRuns' run rows and their profiles.
+func (s *DB) fitRuns(ctx context.Context, q Querier, qs string, args []any) ([]*store.RunRecord, []int64, [][]byte, error) {
 	rows, err := q.QueryContext(ctx, qs, args...)
 	if err != nil {
-		return nil, nil, err
+		return nil, nil, nil, err
 	}
 	defer rows.Close()
 	var recs []*store.RunRecord
 	var ids []int64
+	var profs [][]byte
 	for rows.Next() {
 		var id int64
 		var hash, furnace sql.NullString
+		var prof []byte
 		r := &store.RunRecord{}
-		if err := rows.Scan(&id, &r.Code, &hash, &furnace); err != nil {
-			return nil, nil, err
+		if err := rows.Scan(&id, &r.Code, &hash, &furnace, &prof); err != nil {
+			return nil, nil, nil, err
 		}
 		r.RecipeHash, r.FurnaceHash = hash.String, furnace.String
-		recs, ids = append(recs, r), append(ids, id)
+		recs, ids, profs = append(recs, r), append(ids, id), append(profs, prof)
 	}
-	return recs, ids, rows.Err()
+	return recs, ids, profs, rows.Err()
 }
 
 // fitChildren fills the chosen outcomes and the actuals of a chunk of runs

@@ -87,15 +87,27 @@ func Migrate(ctx context.Context, db *sql.DB, d Dialect, to int) error {
 	if cur > len(ms) {
 		return fmt.Errorf("database schema version %d, this foilrun knows up to %d: %w", cur, len(ms), store.ErrSchemaTooNew)
 	}
-	for _, m := range ms[cur:to] {
-		if err := apply(ctx, db, d, m); err != nil {
+	for i, m := range ms[cur:to] {
+		var after func(context.Context, execer, Dialect) error
+		if cur+i+1 == to && cur < SummaryVersion && to >= SummaryVersion {
+			after = rebuildSummary
+		}
+		if err := apply(ctx, db, d, m, after); err != nil {
 			return err
 		}
 	}
 	return nil
 }
 
-func apply(ctx context.Context, db *sql.DB, d Dialect, m migration) error {
+// SummaryVersion is the migration that creates the run summary. A run of
+// migrations that passes it fills the summary in the transaction of its
+// last migration, from the runs as they are then, so a killed process
+// leaves either the old version or the new one with its summary filled.
+const SummaryVersion = 7
+
+// apply runs one migration and then after (when not nil) in one
+// transaction.
+func apply(ctx context.Context, db *sql.DB, d Dialect, m migration, after func(context.Context, execer, Dialect) error) error {
 	tx, err := db.BeginTx(ctx, nil)
 	if err != nil {
 		return fmt.Errorf("migrate to %d: %w", m.version, err)
@@ -110,6 +122,11 @@ func apply(ctx context.Context, db *sql.DB, d Dialect, m migration) error {
 	}
 	if _, err := tx.ExecContext(ctx, m.sql); err != nil {
 		return fmt.Errorf("migrate to %d (%s): %w", m.version, m.name, err)
+	}
+	if after != nil {
+		if err := after(ctx, tx, d); err != nil {
+			return fmt.Errorf("migrate to %d: %w", m.version, err)
+		}
 	}
 	if _, err := tx.ExecContext(ctx, d.Rebind(`INSERT INTO schema_version (version, applied_at) VALUES (?, ?)`), m.version, formatTime(time.Now())); err != nil {
 		return fmt.Errorf("migrate to %d: %w", m.version, err)

@@ -53,8 +53,20 @@ func scanRun(rows *sql.Rows) (int64, store.Run, error) {
 	return id, r, errors.Join(err1, err2, err3)
 }
 
-// where compiles the filter to " WHERE …" (or "") and its arguments.
+// where compiles the filter to " WHERE …" (or "") and its arguments; a
+// parameter or metric is read from run_params and outcomes.
 func (s *DB) where(ctx context.Context, q Querier, f store.Filter, extra string) (string, []any, error) {
+	return s.compileWhere(ctx, q, f, extra, false)
+}
+
+// whereSummary is where for a query that joins run_summary as su (and
+// runs as r): a name with a column of the summary is read from it, any
+// other from run_summary_extra.
+func (s *DB) whereSummary(ctx context.Context, q Querier, f store.Filter, extra string) (string, []any, error) {
+	return s.compileWhere(ctx, q, f, extra, true)
+}
+
+func (s *DB) compileWhere(ctx context.Context, q Querier, f store.Filter, extra string, summary bool) (string, []any, error) {
 	var parts []string
 	if extra != "" {
 		parts = append(parts, extra)
@@ -65,12 +77,21 @@ func (s *DB) where(ctx context.Context, q Querier, f store.Filter, extra string)
 		if err != nil {
 			return "", nil, err
 		}
+		if summary {
+			sch.Summary = summarySchema
+		}
 		sqlText, a, err := query.CompileAll(f.Where, sch)
 		if err != nil {
 			return "", nil, fmt.Errorf("%w: %w", err, store.ErrInvalid)
 		}
 		parts = append(parts, sqlText)
 		args = append(args, a...)
+	}
+	if len(f.Codes) > 0 {
+		parts = append(parts, "r.code IN (?"+strings.Repeat(", ?", len(f.Codes)-1)+")")
+		for _, c := range f.Codes {
+			args = append(args, c)
+		}
 	}
 	if len(parts) == 0 {
 		return "", nil, nil
@@ -128,16 +149,29 @@ func (s *DB) names(ctx context.Context, q Querier) ([]store.Name, error) {
 	return out, rows.Err()
 }
 
-// List returns the runs that pass the filter, oldest first.
+// List returns the runs that pass the filter, oldest first (newest first
+// with f.Newest), from f.Offset on; a filter reads parameters and metrics
+// from the run summary.
 func (s *DB) List(ctx context.Context, f store.Filter) ([]store.Run, error) {
-	w, args, err := s.where(ctx, s.db, f, "")
+	w, args, err := s.whereSummary(ctx, s.db, f, "")
 	if err != nil {
 		return nil, err
 	}
-	q := runSelect + w + " ORDER BY r.id"
-	if f.Limit > 0 {
-		q += " LIMIT ?"
-		args = append(args, f.Limit)
+	q := runSelect
+	if w != "" {
+		q += " JOIN run_summary su ON su.run_id = r.id"
+	}
+	q += w + " ORDER BY r.id"
+	if f.Newest {
+		q += " DESC"
+	}
+	if f.Limit > 0 || f.Offset > 0 {
+		limit := int64(math.MaxInt64) // SQLite takes an OFFSET only after a LIMIT
+		if f.Limit > 0 {
+			limit = int64(f.Limit)
+		}
+		q += " LIMIT ? OFFSET ?"
+		args = append(args, limit, max(f.Offset, 0))
 	}
 	rows, err := s.db.QueryContext(ctx, s.d.Rebind(q), args...)
 	if err != nil {
@@ -153,6 +187,21 @@ func (s *DB) List(ctx context.Context, f store.Filter) ([]store.Run, error) {
 		out = append(out, r)
 	}
 	return out, rows.Err()
+}
+
+// Count returns how many runs pass the filter's Where and Codes.
+func (s *DB) Count(ctx context.Context, f store.Filter) (int, error) {
+	w, args, err := s.whereSummary(ctx, s.db, f, "")
+	if err != nil {
+		return 0, err
+	}
+	q := "SELECT count(*) FROM runs r"
+	if w != "" {
+		q += " JOIN run_summary su ON su.run_id = r.id"
+	}
+	var n int
+	err = s.db.QueryRowContext(ctx, s.d.Rebind(q+w), args...).Scan(&n)
+	return n, err
 }
 
 // Renamed returns the codes of the runs renumbered from the code old.

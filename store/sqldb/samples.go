@@ -4,7 +4,6 @@ import (
 	"context"
 	"database/sql"
 	"fmt"
-	"math"
 	"strings"
 
 	"github.com/foilrun/foilrun/store"
@@ -14,33 +13,45 @@ import (
 const maxSampleParams = 60
 
 // Samples returns the metric and parameters of every run that passes the
-// filter and has the metric, in run order. One query walks the metric's
-// outcomes in the outcomes_metric index, which is already in run order (no
-// sort, no materialised mean per run), looks up each run's code and
-// parameters by primary key, and the mean over a run's outcomes is taken
-// here; one slice holds every run's parameter values.
+// filter and has the metric, in run order, from the run summary: one row
+// per run of run_summary (su) in its primary-key order, with a lookup in
+// run_summary_extra by (name, run) only for a name that has no column of
+// its own, and the runs table joined only when a filter needs it. One
+// slice holds every run's parameter values.
 func (s *DB) Samples(ctx context.Context, f store.Filter, metric string, params []string) ([]store.Sample, error) {
 	if len(params) > maxSampleParams {
 		return nil, fmt.Errorf("samples: %d parameters, at most %d: %w", len(params), maxSampleParams, store.ErrInvalid)
 	}
-	var b strings.Builder
-	b.WriteString("SELECT o.run_id, r.code, o.value")
-	for i := range params {
-		fmt.Fprintf(&b, ", p%d.value", i)
-	}
-	b.WriteString(" FROM outcomes o JOIN runs r ON r.id = o.run_id")
+	var sel, from strings.Builder
 	var args []any
+	from.WriteString(" FROM run_summary su")
+	has := ""
+	if metricColumns[metric] {
+		sel.WriteString("SELECT su.code, su." + metric)
+		has = "su." + metric + " IS NOT NULL"
+	} else {
+		sel.WriteString("SELECT su.code, m.value")
+		from.WriteString(" JOIN run_summary_extra m ON m.name = ? AND m.run_id = su.run_id")
+		args = append(args, metric)
+	}
 	for i, p := range params {
-		fmt.Fprintf(&b, " LEFT JOIN run_params p%d ON p%d.run_id = o.run_id AND p%d.name = ?", i, i, i)
+		if paramColumns[p] {
+			sel.WriteString(", su." + p)
+			continue
+		}
+		fmt.Fprintf(&sel, ", x%d.value", i)
+		fmt.Fprintf(&from, " LEFT JOIN run_summary_extra x%d ON x%d.name = ? AND x%d.run_id = su.run_id", i, i, i)
 		args = append(args, p)
 	}
-	w, wargs, err := s.where(ctx, s.db, f, "o.metric = ?")
+	if len(f.Where) > 0 || len(f.Codes) > 0 {
+		from.WriteString(" JOIN runs r ON r.id = su.run_id")
+	}
+	w, wargs, err := s.whereSummary(ctx, s.db, f, has)
 	if err != nil {
 		return nil, err
 	}
-	b.WriteString(w + " ORDER BY o.run_id")
-	args = append(append(args, metric), wargs...)
-	rows, err := s.db.QueryContext(ctx, s.d.Rebind(b.String()), args...)
+	q := sel.String() + from.String() + w + " ORDER BY su.run_id"
+	rows, err := s.db.QueryContext(ctx, s.d.Rebind(q), append(args, wargs...)...)
 	if err != nil {
 		return nil, fmt.Errorf("samples of %s: %w", metric, err)
 	}
@@ -48,73 +59,33 @@ func (s *DB) Samples(ctx context.Context, f store.Filter, metric string, params 
 	return scanSamples(rows, len(params))
 }
 
-// scanSamples reads the rows of Samples (run id, code, one outcome value,
-// then the parameters), one or more consecutive rows per run.
+// scanSamples reads the rows of Samples (code, metric, then the
+// parameters), one row per run.
 func scanSamples(rows *sql.Rows, nparams int) ([]store.Sample, error) {
 	var out []store.Sample
 	var vals []float64 // the parameters of every run, nparams each
-	var ms []float64   // the metric values of the current run
-	flush := func() {
-		if len(ms) > 0 {
-			out[len(out)-1].Metric = meanOf(ms)
-		}
-	}
-	var id, last int64
 	var code string
 	var m float64
 	ps := make([]sql.NullFloat64, nparams)
-	dest := make([]any, 3+nparams)
-	dest[0], dest[1], dest[2] = &id, &code, &m
+	dest := make([]any, 2+nparams)
+	dest[0], dest[1] = &code, &m
 	for i := range ps {
-		dest[3+i] = &ps[i]
+		dest[2+i] = &ps[i]
 	}
 	for rows.Next() {
 		if err := rows.Scan(dest...); err != nil {
 			return nil, err
 		}
-		if len(out) == 0 || id != last {
-			flush()
-			ms, last = ms[:0], id
-			for _, p := range ps {
-				vals = append(vals, floatOr(p))
-			}
-			out = append(out, store.Sample{Code: code})
+		for _, p := range ps {
+			vals = append(vals, floatOr(p))
 		}
-		ms = append(ms, m)
+		out = append(out, store.Sample{Code: code, Metric: m})
 	}
 	if err := rows.Err(); err != nil {
 		return nil, err
 	}
-	flush()
 	for i := range out {
 		out[i].Params = vals[i*nparams : (i+1)*nparams : (i+1)*nparams]
 	}
 	return out, nil
-}
-
-// meanOf returns the mean of v (not empty), summed with the
-// Kahan–Babuška–Neumaier compensation, as SQLite's AVG does:
-//
-//	t = s + x;  c += (s − t) + x  if |s| ≥ |x|, else (x − t) + s;  s = t
-//	mean = (s + c) / n
-//
-// References:
-//
-//	A. Neumaier, "Rundungsfehleranalyse einiger Verfahren zur Summation
-//	endlicher Summen", ZAMM 54 (1974) 39–51.
-func meanOf(v []float64) float64 {
-	if len(v) == 1 {
-		return v[0]
-	}
-	var s, c float64
-	for _, x := range v {
-		t := s + x
-		if math.Abs(s) >= math.Abs(x) {
-			c += (s - t) + x
-		} else {
-			c += (x - t) + s
-		}
-		s = t
-	}
-	return (s + c) / float64(len(v))
 }

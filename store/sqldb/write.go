@@ -25,6 +25,7 @@ type writer struct {
 	runStmts map[int]*sql.Stmt // INSERT of n runs
 	pending  []queued          // checked runs not yet inserted
 	seq      int               // runs queued so far
+	touched  []int64           // runs whose summary commit rewrites
 }
 
 func (s *DB) begin(ctx context.Context) (*writer, error) {
@@ -77,6 +78,9 @@ func (w *writer) commit(ctx context.Context) error {
 		if err := b.flush(ctx); err != nil {
 			return err
 		}
+	}
+	if err := summarise(ctx, w.tx, w.s.d, w.touched); err != nil {
+		return err
 	}
 	return w.tx.Commit()
 }
@@ -265,6 +269,7 @@ func (w *writer) flushRuns(ctx context.Context) ([]string, error) {
 		}
 		delete(ids, p.rec.Code) // a code twice in one batch: the second has no row
 		codes[i] = p.rec.Code
+		w.touched = append(w.touched, id)
 		if err := w.addRows(ctx, id, p.rec); err != nil {
 			return nil, &runError{p.n, err}
 		}
@@ -527,6 +532,7 @@ func (s *DB) onRun(ctx context.Context, code string, fn func(w *writer, id int64
 		if err != nil {
 			return err
 		}
+		w.touched = append(w.touched, id)
 		if err := fn(w, id, st); err != nil {
 			return err
 		}

@@ -14,3 +14,11 @@ func TestFitRuns(t *testing.T) {
 		return db
 	})
 }
+
+// TestProfiles checks the stored kinetics profiles and their read by fit.
+func TestProfiles(t *testing.T) {
+	storetest.Profiles(t, func(t *testing.T) store.RunLog {
+		db, _ := openTemp(t)
+		return db
+	})
+}

@@ -14,7 +14,7 @@ import (
 
 // SchemaVersion is the schema version the migrations of every back end
 // reach.
-const SchemaVersion = 6
+const SchemaVersion = 8
 
 // Furnace and site files of the snapshot test: two versions of one
 // furnace (the pump speed halved between them) and a site.

@@ -78,7 +78,10 @@ func FitRuns(t *testing.T, open Opener) {
 				}
 			}
 			var got []store.RunRecord
-			err := fr.FitRuns(ctx, store.Filter{Where: c.where}, c.metrics, func(r store.RunRecord) error {
+			err := fr.FitRuns(ctx, store.Filter{Where: c.where}, c.metrics, store.ProfileKey{}, func(r store.RunRecord, prof []byte) error {
+				if prof != nil {
+					t.Errorf("run %s: got a profile of %d bytes without asking for one", r.Code, len(prof))
+				}
 				got = append(got, r)
 				return nil
 			})

@@ -49,6 +49,7 @@ func Run(t *testing.T, open Opener) {
 		{"ImportValidated", testImportValidated},
 		{"BadInput", testBadInput},
 		{"ListBestRank", testListBestRank},
+		{"Page", testPage},
 		{"SamplesMean", testSamplesMean},
 		{"TextOrder", testTextOrder},
 		{"ExportImportJSON", testExportImportJSON},

@@ -24,7 +24,15 @@ type HeatMap struct {
 	Blocked               [][]bool    // Blocked[iy][ix]: outside the furnace's limits (may be nil)
 	BlockedLabel          string      // legend text of blocked cells, default "outside furnace limits"
 	MissingLabel          string      // legend text of NaN cells, default "no value"
+	// Points are marked on the map as open rings with one legend entry
+	// (e.g. the logged runs); a point outside the axes, or with a NaN
+	// coordinate, is left out and counted in the legend.
+	Points      []MapPoint
+	PointsLabel string // legend text of the points, default "logged runs"
 }
+
+// MapPoint is a point marked on a heat map, in the axes' units.
+type MapPoint struct{ X, Y float64 }
 
 // Heat map layout.
 const (
@@ -133,6 +141,10 @@ func WriteHeatMap(out io.Writer, name string, m HeatMap) error {
 	p.X.Min, p.X.Max = marks.xs[0], marks.xs[len(marks.xs)-1]
 	p.Y.Min, p.Y.Max = marks.ys[0], marks.ys[len(marks.ys)-1]
 	p.X.Tick.Marker, p.Y.Tick.Marker = LinearTicks{N: 7}, LinearTicks{N: 7}
+	inside := pointsInside(m.Points, p.X.Min, p.X.Max, p.Y.Min, p.Y.Max)
+	if len(inside) > 0 {
+		p.Add(pointMarks(inside))
+	}
 
 	bar := newPlot()
 	bar.HideX()
@@ -149,7 +161,11 @@ func WriteHeatMap(out io.Writer, name string, m HeatMap) error {
 	if len(missing) > 0 {
 		l.Add(orDefault(m.MissingLabel, "no value"), swatch{missingColor, false})
 	}
+	if len(m.Points) > 0 {
+		l.Add(pointsLegend(orDefault(m.PointsLabel, "logged runs"), len(inside), len(m.Points)), pointMarks(nil))
+	}
 	l.ThumbnailWidth = 5 * vg.Millimeter
+	entries := min(len(blocked), 1) + min(len(missing), 1) + min(len(m.Points), 1)
 	return save(out, name, heatWidth, heatHeight, func(dc draw.Canvas) error {
 		titled := drawTitle(crop(dc, dc.Min.X, dc.Min.Y, dc.Max.X-heatSide, dc.Max.Y), m.Title, 12)
 		dc = crop(dc, dc.Min.X, dc.Min.Y, dc.Max.X, titled.Max.Y)
@@ -158,8 +174,8 @@ func WriteHeatMap(out io.Writer, name string, m HeatMap) error {
 		data := p.DataCanvas(crop(dc, dc.Min.X+pad, dc.Min.Y+pad, dc.Max.X-heatSide, dc.Max.Y))
 		side := dc.Max.X - heatSide + 6*vg.Millimeter
 		legendH := vg.Length(0)
-		if len(blocked)+len(missing) > 0 {
-			legendH = 14 * vg.Millimeter
+		if entries > 0 {
+			legendH = vg.Length(entries)*5*vg.Millimeter + 4*vg.Millimeter
 		}
 		bar.Draw(crop(dc, side, data.Min.Y+legendH, side+22*vg.Millimeter, data.Max.Y))
 		l.Draw(crop(dc, side, data.Min.Y, dc.Max.X, data.Min.Y+legendH-2*vg.Millimeter))
@@ -252,4 +268,67 @@ func drawSwatch(c draw.Canvas, r vg.Rectangle, col color.Color, crossed bool) {
 	sty := draw.LineStyle{Color: color.Gray{0x20}, Width: vg.Points(0.8)}
 	c.StrokeLine2(sty, mx-in, my-in, mx+in, my+in)
 	c.StrokeLine2(sty, mx-in, my+in, mx+in, my-in)
+}
+
+// Point marks: a vermillion ring over a white one, readable on both ends
+// of the colour map.
+var (
+	pointRing = draw.GlyphStyle{Color: lineColors[1], Radius: vg.Points(3.5), Shape: ringGlyph{width: vg.Points(1.3)}}
+	pointHalo = draw.GlyphStyle{Color: color.White, Radius: vg.Points(3.5), Shape: ringGlyph{width: vg.Points(3)}}
+)
+
+// pointsInside returns the points within [x0, x1] × [y0, y1]; NaN
+// coordinates are outside.
+func pointsInside(pts []MapPoint, x0, x1, y0, y1 float64) plotter.XYs {
+	var in plotter.XYs
+	for _, q := range pts {
+		if q.X >= x0 && q.X <= x1 && q.Y >= y0 && q.Y <= y1 {
+			in = append(in, plotter.XY{X: q.X, Y: q.Y})
+		}
+	}
+	return in
+}
+
+// pointsLegend is the legend text of the points: the label and how many
+// are drawn, with how many were outside the map.
+func pointsLegend(label string, drawn, all int) string {
+	if drawn == all {
+		return fmt.Sprintf("%s (%d)", label, all)
+	}
+	return fmt.Sprintf("%s (%d; %d outside the map)", label, drawn, all-drawn)
+}
+
+// pointMarks draws the points as open rings; as a legend thumbnail, one
+// ring.
+type pointMarks plotter.XYs
+
+// Plot implements plot.Plotter.
+func (m pointMarks) Plot(c draw.Canvas, p *plot.Plot) {
+	x, y := p.Transforms(&c)
+	for _, q := range m {
+		at := vg.Point{X: x(q.X), Y: y(q.Y)}
+		c.DrawGlyph(pointHalo, at)
+		c.DrawGlyph(pointRing, at)
+	}
+}
+
+// Thumbnail implements plot.Thumbnailer.
+func (m pointMarks) Thumbnail(c *draw.Canvas) {
+	at := vg.Point{X: c.Min.X + (c.Max.Y-c.Min.Y)/2, Y: c.Center().Y}
+	c.DrawGlyph(pointHalo, at)
+	c.DrawGlyph(pointRing, at)
+}
+
+// ringGlyph is an open circle of a given line width (draw.RingGlyph's
+// width is fixed).
+type ringGlyph struct{ width vg.Length }
+
+// DrawGlyph implements draw.GlyphDrawer.
+func (g ringGlyph) DrawGlyph(c *draw.Canvas, sty draw.GlyphStyle, pt vg.Point) {
+	c.SetLineStyle(draw.LineStyle{Color: sty.Color, Width: g.width})
+	var p vg.Path
+	p.Move(vg.Point{X: pt.X + sty.Radius, Y: pt.Y})
+	p.Arc(pt, sty.Radius, 0, 2*math.Pi)
+	p.Close()
+	c.Stroke(p)
 }

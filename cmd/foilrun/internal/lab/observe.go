@@ -45,6 +45,12 @@ type Observations struct {
 	// Logged[i] reports whether Observations[i] was prepared on the run's
 	// logged conditions (else on its plan).
 	Logged []bool
+	// Derived are the profiles Collect derived because the log held none
+	// of this ProfileVersion for a run's recipe and furnace; Stored
+	// reports whether it stored them (false when the log is read-only: a
+	// caller may store them through a log opened for writing).
+	Derived []store.Profile
+	Stored  bool
 }
 
 // Counts returns how many observations were prepared on logged
@@ -61,57 +67,45 @@ func (o Observations) Counts() (logged, planned int) {
 // Collect reads the runs that pass filter, keeps those with a measured
 // coverage and/or nuclei density as chosen (the mean of the run's
 // measurements, converted to SI by recipe from the unit stored beside
-// each), rebuilds each run's plan with b, and prepares its kinetics
-// profile with the fit's start parameters: with src Logged on the run's
-// logged conditions where its furnace log gave actuals (LoggedPlan), on
-// the plan otherwise. A run whose plan cannot be
-// rebuilt for want of a snapshot is skipped; any other failure to rebuild
-// one (a missing furnace, a bad snapshot) is returned as an error.
+// each), and prepares each run's kinetics profile with the fit's start
+// parameters: with src Logged on the run's logged conditions where its
+// furnace log gave actuals (LoggedPlan, from the plan rebuilt with b), else
+// on the profile of its plan stored in the log (ProfileVersion, keyed by
+// the recipe snapshot and the furnace b's rule chooses), parsing no
+// recipe; a run without a stored profile has its plan rebuilt with b and
+// its profile derived (CarbonProfile, which prepares identically), and
+// Collect stores those profiles when the log takes writes (Derived,
+// Stored). A run whose plan cannot be rebuilt for want of a snapshot is
+// skipped; any other failure to rebuild one (a missing furnace, a bad
+// snapshot) is returned as an error.
 func Collect(ctx context.Context, b *Rebuilder, filter store.Filter, m Metrics, start kinetics.Params, src Source) (Observations, error) {
 	var out Observations
 	type run struct {
 		obs      kinetics.Observation
 		prof     kinetics.Profile
-		shared   *Rebuilt // the plan's own profile, prepared once; nil when logged
+		shared   string // the key of the plan's own profile, prepared once; "" when logged
 		repeated bool
 	}
 	var runs []run
-	profiles := map[*Rebuilt]kinetics.Profile{}
-	err := readRuns(ctx, b.log, filter, m, func(rec store.RunRecord) error {
-		o := kinetics.Observation{Label: rec.Code, Coverage: math.NaN(), NucleiDensity: math.NaN()}
-		var err error
-		if m.Coverage {
-			if o.Coverage, err = meanSI(rec, "coverage", recipe.Fraction); err != nil {
-				return err
-			}
+	c := newProfiles(b)
+	err := readRuns(ctx, b.log, filter, m, c.key(), func(rec store.RunRecord, data []byte) error {
+		o, repeated, err := observation(rec, m)
+		if err != nil || math.IsNaN(o.Coverage) && math.IsNaN(o.NucleiDensity) {
+			return err
 		}
-		if m.Density {
-			if o.NucleiDensity, err = meanSI(rec, "nuclei_density", recipe.AreaDensity); err != nil {
-				return err
-			}
-		}
-		if math.IsNaN(o.Coverage) && math.IsNaN(o.NucleiDensity) {
-			return nil
-		}
-		repeated := m.Coverage && count(rec, "coverage") > 1 || m.Density && count(rec, "nuclei_density") > 1
-		rb, err := b.Rebuild(ctx, rec)
-		if errors.Is(err, ErrNoSnapshot) {
+		if rec.RecipeHash == "" {
 			out.Skipped = append(out.Skipped, Skip{Code: rec.Code, Reason: ErrNoSnapshot.Error()})
 			return nil
 		}
+		key, prof, logged, err := c.profile(ctx, rec, data, src)
 		if err != nil {
 			return err
 		}
-		if plan, logged := LoggedPlan(rb.Plan, rec.Actuals, src); logged {
-			runs = append(runs, run{obs: o, prof: kinetics.NewProfile(plan)})
+		if logged {
+			runs = append(runs, run{obs: o, prof: prof})
 			return nil
 		}
-		prof, ok := profiles[rb]
-		if !ok {
-			prof = kinetics.NewProfile(rb.Plan)
-			profiles[rb] = prof
-		}
-		runs = append(runs, run{obs: o, prof: prof, shared: rb, repeated: repeated})
+		runs = append(runs, run{obs: o, prof: prof, shared: key, repeated: repeated})
 		return nil
 	})
 	if err != nil {
@@ -121,12 +115,12 @@ func Collect(ctx context.Context, b *Rebuilder, filter store.Filter, m Metrics, 
 		pr  *kinetics.Prepared
 		err error
 	}
-	shared := map[*Rebuilt]prepared{} // a Prepared is read-only once made
+	shared := map[string]prepared{} // a Prepared is read-only once made
 	for _, r := range runs {
 		p, ok := shared[r.shared]
-		if !ok || r.shared == nil {
+		if !ok || r.shared == "" {
 			p.pr, p.err = kinetics.Prepare(r.prof, start, kinetics.Options{})
-			if r.shared != nil {
+			if r.shared != "" {
 				shared[r.shared] = p
 			}
 		}
@@ -136,22 +130,48 @@ func Collect(ctx context.Context, b *Rebuilder, filter store.Filter, m Metrics, 
 		}
 		r.obs.Prepared = p.pr
 		out.Observations = append(out.Observations, r.obs)
-		out.Logged = append(out.Logged, r.shared == nil)
+		out.Logged = append(out.Logged, r.shared == "")
 		if r.repeated {
 			out.Repeated++
 		}
+	}
+	out.Derived = c.derived
+	if err := c.store(ctx); err == nil {
+		out.Stored = len(c.derived) > 0
+	} else if !errors.Is(err, store.ErrReadOnly) {
+		return Observations{}, err
 	}
 	out.Furnaces = b.Used()
 	return out, nil
 }
 
+// observation is a run's measured means of the chosen metrics (NaN where
+// not measured) and whether one of them is a mean of several.
+func observation(rec store.RunRecord, m Metrics) (kinetics.Observation, bool, error) {
+	o := kinetics.Observation{Label: rec.Code, Coverage: math.NaN(), NucleiDensity: math.NaN()}
+	var err error
+	if m.Coverage {
+		if o.Coverage, err = meanSI(rec, "coverage", recipe.Fraction); err != nil {
+			return o, false, err
+		}
+	}
+	if m.Density {
+		if o.NucleiDensity, err = meanSI(rec, "nuclei_density", recipe.AreaDensity); err != nil {
+			return o, false, err
+		}
+	}
+	repeated := m.Coverage && count(rec, "coverage") > 1 || m.Density && count(rec, "nuclei_density") > 1
+	return o, repeated, nil
+}
+
 // readRuns calls each for the runs that pass filter: through the log's
 // narrow read of what a fit needs (store.FitReader, the runs with one of
-// the chosen metrics) when it has one, else through Export.
-func readRuns(ctx context.Context, l store.RunLog, filter store.Filter, m Metrics, each func(store.RunRecord) error) error {
+// the chosen metrics, with their stored profiles of pk) when it has one,
+// else through Export (and no profiles).
+func readRuns(ctx context.Context, l store.RunLog, filter store.Filter, m Metrics, pk store.ProfileKey, each func(store.RunRecord, []byte) error) error {
 	fr, ok := l.(store.FitReader)
 	if !ok {
-		return l.Export(ctx, filter, each)
+		return l.Export(ctx, filter, func(rec store.RunRecord) error { return each(rec, nil) })
 	}
 	var metrics []string
 	if m.Coverage {
@@ -160,7 +180,7 @@ func readRuns(ctx context.Context, l store.RunLog, filter store.Filter, m Metric
 	if m.Density {
 		metrics = append(metrics, "nuclei_density")
 	}
-	return fr.FitRuns(ctx, filter, metrics, each)
+	return fr.FitRuns(ctx, filter, metrics, pk, each)
 }
 
 // count is how many measurements of the metric the run has.

@@ -117,6 +117,21 @@ func (b *Rebuilder) Rebuild(ctx context.Context, rec store.RunRecord) (*Rebuilt,
 	return rb, nil
 }
 
+// countStored counts a run whose stored profile stands in for its plan
+// against the furnace the rule gives it (the override, else its furnace
+// snapshot, loaded once), as Rebuild would.
+func (b *Rebuilder) countStored(ctx context.Context, rec store.RunRecord) error {
+	key := b.override
+	if key == "" {
+		var err error
+		if key, err = b.loadSnapshot(ctx, rec.FurnaceHash); err != nil {
+			return fmt.Errorf("run %s: %w", rec.Code, err)
+		}
+	}
+	b.used[key]++
+	return nil
+}
+
 // parsedRecipe is a recipe snapshot, parsed, and the file it was read
 // from.
 type parsedRecipe struct {

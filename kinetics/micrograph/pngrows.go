@@ -1,0 +1,288 @@
+package micrograph
+
+import (
+	"fmt"
+	"image/color"
+	"io"
+	"sync/atomic"
+)
+
+// PNG filter types (ISO/IEC 15948:2004, section 9.2).
+const (
+	filterNone = iota
+	filterSub
+	filterUp
+	filterAverage
+	filterPaeth
+)
+
+// rowBatch is a run of consecutive filtered rows passed from the
+// inflating goroutine to the one that unfilters and converts them.
+type rowBatch struct {
+	y0, n int    // first row and number of rows
+	buf   []byte // n rows of rowSize bytes, each led by its filter type
+}
+
+// Pipeline sizes: a batch holds about 64 KiB of rows; 4 batches are in
+// flight, so inflating runs ahead of flattening by at most 3 batches.
+const (
+	batchBytes      = 64 << 10
+	batchesInFlight = 4
+)
+
+// readRows inflates the rows from z into batches on this goroutine while a
+// second goroutine unfilters them and writes their luma into img, row by
+// row, in order. The first error of either side stops both.
+func (d *pngReader) readRows(z io.Reader, img *lumaImage) error {
+	bpp := d.hdr.bitsPerPixel()
+	rowSize := 1 + (bpp*d.hdr.width+7)/8
+	perBatch := max(1, batchBytes/rowSize)
+	conv := rowConverter(&d.hdr)
+
+	work := make(chan *rowBatch, batchesInFlight)
+	free := make(chan *rowBatch, batchesInFlight)
+	for range batchesInFlight {
+		free <- &rowBatch{buf: make([]byte, perBatch*rowSize)}
+	}
+	var failed atomic.Bool
+	done := make(chan error, 1)
+	go func() {
+		defer func() {
+			if p := recover(); p != nil {
+				failed.Store(true)
+				for b := range work {
+					free <- b
+				}
+				done <- fmt.Errorf("decoder failed: %v", p)
+			}
+		}()
+		done <- unfilterRows(work, free, &failed, img, rowSize, (bpp+7)/8, conv)
+	}()
+
+	var err error
+	for y := 0; y < d.hdr.height && !failed.Load(); {
+		b := <-free
+		b.y0, b.n = y, min(perBatch, d.hdr.height-y)
+		if _, err = io.ReadFull(z, b.buf[:b.n*rowSize]); err != nil {
+			if err == io.EOF || err == io.ErrUnexpectedEOF {
+				err = pngFormatError("not enough pixel data")
+			}
+			break
+		}
+		work <- b
+		y += b.n
+	}
+	close(work)
+	if uerr := <-done; uerr != nil {
+		return uerr
+	}
+	return err
+}
+
+// unfilterRows is the consumer side of readRows: it reverses each row's
+// filter against the row above (kept in prev) and converts it with conv.
+// After an error it sets failed and goes on returning batches unread, so
+// that the producer never blocks.
+func unfilterRows(work <-chan *rowBatch, free chan<- *rowBatch, failed *atomic.Bool,
+	img *lumaImage, rowSize, bpp int, conv func(dst []uint16, src []byte)) error {
+	var err error
+	last := make([]byte, rowSize-1) // the row above the first is all zeros (section 9.2)
+	prev := last
+	for b := range work {
+		for i := 0; i < b.n && err == nil; i++ {
+			row := b.buf[i*rowSize : (i+1)*rowSize]
+			if err = unfilter(row[0], row[1:], prev, bpp); err == nil {
+				conv(img.rowFrom(0, b.y0+i), row[1:])
+				prev = row[1:]
+			}
+		}
+		if err != nil {
+			failed.Store(true)
+		} else {
+			copy(last, prev) // keep the batch's last row: the batch is reused
+			prev = last
+		}
+		free <- b
+	}
+	return err
+}
+
+// unfilter reverses filter type ft on cur given the unfiltered row above,
+// prev (section 9.2; the Paeth predictor of section 9.4). bpp is the
+// number of bytes per complete pixel, at least 1.
+func unfilter(ft byte, cur, prev []byte, bpp int) error {
+	switch ft {
+	case filterNone:
+	case filterSub:
+		for i := bpp; i < len(cur); i++ {
+			cur[i] += cur[i-bpp]
+		}
+	case filterUp:
+		for i, p := range prev[:len(cur)] {
+			cur[i] += p
+		}
+	case filterAverage:
+		for i := 0; i < bpp && i < len(cur); i++ {
+			cur[i] += prev[i] / 2
+		}
+		for i := bpp; i < len(cur); i++ {
+			cur[i] += uint8((int(cur[i-bpp]) + int(prev[i])) / 2)
+		}
+	case filterPaeth:
+		unPaeth(cur, prev, bpp)
+	default:
+		return pngFormatError("bad filter type")
+	}
+	return nil
+}
+
+// unPaeth reverses the Paeth filter: each byte is predicted by whichever
+// of left a, above b and upper-left c is nearest p = a + b − c, ties in
+// the order a, b, c.
+func unPaeth(cur, prev []byte, bpp int) {
+	for i := 0; i < bpp && i < len(cur); i++ {
+		cur[i] += prev[i] // a = c = 0, so the predictor is b
+	}
+	for i := bpp; i < len(cur); i++ {
+		a, b, c := int(cur[i-bpp]), int(prev[i]), int(prev[i-bpp])
+		pa, pb, pc := b-c, a-c, a+b-2*c
+		pa, pb, pc = absInt(pa), absInt(pb), absInt(pc)
+		switch {
+		case pa <= pb && pa <= pc:
+			cur[i] += uint8(a)
+		case pb <= pc:
+			cur[i] += uint8(b)
+		default:
+			cur[i] += uint8(c)
+		}
+	}
+}
+
+func absInt(v int) int {
+	m := v >> 63
+	return (v ^ m) - m
+}
+
+// rowConverter returns the function that turns one unfiltered row of the
+// header's format into 16-bit luma, matching what convertRow makes of the
+// image image/png returns for the same file: 8-bit and lower samples are
+// scaled to 0…255 and by 257, colour goes through luma16, alpha is ignored
+// where image/png gives an NRGBA (8-bit) and premultiplied where it gives
+// an NRGBA64 (16-bit with alpha or tRNS), and a palette is looked up
+// through color.Gray16Model as image/png's Paletted is.
+func rowConverter(h *pngInfo) func(dst []uint16, src []byte) {
+	switch {
+	case h.ctype == pngPalette:
+		return lookupRow(paletteLuma(h.palette), h.depth)
+	case h.ctype == pngGray && h.depth < 8:
+		var lut [256]uint16
+		for i := range 1 << h.depth {
+			lut[i] = uint16(i*255/(1<<h.depth-1)) * 257
+		}
+		return lookupRow(&lut, h.depth)
+	case h.depth == 8:
+		return row8(h.ctype)
+	}
+	return row16(h.ctype, h.transparent)
+}
+
+// paletteLuma is the luma of each of the 256 palette entries.
+func paletteLuma(pal color.Palette) *[256]uint16 {
+	var lut [256]uint16
+	for i, c := range pal {
+		lut[i] = color.Gray16Model.Convert(c).(color.Gray16).Y
+	}
+	return &lut
+}
+
+// lookupRow unpacks samples of depth bits (1, 2, 4 or 8, most significant
+// first, section 7.2) and maps them through lut.
+func lookupRow(lut *[256]uint16, depth int) func(dst []uint16, src []byte) {
+	if depth == 8 {
+		return func(dst []uint16, src []byte) {
+			for i := range dst {
+				dst[i] = lut[src[i]]
+			}
+		}
+	}
+	perByte, mask := 8/depth, byte(1<<depth-1)
+	return func(dst []uint16, src []byte) {
+		for i := range dst {
+			shift := uint(8 - depth*(i%perByte+1))
+			dst[i] = lut[src[i/perByte]>>shift&mask]
+		}
+	}
+}
+
+// row8 converts 8-bit gray, gray+alpha, RGB and RGBA rows.
+func row8(ctype int) func(dst []uint16, src []byte) {
+	switch ctype {
+	case pngGray:
+		return func(dst []uint16, src []byte) {
+			for i, v := range src[:len(dst)] {
+				dst[i] = uint16(v) * 257
+			}
+		}
+	case pngGrayAlpha:
+		return func(dst []uint16, src []byte) {
+			for i := range dst {
+				dst[i] = uint16(src[2*i]) * 257
+			}
+		}
+	}
+	n := 3
+	if ctype == pngRGBA {
+		n = 4
+	}
+	return func(dst []uint16, src []byte) {
+		for i := range dst {
+			s := src[n*i : n*i+3]
+			dst[i] = luma16(uint32(s[0])*257, uint32(s[1])*257, uint32(s[2])*257)
+		}
+	}
+}
+
+// row16 converts 16-bit rows (big-endian samples, section 7.1).
+// Transparency (tRNS) or alpha premultiplies: a/0xffff of each sample.
+func row16(ctype int, trns []byte) func(dst []uint16, src []byte) {
+	be := func(b []byte) uint32 { return uint32(b[0])<<8 | uint32(b[1]) }
+	channels := map[int]int{pngGray: 1, pngRGB: 3, pngGrayAlpha: 2, pngRGBA: 4}[ctype]
+	return func(dst []uint16, src []byte) {
+		for i := range dst {
+			s := src[2*channels*i : 2*channels*(i+1)]
+			var r, g, b, a uint32
+			switch ctype {
+			case pngGray, pngGrayAlpha:
+				r = be(s)
+				g, b = r, r
+			default:
+				r, g, b = be(s), be(s[2:]), be(s[4:])
+			}
+			switch {
+			case ctype == pngGrayAlpha:
+				a = be(s[2:])
+			case ctype == pngRGBA:
+				a = be(s[6:])
+			case trns != nil && transparent16(s, trns):
+				a = 0
+			default:
+				a = 0xffff
+			}
+			if a != 0xffff {
+				r, g, b = r*a/0xffff, g*a/0xffff, b*a/0xffff
+			}
+			dst[i] = luma16(r, g, b)
+		}
+	}
+}
+
+// transparent16 reports whether the 16-bit gray or RGB pixel s is the
+// tRNS colour.
+func transparent16(s, trns []byte) bool {
+	for k := range trns {
+		if s[k] != trns[k] {
+			return false
+		}
+	}
+	return true
+}
