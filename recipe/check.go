@@ -1,9 +1,10 @@
 package recipe
 
 import (
+	"cmp"
 	"fmt"
 	"math"
-	"sort"
+	"slices"
 	"strings"
 
 	"github.com/foilrun/foilrun/recipe/gas"
@@ -44,9 +45,14 @@ type checker struct {
 	f    *Furnace
 	fs   []Finding
 	melt [2][]*StepPlan // steps too near copper's melting point: [0] warning, [1] error
+	// errorsOnly keeps only the errors (Prefix.NewErrorDeriver).
+	errorsOnly bool
 }
 
 func (c *checker) add(sev Severity, sp *StepPlan, rule string, pos Pos, hint, format string, args ...any) {
+	if c.errorsOnly && sev != Error {
+		return
+	}
 	fd := Finding{Severity: sev, Rule: rule, Message: fmt.Sprintf(format, args...), Hint: hint, Pos: pos, Line: pos.Line}
 	if sp != nil {
 		fd.Step, fd.StepName = sp.Index+1, sp.Label
@@ -83,11 +89,11 @@ func (c *checker) steps(from, to int) {
 func (c *checker) finish() []Finding {
 	c.copperMelting()
 	c.sequence()
-	sort.SliceStable(c.fs, func(i, j int) bool {
-		if c.fs[i].Severity != c.fs[j].Severity {
-			return c.fs[i].Severity > c.fs[j].Severity
+	slices.SortStableFunc(c.fs, func(a, b Finding) int {
+		if a.Severity != b.Severity {
+			return cmp.Compare(b.Severity, a.Severity)
 		}
-		return c.fs[i].Step < c.fs[j].Step
+		return cmp.Compare(a.Step, b.Step)
 	})
 	return c.fs
 }
@@ -256,18 +262,15 @@ func (c *checker) flows(sp *StepPlan) {
 		share := fl.Flow.SI / fs
 		sccm := sp.Flows[j].SCCM
 		cf := line.Correction()
-		calib := ""
-		if cf != 1 {
-			calib = fmt.Sprintf(" (MFC calibrated for %s, correction factor %.3f; set-point %.1f %% of full scale)", line.CalibratedFor, cf, share*100)
-			if line.CalibratedFor == "" {
-				calib = fmt.Sprintf(" (correction factor %.3f; set-point %.1f %% of full scale)", cf, share*100)
-			}
-		}
 		if share > 1 {
 			c.add(Error, sp, "flow.full-scale", fl.Flow.Pos, "lower the flow or fit a larger MFC",
-				"%s flow %.4g sccm is above the line's full scale %.4g sccm of %s%s", fl.Gas, sccm, fs/molPerSCCMSecond, fl.Gas, calib)
+				"%s flow %.4g sccm is above the line's full scale %.4g sccm of %s%s", fl.Gas, sccm, fs/molPerSCCMSecond, fl.Gas, calibration(line, cf, share))
 			continue
 		}
+		if c.errorsOnly {
+			continue // what follows are warnings and notes
+		}
+		calib := calibration(line, cf, share)
 		low := line.LowEnd.SI
 		if share < low {
 			c.add(Warning, sp, "flow.low-end", fl.Flow.Pos, "use a smaller MFC, or a diluted source gas",
@@ -279,6 +282,18 @@ func (c *checker) flows(sp *StepPlan) {
 				"%s flow %.4g sccm%s", fl.Gas, sccm, calib)
 		}
 	}
+}
+
+// calibration is what a flow finding adds about the line's correction
+// factor cf at a set-point share of full scale; "" when cf is 1.
+func calibration(line *GasLine, cf, share float64) string {
+	switch {
+	case cf == 1:
+		return ""
+	case line.CalibratedFor == "":
+		return fmt.Sprintf(" (correction factor %.3f; set-point %.1f %% of full scale)", cf, share*100)
+	}
+	return fmt.Sprintf(" (MFC calibrated for %s, correction factor %.3f; set-point %.1f %% of full scale)", line.CalibratedFor, cf, share*100)
 }
 
 func torrOf(pa float64) string {

@@ -2,6 +2,7 @@ package recipe
 
 import (
 	"math"
+	"slices"
 
 	"github.com/foilrun/foilrun/recipe/gas"
 )
@@ -124,7 +125,7 @@ func startState(r *Recipe) deriveState {
 // plan of step i−1 (prevPressure), so steps before k are left as they are.
 func (p *Plan) deriveFrom(k int, st deriveState) {
 	for i := k; i < len(p.Steps); i++ {
-		p.deriveStep(i, &st)
+		p.deriveStep(i, &st, nil)
 	}
 	p.Total = st.t
 }
@@ -132,8 +133,9 @@ func (p *Plan) deriveFrom(k int, st deriveState) {
 // deriveStep derives step i from the state st before it and moves st past
 // it. It reads st, the recipe's step i, the furnace, and the pressure of
 // step i−1 where readsPrevPressure says so; it sets every field of the
-// step's plan.
-func (p *Plan) deriveStep(i int, st *deriveState) {
+// step's plan. The step's Flows are appended to flows[:0] (nil allocates),
+// a buffer the caller owns and no other plan reads.
+func (p *Plan) deriveStep(i int, st *deriveState, flows []FlowPlan) {
 	f := p.Furnace
 	s := &p.Recipe.Steps[i]
 	sp := &p.Steps[i]
@@ -141,7 +143,7 @@ func (p *Plan) deriveStep(i int, st *deriveState) {
 	temperatures(sp, st.T, f)
 	st.v.step(s, i)
 	sp.OpenToPump = st.v.pump
-	derive(sp, f)
+	derive(sp, f, flows)
 	st.v.held(sp, p.prevPressure(i))
 	p.duration(i)
 	if (s.Kind == KindCool || s.Kind == KindRamp) && !s.Duration.IsZero() && sp.T1 < sp.T0 {
@@ -269,10 +271,21 @@ func (p *Plan) prevPressure(i int) float64 {
 	return p.Steps[i-1].Pressure
 }
 
-// derive fills the flows and the pump-limited pressure.
-func derive(sp *StepPlan, f *Furnace) {
-	sp.Flows = make([]FlowPlan, 0, len(sp.Step.Flows))
-	for _, fl := range sp.Step.Flows {
+// derive fills the flows, appended to buf[:0], and the pump-limited
+// pressure. A gas the buffer already holds at the same place under the
+// same symbol is taken from it instead of being looked up again (the same
+// table entry: gas.Lookup of a symbol returns that gas).
+func derive(sp *StepPlan, f *Furnace, buf []FlowPlan) {
+	old := buf[:cap(buf)]
+	sp.Flows = slices.Grow(buf[:0], len(sp.Step.Flows))
+	if buf == nil {
+		sp.Flows = make([]FlowPlan, 0, len(sp.Step.Flows)) // empty, not nil, without flows
+	}
+	for j, fl := range sp.Step.Flows {
+		if j < len(old) && old[j].Gas.Symbol == fl.Gas {
+			sp.Flows = append(sp.Flows, FlowPlan{Gas: old[j].Gas, Molar: fl.Flow.SI})
+			continue
+		}
 		g, err := gas.Lookup(fl.Gas)
 		if err != nil {
 			continue // validated at load; cannot happen for loaded recipes

@@ -33,6 +33,7 @@ type Prefix struct {
 	k     int
 	state deriveState // before step k
 	fs    []Finding   // of the checks of steps before k, in the order Check makes them
+	errs  []Finding   // the errors among fs, in order
 	melt  [2][]int    // steps before k too near copper's melting point: [0] warning, [1] error
 }
 
@@ -54,6 +55,11 @@ func NewPrefix(base *Plan, k int) *Prefix {
 	c := &checker{p: base, f: base.Furnace}
 	c.steps(0, k)
 	px.fs = c.fs
+	for _, fd := range c.fs {
+		if fd.Severity == Error {
+			px.errs = append(px.errs, fd)
+		}
+	}
 	for sev, sps := range c.melt {
 		for _, sp := range sps {
 			px.melt[sev] = append(px.melt[sev], sp.Index)
@@ -78,40 +84,57 @@ func (px *Prefix) Derive(r *Recipe) *Plan {
 	return p
 }
 
-// plan is a plan of r with the prefix's steps copied, pointing into r. It
-// panics, naming the caller, if r has a different number of steps.
+// plan is a new plan of r with the prefix's steps copied (see fill).
 func (px *Prefix) plan(r *Recipe, caller string) *Plan {
-	if len(r.Steps) != len(px.base.Steps) {
+	p := &Plan{}
+	px.fill(p, r, caller)
+	return p
+}
+
+// fill makes p a plan of r with the prefix's steps copied, pointing into
+// r, reusing p's Steps; the steps from K on are left for the caller to
+// set. It panics, naming the caller, if r has a different number of steps.
+func (px *Prefix) fill(p *Plan, r *Recipe, caller string) {
+	n := len(r.Steps)
+	if n != len(px.base.Steps) {
 		panic("recipe: " + caller + ": the recipe has a different number of steps")
 	}
-	p := &Plan{Recipe: r, Furnace: px.base.Furnace, Site: px.base.Site, Steps: make([]StepPlan, len(r.Steps))}
+	steps := p.Steps
+	if cap(steps) < n {
+		steps = make([]StepPlan, n)
+	}
+	*p = Plan{Recipe: r, Furnace: px.base.Furnace, Site: px.base.Site, Steps: steps[:n]}
 	copy(p.Steps, px.base.Steps[:px.k])
 	for i := range px.k {
 		p.Steps[i].Step = &r.Steps[i]
 	}
-	return p
 }
 
 // Check returns what Check(p) returns for a plan made by px.Derive: the
 // kept findings of the steps before K, the checks of steps K… run on p,
 // then the checks of the whole plan, sorted as Check sorts them.
 func (px *Prefix) Check(p *Plan) []Finding {
-	c := px.checker(p)
+	c := &checker{}
+	px.reset(c, p, false)
 	c.steps(px.k, len(p.Steps))
 	return c.finish()
 }
 
-// checker is a checker of plan p that holds the kept findings of the
-// steps before K.
-func (px *Prefix) checker(p *Plan) *checker {
-	c := &checker{p: p, f: p.Furnace, fs: make([]Finding, len(px.fs), len(px.fs)+8)}
-	copy(c.fs, px.fs)
+// reset makes c a checker of plan p that holds the kept findings of the
+// steps before K (only the errors among them when errorsOnly), reusing
+// c's buffers.
+func (px *Prefix) reset(c *checker, p *Plan, errorsOnly bool) {
+	kept := px.fs
+	if errorsOnly {
+		kept = px.errs
+	}
+	*c = checker{p: p, f: p.Furnace, errorsOnly: errorsOnly, fs: append(c.fs[:0], kept...),
+		melt: [2][]*StepPlan{c.melt[0][:0], c.melt[1][:0]}}
 	for sev, idx := range px.melt {
 		for _, i := range idx {
 			c.melt[sev] = append(c.melt[sev], &p.Steps[i])
 		}
 	}
-	return c
 }
 
 // Deriver derives and checks recipes that differ from a Prefix's recipe
@@ -127,6 +150,12 @@ func (px *Prefix) checker(p *Plan) *checker {
 type Deriver struct {
 	px   *Prefix
 	memo map[stepKey]*stepMemo
+	// errorsOnly: the checks keep only their errors (NewErrorDeriver).
+	errorsOnly bool
+	// plan and c are reused from call to call; flows is step K's Flows.
+	plan  Plan
+	c     checker
+	flows []FlowPlan
 }
 
 // stepKey is what the plan and the one-step findings of a step after K
@@ -152,27 +181,38 @@ type stepMemo struct {
 // forgets them all and starts again.
 const maxMemo = 1 << 14
 
-// NewDeriver returns a Deriver over the prefix.
+// NewDeriver returns a Deriver over the prefix whose DeriveCheck gives
+// every finding Check gives.
 func (px *Prefix) NewDeriver() *Deriver {
 	return &Deriver{px: px, memo: make(map[stepKey]*stepMemo)}
 }
 
-// DeriveCheck returns what Derive(r, furnace) and then Check give, with the
-// plan's Site the prefix plan's. r must equal the prefix's recipe except in
-// step K; it panics if the step counts differ. The plans of the steps
-// before K and of remembered steps share their Flows with other plans:
-// they must not be written.
+// NewErrorDeriver returns a Deriver over the prefix whose DeriveCheck
+// gives only the errors among the findings Check gives, in Check's order:
+// what decides whether a recipe is feasible, without writing out the
+// notes and warnings.
+func (px *Prefix) NewErrorDeriver() *Deriver {
+	d := px.NewDeriver()
+	d.errorsOnly = true
+	return d
+}
+
+// DeriveCheck returns what Derive(r, furnace) and then Check give (only
+// the errors for a NewErrorDeriver), with the plan's Site the prefix
+// plan's. r must equal the prefix's recipe except in step K; it panics if
+// the step counts differ. The plan and the findings are the Deriver's
+// own, written again by the next call: copy what must outlive it. The
+// plans of the steps before K and of remembered steps share their Flows
+// with other plans: they must not be written.
 func (d *Deriver) DeriveCheck(r *Recipe) (*Plan, []Finding) {
-	px := d.px
-	p := px.plan(r, "Deriver.DeriveCheck")
-	c := px.checker(p)
+	px, p, c := d.px, &d.plan, &d.c
+	px.fill(p, r, "Deriver.DeriveCheck")
+	px.reset(c, p, d.errorsOnly)
 	st := px.state
-	for i := px.k; i < len(p.Steps); i++ {
-		if i == px.k {
-			p.deriveStep(i, &st)
-			c.steps(i, i+1)
-			continue
-		}
+	p.deriveStep(px.k, &st, d.flows)
+	d.flows = p.Steps[px.k].Flows
+	c.steps(px.k, px.k+1)
+	for i := px.k + 1; i < len(p.Steps); i++ {
 		d.step(c, i, &st)
 	}
 	p.Total = st.t
@@ -201,7 +241,7 @@ func (d *Deriver) step(c *checker, i int, st *deriveState) {
 		return
 	}
 	nfs, nmelt := len(c.fs), [2]int{len(c.melt[0]), len(c.melt[1])}
-	p.deriveStep(i, st)
+	p.deriveStep(i, st, nil)
 	c.steps(i, i+1)
 	if len(d.memo) >= maxMemo {
 		clear(d.memo)
