@@ -173,6 +173,9 @@ type integrator struct {
 	every   float64 // curve sample interval, s; 0 for no curve
 	next    float64 // last sample time on the regular grid
 	anyEtch bool    // a ramp sub-step etched
+	// firstLevel is the first of the coverage levels whose times are
+	// solved for (0: T50, T90 and T99; a window sets 2, only T99).
+	firstLevel int
 }
 
 func (in *integrator) state(m moments) Sample {
@@ -194,8 +197,8 @@ func (in *integrator) sample(t float64) {
 // solve(y) giving the time from the segment start.
 func (in *integrator) crossings(start, x0, x1 float64, solve func(y float64) float64) {
 	ts := [3]*float64{&in.res.T50, &in.res.T90, &in.res.T99}
-	for k, y := range extendedLevels {
-		if math.IsNaN(*ts[k]) && x0 < y && y <= x1 {
+	for k := in.firstLevel; k < len(extendedLevels); k++ {
+		if y := extendedLevels[k]; math.IsNaN(*ts[k]) && x0 < y && y <= x1 {
 			*ts[k] = start + solve(y) - in.res.CarbonStart
 		}
 	}

@@ -4,9 +4,11 @@ import (
 	"fmt"
 	"math"
 	"runtime"
+	"slices"
 	"strconv"
 	"strings"
 	"sync"
+	"sync/atomic"
 
 	"github.com/foilrun/foilrun/recipe"
 	"github.com/foilrun/foilrun/recipe/gas"
@@ -162,7 +164,7 @@ type WindowSpec struct {
 	X, Y    Axis    // the two grow-step parameters, different from each other
 	Params  Params  // model parameters
 	Options Options // numerics of each prediction
-	// Workers is the number of goroutines; 0 means runtime.NumCPU().
+	// Workers is the number of goroutines; 0 means runtime.GOMAXPROCS(0).
 	Workers int
 	// Progress, when not nil, is called after each point with the number
 	// done so far and the total. Calls are serialised and done increases.
@@ -239,47 +241,62 @@ func Window(plan *recipe.Plan, spec WindowSpec) (*Map, error) {
 	return m, nil
 }
 
-// fill predicts every point of the map on spec.Workers goroutines and
-// returns the first error.
+// windowChunk is how many consecutive points a worker takes at a time.
+const windowChunk = 64
+
+// fill predicts every point of the map on spec.Workers goroutines (0:
+// GOMAXPROCS), each taking the next windowChunk points in turn and
+// writing them by index, so the map is the same whatever the order. It
+// returns the error of the first point, in map order, that has one.
 func (m *Map) fill(base *windowBase, spec WindowSpec) error {
 	total := len(m.Xs) * len(m.Ys)
 	workers := spec.Workers
 	if workers <= 0 {
-		workers = runtime.NumCPU()
+		workers = runtime.GOMAXPROCS(0)
 	}
 	workers = min(workers, total)
 	var (
+		next     atomic.Int64
 		mu       sync.Mutex
 		done     int
+		errAt    = total
 		firstErr error
 		wg       sync.WaitGroup
 	)
-	jobs := make(chan int)
 	for range workers {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			d := base.prefix.NewDeriver()
-			for k := range jobs {
-				iy, ix := k/len(m.Xs), k%len(m.Xs)
-				pt, err := base.point(d, m.Xs[ix], m.Ys[iy])
-				m.Points[iy][ix] = pt
-				mu.Lock()
-				if err != nil && firstErr == nil {
-					firstErr = err
+			w := base.newWorker()
+			for {
+				from := int(next.Add(windowChunk)) - windowChunk
+				if from >= total {
+					return
 				}
-				done++
-				if spec.Progress != nil {
-					spec.Progress(done, total)
+				to, at := min(from+windowChunk, total), total
+				var err error
+				for k := from; k < to; k++ {
+					iy, ix := k/len(m.Xs), k%len(m.Xs)
+					_, pt, perr := w.point(m.Xs[ix], m.Ys[iy])
+					m.Points[iy][ix] = pt
+					if perr != nil && err == nil {
+						err, at = perr, k
+					}
+				}
+				mu.Lock()
+				if at < errAt {
+					firstErr, errAt = err, at
+				}
+				for range to - from {
+					done++
+					if spec.Progress != nil {
+						spec.Progress(done, total)
+					}
 				}
 				mu.Unlock()
 			}
 		}()
 	}
-	for k := range total {
-		jobs <- k
-	}
-	close(jobs)
 	wg.Wait()
 	return firstErr
 }
@@ -287,6 +304,15 @@ func (m *Map) fill(base *windowBase, spec WindowSpec) error {
 // setParam sets one axis value on the (copied) grow step; a gas flow gets a
 // fresh Flows slice so the base recipe is never written.
 func setParam(s *recipe.Step, a Axis, v float64) {
+	if a.Dim == recipe.Flow {
+		s.Flows = slices.Clone(s.Flows)
+	}
+	setOwnParam(s, a, v)
+}
+
+// setOwnParam is setParam on a step whose Flows the caller owns: a gas
+// flow is set in place, or appended when the step has none of that gas.
+func setOwnParam(s *recipe.Step, a Axis, v float64) {
 	text := strconv.FormatFloat(a.Display(v), 'g', 6, 64) + " " + a.Unit()
 	q := recipe.Quantity{SI: v, Dim: a.Dim, Text: text}
 	switch a.Param {
@@ -297,17 +323,14 @@ func setParam(s *recipe.Step, a Axis, v float64) {
 	case ParamDuration:
 		s.Duration = q
 	default:
-		flows := make(recipe.Flows, 0, len(s.Flows)+1)
 		found := false
-		for _, fl := range s.Flows {
-			if fl.Gas == a.Param {
-				fl.Flow, found = q, true
+		for i := range s.Flows {
+			if s.Flows[i].Gas == a.Param {
+				s.Flows[i].Flow, found = q, true
 			}
-			flows = append(flows, fl)
 		}
 		if !found {
-			flows = append(flows, recipe.GasFlow{Gas: a.Param, Flow: q})
+			s.Flows = append(s.Flows, recipe.GasFlow{Gas: a.Param, Flow: q})
 		}
-		s.Flows = flows
 	}
 }

@@ -22,7 +22,9 @@ import (
 //     segment and the segments after it.
 //
 // Both give exactly what recipe.Derive, recipe.Check and Predict give on
-// the whole changed recipe (TestWindowMatchesSlowPath). With a coverage
+// the whole changed recipe in every field a Point reads
+// (TestWindowMatchesSlowPath); each worker (windowWorker) reuses its
+// buffers from point to point. With a coverage
 // curve (Options.Samples > 0) the sample spacing depends on the recipe's
 // total time, which the grow step changes, so each point is then
 // predicted from its start.
@@ -55,47 +57,51 @@ func newWindowBase(r *recipe.Recipe, f *recipe.Furnace, grow int, spec WindowSpe
 	return b, nil
 }
 
-// changed returns a copy of the recipe with the grow step set to x and y
-// on the two axes; the base recipe is not written.
-func (b *windowBase) changed(x, y float64) *recipe.Recipe {
-	r := *b.recipe
-	r.Steps = slices.Clone(b.recipe.Steps)
-	s := &r.Steps[b.grow]
-	setParam(s, b.spec.X, x)
-	setParam(s, b.spec.Y, y)
-	return &r
+// windowWorker is one goroutine's share of a window: an error Deriver of
+// the prefix and the buffers every point reuses, so that a point
+// allocates next to nothing.
+type windowWorker struct {
+	b     *windowBase
+	d     *recipe.Deriver
+	r     recipe.Recipe // the base recipe with its grow step set per point
+	flows recipe.Flows  // the grow step's flows
+	segs  []Segment     // the profile; those before grow are the head's
+	steps []StepResult  // the per-step results; those before grow are the head's
 }
 
-// evaluate derives, checks and predicts one point with d, a Deriver of
-// b.prefix: the plan, findings and prediction recipe.Derive, recipe.Check
-// and Predict give on the changed recipe.
-func (b *windowBase) evaluate(d *recipe.Deriver, x, y float64) (*recipe.Plan, []recipe.Finding, Result, error) {
-	plan, fs := d.DeriveCheck(b.changed(x, y))
-	res, err := b.predict(plan)
-	return plan, fs, res, err
-}
-
-// predict predicts a plan made by b.prefix, on from the kept head.
-func (b *windowBase) predict(plan *recipe.Plan) (Result, error) {
-	prof := NewProfile(plan)
-	if !b.resume {
-		return PredictProfile(prof, b.spec.Params, b.spec.Options)
+// newWorker returns a worker over the base.
+func (b *windowBase) newWorker() *windowWorker {
+	w := &windowWorker{b: b, d: b.prefix.NewErrorDeriver(), r: *b.recipe}
+	w.r.Steps = slices.Clone(b.recipe.Steps)
+	if b.resume {
+		n := len(b.recipe.Steps)
+		w.segs = append(make([]Segment, 0, n), b.head.res.Profile.Segments[:b.grow]...)[:n]
+		w.steps = append(make([]StepResult, 0, n), b.head.res.Steps[:b.grow]...)[:n]
 	}
-	if err := checkSegments(prof.Segments[b.grow:]); err != nil {
-		return Result{}, err
-	}
-	in := b.head
-	in.res.Recipe, in.res.Profile = prof.Recipe, prof
-	in.res.Steps = make([]StepResult, len(prof.Segments))
-	copy(in.res.Steps, b.head.res.Steps[:b.grow])
-	in.res.Notes = slices.Clone(b.head.res.Notes)
-	in.run(prof.Segments[b.grow:], b.grow)
-	return in.result(), nil
+	return w
 }
 
-// point is one grid point of the map, evaluated with d.
-func (b *windowBase) point(d *recipe.Deriver, x, y float64) (Point, error) {
-	_, fs, res, err := b.evaluate(d, x, y)
+// point is the grid point at x, y: the recipe with its grow step set to x
+// and y on the two axes, derived, checked (its first error) and
+// predicted, and its plan, the worker's Deriver's, valid until the next
+// point.
+func (w *windowWorker) point(x, y float64) (*recipe.Plan, Point, error) {
+	b := w.b
+	s := &w.r.Steps[b.grow]
+	*s = b.recipe.Steps[b.grow]
+	s.Flows = append(w.flows[:0], s.Flows...)
+	setOwnParam(s, b.spec.X, x)
+	setOwnParam(s, b.spec.Y, y)
+	w.flows = s.Flows
+	plan, errs := w.d.DeriveCheck(&w.r)
+	res, err := w.predict(plan)
+	return plan, pointOf(x, y, errs, res, err, b.grow), err
+}
+
+// pointOf is the grid point at x, y of a recipe with findings fs (its
+// errors at least, in Check's order) and prediction res, or err when it
+// could not be predicted.
+func pointOf(x, y float64, fs []recipe.Finding, res Result, err error, grow int) Point {
 	pt := Point{X: x, Y: y, Feasible: true}
 	for _, fd := range fs {
 		if fd.Severity == recipe.Error {
@@ -104,9 +110,34 @@ func (b *windowBase) point(d *recipe.Deriver, x, y float64) (Point, error) {
 		}
 	}
 	if err != nil {
-		return pt, err
+		return pt
 	}
 	pt.Coverage, pt.NucleiDensity, pt.DomainSize, pt.T99 = res.Coverage, res.NucleiDensity, res.DomainSize, res.T99
-	pt.Etching = res.Steps[b.grow].Etching
-	return pt, nil
+	pt.Etching = res.Steps[grow].Etching
+	return pt
+}
+
+// predict predicts a plan made by the prefix, on from the kept head, as
+// Predict would in every field a Point reads: the times to 50 and 90 %
+// coverage are not solved for (a window reports only T99, and each level
+// is solved on its own, so T99 is the same).
+func (w *windowWorker) predict(plan *recipe.Plan) (Result, error) {
+	b := w.b
+	if !b.resume {
+		return Predict(plan, b.spec.Params, b.spec.Options)
+	}
+	for i := b.grow; i < len(plan.Steps); i++ {
+		w.segs[i] = segmentOf(&plan.Steps[i])
+	}
+	if err := checkSegments(w.segs[b.grow:]); err != nil {
+		return Result{}, err
+	}
+	in := b.head
+	in.firstLevel = len(extendedLevels) - 1
+	in.res.Recipe = plan.Recipe.Name
+	in.res.Profile = Profile{Recipe: plan.Recipe.Name, Segments: w.segs, Total: plan.Total}
+	in.res.Steps = w.steps
+	in.res.Notes = slices.Clone(b.head.res.Notes)
+	in.run(w.segs[b.grow:], b.grow)
+	return in.result(), nil
 }

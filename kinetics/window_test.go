@@ -177,13 +177,16 @@ func slowPoint(t *testing.T, plan *recipe.Plan, spec WindowSpec, x, y float64) (
 	return p, recipe.Check(p), res
 }
 
-// Every cell of a window gives exactly the plan, findings and prediction of
-// the slow path (slowPoint), for the three templates and a grid over each
-// parameter --vary takes, inside and at the edges of the template furnace's
-// limits (templates/furnace.yaml). Exactly: %#v prints every float64 in its
+// Every cell of a window gives exactly the plan and the point (first
+// error, coverage, nuclei density, domain size, T99, etching) of the slow
+// path (slowPoint), for the three templates and a grid over each parameter
+// --vary takes, inside and at the edges of the template furnace's limits
+// (templates/furnace.yaml). Exactly: %#v prints every float64 in its
 // shortest form that reads back to the same bits (strconv 'g', −1), so
 // equal text is equal values (==, NaN as NaN); the plans' Step pointers
 // point into different recipe copies, so the steps are compared by value.
+// One worker evaluates every cell, so its reused buffers and memo are
+// tested from point to point.
 func TestWindowMatchesSlowPath(t *testing.T) {
 	axes := []string{
 		"temperature=950C:1075C:6", "duration=1min:600min:5", "pressure=1Torr:1atm:5",
@@ -198,32 +201,40 @@ func TestWindowMatchesSlowPath(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			d := base.prefix.NewDeriver()
+			w := base.newWorker()
 			for _, y := range spec.Y.Values() {
 				for _, x := range spec.X.Values() {
 					where := fmt.Sprintf("%s, %s=%g, %s=%g", name, spec.X.Param, x, spec.Y.Param, y)
 					wp, wfs, wres := slowPoint(t, plan, spec, x, y)
-					gp, gfs, gres, err := base.evaluate(d, x, y)
+					gp, gpt, err := w.point(x, y)
 					if err != nil {
 						t.Fatalf("%s: %v", where, err)
 					}
-					for j := range gp.Steps {
-						if g, w := fmt.Sprintf("%#v", *gp.Steps[j].Step), fmt.Sprintf("%#v", *wp.Steps[j].Step); g != w {
-							t.Errorf("%s: step %d differs:\ngot  %s\nwant %s", where, j, g, w)
-						}
-						gp.Steps[j].Step, wp.Steps[j].Step = nil, nil
-					}
-					gp.Recipe, wp.Recipe = nil, nil
-					for _, c := range []struct {
-						what      string
-						got, want any
-					}{{"plan", *gp, *wp}, {"findings", gfs, wfs}, {"prediction", gres, wres}} {
-						if g, w := fmt.Sprintf("%#v", c.got), fmt.Sprintf("%#v", c.want); g != w {
-							t.Errorf("%s: %s differs:\ngot  %.300s\nwant %.300s", where, c.what, g, w)
-						}
-					}
+					compareWindowPoint(t, where, gp, wp, gpt, pointOf(x, y, wfs, wres, nil, grow))
 				}
 			}
+		}
+	}
+}
+
+// compareWindowPoint reports where a window's plan or point differs from
+// the slow path's (see TestWindowMatchesSlowPath). It clears the plans'
+// Step and Recipe pointers.
+func compareWindowPoint(t *testing.T, where string, gp, wp *recipe.Plan, got, want Point) {
+	t.Helper()
+	for j := range gp.Steps {
+		if g, w := fmt.Sprintf("%#v", *gp.Steps[j].Step), fmt.Sprintf("%#v", *wp.Steps[j].Step); g != w {
+			t.Errorf("%s: step %d differs:\ngot  %s\nwant %s", where, j, g, w)
+		}
+		gp.Steps[j].Step, wp.Steps[j].Step = nil, nil
+	}
+	gp.Recipe, wp.Recipe = nil, nil
+	for _, c := range []struct {
+		what      string
+		got, want any
+	}{{"plan", *gp, *wp}, {"point", got, want}} {
+		if g, w := fmt.Sprintf("%#v", c.got), fmt.Sprintf("%#v", c.want); g != w {
+			t.Errorf("%s: %s differs:\ngot  %.300s\nwant %.300s", where, c.what, g, w)
 		}
 	}
 }

@@ -50,7 +50,7 @@ type checker struct {
 }
 
 func (c *checker) add(sev Severity, sp *StepPlan, rule string, pos Pos, hint, format string, args ...any) {
-	if c.errorsOnly && sev != Error {
+	if !c.keeps(sev) {
 		return
 	}
 	fd := Finding{Severity: sev, Rule: rule, Message: fmt.Sprintf(format, args...), Hint: hint, Pos: pos, Line: pos.Line}
@@ -62,6 +62,10 @@ func (c *checker) add(sev Severity, sp *StepPlan, rule string, pos Pos, hint, fo
 	}
 	c.fs = append(c.fs, fd)
 }
+
+// keeps reports whether the checker keeps findings of severity sev: a
+// check whose message costs something to write asks first.
+func (c *checker) keeps(sev Severity) bool { return !c.errorsOnly || sev == Error }
 
 // Check runs every limit and sequence check of a plan against its furnace
 // and returns the findings, most serious first, then by step.
@@ -146,7 +150,7 @@ func (c *checker) temperature(sp *StepPlan) {
 			c.add(Warning, sp, "ramp.direction", sp.Step.To.Pos, "use a ramp step to heat", "cool step goes up from %s to %s", c2(sp.T0), c2(sp.T1))
 		}
 	}
-	if (sp.Step.Kind == KindAnneal || sp.Step.Kind == KindGrow) && sp.Index > 0 {
+	if (sp.Step.Kind == KindAnneal || sp.Step.Kind == KindGrow) && sp.Index > 0 && c.keeps(Warning) {
 		prev := c.p.Steps[sp.Index-1].T1
 		if math.Abs(prev-sp.T0) > HoldMismatch {
 			c.add(Warning, sp, "sequence.missing-ramp", sp.Step.Temperature.Pos, "add a ramp step to the hold temperature",
@@ -188,7 +192,7 @@ func (c *checker) naturalCooling(sp *StepPlan) {
 func (c *checker) copperMelting() {
 	margin, melt := c.f.Heater.ThermocoupleMargin.SI, gas.CopperMeltingPoint
 	for sev, sps := range c.melt {
-		if len(sps) == 0 {
+		if len(sps) == 0 || sev == 0 && !c.keeps(Warning) {
 			continue
 		}
 		hottest, labels := sps[0], make([]string, len(sps))
@@ -258,10 +262,10 @@ func (c *checker) flows(sp *StepPlan) {
 				"no gas line for %s on furnace %q", fl.Gas, c.f.Name)
 			continue
 		}
-		fs := line.FullScaleOfGas()
+		cf := line.Correction()
+		fs := line.FullScale.SI * cf // FullScaleOfGas
 		share := fl.Flow.SI / fs
 		sccm := sp.Flows[j].SCCM
-		cf := line.Correction()
 		if share > 1 {
 			c.add(Error, sp, "flow.full-scale", fl.Flow.Pos, "lower the flow or fit a larger MFC",
 				"%s flow %.4g sccm is above the line's full scale %.4g sccm of %s%s", fl.Gas, sccm, fs/molPerSCCMSecond, fl.Gas, calibration(line, cf, share))
@@ -354,6 +358,9 @@ func (c *checker) copper(sp *StepPlan) {
 		return
 	}
 	share, vshare := sp.CopperLoss/th, sp.CopperLossVacuum/th
+	if !c.keeps(Warning) && !(share >= CopperLossError && (sp.CopperModel != CopperVacuumBound || sp.Pressure <= VacuumBoundPressure)) {
+		return // only an error is kept, and this is none (see the switch below)
+	}
 	msg := fmt.Sprintf("copper can evaporate up to %.2f um per face (Hertz–Knudsen vacuum bound), %.0f %% of the %.0f um foil", sp.CopperLossVacuum*1e6, vshare*100, th*1e6)
 	if sp.CopperModel == CopperDiffusion {
 		msg = fmt.Sprintf("copper loss about %.2g um per face at %s (%.2g %% of the %.0f um foil) by the %s, which applies above %s (vapour diffusing through a gas film %.0f mm thick); the vacuum bound %.2f um (%.0f %%) does not apply",
