@@ -5,6 +5,7 @@ import (
 	"io"
 	"math"
 	"slices"
+	"strconv"
 	"strings"
 	"unsafe"
 
@@ -175,7 +176,7 @@ func windowRun(opts *windowOptions) error {
 	case formatJSON:
 		err = writeJSON(w, res)
 	case formatCSV:
-		err = writeCSV(w, windowLongTable(res))
+		err = writeCSV(w, windowLongTable(m, params))
 	default:
 		err = printWindow(w, m, opts.show)
 		if err == nil && len(res.NotPredicted) > 0 {
@@ -279,19 +280,43 @@ func printWindow(w io.Writer, m *kinetics.Map, show string) error {
 	return nil
 }
 
-// windowLongTable is the CSV form: one row per grid point.
-func windowLongTable(r windowResult) table {
-	t := table{Header: []string{r.X + " " + r.XUnit, r.Y + " " + r.YUnit, "feasible", "rule", "coverage", "nuclei_per_mm2", "domain_size_um", "t99_min", "etching"}}
-	for _, p := range r.Points {
-		t.add(num(p.X, 6), num(p.Y, 6), fmt.Sprint(p.Feasible), p.Rule, num(p.Coverage, 6), optNum(p.NucleiPerMM2), optNum(p.DomainUm), optNum(p.T99Min), fmt.Sprint(p.Etching))
+// windowLongTable is the CSV form: one row per grid point, with the
+// values of the JSON form (windowJSON) to 6 significant digits, written
+// straight from the map (g6 of a value is num of its round6).
+func windowLongTable(m *kinetics.Map, params kinetics.Params) table {
+	const cols = 9
+	t := table{Header: []string{m.X.Param + " " + m.X.Unit(), m.Y.Param + " " + m.Y.Unit(), "feasible", "rule", "coverage", "nuclei_per_mm2", "domain_size_um", "t99_min", "etching"}}
+	predicted := len(notPredicted(params)) == 0
+	n := len(m.Xs) * len(m.Ys)
+	cells := make([]string, cols*n) // one array for every row
+	t.Rows = make([][]string, 0, n)
+	for _, row := range m.Points {
+		for _, p := range row {
+			c := cells[len(t.Rows)*cols : (len(t.Rows)+1)*cols : (len(t.Rows)+1)*cols]
+			c[0], c[1], c[2], c[3] = g6(m.X.Display(p.X)), g6(m.Y.Display(p.Y)), strconv.FormatBool(p.Feasible), p.Rule
+			c[4], c[7], c[8] = g6(p.Coverage), finite6(p.T99/60), strconv.FormatBool(p.Etching)
+			if predicted {
+				c[5], c[6] = finite6(inUnit(p.NucleiDensity, "1/mm2")), finite6(inUnit(p.DomainSize, "um"))
+			}
+			t.Rows = append(t.Rows, c)
+		}
 	}
 	return t
 }
 
-// optNum is a value with 6 significant digits, "" for none.
-func optNum(v *float64) string {
-	if v == nil {
+// g6 is v with 6 significant digits, as num(v, 6) writes it ("" for NaN).
+func g6(v float64) string {
+	if v != v {
 		return ""
 	}
-	return num(*v, 6)
+	return strconv.FormatFloat(v, 'g', 6, 64)
+}
+
+// finite6 is g6 of a finite v and "" for NaN and infinities (the JSON
+// form's null, opt6).
+func finite6(v float64) string {
+	if math.IsInf(v, 0) {
+		return ""
+	}
+	return g6(v)
 }
