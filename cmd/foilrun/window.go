@@ -160,13 +160,9 @@ func windowRun(opts *windowOptions) error {
 	if err != nil {
 		return err
 	}
-	res := windowJSON(m, opts.show, params)
 	ivs, err := windowIntervals(plan, m, params)
 	if err != nil {
 		return err
-	}
-	for i := range ivs {
-		res.Points[i].Interval = ivs[i]
 	}
 	if ivs != nil && opts.output == formatTable {
 		fmt.Fprintln(opts.f.io.Err, "90 % intervals of every point are in --output json")
@@ -174,13 +170,17 @@ func windowRun(opts *windowOptions) error {
 	w := opts.f.io.Out
 	switch opts.output {
 	case formatJSON:
+		res := windowJSON(m, opts.show, params)
+		for i := range ivs {
+			res.Points[i].Interval = ivs[i]
+		}
 		err = writeJSON(w, res)
 	case formatCSV:
 		err = writeCSV(w, windowLongTable(m, params))
 	default:
 		err = printWindow(w, m, opts.show)
-		if err == nil && len(res.NotPredicted) > 0 {
-			fmt.Fprintf(w, "note: the parameters were calibrated on coverage only: coverage and times to coverage are predicted; %s are not\n", strings.Join(res.NotPredicted, " and "))
+		if np := notPredicted(params); err == nil && len(np) > 0 {
+			fmt.Fprintf(w, "note: the parameters were calibrated on coverage only: coverage and times to coverage are predicted; %s are not\n", strings.Join(np, " and "))
 		}
 	}
 	if err != nil {
