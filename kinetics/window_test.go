@@ -188,6 +188,7 @@ func slowPoint(t *testing.T, plan *recipe.Plan, spec WindowSpec, x, y float64) (
 // One worker evaluates every cell, so its reused buffers and memo are
 // tested from point to point.
 func TestWindowMatchesSlowPath(t *testing.T) {
+	t.Parallel()
 	axes := []string{
 		"temperature=950C:1075C:6", "duration=1min:600min:5", "pressure=1Torr:1atm:5",
 		"CH4=0.2sccm:36sccm:5", "H2=0sccm:200sccm:5",
