@@ -4,9 +4,11 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"runtime"
 	"slices"
 	"strconv"
 	"strings"
+	"sync"
 	"unsafe"
 
 	"github.com/spf13/cobra"
@@ -282,25 +284,43 @@ func printWindow(w io.Writer, m *kinetics.Map, show string) error {
 
 // windowLongTable is the CSV form: one row per grid point, with the
 // values of the JSON form (windowJSON) to 6 significant digits, written
-// straight from the map (g6 of a value is num of its round6).
+// straight from the map (g6 of a value is num of its round6). Each axis
+// value is written once; the grid's rows are written on GOMAXPROCS
+// goroutines, each row in its place.
 func windowLongTable(m *kinetics.Map, params kinetics.Params) table {
 	const cols = 9
 	t := table{Header: []string{m.X.Param + " " + m.X.Unit(), m.Y.Param + " " + m.Y.Unit(), "feasible", "rule", "coverage", "nuclei_per_mm2", "domain_size_um", "t99_min", "etching"}}
 	predicted := len(notPredicted(params)) == 0
-	n := len(m.Xs) * len(m.Ys)
-	cells := make([]string, cols*n) // one array for every row
-	t.Rows = make([][]string, 0, n)
-	for _, row := range m.Points {
-		for _, p := range row {
-			c := cells[len(t.Rows)*cols : (len(t.Rows)+1)*cols : (len(t.Rows)+1)*cols]
-			c[0], c[1], c[2], c[3] = g6(m.X.Display(p.X)), g6(m.Y.Display(p.Y)), strconv.FormatBool(p.Feasible), p.Rule
+	nx := len(m.Xs)
+	xs := make([]string, nx)
+	for ix, x := range m.Xs {
+		xs[ix] = g6(m.X.Display(x))
+	}
+	cells := make([]string, cols*nx*len(m.Ys)) // one array for every row
+	t.Rows = make([][]string, nx*len(m.Ys))
+	rows := func(iy int) {
+		y := g6(m.Y.Display(m.Ys[iy]))
+		for ix, p := range m.Points[iy] {
+			k := iy*nx + ix
+			c := cells[k*cols : (k+1)*cols : (k+1)*cols]
+			c[0], c[1], c[2], c[3] = xs[ix], y, strconv.FormatBool(p.Feasible), p.Rule
 			c[4], c[7], c[8] = g6(p.Coverage), finite6(p.T99/60), strconv.FormatBool(p.Etching)
 			if predicted {
 				c[5], c[6] = finite6(inUnit(p.NucleiDensity, "1/mm2")), finite6(inUnit(p.DomainSize, "um"))
 			}
-			t.Rows = append(t.Rows, c)
+			t.Rows[k] = c
 		}
 	}
+	var wg sync.WaitGroup
+	workers := runtime.GOMAXPROCS(0)
+	for w := range workers {
+		wg.Go(func() {
+			for iy := w; iy < len(m.Ys); iy += workers {
+				rows(iy)
+			}
+		})
+	}
+	wg.Wait()
 	return t
 }
 
