@@ -277,7 +277,7 @@ func (m *Map) fill(base *windowBase, spec WindowSpec) error {
 				var err error
 				for k := from; k < to; k++ {
 					iy, ix := k/len(m.Xs), k%len(m.Xs)
-					_, pt, perr := w.point(m.Xs[ix], m.Ys[iy])
+					_, pt, perr := w.point(ix, iy)
 					m.Points[iy][ix] = pt
 					if perr != nil && err == nil {
 						err, at = perr, k
@@ -312,9 +312,16 @@ func setParam(s *recipe.Step, a Axis, v float64) {
 
 // setOwnParam is setParam on a step whose Flows the caller owns: a gas
 // flow is set in place, or appended when the step has none of that gas.
-func setOwnParam(s *recipe.Step, a Axis, v float64) {
+func setOwnParam(s *recipe.Step, a Axis, v float64) { setQuantity(s, a, a.quantity(v)) }
+
+// quantity is the axis value v as setParam writes it into a step.
+func (a Axis) quantity(v float64) recipe.Quantity {
 	text := strconv.FormatFloat(a.Display(v), 'g', 6, 64) + " " + a.Unit()
-	q := recipe.Quantity{SI: v, Dim: a.Dim, Text: text}
+	return recipe.Quantity{SI: v, Dim: a.Dim, Text: text}
+}
+
+// setQuantity is setOwnParam with the value already made a quantity.
+func setQuantity(s *recipe.Step, a Axis, q recipe.Quantity) {
 	switch a.Param {
 	case ParamTemperature:
 		s.Temperature = q

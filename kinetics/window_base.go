@@ -36,6 +36,8 @@ type windowBase struct {
 	// head is the prediction after the segments before grow (when resume).
 	head   integrator
 	resume bool
+	// xs and ys are the axes' values as quantities, made once.
+	xs, ys []recipe.Quantity
 }
 
 // newWindowBase derives, checks and predicts the recipe's steps before its
@@ -44,6 +46,12 @@ type windowBase struct {
 func newWindowBase(r *recipe.Recipe, f *recipe.Furnace, grow int, spec WindowSpec) (*windowBase, error) {
 	plan := recipe.Derive(r, f)
 	b := &windowBase{recipe: r, grow: grow, spec: spec, prefix: recipe.NewPrefix(plan, grow)}
+	for _, v := range spec.X.Values() {
+		b.xs = append(b.xs, spec.X.quantity(v))
+	}
+	for _, v := range spec.Y.Values() {
+		b.ys = append(b.ys, spec.Y.quantity(v))
+	}
 	opts := spec.Options.withDefaults()
 	if opts.Samples > 0 {
 		return b, nil
@@ -81,18 +89,19 @@ func (b *windowBase) newWorker() *windowWorker {
 	return w
 }
 
-// point is the grid point at x, y: the recipe with its grow step set to x
-// and y on the two axes, derived, checked (its first error) and
-// predicted, and its plan, the worker's Deriver's, valid until the next
-// point.
-func (w *windowWorker) point(x, y float64) (*recipe.Plan, Point, error) {
+// point is the grid point at the ix-th value of the x axis and the iy-th
+// of the y axis: the recipe with its grow step set to them, derived,
+// checked (its first error) and predicted, and its plan, the worker's
+// Deriver's, valid until the next point.
+func (w *windowWorker) point(ix, iy int) (*recipe.Plan, Point, error) {
 	b := w.b
 	s := &w.r.Steps[b.grow]
 	*s = b.recipe.Steps[b.grow]
 	s.Flows = append(w.flows[:0], s.Flows...)
-	setOwnParam(s, b.spec.X, x)
-	setOwnParam(s, b.spec.Y, y)
+	setQuantity(s, b.spec.X, b.xs[ix])
+	setQuantity(s, b.spec.Y, b.ys[iy])
 	w.flows = s.Flows
+	x, y := b.xs[ix].SI, b.ys[iy].SI
 	plan, errs := w.d.DeriveCheck(&w.r)
 	res, err := w.predict(plan)
 	return plan, pointOf(x, y, errs, res, err, b.grow), err

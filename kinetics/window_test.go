@@ -203,11 +203,11 @@ func TestWindowMatchesSlowPath(t *testing.T) {
 				t.Fatal(err)
 			}
 			w := base.newWorker()
-			for _, y := range spec.Y.Values() {
-				for _, x := range spec.X.Values() {
+			for iy, y := range spec.Y.Values() {
+				for ix, x := range spec.X.Values() {
 					where := fmt.Sprintf("%s, %s=%g, %s=%g", name, spec.X.Param, x, spec.Y.Param, y)
 					wp, wfs, wres := slowPoint(t, plan, spec, x, y)
-					gp, gpt, err := w.point(x, y)
+					gp, gpt, err := w.point(ix, iy)
 					if err != nil {
 						t.Fatalf("%s: %v", where, err)
 					}
