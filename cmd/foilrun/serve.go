@@ -30,7 +30,10 @@ func newServeCmd(f *factory) *cobra.Command {
 		Short: "Serve the run log to browsers on the lab's network",
 		Long: `Serve the run log (--db) as web pages: the runs with the --where filter, one
 run with its plan, outcomes, micrographs and notes, and its pre-run
-checklist. People add notes, outcomes and micrographs unless
+checklist; /best and /rank (as runs best and runs rank), /fit (the model
+fitted to the log now, as fit fits it) and /window (the predicted map of a
+template's or a run's recipe with the logged runs on it). People add notes,
+outcomes and micrographs unless
 --read-only. It listens on loopback by default; any other address needs
 --tokens FILE (one "name token" line per person, mode 600). It has no TLS of
 its own: put it behind the lab's reverse proxy. Stop it with Ctrl-C.`,

@@ -152,7 +152,7 @@ func WriteHeatMap(out io.Writer, name string, m HeatMap) error {
 	bar.Y.Min, bar.Y.Max = lo, hi
 	bar.Y.Tick.Marker = LinearTicks{N: 6}
 	bar.Y.Label.Text = m.ZLabel
-	bar.Add(&plotter.ColorBar{ColorMap: cm, Vertical: true})
+	bar.Add(colourSteps{cm: cm, n: barSteps})
 
 	l := legend()
 	if len(blocked) > 0 {
@@ -293,9 +293,9 @@ func pointsInside(pts []MapPoint, x0, x1, y0, y1 float64) plotter.XYs {
 // are drawn, with how many were outside the map.
 func pointsLegend(label string, drawn, all int) string {
 	if drawn == all {
-		return fmt.Sprintf("%s (%d)", label, all)
+		return fmt.Sprintf("%s: %d", label, all)
 	}
-	return fmt.Sprintf("%s (%d; %d outside the map)", label, drawn, all-drawn)
+	return fmt.Sprintf("%s: %d, %d off map", label, drawn, all-drawn)
 }
 
 // pointMarks draws the points as open rings; as a legend thumbnail, one
@@ -331,4 +331,43 @@ func (g ringGlyph) DrawGlyph(c *draw.Canvas, sty draw.GlyphStyle, pt vg.Point) {
 	p.Arc(pt, sty.Radius, 0, 2*math.Pi)
 	p.Close()
 	c.Stroke(p)
+}
+
+// barSteps is how many bands the colour bar is drawn in: finer than the
+// eye can tell apart on a 6 cm bar.
+const barSteps = 128
+
+// colourSteps is a vertical colour bar drawn as filled bands, one
+// rectangle each. gonum's ColorBar draws a 1-pixel-wide image stretched to
+// the bar; an SVG viewer keeps that image's aspect ratio and shows a
+// hairline, where bands draw the same in PNG and SVG.
+type colourSteps struct {
+	cm palette.ColorMap
+	n  int
+}
+
+// Plot fills the bar's data area band by band, from the colour map's
+// minimum at the bottom to its maximum at the top.
+func (b colourSteps) Plot(c draw.Canvas, p *plot.Plot) {
+	tx, ty := p.Transforms(&c)
+	lo, hi := b.cm.Min(), b.cm.Max()
+	step := (hi - lo) / float64(b.n)
+	for i := range b.n {
+		v0 := lo + float64(i)*step
+		col, err := b.cm.At(math.Min(v0+step/2, hi))
+		if err != nil {
+			continue
+		}
+		// Each band is filled from its lower edge to the top of the bar
+		// and the next one paints over it: no seam shows between bands.
+		x0, x1 := tx(0), tx(1)
+		y0, y1 := ty(v0), ty(hi)
+		pts := []vg.Point{{X: x0, Y: y0}, {X: x1, Y: y0}, {X: x1, Y: y1}, {X: x0, Y: y1}}
+		c.FillPolygon(col, c.ClipPolygonXY(pts))
+	}
+}
+
+// DataRange is x from 0 to 1 and y over the colour map.
+func (b colourSteps) DataRange() (xmin, xmax, ymin, ymax float64) {
+	return 0, 1, b.cm.Min(), b.cm.Max()
 }

@@ -57,9 +57,9 @@ func TestHeatMapPoints(t *testing.T) {
 		legend string // legend entry
 	}{
 		{"none", nil, 0, ""},
-		{"all inside", []MapPoint{{960, 1.2}, {1040, 2.4}, {925, 0.5}}, 3, "logged runs (3)"},
-		{"some outside or NaN", []MapPoint{{960, 1.2}, {900, 1.2}, {1000, 2.6}, {math.NaN(), 1}}, 1, "logged runs (1; 3 outside the map)"},
-		{"all outside", []MapPoint{{1100, 1}}, 0, "logged runs (0; 1 outside the map)"},
+		{"all inside", []MapPoint{{960, 1.2}, {1040, 2.4}, {925, 0.5}}, 3, "logged runs: 3"},
+		{"some outside or NaN", []MapPoint{{960, 1.2}, {900, 1.2}, {1000, 2.6}, {math.NaN(), 1}}, 1, "logged runs: 1, 3 off map"},
+		{"all outside", []MapPoint{{1100, 1}}, 0, "logged runs: 0, 1 off map"},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {

@@ -31,6 +31,8 @@ func (s *Server) analysisRoutes(mux *http.ServeMux) {
 	mux.HandleFunc("GET /rank", s.rankPage)
 	mux.HandleFunc("GET /fit", s.fitPage)
 	mux.HandleFunc("GET /fit/parity.svg", s.fitParity)
+	mux.HandleFunc("GET /window", s.windowPage)
+	mux.HandleFunc("GET /window.svg", s.windowSVG)
 }
 
 // badRequest is a request whose parameters the page refuses: 400 with the
@@ -64,9 +66,23 @@ func (s *Server) writeSVG(w http.ResponseWriter, r *http.Request, draw func(io.W
 		s.answerError(w, r, err)
 		return
 	}
-	w.Header().Set("Content-Type", "image/svg+xml")
+	svgHeaders(w)
 	w.Header().Set("Cache-Control", "no-store")
 	_, _ = w.Write(buf.Bytes())
+}
+
+// figureCSP is the Content-Security-Policy of an SVG figure: the plotting
+// code styles every element with a style attribute and embeds colour bars
+// as data: images, which the pages' default-src 'self' would block (the
+// figure then shows in the browser's default font, its text overflowing,
+// and without its colour bar). Nothing else is allowed: no script, no
+// fetch, no other source.
+const figureCSP = "default-src 'none'; style-src 'unsafe-inline'; img-src data:"
+
+// svgHeaders marks a response as an SVG figure.
+func svgHeaders(w http.ResponseWriter) {
+	w.Header().Set("Content-Type", "image/svg+xml")
+	w.Header().Set("Content-Security-Policy", figureCSP)
 }
 
 // names are the log's parameter and metric names, for the forms'

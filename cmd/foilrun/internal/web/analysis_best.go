@@ -129,15 +129,22 @@ func (s *Server) bestPage(w http.ResponseWriter, r *http.Request) {
 		Summary: fmt.Sprintf("%s over %d runs (%d without the parameters left out); %s", b.metric, bt.Runs, bt.Missing, pk.Line())}
 	v.Form.Bins = b.bins
 	t := &v.Table
-	t.Header = append(slices.Clone(b.by), "runs", "mean "+m.label, "min", "max", "share "+b.goal.String())
+	t.Header = append(slices.Clone(b.by), "runs", "mean "+m.label, "min", "max")
 	t.Numeric = []bool{false, false, true, true, true, true, true}
+	if b.goal.Set() { // the share column only says something with a goal
+		t.Header = append(t.Header, "share "+b.goal.String())
+	}
 	for _, bin := range bt.Bins {
-		share := ""
-		if !math.IsNaN(bin.Share) {
-			share = strconv.FormatFloat(100*bin.Share, 'f', 0, 64) + " %"
+		row := []string{binRange(bin, 0), binRange(bin, 1), strconv.Itoa(bin.Count),
+			m.format(bin.Mean), m.format(bin.Min), m.format(bin.Max)}
+		if b.goal.Set() {
+			share := ""
+			if !math.IsNaN(bin.Share) {
+				share = strconv.FormatFloat(100*bin.Share, 'f', 0, 64) + " %"
+			}
+			row = append(row, share)
 		}
-		t.Rows = append(t.Rows, []string{binRange(bin, 0), binRange(bin, 1), strconv.Itoa(bin.Count),
-			m.format(bin.Mean), m.format(bin.Min), m.format(bin.Max), share})
+		t.Rows = append(t.Rows, row)
 	}
 	s.render(w, r, http.StatusOK, "best", "Best settings", v)
 }
@@ -186,7 +193,7 @@ func (s *Server) bestSVG(w http.ResponseWriter, r *http.Request) {
 	for _, sm := range pk.Samples {
 		m.Points = append(m.Points, chart.MapPoint{X: sm.Params[0], Y: sm.Params[1]})
 	}
-	m.Title = fmt.Sprintf("mean %s by %s and %s, %d runs (%s)", b.metric, b.by[0], b.by[1], bt.Runs, pk.Line())
+	m.Title = fmt.Sprintf("mean %s, %d runs", b.metric, bt.Runs)
 	s.writeSVG(w, r, func(out io.Writer) error { return chart.WriteHeatMap(out, "best.svg", m) })
 }
 

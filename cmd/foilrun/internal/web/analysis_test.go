@@ -192,3 +192,34 @@ func serve(h http.Handler, path string) int {
 
 // formatValue is how the analysis pages write a number.
 func formatValue(v float64) string { return chart.FormatValue(v) }
+
+func TestFigureCSP(t *testing.T) { backends(t, testFigureCSP) }
+
+// testFigureCSP: an SVG figure may use its style attributes and data:
+// images and nothing else (no script source at all); pages keep
+// default-src 'self'.
+func testFigureCSP(t *testing.T) {
+	l, _ := testLog(t, analysisRuns)
+	srv, c := testServer(t, l, Config{})
+	for _, tt := range []struct{ path, csp string }{
+		{"/best.svg", figureCSP},
+		{"/window.svg", figureCSP},
+		{"/best", "default-src 'self'"},
+		{"/window", "default-src 'self'"},
+	} {
+		resp, err := c.Get(srv.URL + tt.path)
+		if err != nil {
+			t.Fatal(err)
+		}
+		resp.Body.Close()
+		if resp.StatusCode != 200 {
+			t.Errorf("%s: %d", tt.path, resp.StatusCode)
+		}
+		if got := resp.Header.Get("Content-Security-Policy"); got != tt.csp {
+			t.Errorf("%s: Content-Security-Policy %q, want %q", tt.path, got, tt.csp)
+		}
+		if strings.Contains(tt.csp, "script") || strings.Contains(tt.csp, "'self'") && strings.HasSuffix(tt.path, ".svg") {
+			t.Errorf("%s: the figure policy %q allows more than style and data: images", tt.path, tt.csp)
+		}
+	}
+}

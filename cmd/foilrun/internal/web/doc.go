@@ -3,8 +3,9 @@
 // binary, that people on a lab's network can read and that takes the few
 // things people add at the bench (notes, outcomes, micrographs).
 //
-// Security: every response carries a Content-Security-Policy of
-// default-src 'self' (no inline script or style), nosniff, a same-origin
+// Security: every page carries a Content-Security-Policy of
+// default-src 'self' (no inline script or style; an SVG figure gets one
+// that allows only its own style attributes and data: images), nosniff, a same-origin
 // referrer policy and frame denial. With a tokens file (LoadTokens) every
 // page needs a session, got once from /login with a person's token and
 // kept in an HttpOnly, SameSite=Strict cookie; every form carries a CSRF

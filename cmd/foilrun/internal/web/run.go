@@ -136,7 +136,7 @@ func (s *Server) planSVG(w http.ResponseWriter, r *http.Request) {
 		s.fail(w, r, http.StatusNotFound, fmt.Errorf("run %s: no plan to draw", rec.Code))
 		return
 	}
-	w.Header().Set("Content-Type", "image/svg+xml")
+	svgHeaders(w)
 	if err := chart.WriteTimeFigure(w, "plan.svg", fig); err != nil {
 		s.logf("draw %s: %v", r.URL.Path, err)
 	}

@@ -62,7 +62,8 @@ type Server struct {
 	logMu    sync.Mutex
 	sessions *sessions
 	pages    map[string]*template.Template
-	fits     fitCache // /fit's latest fits
+	fits     fitCache   // /fit's latest fits
+	maps     windowMaps // /window's latest maps
 }
 
 // New returns the server of cfg, with its pages parsed.
@@ -177,7 +178,7 @@ type navItem struct {
 }
 
 // nav is the nav bar: every page a person starts from.
-var nav = []navItem{{"Runs", "/runs", false}, {"Best settings", "/best", false}, {"Rank", "/rank", false}, {"Fit", "/fit", false}}
+var nav = []navItem{{"Runs", "/runs", false}, {"Best settings", "/best", false}, {"Rank", "/rank", false}, {"Fit", "/fit", false}, {"Process window", "/window", false}}
 
 // render executes pages/layout.html with pages/<page>.html, whose
 // {{define "content"}} fills the page, and writes it with status. The
