@@ -210,9 +210,10 @@ func median(xs []float64) float64 {
 // test; the truth is the simulation's own; 3 SE is the usual check,
 // failing by chance with probability 0.3 % per estimate for a normal
 // error). The table of medians is in the log (go test -v). The two cases
-// and the seeds run in parallel, each seed on its own copy of the
-// template; the medians are taken when every seed is done.
+// and the seeds run in parallel on one template plan, which Design only
+// reads; the medians are taken when every seed is done.
 func TestDesignSimulation(t *testing.T) {
+	plan := loadTemplate(t, "lowpressure")
 	truth := DefaultParams()
 	const seeds = 20
 	for _, c := range []struct {
@@ -233,7 +234,6 @@ func TestDesignSimulation(t *testing.T) {
 				for seed := range seeds {
 					t.Run(fmt.Sprint("seed ", seed+1), func(t *testing.T) {
 						t.Parallel()
-						plan := loadTemplate(t, "lowpressure")
 						for arm := range se {
 							est[arm][seed], se[arm][seed] = finalSE(t, plan, uint64(seed)+1, arm, c.density)
 						}

@@ -239,3 +239,43 @@ func compareWindowPoint(t *testing.T, where string, gp, wp *recipe.Plan, got, wa
 		}
 	}
 }
+
+// The map does not depend on how many workers fill it: a 23 × 17 grid
+// (several chunks of windowChunk points) on 1, 2 and 3 workers gives the
+// same points, compared as in TestWindowMatchesSlowPath, and progress
+// counts every point once, in order.
+func TestWindowWorkersAgree(t *testing.T) {
+	t.Parallel()
+	plan := loadTemplate(t, "lowpressure")
+	var want [][]Point
+	for _, workers := range []int{1, 2, 3} {
+		last := 0
+		m, err := Window(plan, WindowSpec{
+			X: mustAxis(t, "temperature=960C:1080C:23"), Y: mustAxis(t, "CH4=1sccm:36sccm:17"),
+			Params: DefaultParams(), Workers: workers,
+			Progress: func(done, total int) {
+				if done != last+1 || total != 23*17 {
+					t.Errorf("%d workers: progress %d/%d after %d", workers, done, total, last)
+				}
+				last = done
+			},
+		})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if last != 23*17 {
+			t.Errorf("%d workers: progress ended at %d, want %d", workers, last, 23*17)
+		}
+		if workers == 1 {
+			want = m.Points
+			continue
+		}
+		for iy := range want {
+			for ix := range want[iy] {
+				if g, w := fmt.Sprintf("%#v", m.Points[iy][ix]), fmt.Sprintf("%#v", want[iy][ix]); g != w {
+					t.Fatalf("%d workers, point %d, %d:\ngot  %s\nwant %s", workers, ix, iy, g, w)
+				}
+			}
+		}
+	}
+}
