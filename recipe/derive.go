@@ -277,9 +277,10 @@ func (p *Plan) prevPressure(i int) float64 {
 // table entry: gas.Lookup of a symbol returns that gas).
 func derive(sp *StepPlan, f *Furnace, buf []FlowPlan) {
 	old := buf[:cap(buf)]
-	sp.Flows = slices.Grow(buf[:0], len(sp.Step.Flows))
 	if buf == nil {
 		sp.Flows = make([]FlowPlan, 0, len(sp.Step.Flows)) // empty, not nil, without flows
+	} else {
+		sp.Flows = slices.Grow(buf[:0], len(sp.Step.Flows))
 	}
 	for j, fl := range sp.Step.Flows {
 		if j < len(old) && old[j].Gas.Symbol == fl.Gas {
