@@ -75,6 +75,15 @@ func Check(p *Plan) []Finding {
 	return c.finish()
 }
 
+// CheckErrors returns the errors among the findings Check(p) returns, in
+// the same order, without writing out the notes and warnings: what
+// decides whether a plan is feasible.
+func CheckErrors(p *Plan) []Finding {
+	c := &checker{p: p, f: p.Furnace, errorsOnly: true}
+	c.steps(0, len(p.Steps))
+	return c.finish()
+}
+
 // steps runs the checks of one step on steps from … to−1 of the plan. Those
 // of step i read only the plans of steps up to i (see Prefix).
 func (c *checker) steps(from, to int) {

@@ -125,7 +125,8 @@ func firstDifference(got, want string) string {
 // and Check give (compared as in TestPrefixMatchesDerive), the first time
 // a step after the grow step is seen and when it comes from the memo: every
 // edit is made twice, in two rounds. An error Deriver gives the same plan
-// and exactly the errors among Check's findings, in Check's order.
+// and exactly the errors among Check's findings, in Check's order, and so
+// does CheckErrors.
 func TestDeriverMatchesDerive(t *testing.T) {
 	for _, name := range []string{"lowpressure", "atmospheric", "largedomain"} {
 		base := loadTemplatePlan(t, name)
@@ -146,6 +147,9 @@ func TestDeriverMatchesDerive(t *testing.T) {
 					}
 				}
 				where := fmt.Sprintf("%s, round %d, %s", name, round+1, e.name)
+				if g, w := fmt.Sprintf("%#v", CheckErrors(want)), fmt.Sprintf("%#v", wantErrs); g != w {
+					t.Errorf("%s: CheckErrors differs from the errors of Check: %s", where, firstDifference(g, w))
+				}
 				for _, c := range []struct {
 					deriver string
 					d       *Deriver
