@@ -169,6 +169,19 @@ func windowRun(opts *windowOptions) error {
 	if ivs != nil && opts.output == formatTable {
 		fmt.Fprintln(opts.f.io.Err, "90 % intervals of every point are in --output json")
 	}
+	if err := opts.writeWindow(m, params, ivs); err != nil {
+		return err
+	}
+	if opts.plot != "" {
+		return opts.writePlot(m, guard)
+	}
+	return nil
+}
+
+// writeWindow writes the map in the --output format; JSON carries the
+// points' intervals ivs (none without a covariance).
+func (opts *windowOptions) writeWindow(m *kinetics.Map, params kinetics.Params, ivs []*intervalJSON) error {
+	var err error
 	w := opts.f.io.Out
 	switch opts.output {
 	case formatJSON:
@@ -185,13 +198,7 @@ func windowRun(opts *windowOptions) error {
 			fmt.Fprintf(w, "note: the parameters were calibrated on coverage only: coverage and times to coverage are predicted; %s are not\n", strings.Join(np, " and "))
 		}
 	}
-	if err != nil {
-		return err
-	}
-	if opts.plot != "" {
-		return opts.writePlot(m, guard)
-	}
-	return nil
+	return err
 }
 
 // windowJSON is the JSON form of the map. With a coverage-only
