@@ -16,6 +16,7 @@ import (
 // targets on nuclei density or domain size are refused, with a hint, since
 // coverage alone fixes only I·G² (Params.Predicts).
 func TestSuggestCoverageOnly(t *testing.T) {
+	t.Parallel()
 	plan := loadTemplate(t, "lowpressure")
 	res, err := Fit(observations(t, synthRuns(50, 11, fitTruth), fitStart()), fitStart(), FitSettings{Coverage: true})
 	if err != nil {

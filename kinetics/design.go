@@ -357,7 +357,7 @@ func (s *searcher) pool(spec DesignSpec) ([]designPoint, error) {
 // error in it and methane flows.
 func (s *searcher) feasible(x []float64, t float64) (designPoint, bool) {
 	plan := recipe.Derive(s.recipeAt(x, t), s.f)
-	for _, fd := range recipe.Check(plan) {
+	for _, fd := range recipe.CheckErrors(plan) {
 		if fd.Severity == recipe.Error {
 			return designPoint{}, false
 		}

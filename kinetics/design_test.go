@@ -2,6 +2,7 @@ package kinetics
 
 import (
 	"errors"
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"slices"
@@ -208,7 +209,9 @@ func median(xs []float64) float64 {
 // that saturate, their fits are the comparison, not the product under
 // test; the truth is the simulation's own; 3 SE is the usual check,
 // failing by chance with probability 0.3 % per estimate for a normal
-// error). The table of medians is in the log (go test -v).
+// error). The table of medians is in the log (go test -v). The two cases
+// and the seeds run in parallel on one template plan, which Design only
+// reads; the medians are taken when every seed is done.
 func TestDesignSimulation(t *testing.T) {
 	plan := loadTemplate(t, "lowpressure")
 	truth := DefaultParams()
@@ -225,26 +228,37 @@ func TestDesignSimulation(t *testing.T) {
 		{"En+2Eg coverage only", false, truth.En + 2*truth.Eg, [3]float64{0, 0.30, 0.30}},
 	} {
 		t.Run(c.name, func(t *testing.T) {
-			var se [3][]float64
+			t.Parallel()
+			var est, se [3][seeds]float64
+			t.Run("seeds", func(t *testing.T) {
+				for seed := range seeds {
+					t.Run(fmt.Sprint("seed ", seed+1), func(t *testing.T) {
+						t.Parallel()
+						for arm := range se {
+							est[arm][seed], se[arm][seed] = finalSE(t, plan, uint64(seed)+1, arm, c.density)
+						}
+					})
+				}
+			})
+			if t.Failed() {
+				return
+			}
 			var missed [3]int // estimates beyond 3 SE
-			for seed := range uint64(seeds) {
-				for arm := range se {
-					est, e := finalSE(t, plan, seed+1, arm, c.density)
-					off := math.Abs(est-c.want) / e
-					if !(off <= 3) {
+			for arm := range se {
+				for seed := range seeds {
+					if off := math.Abs(est[arm][seed]-c.want) / se[arm][seed]; !(off <= 3) {
 						missed[arm]++
 						if arm == armDesign {
-							t.Errorf("seed %d designed: estimate %.4g eV is %.2g SE from the truth %.4g eV, want within 3 SE", seed+1, est, off, c.want)
+							t.Errorf("seed %d designed: estimate %.4g eV is %.2g SE from the truth %.4g eV, want within 3 SE", seed+1, est[arm][seed], off, c.want)
 						}
 					}
-					se[arm] = append(se[arm], e)
 				}
 			}
-			md := median(se[armDesign])
+			md := median(se[armDesign][:])
 			t.Logf("%s, median final SE over %d seeds:", c.name, seeds)
 			t.Logf("  %-10s %.4g eV; estimates beyond 3 SE: %d of %d", armNames[armDesign], md, missed[armDesign], seeds)
 			for arm := armRandom; arm < len(se); arm++ {
-				m := median(se[arm])
+				m := median(se[arm][:])
 				t.Logf("  %-10s %.4g eV (design %.0f %% lower); estimates beyond 3 SE: %d of %d", armNames[arm], m, 100*(1-md/m), missed[arm], seeds)
 				if !(md <= (1-c.gain[arm])*m) {
 					t.Errorf("median final SE: designed %.4g eV, %s %.4g eV; want designed at least %.0f %% lower", md, armNames[arm], m, 100*c.gain[arm])
@@ -347,6 +361,7 @@ func BenchmarkDesign500(b *testing.B) {
 // both as computed by Design (the property holds by construction only if
 // the exchange search works; a broken criterion or search fails it).
 func TestDesignTargetCriterion(t *testing.T) {
+	t.Parallel()
 	plan := loadTemplate(t, "lowpressure")
 	truth := DefaultParams()
 	target, err := ParseTarget("coverage>=0.99")

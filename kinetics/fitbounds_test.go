@@ -14,6 +14,7 @@ import (
 // DefaultBounds for the other free parameters; a second fit started from
 // the file read back, with no bounds given, stops at 3 again.
 func TestFitBoundsRoundTrip(t *testing.T) {
+	t.Parallel()
 	truth := fitTruth
 	truth.A = 4.8
 	obs := observations(t, synthRuns(60, 21, truth), fitStart())

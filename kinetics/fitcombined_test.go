@@ -85,6 +85,7 @@ func TestFitCoverageOnlyRecovery(t *testing.T) {
 // (DefaultBounds), must stop at 4 and say so; a bound given by the
 // caller (En within −3 … −2, truth −1.5) likewise stops at −2.
 func TestFitStopsAtBound(t *testing.T) {
+	t.Parallel()
 	truth := fitTruth
 	truth.A = 4.8
 	for _, c := range []struct {

@@ -31,6 +31,7 @@ func BenchmarkFitIterations(b *testing.B) {
 // stay within the issue's target of 10 (issue 18; the fit started from
 // the linear start, see linearStart), and the fit must converge.
 func TestFitIterations(t *testing.T) {
+	t.Parallel()
 	for _, n := range []int{50, 500, 5000} {
 		obs := observations(t, synthRuns(n, 1, fitTruth), fitStart())
 		for _, c := range []struct {

@@ -101,14 +101,32 @@ func PredictProfile(prof Profile, p Params, opts Options) (Result, error) {
 		return Result{}, err
 	}
 	opts = opts.withDefaults()
-	for _, s := range prof.Segments {
+	if err := checkSegments(prof.Segments); err != nil {
+		return Result{}, err
+	}
+	in := newIntegrator(prof, p, opts)
+	in.run(prof.Segments, 0)
+	return in.result(), nil
+}
+
+// checkSegments returns an error for the first segment the model cannot
+// use: carbon at a temperature that is not positive and finite, or a
+// duration or partial pressure that is negative, NaN or infinite.
+func checkSegments(segs []Segment) error {
+	for _, s := range segs {
 		if s.Carbon() && (!(s.T0 > 0) || !(s.T1 > 0) || math.IsInf(s.T0, 0) || math.IsInf(s.T1, 0)) {
-			return Result{}, fmt.Errorf("predict: step %s: temperature %g→%g K is not usable", s.Label, s.T0, s.T1)
+			return fmt.Errorf("predict: step %s: temperature %g→%g K is not usable", s.Label, s.T0, s.T1)
 		}
 		if !(s.Duration >= 0) || math.IsInf(s.Duration, 0) || !(s.PH >= 0) || !(s.PC >= 0) || math.IsInf(s.PC, 0) || math.IsInf(s.PH, 0) {
-			return Result{}, fmt.Errorf("predict: step %s: duration %g s or partial pressures %g, %g Pa not usable", s.Label, s.Duration, s.PC, s.PH)
+			return fmt.Errorf("predict: step %s: duration %g s or partial pressures %g, %g Pa not usable", s.Label, s.Duration, s.PC, s.PH)
 		}
 	}
+	return nil
+}
+
+// newIntegrator starts a prediction of prof at bare copper, before its
+// first segment. opts has its defaults filled in.
+func newIntegrator(prof Profile, p Params, opts Options) integrator {
 	in := integrator{p: p, kappa: p.Kappa(), opts: opts, res: Result{
 		Recipe: prof.Recipe, Mode: p.Mode, Shape: p.Shape, Profile: prof, Params: p, Options: opts,
 		CarbonStart: math.NaN(), T50: math.NaN(), T90: math.NaN(), T99: math.NaN(),
@@ -124,16 +142,25 @@ func PredictProfile(prof Profile, p Params, opts Options) (Result, error) {
 		in.every = prof.Total / float64(opts.Samples)
 	}
 	in.sample(0)
-	for i, seg := range prof.Segments {
-		in.segment(i, seg)
+	return in
+}
+
+// run integrates segs, the segments of the profile from index from on.
+func (in *integrator) run(segs []Segment, from int) {
+	for i, seg := range segs {
+		in.segment(from+i, seg)
 	}
+}
+
+// result finishes the prediction after the last segment.
+func (in *integrator) result() Result {
 	r := &in.res
 	θ := 1 - math.Exp(-in.m.extended(in.kappa))
 	r.Coverage, r.NucleiDensity, r.DomainSize, r.Radius = θ, in.m.N, DomainSize(θ, in.m.N), in.m.R
 	if len(r.Curve) > 0 {
 		sort.SliceStable(r.Curve, func(i, j int) bool { return r.Curve[i].Time < r.Curve[j].Time })
 	}
-	return in.res, nil
+	return in.res
 }
 
 type integrator struct {
@@ -146,6 +173,9 @@ type integrator struct {
 	every   float64 // curve sample interval, s; 0 for no curve
 	next    float64 // last sample time on the regular grid
 	anyEtch bool    // a ramp sub-step etched
+	// firstLevel is the first of the coverage levels whose times are
+	// solved for (0: T50, T90 and T99; a window sets 2, only T99).
+	firstLevel int
 }
 
 func (in *integrator) state(m moments) Sample {
@@ -167,8 +197,8 @@ func (in *integrator) sample(t float64) {
 // solve(y) giving the time from the segment start.
 func (in *integrator) crossings(start, x0, x1 float64, solve func(y float64) float64) {
 	ts := [3]*float64{&in.res.T50, &in.res.T90, &in.res.T99}
-	for k, y := range extendedLevels {
-		if math.IsNaN(*ts[k]) && x0 < y && y <= x1 {
+	for k := in.firstLevel; k < len(extendedLevels); k++ {
+		if y := extendedLevels[k]; math.IsNaN(*ts[k]) && x0 < y && y <= x1 {
 			*ts[k] = start + solve(y) - in.res.CarbonStart
 		}
 	}

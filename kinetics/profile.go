@@ -55,22 +55,26 @@ func NewProfile(plan *recipe.Plan) Profile {
 		p.Recipe = plan.Recipe.Name
 	}
 	for i := range plan.Steps {
-		sp := &plan.Steps[i]
-		seg := Segment{
-			Index: sp.Index, Label: sp.Label, Start: sp.Start, Duration: sp.Duration,
-			T0: sp.T0, T1: sp.T1, PC: sp.PCH4, PH: sp.PH2,
-		}
-		if sp.Step != nil {
-			seg.Kind = sp.Step.Kind
-		}
-		for _, fl := range sp.Flows {
-			if fl.Gas.Role == gas.CarbonSource && fl.Gas.Symbol != "CH4" {
-				seg.OtherCarbon += fl.Partial
-			}
-		}
-		p.Segments[i] = seg
+		p.Segments[i] = segmentOf(&plan.Steps[i])
 	}
 	return p
+}
+
+// segmentOf is the segment of one step of a plan.
+func segmentOf(sp *recipe.StepPlan) Segment {
+	seg := Segment{
+		Index: sp.Index, Label: sp.Label, Start: sp.Start, Duration: sp.Duration,
+		T0: sp.T0, T1: sp.T1, PC: sp.PCH4, PH: sp.PH2,
+	}
+	if sp.Step != nil {
+		seg.Kind = sp.Step.Kind
+	}
+	for _, fl := range sp.Flows {
+		if fl.Gas.Role == gas.CarbonSource && fl.Gas.Symbol != "CH4" {
+			seg.OtherCarbon += fl.Partial
+		}
+	}
+	return seg
 }
 
 // At returns the temperature (K) and the CH4 and H2 partial pressures (Pa)

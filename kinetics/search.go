@@ -419,7 +419,7 @@ func (s *searcher) eval(x []float64) point {
 	}
 	r := s.recipeAt(x, probe)
 	plan := recipe.Derive(r, s.f)
-	for _, fd := range recipe.Check(plan) {
+	for _, fd := range recipe.CheckErrors(plan) {
 		if fd.Severity == recipe.Error && fd.Rule != "copper.evaporation" {
 			pt.rule = fd.Rule
 			return pt

@@ -89,6 +89,7 @@ func checkSuggested(t *testing.T, sug *Suggestion, plan *recipe.Plan, spec Sugge
 // grid) is cheaper while meeting the targets and passing Check. Tolerance
 // 0.2 % of the cost (the written recipe's time is rounded up to 0.01 min).
 func TestSuggestBeatsFineGrid(t *testing.T) {
+	t.Parallel()
 	plan := loadTemplate(t, "lowpressure")
 	for _, c := range []struct {
 		name     string
@@ -143,6 +144,7 @@ func TestSuggestBeatsFineGrid(t *testing.T) {
 // With --confidence the lower bound of the interval meets the target, so
 // the planned time is longer than at the best estimate.
 func TestSuggestConfidence(t *testing.T) {
+	t.Parallel()
 	plan := loadTemplate(t, "lowpressure")
 	res, err := Fit(observations(t, synthRuns(30, 7, fitTruth), fitStart()), fitStart(), FitSettings{})
 	if err != nil {

@@ -85,6 +85,7 @@ func TestSampleParamsCovariance(t *testing.T) {
 // giving true θ ≈ 0.6) must contain the true value in 80–97 % of the sets
 // (the bounds; binomial sampling error at 90 % is 3 %).
 func TestIntervalCoverage(t *testing.T) {
+	t.Parallel()
 	const T, pC, pH = 1283.15, 22.0, 45.0
 	I, G, _ := fitTruth.rates(T, pC, pH)
 	tHeld := math.Cbrt(3 * -math.Log(0.4) / (fitTruth.Kappa() * I * G * G))

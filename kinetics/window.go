@@ -4,9 +4,11 @@ import (
 	"fmt"
 	"math"
 	"runtime"
+	"slices"
 	"strconv"
 	"strings"
 	"sync"
+	"sync/atomic"
 
 	"github.com/foilrun/foilrun/recipe"
 	"github.com/foilrun/foilrun/recipe/gas"
@@ -162,7 +164,7 @@ type WindowSpec struct {
 	X, Y    Axis    // the two grow-step parameters, different from each other
 	Params  Params  // model parameters
 	Options Options // numerics of each prediction
-	// Workers is the number of goroutines; 0 means runtime.NumCPU().
+	// Workers is the number of goroutines; 0 means runtime.GOMAXPROCS(0).
 	Workers int
 	// Progress, when not nil, is called after each point with the number
 	// done so far and the total. Calls are serialised and done increases.
@@ -195,10 +197,12 @@ type Map struct {
 }
 
 // Window maps predictions over two grow-step parameters of the plan's
-// recipe. For every grid point it copies the recipe with the first grow
-// step changed, lays it out again with recipe.Derive, checks it with
-// recipe.Check (an error finding makes the point infeasible; it is still
-// predicted) and predicts it. It returns an error (wrapping ErrAxis) for two
+// recipe. Every grid point is the recipe with the first grow step changed,
+// laid out again as recipe.Derive would, checked as recipe.Check would (an
+// error finding makes the point infeasible; it is still predicted) and
+// predicted as Predict would, with exactly their results; the steps
+// before the grow step are derived, checked and predicted once for the
+// whole map (see windowBase). It returns an error (wrapping ErrAxis) for two
 // axes on the same parameter or a range outside the furnace's limits, and
 // an error when the recipe has no grow step or the parameters are invalid.
 // It panics if plan, plan.Recipe or plan.Furnace is nil.
@@ -227,85 +231,97 @@ func Window(plan *recipe.Plan, spec WindowSpec) (*Map, error) {
 	for iy := range m.Points {
 		m.Points[iy] = make([]Point, len(m.Xs))
 	}
-	if err := m.fill(r, f, grow, spec); err != nil {
+	base, err := newWindowBase(r, f, grow, spec)
+	if err != nil {
+		return nil, err
+	}
+	if err := m.fill(base, spec); err != nil {
 		return nil, err
 	}
 	return m, nil
 }
 
-// fill predicts every point of the map on spec.Workers goroutines and
-// returns the first error.
-func (m *Map) fill(r *recipe.Recipe, f *recipe.Furnace, grow int, spec WindowSpec) error {
+// windowChunk is how many consecutive points a worker takes at a time.
+const windowChunk = 64
+
+// fill predicts every point of the map on spec.Workers goroutines (0:
+// GOMAXPROCS), each taking the next windowChunk points in turn and
+// writing them by index, so the map is the same whatever the order. It
+// returns the error of the first point, in map order, that has one.
+func (m *Map) fill(base *windowBase, spec WindowSpec) error {
 	total := len(m.Xs) * len(m.Ys)
 	workers := spec.Workers
 	if workers <= 0 {
-		workers = runtime.NumCPU()
+		workers = runtime.GOMAXPROCS(0)
 	}
 	workers = min(workers, total)
 	var (
+		next     atomic.Int64
 		mu       sync.Mutex
 		done     int
+		errAt    = total
 		firstErr error
 		wg       sync.WaitGroup
 	)
-	jobs := make(chan int)
 	for range workers {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			for k := range jobs {
-				iy, ix := k/len(m.Xs), k%len(m.Xs)
-				pt, err := windowPoint(r, f, grow, spec, m.Xs[ix], m.Ys[iy])
-				m.Points[iy][ix] = pt
-				mu.Lock()
-				if err != nil && firstErr == nil {
-					firstErr = err
+			w := base.newWorker()
+			for {
+				from := int(next.Add(windowChunk)) - windowChunk
+				if from >= total {
+					return
 				}
-				done++
-				if spec.Progress != nil {
-					spec.Progress(done, total)
+				to, at := min(from+windowChunk, total), total
+				var err error
+				for k := from; k < to; k++ {
+					iy, ix := k/len(m.Xs), k%len(m.Xs)
+					_, pt, perr := w.point(ix, iy)
+					m.Points[iy][ix] = pt
+					if perr != nil && err == nil {
+						err, at = perr, k
+					}
+				}
+				mu.Lock()
+				if at < errAt {
+					firstErr, errAt = err, at
+				}
+				for range to - from {
+					done++
+					if spec.Progress != nil {
+						spec.Progress(done, total)
+					}
 				}
 				mu.Unlock()
 			}
 		}()
 	}
-	for k := range total {
-		jobs <- k
-	}
-	close(jobs)
 	wg.Wait()
 	return firstErr
-}
-
-// windowPoint predicts one grid point on a copy of the recipe.
-func windowPoint(base *recipe.Recipe, f *recipe.Furnace, grow int, spec WindowSpec, x, y float64) (Point, error) {
-	r := *base
-	r.Steps = append([]recipe.Step(nil), base.Steps...)
-	s := &r.Steps[grow]
-	setParam(s, spec.X, x)
-	setParam(s, spec.Y, y)
-	plan := recipe.Derive(&r, f)
-	pt := Point{X: x, Y: y, Feasible: true}
-	for _, fd := range recipe.Check(plan) {
-		if fd.Severity == recipe.Error {
-			pt.Feasible, pt.Rule, pt.Message = false, fd.Rule, fd.Message
-			break
-		}
-	}
-	res, err := Predict(plan, spec.Params, spec.Options)
-	if err != nil {
-		return pt, err
-	}
-	pt.Coverage, pt.NucleiDensity, pt.DomainSize, pt.T99 = res.Coverage, res.NucleiDensity, res.DomainSize, res.T99
-	pt.Etching = res.Steps[grow].Etching
-	return pt, nil
 }
 
 // setParam sets one axis value on the (copied) grow step; a gas flow gets a
 // fresh Flows slice so the base recipe is never written.
 func setParam(s *recipe.Step, a Axis, v float64) {
+	if a.Dim == recipe.Flow {
+		s.Flows = slices.Clone(s.Flows)
+	}
+	setOwnParam(s, a, v)
+}
+
+// setOwnParam is setParam on a step whose Flows the caller owns: a gas
+// flow is set in place, or appended when the step has none of that gas.
+func setOwnParam(s *recipe.Step, a Axis, v float64) { setQuantity(s, a, a.quantity(v)) }
+
+// quantity is the axis value v as setParam writes it into a step.
+func (a Axis) quantity(v float64) recipe.Quantity {
 	text := strconv.FormatFloat(a.Display(v), 'g', 6, 64) + " " + a.Unit()
-	q := recipe.Quantity{SI: v, Dim: a.Dim, Text: text}
+	return recipe.Quantity{SI: v, Dim: a.Dim, Text: text}
+}
+
+// setQuantity is setOwnParam with the value already made a quantity.
+func setQuantity(s *recipe.Step, a Axis, q recipe.Quantity) {
 	switch a.Param {
 	case ParamTemperature:
 		s.Temperature = q
@@ -314,17 +330,14 @@ func setParam(s *recipe.Step, a Axis, v float64) {
 	case ParamDuration:
 		s.Duration = q
 	default:
-		flows := make(recipe.Flows, 0, len(s.Flows)+1)
 		found := false
-		for _, fl := range s.Flows {
-			if fl.Gas == a.Param {
-				fl.Flow, found = q, true
+		for i := range s.Flows {
+			if s.Flows[i].Gas == a.Param {
+				s.Flows[i].Flow, found = q, true
 			}
-			flows = append(flows, fl)
 		}
 		if !found {
-			flows = append(flows, recipe.GasFlow{Gas: a.Param, Flow: q})
+			s.Flows = append(s.Flows, recipe.GasFlow{Gas: a.Param, Flow: q})
 		}
-		s.Flows = flows
 	}
 }

@@ -2,9 +2,12 @@ package kinetics
 
 import (
 	"errors"
+	"fmt"
 	"math"
 	"strings"
 	"testing"
+
+	"github.com/foilrun/foilrun/recipe"
 )
 
 func TestParseAxis(t *testing.T) {
@@ -153,5 +156,126 @@ func TestWindowFeasibility(t *testing.T) {
 	again, _ := Predict(plan, DefaultParams(), Options{})
 	if base.NucleiDensity != again.NucleiDensity || math.Abs(m.Points[2][1].NucleiDensity-base.NucleiDensity) == 0 {
 		t.Errorf("base recipe changed by the window: N %g vs %g", again.NucleiDensity, base.NucleiDensity)
+	}
+}
+
+// slowPoint is the reference for a window point: the whole changed recipe
+// derived with recipe.Derive, checked with recipe.Check and predicted with
+// Predict, as Window did before it kept the steps before the grow step.
+func slowPoint(t *testing.T, plan *recipe.Plan, spec WindowSpec, x, y float64) (*recipe.Plan, []recipe.Finding, Result) {
+	t.Helper()
+	grow := plan.Recipe.FirstStep(recipe.KindGrow)
+	r := *plan.Recipe
+	r.Steps = append([]recipe.Step(nil), plan.Recipe.Steps...)
+	setParam(&r.Steps[grow], spec.X, x)
+	setParam(&r.Steps[grow], spec.Y, y)
+	p := recipe.Derive(&r, plan.Furnace)
+	res, err := Predict(p, spec.Params, spec.Options)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return p, recipe.Check(p), res
+}
+
+// Every cell of a window gives exactly the plan and the point (first
+// error, coverage, nuclei density, domain size, T99, etching) of the slow
+// path (slowPoint), for the three templates and a grid over each parameter
+// --vary takes, inside and at the edges of the template furnace's limits
+// (templates/furnace.yaml). Exactly: %#v prints every float64 in its
+// shortest form that reads back to the same bits (strconv 'g', −1), so
+// equal text is equal values (==, NaN as NaN); the plans' Step pointers
+// point into different recipe copies, so the steps are compared by value.
+// One worker evaluates every cell, so its reused buffers and memo are
+// tested from point to point.
+func TestWindowMatchesSlowPath(t *testing.T) {
+	t.Parallel()
+	axes := []string{
+		"temperature=950C:1075C:6", "duration=1min:600min:5", "pressure=1Torr:1atm:5",
+		"CH4=0.2sccm:36sccm:5", "H2=0sccm:200sccm:5",
+	}
+	for _, name := range []string{"lowpressure", "atmospheric", "largedomain"} {
+		plan := loadTemplate(t, name)
+		grow := plan.Recipe.FirstStep(recipe.KindGrow)
+		for i, xs := range axes {
+			spec := WindowSpec{X: mustAxis(t, xs), Y: mustAxis(t, axes[(i+1)%len(axes)]), Params: DefaultParams()}
+			base, err := newWindowBase(plan.Recipe, plan.Furnace, grow, spec)
+			if err != nil {
+				t.Fatal(err)
+			}
+			w := base.newWorker()
+			for iy, y := range spec.Y.Values() {
+				for ix, x := range spec.X.Values() {
+					where := fmt.Sprintf("%s, %s=%g, %s=%g", name, spec.X.Param, x, spec.Y.Param, y)
+					wp, wfs, wres := slowPoint(t, plan, spec, x, y)
+					gp, gpt, err := w.point(ix, iy)
+					if err != nil {
+						t.Fatalf("%s: %v", where, err)
+					}
+					compareWindowPoint(t, where, gp, wp, gpt, pointOf(x, y, wfs, wres, nil, grow))
+				}
+			}
+		}
+	}
+}
+
+// compareWindowPoint reports where a window's plan or point differs from
+// the slow path's (see TestWindowMatchesSlowPath). It clears the plans'
+// Step and Recipe pointers.
+func compareWindowPoint(t *testing.T, where string, gp, wp *recipe.Plan, got, want Point) {
+	t.Helper()
+	for j := range gp.Steps {
+		if g, w := fmt.Sprintf("%#v", *gp.Steps[j].Step), fmt.Sprintf("%#v", *wp.Steps[j].Step); g != w {
+			t.Errorf("%s: step %d differs:\ngot  %s\nwant %s", where, j, g, w)
+		}
+		gp.Steps[j].Step, wp.Steps[j].Step = nil, nil
+	}
+	gp.Recipe, wp.Recipe = nil, nil
+	for _, c := range []struct {
+		what      string
+		got, want any
+	}{{"plan", *gp, *wp}, {"point", got, want}} {
+		if g, w := fmt.Sprintf("%#v", c.got), fmt.Sprintf("%#v", c.want); g != w {
+			t.Errorf("%s: %s differs:\ngot  %.300s\nwant %.300s", where, c.what, g, w)
+		}
+	}
+}
+
+// The map does not depend on how many workers fill it: a 23 × 17 grid
+// (several chunks of windowChunk points) on 1, 2 and 3 workers gives the
+// same points, compared as in TestWindowMatchesSlowPath, and progress
+// counts every point once, in order.
+func TestWindowWorkersAgree(t *testing.T) {
+	t.Parallel()
+	plan := loadTemplate(t, "lowpressure")
+	var want [][]Point
+	for _, workers := range []int{1, 2, 3} {
+		last := 0
+		m, err := Window(plan, WindowSpec{
+			X: mustAxis(t, "temperature=960C:1080C:23"), Y: mustAxis(t, "CH4=1sccm:36sccm:17"),
+			Params: DefaultParams(), Workers: workers,
+			Progress: func(done, total int) {
+				if done != last+1 || total != 23*17 {
+					t.Errorf("%d workers: progress %d/%d after %d", workers, done, total, last)
+				}
+				last = done
+			},
+		})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if last != 23*17 {
+			t.Errorf("%d workers: progress ended at %d, want %d", workers, last, 23*17)
+		}
+		if workers == 1 {
+			want = m.Points
+			continue
+		}
+		for iy := range want {
+			for ix := range want[iy] {
+				if g, w := fmt.Sprintf("%#v", m.Points[iy][ix]), fmt.Sprintf("%#v", want[iy][ix]); g != w {
+					t.Fatalf("%d workers, point %d, %d:\ngot  %s\nwant %s", workers, ix, iy, g, w)
+				}
+			}
+		}
 	}
 }

@@ -1,9 +1,10 @@
 package recipe
 
 import (
+	"cmp"
 	"fmt"
 	"math"
-	"sort"
+	"slices"
 	"strings"
 
 	"github.com/foilrun/foilrun/recipe/gas"
@@ -44,9 +45,14 @@ type checker struct {
 	f    *Furnace
 	fs   []Finding
 	melt [2][]*StepPlan // steps too near copper's melting point: [0] warning, [1] error
+	// errorsOnly keeps only the errors (Prefix.NewErrorDeriver).
+	errorsOnly bool
 }
 
 func (c *checker) add(sev Severity, sp *StepPlan, rule string, pos Pos, hint, format string, args ...any) {
+	if !c.keeps(sev) {
+		return
+	}
 	fd := Finding{Severity: sev, Rule: rule, Message: fmt.Sprintf(format, args...), Hint: hint, Pos: pos, Line: pos.Line}
 	if sp != nil {
 		fd.Step, fd.StepName = sp.Index+1, sp.Label
@@ -57,10 +63,23 @@ func (c *checker) add(sev Severity, sp *StepPlan, rule string, pos Pos, hint, fo
 	c.fs = append(c.fs, fd)
 }
 
+// keeps reports whether the checker keeps findings of severity sev: a
+// check whose message costs something to write asks first.
+func (c *checker) keeps(sev Severity) bool { return !c.errorsOnly || sev == Error }
+
 // Check runs every limit and sequence check of a plan against its furnace
 // and returns the findings, most serious first, then by step.
 func Check(p *Plan) []Finding {
 	c := &checker{p: p, f: p.Furnace}
+	c.steps(0, len(p.Steps))
+	return c.finish()
+}
+
+// CheckErrors returns the errors among the findings Check(p) returns, in
+// the same order, without writing out the notes and warnings: what
+// decides whether a plan is feasible.
+func CheckErrors(p *Plan) []Finding {
+	c := &checker{p: p, f: p.Furnace, errorsOnly: true}
 	c.steps(0, len(p.Steps))
 	return c.finish()
 }
@@ -83,11 +102,11 @@ func (c *checker) steps(from, to int) {
 func (c *checker) finish() []Finding {
 	c.copperMelting()
 	c.sequence()
-	sort.SliceStable(c.fs, func(i, j int) bool {
-		if c.fs[i].Severity != c.fs[j].Severity {
-			return c.fs[i].Severity > c.fs[j].Severity
+	slices.SortStableFunc(c.fs, func(a, b Finding) int {
+		if a.Severity != b.Severity {
+			return cmp.Compare(b.Severity, a.Severity)
 		}
-		return c.fs[i].Step < c.fs[j].Step
+		return cmp.Compare(a.Step, b.Step)
 	})
 	return c.fs
 }
@@ -140,7 +159,7 @@ func (c *checker) temperature(sp *StepPlan) {
 			c.add(Warning, sp, "ramp.direction", sp.Step.To.Pos, "use a ramp step to heat", "cool step goes up from %s to %s", c2(sp.T0), c2(sp.T1))
 		}
 	}
-	if (sp.Step.Kind == KindAnneal || sp.Step.Kind == KindGrow) && sp.Index > 0 {
+	if (sp.Step.Kind == KindAnneal || sp.Step.Kind == KindGrow) && sp.Index > 0 && c.keeps(Warning) {
 		prev := c.p.Steps[sp.Index-1].T1
 		if math.Abs(prev-sp.T0) > HoldMismatch {
 			c.add(Warning, sp, "sequence.missing-ramp", sp.Step.Temperature.Pos, "add a ramp step to the hold temperature",
@@ -182,7 +201,7 @@ func (c *checker) naturalCooling(sp *StepPlan) {
 func (c *checker) copperMelting() {
 	margin, melt := c.f.Heater.ThermocoupleMargin.SI, gas.CopperMeltingPoint
 	for sev, sps := range c.melt {
-		if len(sps) == 0 {
+		if len(sps) == 0 || sev == 0 && !c.keeps(Warning) {
 			continue
 		}
 		hottest, labels := sps[0], make([]string, len(sps))
@@ -252,22 +271,19 @@ func (c *checker) flows(sp *StepPlan) {
 				"no gas line for %s on furnace %q", fl.Gas, c.f.Name)
 			continue
 		}
-		fs := line.FullScaleOfGas()
+		cf := line.Correction()
+		fs := line.FullScale.SI * cf // FullScaleOfGas
 		share := fl.Flow.SI / fs
 		sccm := sp.Flows[j].SCCM
-		cf := line.Correction()
-		calib := ""
-		if cf != 1 {
-			calib = fmt.Sprintf(" (MFC calibrated for %s, correction factor %.3f; set-point %.1f %% of full scale)", line.CalibratedFor, cf, share*100)
-			if line.CalibratedFor == "" {
-				calib = fmt.Sprintf(" (correction factor %.3f; set-point %.1f %% of full scale)", cf, share*100)
-			}
-		}
 		if share > 1 {
 			c.add(Error, sp, "flow.full-scale", fl.Flow.Pos, "lower the flow or fit a larger MFC",
-				"%s flow %.4g sccm is above the line's full scale %.4g sccm of %s%s", fl.Gas, sccm, fs/molPerSCCMSecond, fl.Gas, calib)
+				"%s flow %.4g sccm is above the line's full scale %.4g sccm of %s%s", fl.Gas, sccm, fs/molPerSCCMSecond, fl.Gas, calibration(line, cf, share))
 			continue
 		}
+		if c.errorsOnly {
+			continue // what follows are warnings and notes
+		}
+		calib := calibration(line, cf, share)
 		low := line.LowEnd.SI
 		if share < low {
 			c.add(Warning, sp, "flow.low-end", fl.Flow.Pos, "use a smaller MFC, or a diluted source gas",
@@ -279,6 +295,18 @@ func (c *checker) flows(sp *StepPlan) {
 				"%s flow %.4g sccm%s", fl.Gas, sccm, calib)
 		}
 	}
+}
+
+// calibration is what a flow finding adds about the line's correction
+// factor cf at a set-point share of full scale; "" when cf is 1.
+func calibration(line *GasLine, cf, share float64) string {
+	switch {
+	case cf == 1:
+		return ""
+	case line.CalibratedFor == "":
+		return fmt.Sprintf(" (correction factor %.3f; set-point %.1f %% of full scale)", cf, share*100)
+	}
+	return fmt.Sprintf(" (MFC calibrated for %s, correction factor %.3f; set-point %.1f %% of full scale)", line.CalibratedFor, cf, share*100)
 }
 
 func torrOf(pa float64) string {
@@ -339,6 +367,9 @@ func (c *checker) copper(sp *StepPlan) {
 		return
 	}
 	share, vshare := sp.CopperLoss/th, sp.CopperLossVacuum/th
+	if !c.keeps(Warning) && !(share >= CopperLossError && (sp.CopperModel != CopperVacuumBound || sp.Pressure <= VacuumBoundPressure)) {
+		return // only an error is kept, and this is none (see the switch below)
+	}
 	msg := fmt.Sprintf("copper can evaporate up to %.2f um per face (Hertz–Knudsen vacuum bound), %.0f %% of the %.0f um foil", sp.CopperLossVacuum*1e6, vshare*100, th*1e6)
 	if sp.CopperModel == CopperDiffusion {
 		msg = fmt.Sprintf("copper loss about %.2g um per face at %s (%.2g %% of the %.0f um foil) by the %s, which applies above %s (vapour diffusing through a gas film %.0f mm thick); the vacuum bound %.2f um (%.0f %%) does not apply",

@@ -2,6 +2,7 @@ package recipe
 
 import (
 	"math"
+	"slices"
 
 	"github.com/foilrun/foilrun/recipe/gas"
 )
@@ -123,26 +124,42 @@ func startState(r *Recipe) deriveState {
 // before k leave, and sets the total time. Step i reads only st and the
 // plan of step i−1 (prevPressure), so steps before k are left as they are.
 func (p *Plan) deriveFrom(k int, st deriveState) {
-	r, f := p.Recipe, p.Furnace
-	T, t, v := st.T, st.t, st.v
-	for i := k; i < len(r.Steps); i++ {
-		s := &r.Steps[i]
-		sp := &p.Steps[i]
-		sp.Index, sp.Step, sp.Label, sp.Start = i, s, s.Label(i), t
-		temperatures(sp, T, f)
-		v.step(s, i)
-		sp.OpenToPump = v.pump
-		derive(sp, f)
-		v.held(sp, p.prevPressure(i))
-		p.duration(i)
-		if (s.Kind == KindCool || s.Kind == KindRamp) && !s.Duration.IsZero() && sp.T1 < sp.T0 {
-			sp.T1 = f.CoolReach(sp.T0, sp.T1, s.Rate.SI, sp.Duration) // where natural cooling gets in that time
-		}
-		gasPhase(sp, f)
-		T = sp.T1
-		t += sp.Duration
+	for i := k; i < len(p.Steps); i++ {
+		p.deriveStep(i, &st, nil)
 	}
-	p.Total = t
+	p.Total = st.t
+}
+
+// deriveStep derives step i from the state st before it and moves st past
+// it. It reads st, the recipe's step i, the furnace, and the pressure of
+// step i−1 where readsPrevPressure says so; it sets every field of the
+// step's plan. The step's Flows are appended to flows[:0] (nil allocates),
+// a buffer the caller owns and no other plan reads.
+func (p *Plan) deriveStep(i int, st *deriveState, flows []FlowPlan) {
+	f := p.Furnace
+	s := &p.Recipe.Steps[i]
+	sp := &p.Steps[i]
+	*sp = StepPlan{Index: i, Step: s, Label: s.Label(i), Start: st.t}
+	temperatures(sp, st.T, f)
+	st.v.step(s, i)
+	sp.OpenToPump = st.v.pump
+	derive(sp, f, flows)
+	st.v.held(sp, p.prevPressure(i))
+	p.duration(i)
+	if (s.Kind == KindCool || s.Kind == KindRamp) && !s.Duration.IsZero() && sp.T1 < sp.T0 {
+		sp.T1 = f.CoolReach(sp.T0, sp.T1, s.Rate.SI, sp.Duration) // where natural cooling gets in that time
+	}
+	gasPhase(sp, f)
+	st.T = sp.T1
+	st.t += sp.Duration
+}
+
+// readsPrevPressure reports whether deriving a step of this kind reads the
+// pressure the step before left: a leak check holds it (valve.held), a
+// pump-down starts from it and a vent backfills from it (Plan.duration).
+// No other kind reads it.
+func readsPrevPressure(k StepKind) bool {
+	return k == KindLeakCheck || k == KindPump || k == KindVent
 }
 
 // temperatures sets the step's start and end temperatures from the
@@ -254,10 +271,22 @@ func (p *Plan) prevPressure(i int) float64 {
 	return p.Steps[i-1].Pressure
 }
 
-// derive fills the flows and the pump-limited pressure.
-func derive(sp *StepPlan, f *Furnace) {
-	sp.Flows = make([]FlowPlan, 0, len(sp.Step.Flows))
-	for _, fl := range sp.Step.Flows {
+// derive fills the flows, appended to buf[:0], and the pump-limited
+// pressure. A gas the buffer already holds at the same place under the
+// same symbol is taken from it instead of being looked up again (the same
+// table entry: gas.Lookup of a symbol returns that gas).
+func derive(sp *StepPlan, f *Furnace, buf []FlowPlan) {
+	old := buf[:cap(buf)]
+	if buf == nil {
+		sp.Flows = make([]FlowPlan, 0, len(sp.Step.Flows)) // empty, not nil, without flows
+	} else {
+		sp.Flows = slices.Grow(buf[:0], len(sp.Step.Flows))
+	}
+	for j, fl := range sp.Step.Flows {
+		if j < len(old) && old[j].Gas.Symbol == fl.Gas {
+			sp.Flows = append(sp.Flows, FlowPlan{Gas: old[j].Gas, Molar: fl.Flow.SI})
+			continue
+		}
 		g, err := gas.Lookup(fl.Gas)
 		if err != nil {
 			continue // validated at load; cannot happen for loaded recipes

@@ -120,3 +120,56 @@ func firstDifference(got, want string) string {
 	from := max(0, i-120)
 	return fmt.Sprintf("at byte %d:\ngot  …%.240s\nwant …%.240s", i, got[from:], want[from:])
 }
+
+// A Deriver over the prefix up to the grow step gives exactly what Derive
+// and Check give (compared as in TestPrefixMatchesDerive), the first time
+// a step after the grow step is seen and when it comes from the memo: every
+// edit is made twice, in two rounds. An error Deriver gives the same plan
+// and exactly the errors among Check's findings, in Check's order, and so
+// does CheckErrors.
+func TestDeriverMatchesDerive(t *testing.T) {
+	for _, name := range []string{"lowpressure", "atmospheric", "largedomain"} {
+		base := loadTemplatePlan(t, name)
+		grow := base.Recipe.FirstStep(KindGrow)
+		px := NewPrefix(base, grow)
+		d, de := px.NewDeriver(), px.NewErrorDeriver()
+		for round := range 2 {
+			for _, e := range growEdits {
+				r := *base.Recipe
+				r.Steps = append([]Step(nil), base.Recipe.Steps...)
+				e.edit(&r.Steps[grow])
+				want := Derive(&r, base.Furnace)
+				wantFs := Check(want)
+				var wantErrs []Finding
+				for _, fd := range wantFs {
+					if fd.Severity == Error {
+						wantErrs = append(wantErrs, fd)
+					}
+				}
+				where := fmt.Sprintf("%s, round %d, %s", name, round+1, e.name)
+				if g, w := fmt.Sprintf("%#v", CheckErrors(want)), fmt.Sprintf("%#v", wantErrs); g != w {
+					t.Errorf("%s: CheckErrors differs from the errors of Check: %s", where, firstDifference(g, w))
+				}
+				for _, c := range []struct {
+					deriver string
+					d       *Deriver
+					wantFs  []Finding
+				}{{"deriver", d, wantFs}, {"error deriver", de, wantErrs}} {
+					got, fs := c.d.DeriveCheck(&r)
+					if g, w := fmt.Sprintf("%#v", *got), fmt.Sprintf("%#v", *want); g != w {
+						t.Errorf("%s, %s: plans differ: %s", where, c.deriver, firstDifference(g, w))
+					}
+					if len(fs) == 0 && len(c.wantFs) == 0 {
+						continue // nil and empty print differently
+					}
+					if g, w := fmt.Sprintf("%#v", fs), fmt.Sprintf("%#v", c.wantFs); g != w {
+						t.Errorf("%s, %s: findings differ: %s", where, c.deriver, firstDifference(g, w))
+					}
+				}
+			}
+		}
+		if len(d.memo) == 0 || len(de.memo) == 0 {
+			t.Errorf("%s: got memos of %d and %d steps after %d recipes, want some", name, len(d.memo), len(de.memo), 2*len(growEdits))
+		}
+	}
+}

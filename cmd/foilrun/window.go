@@ -4,8 +4,11 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"runtime"
 	"slices"
+	"strconv"
 	"strings"
+	"sync"
 	"unsafe"
 
 	"github.com/spf13/cobra"
@@ -159,36 +162,43 @@ func windowRun(opts *windowOptions) error {
 	if err != nil {
 		return err
 	}
-	res := windowJSON(m, opts.show, params)
 	ivs, err := windowIntervals(plan, m, params)
 	if err != nil {
 		return err
 	}
-	for i := range ivs {
-		res.Points[i].Interval = ivs[i]
-	}
 	if ivs != nil && opts.output == formatTable {
 		fmt.Fprintln(opts.f.io.Err, "90 % intervals of every point are in --output json")
 	}
-	w := opts.f.io.Out
-	switch opts.output {
-	case formatJSON:
-		err = writeJSON(w, res)
-	case formatCSV:
-		err = writeCSV(w, windowLongTable(res))
-	default:
-		err = printWindow(w, m, opts.show)
-		if err == nil && len(res.NotPredicted) > 0 {
-			fmt.Fprintf(w, "note: the parameters were calibrated on coverage only: coverage and times to coverage are predicted; %s are not\n", strings.Join(res.NotPredicted, " and "))
-		}
-	}
-	if err != nil {
+	if err := opts.writeWindow(m, params, ivs); err != nil {
 		return err
 	}
 	if opts.plot != "" {
 		return opts.writePlot(m, guard)
 	}
 	return nil
+}
+
+// writeWindow writes the map in the --output format; JSON carries the
+// points' intervals ivs (none without a covariance).
+func (opts *windowOptions) writeWindow(m *kinetics.Map, params kinetics.Params, ivs []*intervalJSON) error {
+	var err error
+	w := opts.f.io.Out
+	switch opts.output {
+	case formatJSON:
+		res := windowJSON(m, opts.show, params)
+		for i := range ivs {
+			res.Points[i].Interval = ivs[i]
+		}
+		err = writeJSON(w, res)
+	case formatCSV:
+		err = writeCSV(w, windowLongTable(m, params))
+	default:
+		err = printWindow(w, m, opts.show)
+		if np := notPredicted(params); err == nil && len(np) > 0 {
+			fmt.Fprintf(w, "note: the parameters were calibrated on coverage only: coverage and times to coverage are predicted; %s are not\n", strings.Join(np, " and "))
+		}
+	}
+	return err
 }
 
 // windowJSON is the JSON form of the map. With a coverage-only
@@ -279,19 +289,61 @@ func printWindow(w io.Writer, m *kinetics.Map, show string) error {
 	return nil
 }
 
-// windowLongTable is the CSV form: one row per grid point.
-func windowLongTable(r windowResult) table {
-	t := table{Header: []string{r.X + " " + r.XUnit, r.Y + " " + r.YUnit, "feasible", "rule", "coverage", "nuclei_per_mm2", "domain_size_um", "t99_min", "etching"}}
-	for _, p := range r.Points {
-		t.add(num(p.X, 6), num(p.Y, 6), fmt.Sprint(p.Feasible), p.Rule, num(p.Coverage, 6), optNum(p.NucleiPerMM2), optNum(p.DomainUm), optNum(p.T99Min), fmt.Sprint(p.Etching))
+// windowLongTable is the CSV form: one row per grid point, with the
+// values of the JSON form (windowJSON) to 6 significant digits, written
+// straight from the map (g6 of a value is num of its round6). Each axis
+// value is written once; the grid's rows are written on GOMAXPROCS
+// goroutines, each row in its place.
+func windowLongTable(m *kinetics.Map, params kinetics.Params) table {
+	const cols = 9
+	t := table{Header: []string{m.X.Param + " " + m.X.Unit(), m.Y.Param + " " + m.Y.Unit(), "feasible", "rule", "coverage", "nuclei_per_mm2", "domain_size_um", "t99_min", "etching"}}
+	predicted := len(notPredicted(params)) == 0
+	nx := len(m.Xs)
+	xs := make([]string, nx)
+	for ix, x := range m.Xs {
+		xs[ix] = g6(m.X.Display(x))
 	}
+	cells := make([]string, cols*nx*len(m.Ys)) // one array for every row
+	t.Rows = make([][]string, nx*len(m.Ys))
+	rows := func(iy int) {
+		y := g6(m.Y.Display(m.Ys[iy]))
+		for ix, p := range m.Points[iy] {
+			k := iy*nx + ix
+			c := cells[k*cols : (k+1)*cols : (k+1)*cols]
+			c[0], c[1], c[2], c[3] = xs[ix], y, strconv.FormatBool(p.Feasible), p.Rule
+			c[4], c[7], c[8] = g6(p.Coverage), finite6(p.T99/60), strconv.FormatBool(p.Etching)
+			if predicted {
+				c[5], c[6] = finite6(inUnit(p.NucleiDensity, "1/mm2")), finite6(inUnit(p.DomainSize, "um"))
+			}
+			t.Rows[k] = c
+		}
+	}
+	var wg sync.WaitGroup
+	workers := runtime.GOMAXPROCS(0)
+	for w := range workers {
+		wg.Go(func() {
+			for iy := w; iy < len(m.Ys); iy += workers {
+				rows(iy)
+			}
+		})
+	}
+	wg.Wait()
 	return t
 }
 
-// optNum is a value with 6 significant digits, "" for none.
-func optNum(v *float64) string {
-	if v == nil {
+// g6 is v with 6 significant digits, as num(v, 6) writes it ("" for NaN).
+func g6(v float64) string {
+	if v != v {
 		return ""
 	}
-	return num(*v, 6)
+	return strconv.FormatFloat(v, 'g', 6, 64)
+}
+
+// finite6 is g6 of a finite v and "" for NaN and infinities (the JSON
+// form's null, opt6).
+func finite6(v float64) string {
+	if math.IsInf(v, 0) {
+		return ""
+	}
+	return g6(v)
 }
