@@ -1,7 +1,6 @@
 package store
 
 import (
-	"cmp"
 	"fmt"
 	"math"
 	"slices"
@@ -315,30 +314,87 @@ func rankCorrelation(rx, ry []float64) float64 {
 }
 
 // ranks returns the 1-based ranks of v with ties averaged (NaNs, which
-// equal nothing, each get a rank of their own below every number).
+// equal nothing, each get a rank of their own below every number): the
+// values taken in ascending order (ascending), where a run of j−i equal
+// values at sorted positions i … j−1 (0-based) all get the mean rank
+// (i+1 + j)/2.
 func ranks(v []float64) []float64 {
-	type entry struct {
-		v float64
-		i int
-	}
-	es := make([]entry, len(v))
-	for i, x := range v {
-		es[i] = entry{x, i}
-	}
-	slices.SortFunc(es, func(a, b entry) int { return cmp.Compare(a.v, b.v) })
+	order := ascending(v)
 	r := make([]float64, len(v))
-	for i := 0; i < len(es); {
+	for i := 0; i < len(order); {
 		j := i + 1
-		for j < len(es) && es[j].v == es[i].v {
+		for j < len(order) && v[order[j]] == v[order[i]] {
 			j++
 		}
 		avg := float64(i+j+1) / 2 // mean of ranks i+1 … j
-		for k := i; k < j; k++ {
-			r[es[k].i] = avg
+		for _, k := range order[i:j] {
+			r[k] = avg
 		}
 		i = j
 	}
 	return r
+}
+
+// ascending returns the indices of v in ascending order of value, NaNs
+// first, by a least-significant-digit radix sort on the order-preserving
+// integer key of each value (orderKey), one byte per pass: O(n) work per
+// pass, and a pass whose byte is the same in every key (as the low
+// mantissa bytes of whole numbers are) is skipped. Equal keys keep their
+// index order.
+//
+// References:
+//
+//	D. E. Knuth, The Art of Computer Programming, Vol. 3: Sorting and
+//	Searching, 2nd ed. (Addison-Wesley, 1998), §5.2.5 (radix sorting).
+func ascending(v []float64) []int {
+	n := len(v)
+	keys, order := make([]uint64, n), make([]int, n)
+	var counts [8][256]int
+	for i, x := range v {
+		k := orderKey(x)
+		keys[i], order[i] = k, i
+		for d := range counts {
+			counts[d][byte(k>>(8*d))]++
+		}
+	}
+	if n < 2 {
+		return order
+	}
+	keys2, order2 := make([]uint64, n), make([]int, n)
+	for d := range counts {
+		c := &counts[d]
+		if c[byte(keys[0]>>(8*d))] == n {
+			continue // every key has this byte: the pass changes nothing
+		}
+		var next [256]int
+		pos := 0
+		for b, m := range c {
+			next[b] = pos
+			pos += m
+		}
+		for i, k := range keys {
+			b := byte(k >> (8 * d))
+			keys2[next[b]], order2[next[b]] = k, order[i]
+			next[b]++
+		}
+		keys, keys2, order, order2 = keys2, keys, order2, order
+	}
+	return order
+}
+
+// orderKey maps x to an unsigned integer that sorts as x does: the IEEE
+// 754 bits with the sign bit set for a positive number and every bit
+// flipped for a negative one (−0 just below +0), and 0, below every
+// number, for a NaN.
+func orderKey(x float64) uint64 {
+	if math.IsNaN(x) {
+		return 0
+	}
+	b := math.Float64bits(x)
+	if b>>63 == 1 {
+		return ^b
+	}
+	return b | 1<<63
 }
 
 // Quantile returns the q-quantile of v by linear interpolation between
@@ -348,8 +404,8 @@ func Quantile(v []float64, q float64) float64 {
 	if len(v) == 0 {
 		return math.NaN()
 	}
-	s := append([]float64(nil), v...)
-	sort.Float64s(s)
+	s := slices.Clone(v)
+	slices.Sort(s)
 	pos := q * float64(len(s)-1)
 	i := int(math.Floor(pos))
 	if i >= len(s)-1 {
