@@ -3,8 +3,11 @@ package store
 import (
 	"fmt"
 	"math"
+	"runtime"
 	"slices"
 	"sort"
+	"sync"
+	"sync/atomic"
 )
 
 // Goal says which metric values count as good: at least Min and at most
@@ -213,24 +216,29 @@ func Rank(samples []Sample, metric string, params []string, goal Goal, lowerBett
 			all = append(all, s.Metric)
 		}
 	}
-	var allRanks []float64
-	xs, ys := make([]float64, 0, len(all)), make([]float64, 0, len(all))
-	for j, p := range params {
-		row := rankRow(samples, j, p, goal, &xs, &ys)
-		if row.N == 0 {
-			continue
-		}
-		var ry []float64
-		if row.N == len(all) {
-			if allRanks == nil {
-				allRanks = ranks(all)
+	allRanks := sync.OnceValue(func() []float64 { return ranks(all) })
+	rows := make([]RankRow, len(params))
+	forEach(len(params), func(next func() (int, bool)) {
+		xs, ys := make([]float64, 0, len(all)), make([]float64, 0, len(all))
+		for j, ok := next(); ok; j, ok = next() {
+			rows[j] = rankRow(samples, j, params[j], goal, &xs, &ys)
+			if rows[j].N == 0 || constant(xs) || constant(ys) {
+				rows[j].Rho = math.NaN() // no pairs, or ranks without spread
+				continue
 			}
-			ry = allRanks
-		} else {
-			ry = ranks(ys)
+			var ry []float64
+			if rows[j].N == len(all) {
+				ry = allRanks()
+			} else {
+				ry = ranks(ys)
+			}
+			rows[j].Rho = rankCorrelation(ranks(xs), ry)
 		}
-		row.Rho = rankCorrelation(ranks(xs), ry)
-		res.Rows = append(res.Rows, row)
+	})
+	for _, row := range rows {
+		if row.N > 0 {
+			res.Rows = append(res.Rows, row)
+		}
 	}
 	sort.SliceStable(res.Rows, func(a, b int) bool {
 		ra, rb := res.Rows[a].Rho, res.Rows[b].Rho
@@ -240,6 +248,37 @@ func Rank(samples []Sample, metric string, params []string, goal Goal, lowerBett
 		return math.Abs(ra) > math.Abs(rb)
 	})
 	return res
+}
+
+// forEach runs work on up to GOMAXPROCS goroutines (one when n < 2),
+// which share the indices 0 … n−1 through next (ok false when none is
+// left), and returns when every one has returned.
+func forEach(n int, work func(next func() (int, bool))) {
+	var taken atomic.Int64
+	next := func() (int, bool) {
+		i := int(taken.Add(1) - 1)
+		return i, i < n
+	}
+	workers := min(runtime.GOMAXPROCS(0), n)
+	if workers < 2 {
+		work(next)
+		return
+	}
+	var wg sync.WaitGroup
+	for range workers {
+		wg.Go(func() { work(next) })
+	}
+	wg.Wait()
+}
+
+// constant reports whether every value of v (NaN-free) is the same.
+func constant(v []float64) bool {
+	for _, x := range v {
+		if x != v[0] {
+			return false
+		}
+	}
+	return true
 }
 
 // rankRow fills the counts and ranges of parameter j (named p) and leaves

@@ -5,6 +5,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"slices"
+	"strconv"
 	"testing"
 )
 
@@ -113,4 +114,99 @@ func BenchmarkRanks100k(b *testing.B) {
 			sortRanks(v)
 		}
 	})
+}
+
+// rankSequential is Rank as it was before the radix sort and the
+// goroutines: one parameter after the other, comparison-sorted ranks. It
+// is the reference TestRankSameAsBefore holds Rank to.
+func rankSequential(samples []Sample, params []string, goal Goal) []RankRow {
+	var all []float64
+	for _, s := range samples {
+		if !math.IsNaN(s.Metric) {
+			all = append(all, s.Metric)
+		}
+	}
+	var out []RankRow
+	var xs, ys []float64
+	for j, p := range params {
+		row := rankRow(samples, j, p, goal, &xs, &ys)
+		if row.N == 0 {
+			continue
+		}
+		ry := sortRanks(ys)
+		if row.N == len(all) {
+			ry = sortRanks(all)
+		}
+		row.Rho = rankCorrelation(sortRanks(xs), ry)
+		out = append(out, row)
+	}
+	slices.SortStableFunc(out, func(a, b RankRow) int {
+		if math.IsNaN(a.Rho) != math.IsNaN(b.Rho) {
+			if math.IsNaN(a.Rho) {
+				return 1
+			}
+			return -1
+		}
+		return cmp.Compare(math.Abs(b.Rho), math.Abs(a.Rho))
+	})
+	return out
+}
+
+// genSamples makes n samples like storetest.GenRecord's runs (whole
+// temperatures 950–1070 °C, flows, a ratio, constants, a coverage built
+// from temperature and time), with a parameter missing (NaN) on every
+// tenth run and the metric missing on every 97th.
+func genSamples(n int) ([]Sample, []string) {
+	params := []string{"growth_temperature_c", "ch4_flow_sccm", "h2_flow_sccm", "growth_time_min", "ch4_h2_ratio", "foil_thickness_um", "sparse"}
+	vals := make([]float64, n*len(params))
+	out := make([]Sample, n)
+	for i := range out {
+		T := 950 + float64((i*37)%121)
+		ch4, h2, tg := 1+float64((i*13)%40), 10+float64((i*7)%30), 5+float64((i*11)%26)
+		p := vals[i*len(params) : (i+1)*len(params)]
+		copy(p, []float64{T, ch4, h2, tg, ch4 / h2, 25, math.NaN()})
+		if i%10 == 0 {
+			p[1] = math.NaN()
+		}
+		if i%1000 == 0 {
+			p[6] = float64(i % 3)
+		}
+		m := math.Min(1, math.Max(0, (T-940)/130*0.8+tg/150+float64(i%7)/100))
+		if i%97 == 0 {
+			m = math.NaN()
+		}
+		out[i] = Sample{Code: "R" + strconv.Itoa(i), Metric: m, Params: p}
+	}
+	return out, params
+}
+
+// TestRankSameAsBefore: Rank gives the very rows (every field, bit for
+// bit) the sequential comparison-sort version gave, on a generated log
+// of 20,000 runs, with and without a goal.
+func TestRankSameAsBefore(t *testing.T) {
+	samples, params := genSamples(20000)
+	goals := []struct {
+		name string
+		goal Goal
+	}{
+		{"goal at least 0.8", Goal{Min: 0.8, Max: None()}},
+		{"goal 0.5 to 0.9", Goal{Min: 0.5, Max: 0.9}},
+	}
+	same := func(a, b float64) bool { return a == b || math.IsNaN(a) && math.IsNaN(b) }
+	for _, g := range goals {
+		t.Run(g.name, func(t *testing.T) {
+			got := Rank(samples, "coverage", params, g.goal, false).Rows
+			want := rankSequential(samples, params, g.goal)
+			if len(got) != len(want) {
+				t.Fatalf("got %d rows, want %d", len(got), len(want))
+			}
+			for i := range got {
+				a, b := got[i], want[i]
+				if a.Param != b.Param || a.N != b.N || a.Good != b.Good || !same(a.Rho, b.Rho) ||
+					!same(a.GoodMin, b.GoodMin) || !same(a.GoodMax, b.GoodMax) || !same(a.RestMin, b.RestMin) || !same(a.RestMax, b.RestMax) {
+					t.Errorf("row %d: got %+v, want %+v", i, a, b)
+				}
+			}
+		})
+	}
 }
