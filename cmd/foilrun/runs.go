@@ -259,11 +259,17 @@ func runsBestRun(ctx context.Context, o *runsBestOptions) error {
 	if err := checkNames(ctx, l, o.metric, o.by); err != nil {
 		return err
 	}
-	pk, err := lab.TwinSamples(ctx, l, store.Filter{Where: o.where}, o.metric, o.by, o.conds.src)
+	bq := store.BinQuery{Filter: store.Filter{Where: o.where}, Metric: o.metric, Params: o.by, Bins: o.bins, Goal: goal}
+	if o.conds.src == lab.Logged {
+		for _, p := range o.by {
+			bq.Twins = append(bq.Twins, p+lab.LoggedSuffix)
+		}
+	}
+	bt, err := l.Bins(ctx, bq)
 	if err != nil {
 		return err
 	}
-	bt := store.Best(pk.Samples, o.metric, o.by, o.bins, goal)
+	pk := lab.Picked{Logged: bt.Logged, Planned: bt.Runs + bt.Missing - bt.Logged}
 	t := table{}
 	for _, p := range o.by {
 		t.Header = append(t.Header, p)

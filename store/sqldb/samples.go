@@ -5,6 +5,7 @@ import (
 	"database/sql"
 	"fmt"
 	"math"
+	"slices"
 	"strings"
 
 	"github.com/foilrun/foilrun/store"
@@ -62,41 +63,81 @@ type samplesSQL struct {
 }
 
 func (s *DB) samplesQuery(ctx context.Context, q Querier, f store.Filter, metric string, params []string, logged map[string]bool) (samplesSQL, error) {
-	var sel, from strings.Builder
+	r := newSummaryRead(metric)
+	sel := "SELECT su.code, " + r.metric
 	var sq samplesSQL
-	from.WriteString(" FROM run_summary su")
-	has := ""
-	if metricColumns[metric] {
-		sel.WriteString("SELECT su.code, su." + metric)
-		has = "su." + metric + " IS NOT NULL"
-	} else {
-		sel.WriteString("SELECT su.code, m.value")
-		from.WriteString(" JOIN run_summary_extra m ON m.name = ? AND m.run_id = su.run_id")
-		sq.args = append(sq.args, metric)
-	}
 	for i, p := range params {
-		switch {
-		case !logged[p]:
-			continue
-		case paramColumns[p]:
-			sel.WriteString(", su." + p)
-		default:
-			fmt.Fprintf(&sel, ", x%d.value", i)
-			fmt.Fprintf(&from, " LEFT JOIN run_summary_extra x%d ON x%d.name = ? AND x%d.run_id = su.run_id", i, i, i)
-			sq.args = append(sq.args, p)
+		if logged[p] {
+			sel += ", " + r.value(p)
+			sq.read = append(sq.read, i)
 		}
-		sq.read = append(sq.read, i)
 	}
-	if len(f.Where) > 0 || len(f.Codes) > 0 {
-		from.WriteString(" JOIN runs r ON r.id = su.run_id")
-	}
-	w, wargs, err := s.whereSummary(ctx, q, f, has)
+	tail, args, err := r.tail(ctx, s, q, f, "")
 	if err != nil {
 		return sq, err
 	}
-	sq.text = sel.String() + from.String() + w + " ORDER BY su.run_id"
-	sq.args = append(sq.args, wargs...)
+	sq.text = sel + tail + " ORDER BY su.run_id"
+	sq.args = args
 	return sq, nil
+}
+
+// summaryRead builds the FROM of a read of the run summary (su) for one
+// metric: the metric's value (r.metric) and has, the condition that a
+// run has it; value adds the value of a name.
+type summaryRead struct {
+	from   strings.Builder
+	args   []any // of the joins in from, in order
+	joins  int
+	metric string
+	has    string
+}
+
+func newSummaryRead(metric string) *summaryRead {
+	r := &summaryRead{}
+	r.from.WriteString(" FROM run_summary su")
+	if metricColumns[metric] {
+		r.metric = "su." + metric
+		r.has = "su." + metric + " IS NOT NULL"
+	} else {
+		r.metric = "m.value"
+		r.from.WriteString(" JOIN run_summary_extra m ON m.name = ? AND m.run_id = su.run_id")
+		r.args = append(r.args, metric)
+	}
+	return r
+}
+
+// value returns the SQL of the named parameter's value in a run (NULL
+// where it has none): its column of the summary, or the value of a join
+// of run_summary_extra by (name, run) for a name without one.
+func (r *summaryRead) value(name string) string {
+	if paramColumns[name] {
+		return "su." + name
+	}
+	r.joins++
+	x := fmt.Sprintf("x%d", r.joins)
+	fmt.Fprintf(&r.from, " LEFT JOIN %s ON %s.name = ? AND %s.run_id = su.run_id", x, x, x)
+	r.args = append(r.args, name)
+	return x + ".value"
+}
+
+// tail returns the FROM and WHERE of a read of the runs that pass the
+// filter and have the metric (and pass the SQL extra, when not ""),
+// joining runs when the filter needs it, with the arguments of the joins
+// and of the WHERE. It may be called more than once.
+func (r *summaryRead) tail(ctx context.Context, s *DB, q Querier, f store.Filter, extra string) (string, []any, error) {
+	from := r.from.String()
+	if len(f.Where) > 0 || len(f.Codes) > 0 {
+		from += " JOIN runs r ON r.id = su.run_id"
+	}
+	cond := r.has
+	if extra != "" {
+		cond = strings.TrimPrefix(cond+" AND "+extra, " AND ")
+	}
+	w, wargs, err := s.whereSummary(ctx, q, f, cond)
+	if err != nil {
+		return "", nil, err
+	}
+	return from + w, append(slices.Clone(r.args), wargs...), nil
 }
 
 // loggedParams returns the parameter names of the names registry, which

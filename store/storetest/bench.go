@@ -51,8 +51,29 @@ func BenchImport(b *testing.B, fresh func(b *testing.B) store.RunLog, after func
 }
 
 // BenchBest2 is `runs best --by growth_temperature_c,ch4_flow_sccm
-// --metric coverage --bins 6 --min 0.9` over the benchmark log.
+// --metric coverage --bins 6 --min 0.9` over the benchmark log, as the
+// command does it: RunLog.Bins with the parameters' logged twins (which
+// the benchmark log has none of).
 func BenchBest2(b *testing.B, l store.RunLog) {
+	ctx := context.Background()
+	bq := store.BinQuery{Metric: "coverage", Params: []string{"growth_temperature_c", "ch4_flow_sccm"},
+		Twins: []string{"growth_temperature_c_logged", "ch4_flow_sccm_logged"}, Bins: 6, Goal: store.Goal{Min: 0.9, Max: store.None()}}
+	b.ResetTimer()
+	defer reportCPU(b, cpuTime())
+	for i := 0; i < b.N; i++ {
+		t, err := l.Bins(ctx, bq)
+		if err != nil {
+			b.Fatal(err)
+		}
+		if t.Runs != BenchRuns || len(t.Bins) != 36 {
+			b.Fatalf("best counted %d runs in %d bins, want %d in 36", t.Runs, len(t.Bins), BenchRuns)
+		}
+	}
+}
+
+// BenchBest2Samples is BenchBest2 the way it was done before RunLog.Bins:
+// every run's values read with Samples and binned by store.Best.
+func BenchBest2Samples(b *testing.B, l store.RunLog) {
 	ctx := context.Background()
 	params := []string{"growth_temperature_c", "ch4_flow_sccm"}
 	b.ResetTimer()
