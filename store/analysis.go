@@ -60,7 +60,6 @@ type BestTable struct {
 	Bins    []Bin // non-empty cells, first parameter slowest
 	Runs    int   // runs counted
 	Missing int   // runs left out because they lack a parameter
-	Logged  int   // of Runs+Missing, runs read with a logged twin (BinQuery.Twins; Best leaves it 0)
 }
 
 // RankRow is one parameter of a Rank result.
@@ -88,13 +87,31 @@ type RankResult struct {
 // rest. Without a goal the best quartile of the metric counts as good: the
 // top quartile (at least the 75th percentile), or the bottom one when lower
 // is better. Rows are sorted by |rho|, largest first; constant parameters
-// last.
+// last. RankColumns does the same on columns.
 func Rank(samples []Sample, metric string, params []string, goal Goal, lowerBetter bool) RankResult {
-	if !goal.Set() && len(samples) > 0 {
-		ms := make([]float64, len(samples))
-		for i, s := range samples {
-			ms[i] = s.Metric
+	ms := make([]float64, len(samples))
+	xs := make([][]float64, len(params))
+	for j := range xs {
+		xs[j] = make([]float64, len(samples))
+	}
+	for i, s := range samples {
+		ms[i] = s.Metric
+		for j := range xs {
+			xs[j][i] = math.NaN()
+			if j < len(s.Params) {
+				xs[j][i] = s.Params[j]
+			}
 		}
+	}
+	return RankColumns(metric, params, ms, xs, goal, lowerBetter)
+}
+
+// RankColumns is Rank on columns: ms[i] is run i's metric and xs[j][i]
+// its value of params[j] (NaN where it has none). The parameters are
+// ranked on up to GOMAXPROCS goroutines; a constant parameter gets rho
+// NaN without ranking (its ranks have no spread).
+func RankColumns(metric string, params []string, ms []float64, xs [][]float64, goal Goal, lowerBetter bool) RankResult {
+	if !goal.Set() && len(ms) > 0 {
 		goal = NoGoal()
 		if lowerBetter {
 			goal.Max = Optional(Quantile(ms, 0.25))
@@ -106,18 +123,18 @@ func Rank(samples []Sample, metric string, params []string, goal Goal, lowerBett
 	// The metric's ranks over the runs that have it serve every parameter
 	// that all of those runs have.
 	var all []float64
-	for _, s := range samples {
-		if !math.IsNaN(s.Metric) {
-			all = append(all, s.Metric)
+	for _, m := range ms {
+		if !math.IsNaN(m) {
+			all = append(all, m)
 		}
 	}
 	allRanks := sync.OnceValue(func() []float64 { return ranks(all) })
 	rows := make([]RankRow, len(params))
 	forEach(len(params), func(next func() (int, bool)) {
-		xs, ys := make([]float64, 0, len(all)), make([]float64, 0, len(all))
+		px, py := make([]float64, 0, len(all)), make([]float64, 0, len(all))
 		for j, ok := next(); ok; j, ok = next() {
-			rows[j] = rankRow(samples, j, params[j], goal, &xs, &ys)
-			if rows[j].N == 0 || constant(xs) || constant(ys) {
+			rows[j] = rankRow(ms, xs[j], params[j], goal, &px, &py)
+			if rows[j].N == 0 || constant(px) || constant(py) {
 				rows[j].Rho = math.NaN() // no pairs, or ranks without spread
 				continue
 			}
@@ -125,9 +142,9 @@ func Rank(samples []Sample, metric string, params []string, goal Goal, lowerBett
 			if rows[j].N == len(all) {
 				ry = allRanks()
 			} else {
-				ry = ranks(ys)
+				ry = ranks(py)
 			}
-			rows[j].Rho = rankCorrelation(ranks(xs), ry)
+			rows[j].Rho = rankCorrelation(ranks(px), ry)
 		}
 	})
 	for _, row := range rows {
@@ -176,25 +193,26 @@ func constant(v []float64) bool {
 	return true
 }
 
-// rankRow fills the counts and ranges of parameter j (named p) and leaves
-// in xs and ys the parameter and metric of the runs that have both.
-func rankRow(samples []Sample, j int, p string, goal Goal, xs, ys *[]float64) RankRow {
-	*xs, *ys = (*xs)[:0], (*ys)[:0]
+// rankRow fills the counts and ranges of the parameter p (values x, of
+// the runs whose metrics are ms) and leaves in px and py the parameter
+// and metric of the runs that have both.
+func rankRow(ms, x []float64, p string, goal Goal, px, py *[]float64) RankRow {
+	*px, *py = (*px)[:0], (*py)[:0]
 	row := RankRow{Param: p, GoodMin: math.Inf(1), GoodMax: math.Inf(-1), RestMin: math.Inf(1), RestMax: math.Inf(-1)}
-	for _, s := range samples {
-		if j >= len(s.Params) || math.IsNaN(s.Params[j]) || math.IsNaN(s.Metric) {
+	for i, v := range x {
+		m := ms[i]
+		if math.IsNaN(v) || math.IsNaN(m) {
 			continue
 		}
-		v := s.Params[j]
-		*xs, *ys = append(*xs, v), append(*ys, s.Metric)
-		if goal.Met(s.Metric) {
+		*px, *py = append(*px, v), append(*py, m)
+		if goal.Met(m) {
 			row.Good++
 			row.GoodMin, row.GoodMax = math.Min(row.GoodMin, v), math.Max(row.GoodMax, v)
 		} else {
 			row.RestMin, row.RestMax = math.Min(row.RestMin, v), math.Max(row.RestMax, v)
 		}
 	}
-	row.N = len(*xs)
+	row.N = len(*px)
 	if row.Good == 0 {
 		row.GoodMin, row.GoodMax = math.NaN(), math.NaN()
 	}

@@ -2,18 +2,25 @@ package store
 
 import "math"
 
-// BinQuery asks RunLog.Bins for a Best table of the runs that pass
-// Filter and have Metric, binned by Params (one or two) into Bins bins
-// each. Twins, when not nil, names per parameter its logged twin (or "")
-// whose value a run that has it is binned by instead, as
-// cmd/foilrun/internal/lab.Pick does for logged conditions.
-type BinQuery struct {
+// ColumnQuery asks RunLog.Columns for the metric and parameters of the
+// runs that pass Filter and have Metric. Twins, when not nil, names per
+// parameter its logged twin (or ""), whose value a run that has it gives
+// in place of the parameter's, as cmd/foilrun/internal/lab.Pick does for
+// logged conditions.
+type ColumnQuery struct {
 	Filter Filter
 	Metric string
 	Params []string
 	Twins  []string
-	Bins   int
-	Goal   Goal
+}
+
+// Columns is what RunLog.Columns returns: one column per value, run i
+// being row i of each, in run order.
+type Columns struct {
+	Metric   []float64   // the metric's mean
+	Params   [][]float64 // Params[j][i]: run i's value of parameter j (its twin where it has one), NaN where none
+	Logged   int         // runs that gave a twin for any parameter
+	PerParam []int       // per parameter, the runs that gave its twin
 }
 
 // Best bins the samples by their parameters (the Params of each sample in

@@ -129,7 +129,7 @@ func rankSequential(samples []Sample, params []string, goal Goal) []RankRow {
 	var out []RankRow
 	var xs, ys []float64
 	for j, p := range params {
-		row := rankRow(samples, j, p, goal, &xs, &ys)
+		row := sampleRankRow(samples, j, p, goal, &xs, &ys)
 		if row.N == 0 {
 			continue
 		}
@@ -209,4 +209,32 @@ func TestRankSameAsBefore(t *testing.T) {
 			}
 		})
 	}
+}
+
+// sampleRankRow is rankRow as it was, over samples: the counts and ranges
+// of parameter j, and in xs and ys the pairs of the runs that have both.
+func sampleRankRow(samples []Sample, j int, p string, goal Goal, xs, ys *[]float64) RankRow {
+	*xs, *ys = (*xs)[:0], (*ys)[:0]
+	row := RankRow{Param: p, GoodMin: math.Inf(1), GoodMax: math.Inf(-1), RestMin: math.Inf(1), RestMax: math.Inf(-1)}
+	for _, s := range samples {
+		if j >= len(s.Params) || math.IsNaN(s.Params[j]) || math.IsNaN(s.Metric) {
+			continue
+		}
+		v := s.Params[j]
+		*xs, *ys = append(*xs, v), append(*ys, s.Metric)
+		if goal.Met(s.Metric) {
+			row.Good++
+			row.GoodMin, row.GoodMax = math.Min(row.GoodMin, v), math.Max(row.GoodMax, v)
+		} else {
+			row.RestMin, row.RestMax = math.Min(row.RestMin, v), math.Max(row.RestMax, v)
+		}
+	}
+	row.N = len(*xs)
+	if row.Good == 0 {
+		row.GoodMin, row.GoodMax = math.NaN(), math.NaN()
+	}
+	if row.Good == row.N {
+		row.RestMin, row.RestMax = math.NaN(), math.NaN()
+	}
+	return row
 }

@@ -55,12 +55,10 @@ type RunLog interface {
 	// metric, the metric (mean over the run's measurements) and the named
 	// parameters (NaN where a run lacks one). It feeds Best and Rank.
 	Samples(ctx context.Context, f Filter, metric string, params []string) ([]Sample, error)
-	// Bins returns the Best table of the query, bin for bin the table
-	// Best makes of the query's samples (the same grid, counts, minima,
-	// maxima, and means summed in run order), without reading the samples
-	// out of the database: the ranges and the bin of every run are worked
-	// out in SQL, and only a run's bin numbers and metric come back.
-	Bins(ctx context.Context, q BinQuery) (BestTable, error)
+	// Columns returns the metric and parameters of every run that passes
+	// the filter and has the metric, as Samples does, one column per value
+	// and no codes: what BestColumns and RankColumns take.
+	Columns(ctx context.Context, q ColumnQuery) (Columns, error)
 	// Export calls each for every run that passes the filter, oldest
 	// first, from one consistent read.
 	Export(ctx context.Context, f Filter, each func(RunRecord) error) error
