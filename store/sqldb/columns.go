@@ -2,7 +2,7 @@ package sqldb
 
 import (
 	"context"
-	"database/sql"
+	"database/sql/driver"
 	"fmt"
 	"math"
 	"strings"
@@ -117,12 +117,7 @@ func (s *DB) readPart(ctx context.Context, q Querier, cq store.ColumnQuery, p co
 	if len(p.twin) > 0 {
 		flag = "CASE WHEN " + strings.Join(p.twin, " OR ") + " THEN 1 ELSE 0 END"
 	}
-	rows, err := q.QueryContext(ctx, s.d.Rebind("SELECT "+strings.Join(append([]string{p.r.metric, flag}, p.sel...), ", ")+tail+" ORDER BY su.run_id"), args...)
-	if err != nil {
-		return err
-	}
-	defer rows.Close()
-	ms, xs, flags, err := scanColumns(rows, len(p.sel), bound)
+	ms, xs, flags, err := readColumns(ctx, q, s.d.Rebind("SELECT "+strings.Join(append([]string{p.r.metric, flag}, p.sel...), ", ")+tail+" ORDER BY su.run_id"), args, len(p.sel), bound)
 	if err != nil {
 		return err
 	}
@@ -158,41 +153,35 @@ func (s *DB) readPart(ctx context.Context, q Querier, cq store.ColumnQuery, p co
 	return nil
 }
 
-// scanColumns reads rows of (metric, twin given 0 or 1, n values) into a
-// column each, NaN for NULL, sized for bound rows.
-func scanColumns(rows *sql.Rows, n, bound int) (ms []float64, xs [][]float64, flags []bool, err error) {
+// readColumns runs the query, whose rows are (metric, twin given 0 or
+// 1, n values), and reads them into a column each, NaN for NULL, sized
+// for bound rows.
+func readColumns(ctx context.Context, q Querier, query string, args []any, n, bound int) (ms []float64, xs [][]float64, flags []bool, err error) {
 	ms, flags = make([]float64, 0, bound), make([]bool, 0, bound)
 	xs = make([][]float64, n)
 	for j := range xs {
 		xs[j] = make([]float64, 0, bound)
 	}
-	raw := make([]any, 2+n)
-	dest := make([]any, len(raw))
-	for i := range raw {
-		dest[i] = &raw[i]
-	}
-	for rows.Next() {
-		if err := rows.Scan(dest...); err != nil {
-			return nil, nil, nil, err
-		}
-		m, err := unbox(raw[0])
+	err = eachRow(ctx, q, query, args, 2+n, func(vals []driver.Value) error {
+		m, err := unbox(vals[0])
 		if err != nil {
-			return nil, nil, nil, fmt.Errorf("metric: %w", err)
+			return fmt.Errorf("metric: %w", err)
 		}
-		f, err := unbox(raw[1])
+		f, err := unbox(vals[1])
 		if err != nil {
-			return nil, nil, nil, fmt.Errorf("twin given: %w", err)
+			return fmt.Errorf("twin given: %w", err)
 		}
 		ms, flags = append(ms, m), append(flags, f == 1)
 		for j := range xs {
-			v, err := unbox(raw[2+j])
+			v, err := unbox(vals[2+j])
 			if err != nil {
-				return nil, nil, nil, fmt.Errorf("parameter %d: %w", j+1, err)
+				return fmt.Errorf("parameter %d: %w", j+1, err)
 			}
 			xs[j] = append(xs[j], v)
 		}
-	}
-	return ms, xs, flags, rows.Err()
+		return nil
+	})
+	return ms, xs, flags, err
 }
 
 // nanColumn is a column of n NaNs.
