@@ -117,6 +117,16 @@ func writeTable(w io.Writer, t table) error {
 		return writeTSV(w, t)
 	}
 	t = t.escaped()
+	if ok, err := tabular.Boxed(w, t.Header, t.Rows, t.Numeric); ok || err != nil {
+		return err
+	}
+	return writeBoxed(w, t)
+}
+
+// writeBoxed draws the table with tablewriter: the general writer, for a
+// table whose cells tabular.Boxed does not take (text beyond ASCII, line
+// breaks, ragged rows).
+func writeBoxed(w io.Writer, t table) error {
 	align := make([]tw.Align, len(t.Header))
 	for i := range align {
 		align[i] = tw.AlignLeft
