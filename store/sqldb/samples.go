@@ -115,7 +115,7 @@ func (r *summaryRead) value(name string) string {
 	}
 	r.joins++
 	x := fmt.Sprintf("x%d", r.joins)
-	fmt.Fprintf(&r.from, " LEFT JOIN %s ON %s.name = ? AND %s.run_id = su.run_id", x, x, x)
+	fmt.Fprintf(&r.from, " LEFT JOIN run_summary_extra %s ON %s.name = ? AND %s.run_id = su.run_id", x, x, x)
 	r.args = append(r.args, name)
 	return x + ".value"
 }
