@@ -56,8 +56,19 @@ func BenchImport(b *testing.B, fresh func(b *testing.B) store.RunLog, after func
 // command does it: RunLog.Columns with the parameters' logged twins (which
 // the benchmark log has none of) and store.BestColumns.
 func BenchBest2(b *testing.B, l store.RunLog) {
-	ctx := context.Background()
 	params := []string{"growth_temperature_c", "ch4_flow_sccm"}
+	benchColumns(b, l, params, func(c store.Columns) {
+		t := store.BestColumns("coverage", params, c.Metric, c.Params, 6, store.Goal{Min: 0.9, Max: store.None()})
+		if t.Runs != BenchRuns || len(t.Bins) != 36 {
+			b.Fatalf("best counted %d runs in %d bins, want %d in 36", t.Runs, len(t.Bins), BenchRuns)
+		}
+	})
+}
+
+// benchColumns times b.N rounds of Columns of coverage and params (with
+// their logged twins) and use of what it read.
+func benchColumns(b *testing.B, l store.RunLog, params []string, use func(store.Columns)) {
+	ctx := context.Background()
 	cq := store.ColumnQuery{Metric: "coverage", Params: params, Twins: twinsOf(params)}
 	b.ResetTimer()
 	defer reportCPU(b, cpuTime())
@@ -66,10 +77,7 @@ func BenchBest2(b *testing.B, l store.RunLog) {
 		if err != nil {
 			b.Fatal(err)
 		}
-		t := store.BestColumns("coverage", params, c.Metric, c.Params, 6, store.Goal{Min: 0.9, Max: store.None()})
-		if t.Runs != BenchRuns || len(t.Bins) != 36 {
-			b.Fatalf("best counted %d runs in %d bins, want %d in 36", t.Runs, len(t.Bins), BenchRuns)
-		}
+		use(c)
 	}
 }
 
@@ -122,18 +130,10 @@ func BenchListWhere2(b *testing.B, l store.RunLog) {
 // logged twins, read in their place where a run has them) as the command
 // does it: RunLog.Columns and store.RankColumns.
 func BenchRank(b *testing.B, l store.RunLog) {
-	ctx := context.Background()
 	params := benchParams(b, l)
-	cq := store.ColumnQuery{Metric: "coverage", Params: params, Twins: twinsOf(params)}
-	b.ResetTimer()
-	defer reportCPU(b, cpuTime())
-	for i := 0; i < b.N; i++ {
-		c, err := l.Columns(ctx, cq)
-		if err != nil {
-			b.Fatal(err)
-		}
+	benchColumns(b, l, params, func(c store.Columns) {
 		store.RankColumns("coverage", params, c.Metric, c.Params, store.NoGoal(), false)
-	}
+	})
 }
 
 // BenchRankSamples is BenchRank the way it was done before
