@@ -1,11 +1,13 @@
 package store
 
 import (
-	"cmp"
 	"fmt"
 	"math"
+	"runtime"
 	"slices"
 	"sort"
+	"sync"
+	"sync/atomic"
 )
 
 // Goal says which metric values count as good: at least Min and at most
@@ -60,112 +62,6 @@ type BestTable struct {
 	Missing int   // runs left out because they lack a parameter
 }
 
-// Best bins the samples by their parameters (the Params of each sample in
-// the order of params; one or two) into n equal-width bins over each
-// parameter's range and returns count, mean, min and max of the metric and
-// the share of runs meeting the goal in every non-empty cell. A parameter
-// with a single value gets one bin.
-func Best(samples []Sample, metric string, params []string, n int, goal Goal) BestTable {
-	if n < 1 {
-		n = 1
-	}
-	t := BestTable{Metric: metric, Params: params, Goal: goal}
-	lo := make([]float64, len(params))
-	hi := make([]float64, len(params))
-	for j := range params {
-		lo[j], hi[j] = math.Inf(1), math.Inf(-1)
-	}
-	for _, s := range samples {
-		if !hasParams(s, len(params)) {
-			t.Missing++
-			continue
-		}
-		for j := range params {
-			lo[j], hi[j] = math.Min(lo[j], s.Params[j]), math.Max(hi[j], s.Params[j])
-		}
-	}
-	t.Runs = len(samples) - t.Missing
-	if t.Runs == 0 {
-		return t
-	}
-	nb := make([]int, len(params))
-	for j := range params {
-		nb[j] = n
-		if hi[j] == lo[j] {
-			nb[j] = 1
-		}
-	}
-	cells := 1
-	for _, k := range nb {
-		cells *= k
-	}
-	type acc struct {
-		n, meet  int
-		sum      float64
-		min, max float64
-	}
-	accs := make([]acc, cells)
-	for i := range accs {
-		accs[i].min, accs[i].max = math.Inf(1), math.Inf(-1)
-	}
-	for _, s := range samples {
-		if !hasParams(s, len(params)) {
-			continue
-		}
-		cell := 0
-		for j := range params {
-			k := 0
-			if nb[j] > 1 {
-				k = int(float64(nb[j]) * (s.Params[j] - lo[j]) / (hi[j] - lo[j]))
-				k = min(max(k, 0), nb[j]-1)
-			}
-			cell = cell*nb[j] + k
-		}
-		a := &accs[cell]
-		a.n++
-		a.sum += s.Metric
-		a.min, a.max = math.Min(a.min, s.Metric), math.Max(a.max, s.Metric)
-		if goal.Set() && goal.Met(s.Metric) {
-			a.meet++
-		}
-	}
-	for cell, a := range accs {
-		if a.n == 0 {
-			continue
-		}
-		b := Bin{Lo: make([]float64, len(params)), Hi: make([]float64, len(params)), Count: a.n,
-			Mean: a.sum / float64(a.n), Min: a.min, Max: a.max, Meeting: a.meet, Share: math.NaN()}
-		rest := cell
-		for j := len(params) - 1; j >= 0; j-- {
-			k := rest % nb[j]
-			rest /= nb[j]
-			w := (hi[j] - lo[j]) / float64(nb[j])
-			b.Lo[j], b.Hi[j] = lo[j]+float64(k)*w, lo[j]+float64(k+1)*w
-			if k == nb[j]-1 {
-				b.Hi[j] = hi[j]
-			}
-		}
-		if goal.Set() {
-			b.Share = float64(a.meet) / float64(a.n)
-		}
-		t.Bins = append(t.Bins, b)
-	}
-	return t
-}
-
-// hasParams reports whether the sample has its first n parameters.
-func hasParams(s Sample, n int) bool {
-	if len(s.Params) < n {
-		return false
-	}
-	for _, v := range s.Params[:n] {
-		if math.IsNaN(v) {
-			return false
-		}
-	}
-	return true
-}
-
 // RankRow is one parameter of a Rank result.
 type RankRow struct {
 	Param   string
@@ -191,13 +87,31 @@ type RankResult struct {
 // rest. Without a goal the best quartile of the metric counts as good: the
 // top quartile (at least the 75th percentile), or the bottom one when lower
 // is better. Rows are sorted by |rho|, largest first; constant parameters
-// last.
+// last. RankColumns does the same on columns.
 func Rank(samples []Sample, metric string, params []string, goal Goal, lowerBetter bool) RankResult {
-	if !goal.Set() && len(samples) > 0 {
-		ms := make([]float64, len(samples))
-		for i, s := range samples {
-			ms[i] = s.Metric
+	ms := make([]float64, len(samples))
+	xs := make([][]float64, len(params))
+	for j := range xs {
+		xs[j] = make([]float64, len(samples))
+	}
+	for i, s := range samples {
+		ms[i] = s.Metric
+		for j := range xs {
+			xs[j][i] = math.NaN()
+			if j < len(s.Params) {
+				xs[j][i] = s.Params[j]
+			}
 		}
+	}
+	return RankColumns(metric, params, ms, xs, goal, lowerBetter)
+}
+
+// RankColumns is Rank on columns: ms[i] is run i's metric and xs[j][i]
+// its value of params[j] (NaN where it has none). The parameters are
+// ranked on up to GOMAXPROCS goroutines; a constant parameter gets rho
+// NaN without ranking (its ranks have no spread).
+func RankColumns(metric string, params []string, ms []float64, xs [][]float64, goal Goal, lowerBetter bool) RankResult {
+	if !goal.Set() && len(ms) > 0 {
 		goal = NoGoal()
 		if lowerBetter {
 			goal.Max = Optional(Quantile(ms, 0.25))
@@ -209,29 +123,34 @@ func Rank(samples []Sample, metric string, params []string, goal Goal, lowerBett
 	// The metric's ranks over the runs that have it serve every parameter
 	// that all of those runs have.
 	var all []float64
-	for _, s := range samples {
-		if !math.IsNaN(s.Metric) {
-			all = append(all, s.Metric)
+	for _, m := range ms {
+		if !math.IsNaN(m) {
+			all = append(all, m)
 		}
 	}
-	var allRanks []float64
-	xs, ys := make([]float64, 0, len(all)), make([]float64, 0, len(all))
-	for j, p := range params {
-		row := rankRow(samples, j, p, goal, &xs, &ys)
-		if row.N == 0 {
-			continue
-		}
-		var ry []float64
-		if row.N == len(all) {
-			if allRanks == nil {
-				allRanks = ranks(all)
+	allRanks := sync.OnceValue(func() []float64 { return ranks(all) })
+	rows := make([]RankRow, len(params))
+	forEach(len(params), func(next func() (int, bool)) {
+		px, py := make([]float64, 0, len(all)), make([]float64, 0, len(all))
+		for j, ok := next(); ok; j, ok = next() {
+			rows[j] = rankRow(ms, xs[j], params[j], goal, &px, &py)
+			if rows[j].N == 0 || constant(px) || constant(py) {
+				rows[j].Rho = math.NaN() // no pairs, or ranks without spread
+				continue
 			}
-			ry = allRanks
-		} else {
-			ry = ranks(ys)
+			var ry []float64
+			if rows[j].N == len(all) {
+				ry = allRanks()
+			} else {
+				ry = ranks(py)
+			}
+			rows[j].Rho = rankCorrelation(ranks(px), ry)
 		}
-		row.Rho = rankCorrelation(ranks(xs), ry)
-		res.Rows = append(res.Rows, row)
+	})
+	for _, row := range rows {
+		if row.N > 0 {
+			res.Rows = append(res.Rows, row)
+		}
 	}
 	sort.SliceStable(res.Rows, func(a, b int) bool {
 		ra, rb := res.Rows[a].Rho, res.Rows[b].Rho
@@ -243,25 +162,57 @@ func Rank(samples []Sample, metric string, params []string, goal Goal, lowerBett
 	return res
 }
 
-// rankRow fills the counts and ranges of parameter j (named p) and leaves
-// in xs and ys the parameter and metric of the runs that have both.
-func rankRow(samples []Sample, j int, p string, goal Goal, xs, ys *[]float64) RankRow {
-	*xs, *ys = (*xs)[:0], (*ys)[:0]
+// forEach runs work on up to GOMAXPROCS goroutines (one when n < 2),
+// which share the indices 0 … n−1 through next (ok false when none is
+// left), and returns when every one has returned.
+func forEach(n int, work func(next func() (int, bool))) {
+	var taken atomic.Int64
+	next := func() (int, bool) {
+		i := int(taken.Add(1) - 1)
+		return i, i < n
+	}
+	workers := min(runtime.GOMAXPROCS(0), n)
+	if workers < 2 {
+		work(next)
+		return
+	}
+	var wg sync.WaitGroup
+	for range workers {
+		wg.Go(func() { work(next) })
+	}
+	wg.Wait()
+}
+
+// constant reports whether every value of v (NaN-free) is the same.
+func constant(v []float64) bool {
+	for _, x := range v {
+		if x != v[0] {
+			return false
+		}
+	}
+	return true
+}
+
+// rankRow fills the counts and ranges of the parameter p (values x, of
+// the runs whose metrics are ms) and leaves in px and py the parameter
+// and metric of the runs that have both.
+func rankRow(ms, x []float64, p string, goal Goal, px, py *[]float64) RankRow {
+	*px, *py = (*px)[:0], (*py)[:0]
 	row := RankRow{Param: p, GoodMin: math.Inf(1), GoodMax: math.Inf(-1), RestMin: math.Inf(1), RestMax: math.Inf(-1)}
-	for _, s := range samples {
-		if j >= len(s.Params) || math.IsNaN(s.Params[j]) || math.IsNaN(s.Metric) {
+	for i, v := range x {
+		m := ms[i]
+		if math.IsNaN(v) || math.IsNaN(m) {
 			continue
 		}
-		v := s.Params[j]
-		*xs, *ys = append(*xs, v), append(*ys, s.Metric)
-		if goal.Met(s.Metric) {
+		*px, *py = append(*px, v), append(*py, m)
+		if goal.Met(m) {
 			row.Good++
 			row.GoodMin, row.GoodMax = math.Min(row.GoodMin, v), math.Max(row.GoodMax, v)
 		} else {
 			row.RestMin, row.RestMax = math.Min(row.RestMin, v), math.Max(row.RestMax, v)
 		}
 	}
-	row.N = len(*xs)
+	row.N = len(*px)
 	if row.Good == 0 {
 		row.GoodMin, row.GoodMax = math.NaN(), math.NaN()
 	}
@@ -315,30 +266,87 @@ func rankCorrelation(rx, ry []float64) float64 {
 }
 
 // ranks returns the 1-based ranks of v with ties averaged (NaNs, which
-// equal nothing, each get a rank of their own below every number).
+// equal nothing, each get a rank of their own below every number): the
+// values taken in ascending order (ascending), where a run of j−i equal
+// values at sorted positions i … j−1 (0-based) all get the mean rank
+// (i+1 + j)/2.
 func ranks(v []float64) []float64 {
-	type entry struct {
-		v float64
-		i int
-	}
-	es := make([]entry, len(v))
-	for i, x := range v {
-		es[i] = entry{x, i}
-	}
-	slices.SortFunc(es, func(a, b entry) int { return cmp.Compare(a.v, b.v) })
+	order := ascending(v)
 	r := make([]float64, len(v))
-	for i := 0; i < len(es); {
+	for i := 0; i < len(order); {
 		j := i + 1
-		for j < len(es) && es[j].v == es[i].v {
+		for j < len(order) && v[order[j]] == v[order[i]] {
 			j++
 		}
 		avg := float64(i+j+1) / 2 // mean of ranks i+1 … j
-		for k := i; k < j; k++ {
-			r[es[k].i] = avg
+		for _, k := range order[i:j] {
+			r[k] = avg
 		}
 		i = j
 	}
 	return r
+}
+
+// ascending returns the indices of v in ascending order of value, NaNs
+// first, by a least-significant-digit radix sort on the order-preserving
+// integer key of each value (orderKey), one byte per pass: O(n) work per
+// pass, and a pass whose byte is the same in every key (as the low
+// mantissa bytes of whole numbers are) is skipped. Equal keys keep their
+// index order.
+//
+// References:
+//
+//	D. E. Knuth, The Art of Computer Programming, Vol. 3: Sorting and
+//	Searching, 2nd ed. (Addison-Wesley, 1998), §5.2.5 (radix sorting).
+func ascending(v []float64) []int {
+	n := len(v)
+	keys, order := make([]uint64, n), make([]int, n)
+	var counts [8][256]int
+	for i, x := range v {
+		k := orderKey(x)
+		keys[i], order[i] = k, i
+		for d := range counts {
+			counts[d][byte(k>>(8*d))]++
+		}
+	}
+	if n < 2 {
+		return order
+	}
+	keys2, order2 := make([]uint64, n), make([]int, n)
+	for d := range counts {
+		c := &counts[d]
+		if c[byte(keys[0]>>(8*d))] == n {
+			continue // every key has this byte: the pass changes nothing
+		}
+		var next [256]int
+		pos := 0
+		for b, m := range c {
+			next[b] = pos
+			pos += m
+		}
+		for i, k := range keys {
+			b := byte(k >> (8 * d))
+			keys2[next[b]], order2[next[b]] = k, order[i]
+			next[b]++
+		}
+		keys, keys2, order, order2 = keys2, keys, order2, order
+	}
+	return order
+}
+
+// orderKey maps x to an unsigned integer that sorts as x does: the IEEE
+// 754 bits with the sign bit set for a positive number and every bit
+// flipped for a negative one (−0 just below +0), and 0, below every
+// number, for a NaN.
+func orderKey(x float64) uint64 {
+	if math.IsNaN(x) {
+		return 0
+	}
+	b := math.Float64bits(x)
+	if b>>63 == 1 {
+		return ^b
+	}
+	return b | 1<<63
 }
 
 // Quantile returns the q-quantile of v by linear interpolation between
@@ -348,8 +356,8 @@ func Quantile(v []float64, q float64) float64 {
 	if len(v) == 0 {
 		return math.NaN()
 	}
-	s := append([]float64(nil), v...)
-	sort.Float64s(s)
+	s := slices.Clone(v)
+	slices.Sort(s)
 	pos := q * float64(len(s)-1)
 	i := int(math.Floor(pos))
 	if i >= len(s)-1 {

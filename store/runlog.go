@@ -53,8 +53,12 @@ type RunLog interface {
 	Names(ctx context.Context) ([]Name, error)
 	// Samples returns, for every run that passes the filter and has the
 	// metric, the metric (mean over the run's measurements) and the named
-	// parameters (NaN where a run lacks one). It feeds Best and Rank.
+	// parameters (NaN where a run lacks one), with the run codes.
 	Samples(ctx context.Context, f Filter, metric string, params []string) ([]Sample, error)
+	// Columns returns the metric and parameters of every run that passes
+	// the filter and has the metric, as Samples does, one column per value
+	// and no codes: what BestColumns and RankColumns take.
+	Columns(ctx context.Context, q ColumnQuery) (Columns, error)
 	// Export calls each for every run that passes the filter, oldest
 	// first, from one consistent read.
 	Export(ctx context.Context, f Filter, each func(RunRecord) error) error

@@ -1,6 +1,7 @@
 package main
 
 import (
+	"bufio"
 	"fmt"
 	"io"
 	"math"
@@ -117,6 +118,16 @@ func writeTable(w io.Writer, t table) error {
 		return writeTSV(w, t)
 	}
 	t = t.escaped()
+	if ok, err := tabular.Boxed(w, t.Header, t.Rows, t.Numeric); ok || err != nil {
+		return err
+	}
+	return writeBoxed(w, t)
+}
+
+// writeBoxed draws the table with tablewriter: the general writer, for a
+// table whose cells tabular.Boxed does not take (text beyond ASCII, line
+// breaks, ragged rows).
+func writeBoxed(w io.Writer, t table) error {
 	align := make([]tw.Align, len(t.Header))
 	for i := range align {
 		align[i] = tw.AlignLeft
@@ -144,19 +155,36 @@ func toAny(ss []string) []any {
 }
 
 // writeTSV prints the header and rows tab-separated; tabs and line breaks
-// inside a cell become spaces.
+// inside a cell become spaces. A cell of printable ASCII, which neither
+// needs, is written as it is.
 func writeTSV(w io.Writer, t table) error {
 	clean := strings.NewReplacer("\t", " ", "\r\n", " ", "\n", " ")
+	bw := bufio.NewWriterSize(w, 64<<10)
 	for _, row := range append([][]string{t.Header}, t.Rows...) {
-		cells := make([]string, len(row))
 		for i, c := range row {
-			cells[i] = escapeControl(clean.Replace(c))
+			if i > 0 {
+				bw.WriteByte('\t')
+			}
+			if !printableASCII(c) {
+				c = escapeControl(clean.Replace(c))
+			}
+			bw.WriteString(c)
 		}
-		if _, err := io.WriteString(w, strings.Join(cells, "\t")+"\n"); err != nil {
+		if err := bw.WriteByte('\n'); err != nil {
 			return err
 		}
 	}
-	return nil
+	return bw.Flush()
+}
+
+// printableASCII reports whether s holds only bytes from space to tilde.
+func printableASCII(s string) bool {
+	for i := 0; i < len(s); i++ {
+		if s[i] < ' ' || s[i] > '~' {
+			return false
+		}
+	}
+	return true
 }
 
 // writeCSV prints the table as CSV with a header row, control characters

@@ -259,11 +259,11 @@ func runsBestRun(ctx context.Context, o *runsBestOptions) error {
 	if err := checkNames(ctx, l, o.metric, o.by); err != nil {
 		return err
 	}
-	pk, err := lab.TwinSamples(ctx, l, store.Filter{Where: o.where}, o.metric, o.by, o.conds.src)
+	cols, pk, err := columns(ctx, l, o.where, o.metric, o.by, o.conds.src)
 	if err != nil {
 		return err
 	}
-	bt := store.Best(pk.Samples, o.metric, o.by, o.bins, goal)
+	bt := store.BestColumns(o.metric, o.by, cols.Metric, cols.Params, o.bins, goal)
 	t := table{}
 	for _, p := range o.by {
 		t.Header = append(t.Header, p)
@@ -293,6 +293,25 @@ func runsBestRun(ctx context.Context, o *runsBestOptions) error {
 		fmt.Fprintf(o.f.io.Err, "%s over %d runs (%d without the parameters left out); %s\n", o.metric, bt.Runs, bt.Missing, pk.Line())
 	}
 	return nil
+}
+
+// columns reads the metric and params of the runs that pass the filter
+// for best and rank, each parameter on conditions src: with logged
+// conditions its logged twin where the run has one (lab.Pick's rule,
+// picked by the store), and says how many runs used which.
+func columns(ctx context.Context, l store.RunLog, where []string, metric string, params []string, src lab.Source) (store.Columns, lab.Picked, error) {
+	cq := store.ColumnQuery{Filter: store.Filter{Where: where}, Metric: metric, Params: params}
+	if src == lab.Logged {
+		cq.Twins = make([]string, len(params))
+		for i, p := range params {
+			cq.Twins[i] = p + lab.LoggedSuffix
+		}
+	}
+	c, err := l.Columns(ctx, cq)
+	if err != nil {
+		return c, lab.Picked{}, err
+	}
+	return c, lab.Picked{Logged: c.Logged, Planned: len(c.Metric) - c.Logged, PerParam: c.PerParam}, nil
 }
 
 type runsRankOptions struct {
@@ -374,7 +393,7 @@ func runsRankRun(ctx context.Context, o *runsRankOptions) error {
 		}
 	}
 	store.SortParams(params)
-	pk, err := lab.TwinSamples(ctx, l, store.Filter{Where: o.where}, o.metric, params, o.conds.src)
+	cols, pk, err := columns(ctx, l, o.where, o.metric, params, o.conds.src)
 	if err != nil {
 		return err
 	}
@@ -383,7 +402,7 @@ func runsRankRun(ctx context.Context, o *runsRankOptions) error {
 		logged[p] = pk.PerParam[i]
 	}
 	m, _ := store.MetricByName(o.metric)
-	res := store.Rank(pk.Samples, o.metric, params, goal, m.LowerBetter)
+	res := store.RankColumns(o.metric, params, cols.Metric, cols.Params, goal, m.LowerBetter)
 	t := table{Header: []string{"parameter", "rho", "runs", "logged", "good", "good range", "rest range"}, Numeric: []bool{false, true, true, true, true, false, false}}
 	js := []rankJSON{}
 	rng := func(lo, hi float64) string {
@@ -400,7 +419,7 @@ func runsRankRun(ctx context.Context, o *runsRankOptions) error {
 		return err
 	}
 	if o.output == formatTable {
-		fmt.Fprintf(o.f.io.Err, "%s: good means %s; %d runs; %s\n", o.metric, res.Goal, len(pk.Samples), pk.Line())
+		fmt.Fprintf(o.f.io.Err, "%s: good means %s; %d runs; %s\n", o.metric, res.Goal, len(cols.Metric), pk.Line())
 	}
 	return nil
 }

@@ -80,8 +80,10 @@ func BenchmarkImport100k(b *testing.B) {
 }
 
 func BenchmarkBest2(b *testing.B)          { storetest.BenchBest2(b, benchLog(b)) }
+func BenchmarkBest2Samples(b *testing.B)   { storetest.BenchBest2Samples(b, benchLog(b)) }
 func BenchmarkListWhere2(b *testing.B)     { storetest.BenchListWhere2(b, benchLog(b)) }
 func BenchmarkRank(b *testing.B)           { storetest.BenchRank(b, benchLog(b)) }
+func BenchmarkRankSamples(b *testing.B)    { storetest.BenchRankSamples(b, benchLog(b)) }
 func BenchmarkExportJSON100k(b *testing.B) { storetest.BenchExportJSON(b, benchLog(b)) }
 
 // BenchmarkCopy100k copies a 100,000-run SQLite log to PostgreSQL and

@@ -9,6 +9,7 @@ import (
 	"math"
 	"sort"
 	"strings"
+	"time"
 
 	"github.com/foilrun/foilrun/recipe"
 	"github.com/foilrun/foilrun/store"
@@ -47,10 +48,40 @@ func scanRun(rows *sql.Rows) (int64, store.Run, error) {
 	}
 	r.Status, r.RecipeHash, r.FurnaceHash, r.SiteHash = store.Status(st), hash.String, furnace.String, site.String
 	var err1, err2, err3 error
-	r.Started, err1 = parseTime(started)
-	r.Ended, err2 = parseTime(ended)
-	r.Created, err3 = parseTime(created)
+	r.Started, err1 = parseStamp(started)
+	r.Ended, err2 = parseStamp(ended)
+	r.Created, err3 = parseStamp(created)
 	return id, r, errors.Join(err1, err2, err3)
+}
+
+// parseStamp is parseTime with a fast path for a time exactly in
+// timeLayout (2006-01-02T15:04:05.000000Z), as foilrun stores every one:
+// the fields read as digits at their fixed places and checked by
+// time.Date's normalisation (a field out of range, which time.Date would
+// carry, goes to time.Parse for its error). Anything else goes to
+// parseTime.
+func parseStamp(ns sql.NullString) (time.Time, error) {
+	s := ns.String
+	if !ns.Valid || len(s) != len(timeLayout) || s[4] != '-' || s[7] != '-' || s[10] != 'T' || s[13] != ':' || s[16] != ':' || s[19] != '.' || s[26] != 'Z' {
+		return parseTime(ns)
+	}
+	field := func(lo, hi int) int {
+		n := 0
+		for i := lo; i < hi; i++ {
+			c := s[i]
+			if c < '0' || c > '9' {
+				return -1
+			}
+			n = 10*n + int(c-'0')
+		}
+		return n
+	}
+	y, mo, d, h, mi, sec, us := field(0, 4), field(5, 7), field(8, 10), field(11, 13), field(14, 16), field(17, 19), field(20, 26)
+	t := time.Date(y, time.Month(mo), d, h, mi, sec, us*1000, time.UTC)
+	if min(y, mo, d, h, mi, sec, us) < 0 || t.Year() != y || int(t.Month()) != mo || t.Day() != d || t.Hour() != h || t.Minute() != mi || t.Second() != sec {
+		return parseTime(ns)
+	}
+	return t, nil
 }
 
 // where compiles the filter to " WHERE …" (or "") and its arguments; a
@@ -157,11 +188,13 @@ func (s *DB) List(ctx context.Context, f store.Filter) ([]store.Run, error) {
 	if err != nil {
 		return nil, err
 	}
-	q := runSelect
+	q := runSelect + w + " ORDER BY r.id"
 	if w != "" {
-		q += " JOIN run_summary su ON su.run_id = r.id"
+		// from the summary, whose columns the filter reads, in its own
+		// order: SQLite then scans run_summary and looks up only the
+		// runs that pass, not every run and its summary row
+		q = strings.Replace(runSelect, " FROM runs r", " FROM run_summary su JOIN runs r ON r.id = su.run_id", 1) + w + " ORDER BY su.run_id"
 	}
-	q += w + " ORDER BY r.id"
 	if f.Newest {
 		q += " DESC"
 	}

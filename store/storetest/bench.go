@@ -2,6 +2,7 @@ package storetest
 
 import (
 	"context"
+	"strings"
 	"syscall"
 	"testing"
 	"time"
@@ -51,8 +52,48 @@ func BenchImport(b *testing.B, fresh func(b *testing.B) store.RunLog, after func
 }
 
 // BenchBest2 is `runs best --by growth_temperature_c,ch4_flow_sccm
-// --metric coverage --bins 6 --min 0.9` over the benchmark log.
+// --metric coverage --bins 6 --min 0.9` over the benchmark log, as the
+// command does it: RunLog.Columns with the parameters' logged twins (which
+// the benchmark log has none of) and store.BestColumns.
 func BenchBest2(b *testing.B, l store.RunLog) {
+	params := []string{"growth_temperature_c", "ch4_flow_sccm"}
+	benchColumns(b, l, params, func(c store.Columns) {
+		t := store.BestColumns("coverage", params, c.Metric, c.Params, 6, store.Goal{Min: 0.9, Max: store.None()})
+		if t.Runs != BenchRuns || len(t.Bins) != 36 {
+			b.Fatalf("best counted %d runs in %d bins, want %d in 36", t.Runs, len(t.Bins), BenchRuns)
+		}
+	})
+}
+
+// benchColumns times b.N rounds of Columns of coverage and params (with
+// their logged twins) and use of what it read.
+func benchColumns(b *testing.B, l store.RunLog, params []string, use func(store.Columns)) {
+	ctx := context.Background()
+	cq := store.ColumnQuery{Metric: "coverage", Params: params, Twins: twinsOf(params)}
+	b.ResetTimer()
+	defer reportCPU(b, cpuTime())
+	for i := 0; i < b.N; i++ {
+		c, err := l.Columns(ctx, cq)
+		if err != nil {
+			b.Fatal(err)
+		}
+		use(c)
+	}
+}
+
+// twinsOf names the logged twin of each parameter, as
+// cmd/foilrun/internal/lab.Twins does.
+func twinsOf(params []string) []string {
+	out := make([]string, len(params))
+	for i, p := range params {
+		out[i] = p + "_logged"
+	}
+	return out
+}
+
+// BenchBest2Samples is BenchBest2 the way it was done before RunLog.Columns:
+// every run's values read with Samples and binned by store.Best.
+func BenchBest2Samples(b *testing.B, l store.RunLog) {
 	ctx := context.Background()
 	params := []string{"growth_temperature_c", "ch4_flow_sccm"}
 	b.ResetTimer()
@@ -85,19 +126,21 @@ func BenchListWhere2(b *testing.B, l store.RunLog) {
 	b.ReportMetric(float64(n), "runs")
 }
 
-// BenchRank is `runs rank --metric coverage` (every parameter).
+// BenchRank is `runs rank --metric coverage` (every parameter but the
+// logged twins, read in their place where a run has them) as the command
+// does it: RunLog.Columns and store.RankColumns.
 func BenchRank(b *testing.B, l store.RunLog) {
+	params := benchParams(b, l)
+	benchColumns(b, l, params, func(c store.Columns) {
+		store.RankColumns("coverage", params, c.Metric, c.Params, store.NoGoal(), false)
+	})
+}
+
+// BenchRankSamples is BenchRank the way it was done before
+// RunLog.Columns: Samples of every parameter and store.Rank.
+func BenchRankSamples(b *testing.B, l store.RunLog) {
 	ctx := context.Background()
-	names, err := l.Names(ctx)
-	if err != nil {
-		b.Fatal(err)
-	}
-	var params []string
-	for _, n := range names {
-		if n.Kind == store.NameParam {
-			params = append(params, n.Name)
-		}
-	}
+	params := benchParams(b, l)
 	b.ResetTimer()
 	defer reportCPU(b, cpuTime())
 	for i := 0; i < b.N; i++ {
@@ -107,6 +150,22 @@ func BenchRank(b *testing.B, l store.RunLog) {
 		}
 		store.Rank(s, "coverage", params, store.NoGoal(), false)
 	}
+}
+
+// benchParams returns the parameter names of the log but the logged
+// twins.
+func benchParams(b *testing.B, l store.RunLog) []string {
+	names, err := l.Names(context.Background())
+	if err != nil {
+		b.Fatal(err)
+	}
+	var params []string
+	for _, n := range names {
+		if n.Kind == store.NameParam && !strings.HasSuffix(n.Name, "_logged") {
+			params = append(params, n.Name)
+		}
+	}
+	return params
 }
 
 // BenchExportJSON writes the whole log as JSON.

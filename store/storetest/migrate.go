@@ -62,6 +62,7 @@ func Migrations(t *testing.T, d sqldb.Dialect, fresh Fresh) {
 					t.Fatal(err)
 				}
 			}
+			SummaryTable(t, l)
 			got, err := l.SchemaVersion(ctx)
 			if err != nil || got != latest {
 				t.Fatalf("SchemaVersion: got %d, %v; want %d", got, err, latest)

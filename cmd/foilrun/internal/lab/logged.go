@@ -161,8 +161,9 @@ func Pick(samples []store.Sample, params []string, src Source) Picked {
 		return pk
 	}
 	pk.Samples = make([]store.Sample, 0, len(samples))
-	for _, s := range samples {
-		p := make([]float64, len(params))
+	vals := make([]float64, len(samples)*len(params)) // every sample's params, one allocation
+	for n, s := range samples {
+		p := vals[n*len(params) : (n+1)*len(params) : (n+1)*len(params)]
 		used := false
 		for i := range params {
 			p[i] = math.NaN()

@@ -1,0 +1,194 @@
+package sqldb
+
+import (
+	"context"
+	"database/sql/driver"
+	"fmt"
+	"math"
+	"strings"
+
+	"github.com/foilrun/foilrun/store"
+)
+
+// maxColumnJoins is how many joins of run_summary_extra one read of
+// Columns takes (SQLite joins at most 64 tables); longer parameter lists
+// are read in parts within the same consistent read.
+const maxColumnJoins = 56
+
+// Columns returns the metric and parameters of the query's runs (see
+// store.RunLog) from the run summary, in run order: per run only the
+// metric, the parameters' values (a logged twin in place of the plan where
+// the run has one, picked in SQL by COALESCE) and whether it gave any
+// twin, each into a column of its own sized once for an unfiltered read.
+// A parameter or twin the names registry does not know is not read (its
+// values are NaN, its twin never used); when twins are read, one
+// aggregate counts the runs that gave each.
+func (s *DB) Columns(ctx context.Context, cq store.ColumnQuery) (store.Columns, error) {
+	np := len(cq.Params)
+	out := store.Columns{Params: make([][]float64, np), PerParam: make([]int, np)}
+	if cq.Twins != nil && len(cq.Twins) != np {
+		return out, fmt.Errorf("columns: %d parameters and %d twins, want a twin (or \"\") for each or none: %w", np, len(cq.Twins), store.ErrInvalid)
+	}
+	q, end, err := s.d.Read(ctx, s.db)
+	if err != nil {
+		return out, err
+	}
+	defer end()
+	logged, err := s.loggedParams(ctx, q)
+	if err != nil {
+		return out, err
+	}
+	bound := 0
+	if len(cq.Filter.Where) == 0 && len(cq.Filter.Codes) == 0 {
+		if bound, err = summaryRows(ctx, q); err != nil {
+			return out, err
+		}
+	}
+	var used []bool // per run, whether it gave a twin in any part
+	for lo := 0; ; {
+		p := s.columnPart(cq, logged, lo)
+		if err := s.readPart(ctx, q, cq, p, bound, &out, &used); err != nil {
+			return out, fmt.Errorf("columns of %s: %w", cq.Metric, err)
+		}
+		if lo = p.hi; lo >= np {
+			break
+		}
+	}
+	for _, u := range used {
+		if u {
+			out.Logged++
+		}
+	}
+	for j := range out.Params {
+		if out.Params[j] == nil { // not read: NaN in every run
+			out.Params[j] = nanColumn(len(out.Metric))
+		}
+	}
+	return out, nil
+}
+
+// columnPart is the parameters lo … hi−1 of a Columns read: the SQL that
+// reads them (sel[k] the value of parameter idx[k]), the twins read
+// (twin[k] the condition that parameter twinIdx[k] gave its twin).
+type columnPart struct {
+	r            *summaryRead
+	hi           int
+	sel, twin    []string
+	idx, twinIdx []int
+}
+
+// columnPart picks the parameters from lo on that one read takes.
+func (s *DB) columnPart(cq store.ColumnQuery, logged map[string]bool, lo int) columnPart {
+	p := columnPart{r: newSummaryRead(cq.Metric), hi: lo}
+	for ; p.hi < len(cq.Params) && p.r.joins+2 <= maxColumnJoins; p.hi++ {
+		j, name := p.hi, cq.Params[p.hi]
+		var twin string
+		if cq.Twins != nil && cq.Twins[j] != "" && logged[cq.Twins[j]] {
+			twin = cq.Twins[j]
+		}
+		if !logged[name] && twin == "" {
+			continue
+		}
+		x := "NULL"
+		if logged[name] {
+			x = p.r.value(name)
+		}
+		if twin != "" {
+			tw := p.r.value(twin)
+			x = "COALESCE(" + tw + ", " + x + ")"
+			p.twin = append(p.twin, tw+" IS NOT NULL")
+			p.twinIdx = append(p.twinIdx, j)
+		}
+		p.sel = append(p.sel, x)
+		p.idx = append(p.idx, j)
+	}
+	return p
+}
+
+// readPart reads one part's columns into out (the metric from the first
+// part, checked against the others' run count) and, with twins, which
+// runs gave one and how many gave each.
+func (s *DB) readPart(ctx context.Context, q Querier, cq store.ColumnQuery, p columnPart, bound int, out *store.Columns, used *[]bool) error {
+	tail, args, err := p.r.tail(ctx, s, q, cq.Filter, "")
+	if err != nil {
+		return err
+	}
+	flag := "0"
+	if len(p.twin) > 0 {
+		flag = "CASE WHEN " + strings.Join(p.twin, " OR ") + " THEN 1 ELSE 0 END"
+	}
+	ms, xs, flags, err := readColumns(ctx, q, s.d.Rebind("SELECT "+strings.Join(append([]string{p.r.metric, flag}, p.sel...), ", ")+tail+" ORDER BY su.run_id"), args, len(p.sel), bound)
+	if err != nil {
+		return err
+	}
+	if out.Metric == nil {
+		out.Metric, *used = ms, make([]bool, len(ms))
+	} else if len(ms) != len(out.Metric) {
+		return fmt.Errorf("parts of one read gave %d and %d runs", len(out.Metric), len(ms))
+	}
+	for k, j := range p.idx {
+		out.Params[j] = xs[k]
+	}
+	for i, f := range flags {
+		(*used)[i] = (*used)[i] || f
+	}
+	if len(p.twin) == 0 {
+		return nil
+	}
+	counts := make([]string, len(p.twin))
+	for k, c := range p.twin {
+		counts[k] = "COALESCE(SUM(CASE WHEN " + c + " THEN 1 ELSE 0 END), 0)"
+	}
+	n := make([]int64, len(counts))
+	dest := make([]any, len(n))
+	for k := range n {
+		dest[k] = &n[k]
+	}
+	if err := q.QueryRowContext(ctx, s.d.Rebind("SELECT "+strings.Join(counts, ", ")+tail), args...).Scan(dest...); err != nil {
+		return fmt.Errorf("twins given: %w", err)
+	}
+	for k, j := range p.twinIdx {
+		out.PerParam[j] = int(n[k])
+	}
+	return nil
+}
+
+// readColumns runs the query, whose rows are (metric, twin given 0 or
+// 1, n values), and reads them into a column each, NaN for NULL, sized
+// for bound rows.
+func readColumns(ctx context.Context, q Querier, query string, args []any, n, bound int) (ms []float64, xs [][]float64, flags []bool, err error) {
+	ms, flags = make([]float64, 0, bound), make([]bool, 0, bound)
+	xs = make([][]float64, n)
+	for j := range xs {
+		xs[j] = make([]float64, 0, bound)
+	}
+	err = eachRow(ctx, q, query, args, 2+n, func(vals []driver.Value) error {
+		m, err := unbox(vals[0])
+		if err != nil {
+			return fmt.Errorf("metric: %w", err)
+		}
+		f, err := unbox(vals[1])
+		if err != nil {
+			return fmt.Errorf("twin given: %w", err)
+		}
+		ms, flags = append(ms, m), append(flags, f == 1)
+		for j := range xs {
+			v, err := unbox(vals[2+j])
+			if err != nil {
+				return fmt.Errorf("parameter %d: %w", j+1, err)
+			}
+			xs[j] = append(xs[j], v)
+		}
+		return nil
+	})
+	return ms, xs, flags, err
+}
+
+// nanColumn is a column of n NaNs.
+func nanColumn(n int) []float64 {
+	c := make([]float64, n)
+	for i := range c {
+		c[i] = math.NaN()
+	}
+	return c
+}
