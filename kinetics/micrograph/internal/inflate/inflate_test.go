@@ -323,9 +323,24 @@ func FuzzZlib(f *testing.F) {
 	})
 }
 
-// BenchmarkZlibOurs and BenchmarkZlibStd inflate the same stream:
-// image-like rows compressed as a PNG encoder does (default level).
+// BenchmarkZlibOurs and BenchmarkZlibStd inflate the same stream: the
+// image data of the PNG file named by $FOILRUN_BENCH_PNG (for the 4096²
+// benchmark micrograph: go run ./cmd/foilrun/internal/benchdata
+// micrograph FILE), or else image-like rows compressed as a PNG encoder
+// does (default level).
 func benchStream(b *testing.B) ([]byte, int) {
+	if f := os.Getenv("FOILRUN_BENCH_PNG"); f != "" {
+		data, err := os.ReadFile(f)
+		if err != nil {
+			b.Fatal(err)
+		}
+		src := idat(b, data)
+		out, err := reference(src, 1<<30)
+		if err != nil {
+			b.Fatal(err)
+		}
+		return src, len(out)
+	}
 	data := inputs()["image rows"]
 	for len(data) < 8<<20 {
 		data = append(data, data...)
