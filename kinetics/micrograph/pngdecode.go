@@ -93,7 +93,7 @@ type pngReader struct {
 	stage    int
 	hdr      pngInfo
 	idatLeft uint32
-	pending  bool // the next chunk's header is in tmp[:8] already
+	pending  bool         // the next chunk's header is in tmp[:8] already
 	consumed bytes.Buffer // the bytes read before the first IDAT, kept for the interlaced fallback
 	keep     bool
 }
