@@ -94,6 +94,7 @@ type pngReader struct {
 	hdr      pngInfo
 	idatLeft uint32
 	pending  bool         // the next chunk's header is in tmp[:8] already
+	sizeHint int          // the file's size when known: room for all the image data
 	consumed bytes.Buffer // the bytes read before the first IDAT, kept for the interlaced fallback
 	keep     bool
 }
@@ -311,7 +312,7 @@ func (d *pngReader) parseTRNS(length uint32) error {
 // which has d.idatLeft bytes to come, checking each chunk's CRC, and
 // leaves the header of the chunk after them pending.
 func (d *pngReader) readIDAT() ([]byte, error) {
-	var data []byte
+	data := make([]byte, 0, max(d.sizeHint, int(d.idatLeft)))
 	for {
 		if int32(d.idatLeft) < 0 {
 			return nil, pngUnsupportedError("IDAT chunk length overflow")

@@ -4,29 +4,40 @@ import "encoding/binary"
 
 // huffman decodes one compressed block with the literal/length table lit
 // and the distance table dist (RFC 1951, section 3.2.5) until its end of
-// block code. This is the hot loop: after a refill the buffer holds at
-// least 56 bits unless the input is ending, enough for a literal/length
-// code with its extra bits (at most 15 + 5) and a distance code with its
-// extra bits (at most 15 + 13), so one refill serves a whole match; the
-// length checks against nb only fail near the end of the input.
-func (d *decoder) huffman(lit, dist *table) error {
+// block code. This is the hot loop, with the bit buffer in local
+// variables: after a refill the buffer holds at least 56 bits unless the
+// input is ending, enough for a literal/length code with its extra bits
+// (at most 15 + 5) and a distance code with its extra bits (at most
+// 15 + 13), so one refill serves a whole match; the length checks against
+// nb only fail near the end of the input.
+func (d *decoder) huffman(lit, dist *table) (err error) {
 	out, n := d.out, d.n
+	in, pos, bits, nb := d.in, d.pos, d.bits, d.nb
+	defer func() { d.n, d.pos, d.bits, d.nb = n, pos, bits, nb }()
 	for {
-		if d.nb < 48 {
-			d.refill()
+		if nb < 48 {
+			if pos+8 <= len(in) {
+				bits |= binary.LittleEndian.Uint64(in[pos:]) << nb
+				pos += int(63-nb) >> 3
+				nb |= 56
+			} else {
+				d.pos, d.bits, d.nb = pos, bits, nb
+				d.refill()
+				pos, bits, nb = d.pos, d.bits, d.nb
+			}
 		}
-		e := lit.lookup(d.bits)
+		e := lit.root[bits&(1<<litRootBits-1)]
+		if entryKind(e) == kindLink {
+			e = lit.sub[entryValue(e)+uint32(bits>>litRootBits)&(1<<entryExtra(e)-1)]
+		}
 		cl := entryLen(e)
-		switch entryKind(e) {
-		case kindLiteral:
-			if cl > d.nb {
-				d.n = n
+		if entryKind(e) == kindLiteral {
+			if cl > nb {
 				return ErrTruncated
 			}
-			d.bits >>= cl
-			d.nb -= cl
+			bits >>= cl
+			nb -= cl
 			if n >= len(out) {
-				d.n = n
 				return ErrTooLong
 			}
 			out[n] = byte(entryValue(e))
@@ -36,50 +47,49 @@ func (d *decoder) huffman(lit, dist *table) error {
 				d.report()
 			}
 			continue
-		case kindLength:
-		case kindEnd:
-			if cl > d.nb {
-				d.n = n
+		}
+		if entryKind(e) != kindLength {
+			if entryKind(e) == kindEnd && cl <= nb {
+				bits >>= cl
+				nb -= cl
+				return nil
+			}
+			d.pos, d.bits, d.nb = pos, bits, nb
+			if entryKind(e) == kindEnd {
 				return ErrTruncated
 			}
-			d.bits >>= cl
-			d.nb -= cl
-			d.n = n
-			return nil
-		default:
-			d.n = n
 			return d.invalidCode(e)
 		}
 		total := cl + entryExtra(e)
-		if total > d.nb {
-			d.n = n
+		if total > nb {
 			return ErrTruncated
 		}
-		length := int(entryValue(e) + uint32(d.bits>>cl)&(1<<entryExtra(e)-1))
-		d.bits >>= total
-		d.nb -= total
+		length := int(entryValue(e) + uint32(bits>>cl)&(1<<entryExtra(e)-1))
+		bits >>= total
+		nb -= total
 
-		e = dist.lookup(d.bits)
+		e = dist.root[bits&(1<<distRootBits-1)]
+		if entryKind(e) == kindLink {
+			e = dist.sub[entryValue(e)+uint32(bits>>distRootBits)&(1<<entryExtra(e)-1)]
+		}
 		if entryKind(e) != kindLength {
-			d.n = n
+			d.pos, d.bits, d.nb = pos, bits, nb
 			return d.invalidCode(e)
 		}
 		cl = entryLen(e)
 		total = cl + entryExtra(e)
-		if total > d.nb {
-			d.n = n
+		if total > nb {
 			return ErrTruncated
 		}
-		distance := int(entryValue(e) + uint32(d.bits>>cl)&(1<<entryExtra(e)-1))
-		d.bits >>= total
-		d.nb -= total
+		distance := int(entryValue(e) + uint32(bits>>cl)&(1<<entryExtra(e)-1))
+		bits >>= total
+		nb -= total
 
 		if distance > n {
-			d.n = n
+			d.pos, d.bits, d.nb = pos, bits, nb
 			return d.corrupt("distance too far back")
 		}
 		if n+length > len(out) {
-			d.n = n
 			return ErrTooLong
 		}
 		copyMatch(out, n, distance, length)

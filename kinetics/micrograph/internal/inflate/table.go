@@ -75,12 +75,12 @@ var litMeaning, distMeaning, clenMeaning = func() (lit [288]uint32, dist [32]uin
 // sends them), and a root entry of kind link points into sub.
 type table struct {
 	rootBits uint
-	root     []uint32
+	root     [1 << litRootBits]uint32 // the first 1<<rootBits entries are used
 	sub      []uint32
 }
 
 func newTable(rootBits uint) *table {
-	return &table{rootBits: rootBits, root: make([]uint32, 1<<rootBits)}
+	return &table{rootBits: rootBits}
 }
 
 // build makes the canonical Huffman code of the code lengths (RFC 1951,
@@ -96,7 +96,7 @@ func (t *table) build(lengths []uint8, meaning []uint32) bool {
 		longest = max(longest, int(l))
 	}
 	count[0] = 0
-	for i := range t.root {
+	for i := range 1 << t.rootBits {
 		t.root[i] = invalidEntry
 	}
 	t.sub = t.sub[:0]
@@ -140,7 +140,7 @@ func (t *table) build(lengths []uint8, meaning []uint32) bool {
 // it decodes, making the sub-table of r's root index on first use.
 func (t *table) place(r int, l uint, e uint32, subLen *[1 << litRootBits]uint8) {
 	if l <= t.rootBits {
-		for i := r; i < len(t.root); i += 1 << l {
+		for i := r; i < 1<<t.rootBits; i += 1 << l {
 			t.root[i] = e
 		}
 		return
@@ -163,7 +163,7 @@ func (t *table) place(r int, l uint, e uint32, subLen *[1 << litRootBits]uint8) 
 
 // lookup decodes the entry for the next bits of input.
 func (t *table) lookup(b uint64) uint32 {
-	e := t.root[b&(1<<t.rootBits-1)]
+	e := t.root[b&(1<<t.rootBits-1)&(1<<litRootBits-1)]
 	if entryKind(e) == kindLink {
 		e = t.sub[entryValue(e)+uint32(b>>t.rootBits)&(1<<entryExtra(e)-1)]
 	}
