@@ -215,8 +215,10 @@ func (d *decoder) stored() error {
 
 // report calls progress when step more bytes are final.
 func (d *decoder) report() {
-	if d.n >= d.nextReport && d.progress != nil {
-		d.progress(d.n)
+	if d.n >= d.nextReport {
+		if d.progress != nil {
+			d.progress(d.n)
+		}
 		d.nextReport = d.n + d.step
 	}
 }
