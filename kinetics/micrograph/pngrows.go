@@ -92,20 +92,19 @@ func unfilter(ft byte, cur, prev []byte, bpp int) error {
 	switch ft {
 	case filterNone:
 	case filterSub:
-		for i := bpp; i < len(cur); i++ {
-			cur[i] += cur[i-bpp]
+		for k := 0; k < bpp && k < len(cur); k++ {
+			left := byte(0)
+			for i := k; i < len(cur); i += bpp {
+				left += cur[i]
+				cur[i] = left
+			}
 		}
 	case filterUp:
 		for i, p := range prev[:len(cur)] {
 			cur[i] += p
 		}
 	case filterAverage:
-		for i := 0; i < bpp && i < len(cur); i++ {
-			cur[i] += prev[i] / 2
-		}
-		for i := bpp; i < len(cur); i++ {
-			cur[i] += uint8((int(cur[i-bpp]) + int(prev[i])) / 2)
-		}
+		unAverage(cur, prev, bpp)
 	case filterPaeth:
 		unPaeth(cur, prev, bpp)
 	default:
@@ -114,24 +113,46 @@ func unfilter(ft byte, cur, prev []byte, bpp int) error {
 	return nil
 }
 
+// unAverage reverses the Average filter: each byte is predicted by
+// ⌊(left + above)/2⌋, left being 0 for the first pixel. As in unPaeth the
+// left byte is carried in a register along each of the bpp sequences
+// rather than read back from the row just written.
+func unAverage(cur, prev []byte, bpp int) {
+	prev = prev[:len(cur)]
+	for k := 0; k < bpp && k < len(cur); k++ {
+		left := 0
+		for i := k; i < len(cur); i += bpp {
+			left = (int(cur[i]) + (left+int(prev[i]))>>1) & 0xff
+			cur[i] = uint8(left)
+		}
+	}
+}
+
 // unPaeth reverses the Paeth filter: each byte is predicted by whichever
 // of left a, above b and upper-left c is nearest p = a + b − c, ties in
-// the order a, b, c.
+// the order a, b, c. Each of the bpp interleaved byte sequences is run
+// with a and c held in registers and the choice made without branches
+// (the choice follows the noise, so a branch would be mispredicted about
+// half the time).
 func unPaeth(cur, prev []byte, bpp int) {
-	for i := 0; i < bpp && i < len(cur); i++ {
-		cur[i] += prev[i] // a = c = 0, so the predictor is b
-	}
-	for i := bpp; i < len(cur); i++ {
-		a, b, c := int(cur[i-bpp]), int(prev[i]), int(prev[i-bpp])
-		pa, pb, pc := b-c, a-c, a+b-2*c
-		pa, pb, pc = absInt(pa), absInt(pb), absInt(pc)
-		switch {
-		case pa <= pb && pa <= pc:
-			cur[i] += uint8(a)
-		case pb <= pc:
-			cur[i] += uint8(b)
-		default:
-			cur[i] += uint8(c)
+	prev = prev[:len(cur)]
+	for k := 0; k < bpp && k < len(cur); k++ {
+		a, c := 0, 0
+		for i := k; i < len(cur); i += bpp {
+			b := int(prev[i])
+			pa, pb := b-c, a-c
+			pc := absInt(pa + pb)
+			pa, pb = absInt(pa), absInt(pb)
+			p := c
+			if pb <= pc {
+				p = b
+			}
+			if pa <= min(pb, pc) {
+				p = a
+			}
+			a = (p + int(cur[i])) & 0xff
+			cur[i] = uint8(a)
+			c = b
 		}
 	}
 }
