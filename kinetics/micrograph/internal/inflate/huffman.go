@@ -10,10 +10,13 @@ import "encoding/binary"
 // (at most 15 + 5) and a distance code with its extra bits (at most
 // 15 + 13), so one refill serves a whole match; the length checks against
 // nb only fail near the end of the input.
-func (d *decoder) huffman(lit, dist *table) (err error) {
+func (d *decoder) huffman(lit, dist *table) error {
 	out, n := d.out, d.n
 	in, pos, bits, nb := d.in, d.pos, d.bits, d.nb
-	defer func() { d.n, d.pos, d.bits, d.nb = n, pos, bits, nb }()
+	var err error
+	var bad uint32 // the entry of an invalid code
+	tooFar := false
+loop:
 	for {
 		if nb < 48 {
 			if pos+8 <= len(in) {
@@ -33,12 +36,14 @@ func (d *decoder) huffman(lit, dist *table) (err error) {
 		cl := entryLen(e)
 		if entryKind(e) == kindLiteral {
 			if cl > nb {
-				return ErrTruncated
+				err = ErrTruncated
+				break
 			}
 			bits >>= cl
 			nb -= cl
 			if n >= len(out) {
-				return ErrTooLong
+				err = ErrTooLong
+				break
 			}
 			out[n] = byte(entryValue(e))
 			n++
@@ -48,21 +53,22 @@ func (d *decoder) huffman(lit, dist *table) (err error) {
 			}
 			continue
 		}
-		if entryKind(e) != kindLength {
-			if entryKind(e) == kindEnd && cl <= nb {
-				bits >>= cl
-				nb -= cl
-				return nil
-			}
-			d.pos, d.bits, d.nb = pos, bits, nb
-			if entryKind(e) == kindEnd {
-				return ErrTruncated
-			}
-			return d.invalidCode(e)
+		switch {
+		case entryKind(e) == kindEnd && cl <= nb:
+			bits >>= cl
+			nb -= cl
+			break loop
+		case entryKind(e) == kindEnd:
+			err = ErrTruncated
+			break loop
+		case entryKind(e) != kindLength:
+			bad = e
+			break loop
 		}
 		total := cl + entryExtra(e)
 		if total > nb {
-			return ErrTruncated
+			err = ErrTruncated
+			break
 		}
 		length := int(entryValue(e) + uint32(bits>>cl)&(1<<entryExtra(e)-1))
 		bits >>= total
@@ -73,24 +79,26 @@ func (d *decoder) huffman(lit, dist *table) (err error) {
 			e = dist.sub[entryValue(e)+uint32(bits>>distRootBits)&(1<<entryExtra(e)-1)]
 		}
 		if entryKind(e) != kindLength {
-			d.pos, d.bits, d.nb = pos, bits, nb
-			return d.invalidCode(e)
+			bad = e
+			break
 		}
 		cl = entryLen(e)
 		total = cl + entryExtra(e)
 		if total > nb {
-			return ErrTruncated
+			err = ErrTruncated
+			break
 		}
 		distance := int(entryValue(e) + uint32(bits>>cl)&(1<<entryExtra(e)-1))
 		bits >>= total
 		nb -= total
 
 		if distance > n {
-			d.pos, d.bits, d.nb = pos, bits, nb
-			return d.corrupt("distance too far back")
+			tooFar = true
+			break
 		}
 		if n+length > len(out) {
-			return ErrTooLong
+			err = ErrTooLong
+			break
 		}
 		copyMatch(out, n, distance, length)
 		n += length
@@ -99,6 +107,14 @@ func (d *decoder) huffman(lit, dist *table) (err error) {
 			d.report()
 		}
 	}
+	d.n, d.pos, d.bits, d.nb = n, pos, bits, nb
+	switch {
+	case bad != 0:
+		return d.invalidCode(bad)
+	case tooFar:
+		return d.corrupt("distance too far back")
+	}
+	return err
 }
 
 // copyMatch copies length bytes from distance bytes back to out[n:],
