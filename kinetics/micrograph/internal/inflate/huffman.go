@@ -47,6 +47,14 @@ loop:
 			}
 			out[n] = byte(entryValue(e))
 			n++
+			// Literals come in runs: a second one is taken without a refill
+			// while the buffer has the bits (after a refill it always has).
+			if e = lit.root[bits&(1<<litRootBits-1)]; entryKind(e) == kindLiteral && entryLen(e) <= nb && n < len(out) {
+				bits >>= entryLen(e)
+				nb -= entryLen(e)
+				out[n] = byte(entryValue(e))
+				n++
+			}
 			if n >= d.nextReport {
 				d.n = n
 				d.report()
