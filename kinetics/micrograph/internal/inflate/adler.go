@@ -3,7 +3,7 @@ package inflate
 // Adler32 is the Adler-32 checksum of p (RFC 1950, section 8.2): with
 // A = 1 + Σ p[i] and B = Σ A after each byte, both mod 65521, it is
 // B·65536 + A. The sums are reduced only every 5552 bytes, the most that
-// cannot overflow 32 bits, and eight bytes are added per step.
+// cannot overflow 32 bits.
 //
 // References:
 //   - P. Deutsch, J.-L. Gailly, "ZLIB Compressed Data Format Specification
@@ -14,26 +14,6 @@ func Adler32(p []byte) uint32 {
 	for len(p) > 0 {
 		chunk := p[:min(len(p), nmax)]
 		p = p[len(chunk):]
-		for len(chunk) >= 8 {
-			c := chunk[:8]
-			a += uint32(c[0])
-			b += a
-			a += uint32(c[1])
-			b += a
-			a += uint32(c[2])
-			b += a
-			a += uint32(c[3])
-			b += a
-			a += uint32(c[4])
-			b += a
-			a += uint32(c[5])
-			b += a
-			a += uint32(c[6])
-			b += a
-			a += uint32(c[7])
-			b += a
-			chunk = chunk[8:]
-		}
 		for _, v := range chunk {
 			a += uint32(v)
 			b += a

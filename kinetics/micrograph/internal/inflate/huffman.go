@@ -73,12 +73,11 @@ loop:
 			bad = e
 			break loop
 		}
-		total := cl + entryExtra(e)
+		length, total := withExtra(e, bits)
 		if total > nb {
 			err = ErrTruncated
 			break
 		}
-		length := int(entryValue(e) + uint32(bits>>cl)&(1<<entryExtra(e)-1))
 		bits >>= total
 		nb -= total
 
@@ -90,13 +89,11 @@ loop:
 			bad = e
 			break
 		}
-		cl = entryLen(e)
-		total = cl + entryExtra(e)
+		distance, total := withExtra(e, bits)
 		if total > nb {
 			err = ErrTruncated
 			break
 		}
-		distance := int(entryValue(e) + uint32(bits>>cl)&(1<<entryExtra(e)-1))
 		bits >>= total
 		nb -= total
 
@@ -123,6 +120,14 @@ loop:
 		return d.corrupt("distance too far back")
 	}
 	return err
+}
+
+// withExtra is the value of a length or distance entry e, its base plus
+// the extra bits that follow its code in b, and the number of bits the
+// code and the extra bits take.
+func withExtra(e uint32, b uint64) (int, uint) {
+	cl, x := entryLen(e), entryExtra(e)
+	return int(entryValue(e) + uint32(b>>cl)&(1<<x-1)), cl + x
 }
 
 // copyMatch copies length bytes from distance bytes back to out[n:],
