@@ -52,6 +52,7 @@ func encode(t *testing.T, img image.Image, format string) image.Image {
 // and the domain counts exactly: the layout puts at least 8 px between
 // domains, so every domain must come out as one component.
 func TestSyntheticMicrographs(t *testing.T) {
+	t.Parallel()
 	cases := []struct {
 		name     string
 		contrast float64

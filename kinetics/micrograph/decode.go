@@ -8,6 +8,7 @@ import (
 	_ "image/jpeg" // register the JPEG decoder
 	_ "image/png"  // register the PNG decoder
 	"io"
+	"io/fs"
 
 	_ "golang.org/x/image/tiff" // register the TIFF decoder
 
@@ -120,6 +121,11 @@ func decodePNG(br io.Reader, lr *limitedReader, lim Limits) (img image.Image, in
 		}
 	}()
 	d := newPNGReader(br)
+	if st, ok := lr.r.(interface{ Stat() (fs.FileInfo, error) }); ok {
+		if fi, err := st.Stat(); err == nil && fi.Mode().IsRegular() && fi.Size() <= lim.MaxBytes {
+			d.sizeHint = int(fi.Size())
+		}
+	}
 	err = d.readHeader()
 	if lr.over {
 		return nil, info, lr.tooLarge(lim)

@@ -40,6 +40,7 @@ func encodePNG(t testing.TB, img image.Image) []byte {
 }
 
 func TestDecodeRefusesGigapixelHeader(t *testing.T) {
+	t.Parallel()
 	data := pngHeader(40000, 25000) // 1e9 pixels, a 58-byte file
 	_, _, err := Decode(bytes.NewReader(data), Limits{})
 	var tl *TooLargeError
@@ -63,6 +64,7 @@ func TestDecodeRefusesGigapixelHeader(t *testing.T) {
 }
 
 func TestDecodeByteLimit(t *testing.T) {
+	t.Parallel()
 	s, _ := baseSynth(0.75, 3)
 	img, _ := s.gray8()
 	data := encodePNG(t, img)
@@ -77,6 +79,7 @@ func TestDecodeByteLimit(t *testing.T) {
 }
 
 func TestBadInput(t *testing.T) {
+	t.Parallel()
 	s, _ := baseSynth(0.75, 5)
 	good, _ := s.gray8()
 	full := encodePNG(t, good)
@@ -122,6 +125,7 @@ func TestBadInput(t *testing.T) {
 }
 
 func TestBadSettings(t *testing.T) {
+	t.Parallel()
 	s, _ := baseSynth(0.75, 5)
 	img, _ := s.gray8()
 	neg := -1.0
@@ -150,6 +154,7 @@ func TestBadSettings(t *testing.T) {
 }
 
 func TestParsePolarity(t *testing.T) {
+	t.Parallel()
 	for _, c := range []struct {
 		in   string
 		want Polarity

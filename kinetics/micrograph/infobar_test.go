@@ -43,6 +43,7 @@ func coverageScene(target float64, brighter bool, seed uint64) (*image.Gray, flo
 // black bar with white marks along the bottom, and a white bar with black
 // marks along the top; the bar is found and cut exactly.
 func TestCoverageWithInfoBar(t *testing.T) {
+	t.Parallel()
 	bars := []struct {
 		name string
 		bar  *synth.InfoBar
@@ -92,6 +93,7 @@ func TestCoverageWithInfoBar(t *testing.T) {
 // TestInfoBarKept: with KeepInfoBar the bar is measured as sample and the
 // coverage is off, which is what the detection is for.
 func TestInfoBarKept(t *testing.T) {
+	t.Parallel()
 	img, truth := coverageScene(0.10, false, 7)
 	in := synth.WithInfoBar(img, synth.InfoBar{Height: 96, Background: 0, Ink: 255})
 	res, err := Analyze(in, Settings{PixelSize: testPixel, Polarity: DomainsDarker, KeepInfoBar: true})
@@ -109,6 +111,7 @@ func TestInfoBarKept(t *testing.T) {
 // TestCrop: a crop measures only its rectangle; one outside the image or
 // of zero area is refused with ErrSettings and the rectangle quoted.
 func TestCrop(t *testing.T) {
+	t.Parallel()
 	img, _ := coverageScene(0.30, false, 3)
 	res, err := Analyze(img, Settings{PixelSize: testPixel, Polarity: DomainsDarker, Crop: image.Rect(10, 20, 310, 220)})
 	if err != nil {
@@ -141,6 +144,7 @@ func TestCrop(t *testing.T) {
 // TestNoBarInSamples: plain sample fields, bare or fully covered and
 // noiseless, and a flat frame without marks, are not taken for a bar.
 func TestNoBarInSamples(t *testing.T) {
+	t.Parallel()
 	flat := image.NewGray(image.Rect(0, 0, 100, 100))
 	for i := range flat.Pix {
 		flat.Pix[i] = 140

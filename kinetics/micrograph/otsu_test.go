@@ -77,6 +77,7 @@ func nativeHistogram(t *testing.T, img image.Image) []uint64 {
 // TestOtsuAgainstSkimage: thresholds must equal scikit-image's exactly
 // (same convention: lower class ≤ t, first maximum wins).
 func TestOtsuAgainstSkimage(t *testing.T) {
+	t.Parallel()
 	ref := loadReference(t)
 	for _, c := range ref.Images {
 		t.Run(c.File, func(t *testing.T) {
@@ -107,6 +108,7 @@ func TestOtsuAgainstSkimage(t *testing.T) {
 }
 
 func TestOtsuDegenerate(t *testing.T) {
+	t.Parallel()
 	for _, h := range [][]uint64{nil, {}, {5}, {0, 0, 9, 0}} {
 		if _, ok := Otsu(h); ok {
 			t.Errorf("Otsu(%v): got ok, want not ok (fewer than two filled bins)", h)
@@ -119,6 +121,7 @@ func TestOtsuDegenerate(t *testing.T) {
 }
 
 func TestQuantileAgainstNumpy(t *testing.T) {
+	t.Parallel()
 	ref := loadReference(t)
 	for _, c := range ref.Quantiles {
 		got := Quantile(c.Data, c.Q)
@@ -131,6 +134,7 @@ func TestQuantileAgainstNumpy(t *testing.T) {
 // TestLabelConnectivity checks 8-connected component counts of small
 // masks against counts by hand (a diagonal step joins, a gap does not).
 func TestLabelConnectivity(t *testing.T) {
+	t.Parallel()
 	cases := []struct {
 		name string
 		mask []string

@@ -12,6 +12,7 @@ import (
 // InteriorColor on its boundary pixels only; a square cut by the right
 // border in EdgeColor; copper pixels keep their gray.
 func TestOverlay(t *testing.T) {
+	t.Parallel()
 	img := image.NewGray(image.Rect(0, 0, 64, 48))
 	for i := range img.Pix {
 		img.Pix[i] = 200

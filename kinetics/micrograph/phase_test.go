@@ -14,6 +14,7 @@ import (
 // one-peaked histogram. Without a reference Analyze must refuse; with one
 // it must say which phase fills the field.
 func TestOnePeak(t *testing.T) {
+	t.Parallel()
 	bareOnly := scene{w: 320, h: 240, bare: 150, contrast: 0.75, gradient: 0.5, texture: 0.04, noise: 4, seed: 21}
 	covered := bareOnly
 	covered.domains = []synth.Hexagon{{X: 160, Y: 120, R: 1000}} // covers everything
@@ -63,6 +64,7 @@ func TestOnePeak(t *testing.T) {
 // copper, so the plain automatic rule picks the wrong class; a bare region
 // resolves it. Domains overlap here, so only coverage is checked (±0.01).
 func TestBareRegionFixesAutoPolarity(t *testing.T) {
+	t.Parallel()
 	rng := rand.New(rand.NewPCG(31, 1))
 	var ds []synth.Hexagon
 	for len(ds) < 260 {
@@ -100,6 +102,7 @@ func TestBareRegionFixesAutoPolarity(t *testing.T) {
 // illumination surface the ±25 % gradient spoils the measurement, with it
 // coverage is within 0.01.
 func TestFlatteningMatters(t *testing.T) {
+	t.Parallel()
 	s, _ := baseSynth(0.8, 41)
 	s.gradient = 0.9
 	img, truth := s.gray8()
@@ -120,6 +123,7 @@ func TestFlatteningMatters(t *testing.T) {
 // geometry, d = 2·√((3√3/2)R²/π), and the density against the counting
 // frame: (interior + left + top domains) / field area.
 func TestSizesAndDensity(t *testing.T) {
+	t.Parallel()
 	s, edge := baseSynth(0.75, 51)
 	img, _ := s.gray8()
 	res, err := Analyze(img, Settings{PixelSize: testPixel})
@@ -152,6 +156,7 @@ func TestSizesAndDensity(t *testing.T) {
 
 // TestSpecks: isolated dots smaller than MinAreaPixels are dropped.
 func TestSpecks(t *testing.T) {
+	t.Parallel()
 	img := image.NewGray(image.Rect(0, 0, 64, 64))
 	for i := range img.Pix {
 		img.Pix[i] = 200

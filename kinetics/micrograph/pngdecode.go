@@ -2,7 +2,6 @@ package micrograph
 
 import (
 	"bytes"
-	"compress/zlib"
 	"encoding/binary"
 	"fmt"
 	"hash"
@@ -94,6 +93,8 @@ type pngReader struct {
 	stage    int
 	hdr      pngInfo
 	idatLeft uint32
+	pending  bool         // the next chunk's header is in tmp[:8] already
+	sizeHint int          // the file's size when known: room for all the image data
 	consumed bytes.Buffer // the bytes read before the first IDAT, kept for the interlaced fallback
 	keep     bool
 }
@@ -151,7 +152,9 @@ func (d *pngReader) chunksUntil(stage int) error {
 // chunk reads one chunk. At the first IDAT it stops after the chunk's
 // header with d.idatLeft bytes of data to come.
 func (d *pngReader) chunk() error {
-	if err := d.readFull(d.tmp[:8]); err != nil {
+	if d.pending {
+		d.pending = false
+	} else if err := d.readFull(d.tmp[:8]); err != nil {
 		return err
 	}
 	length := binary.BigEndian.Uint32(d.tmp[:4])
@@ -305,34 +308,35 @@ func (d *pngReader) parseTRNS(length uint32) error {
 	return d.verifyChecksum()
 }
 
-// Read presents the data of consecutive IDAT chunks as one stream,
-// checking each chunk's CRC at its end; a chunk other than IDAT before the
-// image data is complete is "not enough pixel data".
-func (d *pngReader) Read(p []byte) (int, error) {
-	if len(p) == 0 {
-		return 0, nil
-	}
-	for d.idatLeft == 0 {
+// readIDAT reads the data of consecutive IDAT chunks, the first of
+// which has d.idatLeft bytes to come, checking each chunk's CRC, and
+// leaves the header of the chunk after them pending.
+func (d *pngReader) readIDAT() ([]byte, error) {
+	data := make([]byte, 0, max(d.sizeHint, int(d.idatLeft)))
+	for {
+		if int32(d.idatLeft) < 0 {
+			return nil, pngUnsupportedError("IDAT chunk length overflow")
+		}
+		start := len(data)
+		data = append(data, make([]byte, d.idatLeft)...)
+		if err := d.readFull(data[start:]); err != nil {
+			return nil, err
+		}
+		d.crc.Write(data[start:])
 		if err := d.verifyChecksum(); err != nil {
-			return 0, err
+			return nil, err
 		}
 		if err := d.readFull(d.tmp[:8]); err != nil {
-			return 0, err
+			return nil, err
+		}
+		if string(d.tmp[4:8]) != "IDAT" {
+			d.pending = true
+			return data, nil
 		}
 		d.idatLeft = binary.BigEndian.Uint32(d.tmp[:4])
-		if string(d.tmp[4:8]) != "IDAT" {
-			return 0, pngFormatError("not enough pixel data")
-		}
 		d.crc.Reset()
 		d.crc.Write(d.tmp[4:8])
 	}
-	if int32(d.idatLeft) < 0 {
-		return 0, pngUnsupportedError("IDAT chunk length overflow")
-	}
-	n, err := d.r.Read(p[:min(len(p), int(d.idatLeft))])
-	d.crc.Write(p[:n])
-	d.idatLeft -= uint32(n)
-	return n, err
 }
 
 // decodePixels reads, after readHeader, the chunks up to the image data,
@@ -349,50 +353,20 @@ func (d *pngReader) decodePixels() (image.Image, error) {
 	if err := d.chunksUntil(stIDAT); err != nil {
 		return nil, err
 	}
+	data, err := d.readIDAT()
+	if err != nil {
+		return nil, err
+	}
 	depth := 8
 	if d.hdr.depth == 16 {
 		depth = 16
 	}
 	img := newLumaImage(d.hdr.width, d.hdr.height, depth)
-	z, err := zlib.NewReader(d)
-	if err != nil {
-		return nil, err
-	}
-	defer z.Close()
-	if err := d.readRows(z, img); err != nil {
-		return nil, err
-	}
-	if err := checkStreamEnd(z); err != nil {
-		return nil, err
-	}
-	if d.idatLeft != 0 {
-		return nil, pngFormatError("too much pixel data")
-	}
-	if err := d.verifyChecksum(); err != nil {
+	if err := d.readRows(data, img); err != nil {
 		return nil, err
 	}
 	if err := d.chunksUntil(stIEND); err != nil {
 		return nil, err
 	}
 	return img, nil
-}
-
-// checkStreamEnd reads on after the last row to verify the zlib
-// checksum, and refuses data left over.
-func checkStreamEnd(z io.Reader) error {
-	var one [1]byte
-	n, err := 0, error(nil)
-	for i := 0; n == 0 && err == nil; i++ {
-		if i == 100 {
-			return io.ErrNoProgress
-		}
-		n, err = z.Read(one[:])
-	}
-	if err != nil && err != io.EOF {
-		return pngFormatError(err.Error())
-	}
-	if n != 0 {
-		return pngFormatError("too much pixel data")
-	}
-	return nil
 }

@@ -261,6 +261,7 @@ func generatedSpecs() []pngSpec {
 // TestDecodePNGMatchesReference: every generated PNG decodes to exactly
 // the levels and bit depth image/png + convertRow give.
 func TestDecodePNGMatchesReference(t *testing.T) {
+	t.Parallel()
 	rng := rand.New(rand.NewPCG(19, 1))
 	for _, s := range generatedSpecs() {
 		t.Run(s.String(), func(t *testing.T) {
@@ -273,6 +274,7 @@ func TestDecodePNGMatchesReference(t *testing.T) {
 // TestDecodePNGInterlaced: an Adam7 image goes through image/png and
 // gives the same plane.
 func TestDecodePNGInterlaced(t *testing.T) {
+	t.Parallel()
 	rng := rand.New(rand.NewPCG(19, 2))
 	for _, s := range []pngSpec{
 		{ctype: 0, depth: 8, filter: 5, w: 21, h: 17, interlaced: true},
@@ -285,6 +287,7 @@ func TestDecodePNGInterlaced(t *testing.T) {
 // TestDecodeTestdataPNGs: every PNG in the repository's testdata decodes
 // to the reference plane.
 func TestDecodeTestdataPNGs(t *testing.T) {
+	t.Parallel()
 	var files []string
 	for _, pat := range []string{"testdata/*/*.png", "testdata/*.png", "../../testdata/*/*.png", "../../testdata/*/*/*.png", "../../cmd/foilrun/testdata/*.png"} {
 		m, _ := filepath.Glob(pat)
@@ -346,6 +349,7 @@ func at(v []uint16, i int) int {
 // ErrUnreadable that names the damage as image/png would, and never
 // decoded.
 func TestDecodePNGCorrupt(t *testing.T) {
+	t.Parallel()
 	good := pngSpec{ctype: 0, depth: 8, filter: 5, w: 40, h: 30, idatSize: 100}.encode(rand.New(rand.NewPCG(3, 3)))
 	idat := bytes.Index(good, []byte("IDAT"))
 	iend := bytes.Index(good, []byte("IEND"))

@@ -1,10 +1,11 @@
 package micrograph
 
 import (
+	"errors"
 	"fmt"
 	"image/color"
-	"io"
-	"sync/atomic"
+
+	"github.com/foilrun/foilrun/kinetics/micrograph/internal/inflate"
 )
 
 // PNG filter types (ISO/IEC 15948:2004, section 9.2).
@@ -16,93 +17,70 @@ const (
 	filterPaeth
 )
 
-// rowBatch is a run of consecutive filtered rows passed from the
-// inflating goroutine to the one that unfilters and converts them.
-type rowBatch struct {
-	y0, n int    // first row and number of rows
-	buf   []byte // n rows of rowSize bytes, each led by its filter type
-}
+// progressStep is how many inflated bytes the inflating goroutine
+// produces between hand-overs to the one that unfilters.
+const progressStep = 64 << 10
 
-// Pipeline sizes: a batch holds about 64 KiB of rows; 4 batches are in
-// flight, so inflating runs ahead of flattening by at most 3 batches.
-const (
-	batchBytes      = 64 << 10
-	batchesInFlight = 4
-)
-
-// readRows inflates the rows from z into batches on this goroutine while a
-// second goroutine unfilters them and writes their luma into img, row by
-// row, in order. The first error of either side stops both.
-func (d *pngReader) readRows(z io.Reader, img *lumaImage) error {
+// readRows inflates the image data on this goroutine into one buffer of
+// the exact size the header gives, while a second goroutine unfilters
+// the rows as they complete and writes their luma into img, row by row.
+func (d *pngReader) readRows(data []byte, img *lumaImage) error {
 	bpp := d.hdr.bitsPerPixel()
 	rowSize := 1 + (bpp*d.hdr.width+7)/8
-	perBatch := max(1, batchBytes/rowSize)
+	raw := make([]byte, d.hdr.height*rowSize)
 	conv := rowConverter(&d.hdr)
 
-	work := make(chan *rowBatch, batchesInFlight)
-	free := make(chan *rowBatch, batchesInFlight)
-	for range batchesInFlight {
-		free <- &rowBatch{buf: make([]byte, perBatch*rowSize)}
-	}
-	var failed atomic.Bool
+	ready := make(chan int, len(raw)/progressStep+2)
 	done := make(chan error, 1)
 	go func() {
 		defer func() {
 			if p := recover(); p != nil {
-				failed.Store(true)
-				for b := range work {
-					free <- b
+				for range ready {
 				}
 				done <- fmt.Errorf("decoder failed: %v", p)
 			}
 		}()
-		done <- unfilterRows(work, free, &failed, img, rowSize, (bpp+7)/8, conv)
+		done <- unfilterRows(ready, raw, img, rowSize, (bpp+7)/8, conv)
 	}()
-
-	var err error
-	for y := 0; y < d.hdr.height && !failed.Load(); {
-		b := <-free
-		b.y0, b.n = y, min(perBatch, d.hdr.height-y)
-		if _, err = io.ReadFull(z, b.buf[:b.n*rowSize]); err != nil {
-			if err == io.EOF || err == io.ErrUnexpectedEOF {
-				err = pngFormatError("not enough pixel data")
-			}
-			break
-		}
-		work <- b
-		y += b.n
-	}
-	close(work)
+	res, err := inflate.Zlib(raw, data, progressStep, func(n int) { ready <- n })
+	close(ready)
 	if uerr := <-done; uerr != nil {
 		return uerr
 	}
-	return err
+	switch {
+	case errors.Is(err, inflate.ErrTooLong):
+		return pngFormatError("too much pixel data")
+	case errors.Is(err, inflate.ErrTruncated):
+		return pngFormatError("not enough pixel data")
+	case err != nil:
+		return pngFormatError(err.Error())
+	case res.N < len(raw):
+		return pngFormatError("not enough pixel data")
+	case res.Used < len(data):
+		return pngFormatError("too much pixel data")
+	}
+	return nil
 }
 
-// unfilterRows is the consumer side of readRows: it reverses each row's
-// filter against the row above (kept in prev) and converts it with conv.
-// After an error it sets failed and goes on returning batches unread, so
-// that the producer never blocks.
-func unfilterRows(work <-chan *rowBatch, free chan<- *rowBatch, failed *atomic.Bool,
-	img *lumaImage, rowSize, bpp int, conv func(dst []uint16, src []byte)) error {
+// unfilterRows is the consumer side of readRows: each n received means
+// raw[:n] is final. It copies each complete row out of raw (later data
+// refers back to the filtered bytes), reverses its filter against the
+// row above and converts it with conv. After an error it goes on
+// receiving, so that the producer never blocks.
+func unfilterRows(ready <-chan int, raw []byte, img *lumaImage, rowSize, bpp int,
+	conv func(dst []uint16, src []byte)) error {
 	var err error
-	last := make([]byte, rowSize-1) // the row above the first is all zeros (section 9.2)
-	prev := last
-	for b := range work {
-		for i := 0; i < b.n && err == nil; i++ {
-			row := b.buf[i*rowSize : (i+1)*rowSize]
-			if err = unfilter(row[0], row[1:], prev, bpp); err == nil {
-				conv(img.rowFrom(0, b.y0+i), row[1:])
-				prev = row[1:]
+	cur, prev := make([]byte, rowSize-1), make([]byte, rowSize-1) // the row above the first is all zeros (section 9.2)
+	y := 0
+	for n := range ready {
+		for ; err == nil && (y+1)*rowSize <= n; y++ {
+			row := raw[y*rowSize : (y+1)*rowSize]
+			copy(cur, row[1:])
+			if err = unfilter(row[0], cur, prev, bpp); err == nil {
+				conv(img.rowFrom(0, y), cur)
+				cur, prev = prev, cur
 			}
 		}
-		if err != nil {
-			failed.Store(true)
-		} else {
-			copy(last, prev) // keep the batch's last row: the batch is reused
-			prev = last
-		}
-		free <- b
 	}
 	return err
 }
@@ -114,20 +92,19 @@ func unfilter(ft byte, cur, prev []byte, bpp int) error {
 	switch ft {
 	case filterNone:
 	case filterSub:
-		for i := bpp; i < len(cur); i++ {
-			cur[i] += cur[i-bpp]
+		for k := 0; k < bpp && k < len(cur); k++ {
+			left := byte(0)
+			for i := k; i < len(cur); i += bpp {
+				left += cur[i]
+				cur[i] = left
+			}
 		}
 	case filterUp:
 		for i, p := range prev[:len(cur)] {
 			cur[i] += p
 		}
 	case filterAverage:
-		for i := 0; i < bpp && i < len(cur); i++ {
-			cur[i] += prev[i] / 2
-		}
-		for i := bpp; i < len(cur); i++ {
-			cur[i] += uint8((int(cur[i-bpp]) + int(prev[i])) / 2)
-		}
+		unAverage(cur, prev, bpp)
 	case filterPaeth:
 		unPaeth(cur, prev, bpp)
 	default:
@@ -136,24 +113,46 @@ func unfilter(ft byte, cur, prev []byte, bpp int) error {
 	return nil
 }
 
+// unAverage reverses the Average filter: each byte is predicted by
+// ⌊(left + above)/2⌋, left being 0 for the first pixel. As in unPaeth the
+// left byte is carried in a register along each of the bpp sequences
+// rather than read back from the row just written.
+func unAverage(cur, prev []byte, bpp int) {
+	prev = prev[:len(cur)]
+	for k := 0; k < bpp && k < len(cur); k++ {
+		left := 0
+		for i := k; i < len(cur); i += bpp {
+			left = (int(cur[i]) + (left+int(prev[i]))>>1) & 0xff
+			cur[i] = uint8(left)
+		}
+	}
+}
+
 // unPaeth reverses the Paeth filter: each byte is predicted by whichever
 // of left a, above b and upper-left c is nearest p = a + b − c, ties in
-// the order a, b, c.
+// the order a, b, c. Each of the bpp interleaved byte sequences is run
+// with a and c held in registers and the choice made without branches
+// (the choice follows the noise, so a branch would be mispredicted about
+// half the time).
 func unPaeth(cur, prev []byte, bpp int) {
-	for i := 0; i < bpp && i < len(cur); i++ {
-		cur[i] += prev[i] // a = c = 0, so the predictor is b
-	}
-	for i := bpp; i < len(cur); i++ {
-		a, b, c := int(cur[i-bpp]), int(prev[i]), int(prev[i-bpp])
-		pa, pb, pc := b-c, a-c, a+b-2*c
-		pa, pb, pc = absInt(pa), absInt(pb), absInt(pc)
-		switch {
-		case pa <= pb && pa <= pc:
-			cur[i] += uint8(a)
-		case pb <= pc:
-			cur[i] += uint8(b)
-		default:
-			cur[i] += uint8(c)
+	prev = prev[:len(cur)]
+	for k := 0; k < bpp && k < len(cur); k++ {
+		a, c := 0, 0
+		for i := k; i < len(cur); i += bpp {
+			b := int(prev[i])
+			pa, pb := b-c, a-c
+			pc := absInt(pa + pb)
+			pa, pb = absInt(pa), absInt(pb)
+			p := c
+			if pb <= pc {
+				p = b
+			}
+			if pa <= min(pb, pc) {
+				p = a
+			}
+			a = (p + int(cur[i])) & 0xff
+			cur[i] = uint8(a)
+			c = b
 		}
 	}
 }

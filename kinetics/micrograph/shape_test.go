@@ -12,6 +12,7 @@ import (
 // and the smoothing weights are exp(−d²/(2σ²)) with σ = 2 bins, cut at 3σ.
 // Tolerance 1e-12 relative (float rounding); levels exactly.
 func TestShape(t *testing.T) {
+	t.Parallel()
 	flat := make([]uint64, 256)
 	for i := range flat {
 		flat[i] = 1

@@ -26,6 +26,7 @@ type smoothReference struct {
 // bands and their halo rows are exercised, including bands shorter than
 // the kernel (radius 8 over 11 rows).
 func TestSmoothAgainstScipy(t *testing.T) {
+	t.Parallel()
 	data, err := os.ReadFile("testdata/smooth_reference.json")
 	if err != nil {
 		t.Fatal(err)

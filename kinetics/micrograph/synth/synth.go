@@ -154,20 +154,44 @@ func (s Scene) covered() []float32 {
 		y0, y1 := max(0, int(d.Y-d.R)-1), min(h, int(d.Y+d.R)+2)
 		for y := y0; y < y1; y++ {
 			for x := x0; x < x1; x++ {
-				in := 0
-				for j := range n {
-					for i := range n {
-						if d.contains(float64(x)+(float64(i)+0.5)/float64(n), float64(y)+(float64(j)+0.5)/float64(n), nd) {
-							in++
-						}
-					}
-				}
+				in := d.samplesIn(x, y, n, nd)
 				f := &frac[y*w+x]
 				*f = min(1, *f+float32(in)/float32(n*n))
 			}
 		}
 	}
 	return frac
+}
+
+// samplesIn counts the n×n sample points of pixel (x, y) inside the
+// hexagon. A pixel whose whole square lies inside every pair of edges
+// (centre distance plus half the square's extent along the normal, at
+// most the apothem) has all its points inside, and one wholly beyond a
+// pair has none, so only pixels on an edge are sampled; the counts are
+// those of sampling every pixel.
+func (h Hexagon) samplesIn(x, y, n int, normals [3][2]float64) int {
+	dx, dy := float64(x)+0.5-h.X, float64(y)+0.5-h.Y
+	ap := h.R * math.Sqrt(3) / 2
+	inside := true
+	for _, nv := range normals {
+		c, half := math.Abs(dx*nv[0]+dy*nv[1]), 0.5*(math.Abs(nv[0])+math.Abs(nv[1]))
+		if c-half > ap {
+			return 0
+		}
+		inside = inside && c+half < ap
+	}
+	if inside {
+		return n * n
+	}
+	in := 0
+	for j := range n {
+		for i := range n {
+			if h.contains(float64(x)+(float64(i)+0.5)/float64(n), float64(y)+(float64(j)+0.5)/float64(n), normals) {
+				in++
+			}
+		}
+	}
+	return in
 }
 
 // clamp rounds v to the nearest integer within [0, hi].

@@ -283,3 +283,31 @@ func TestWithInfoBar(t *testing.T) {
 		}
 	}
 }
+
+// TestSamplesInShortcut: the count of sample points inside a hexagon,
+// which skips sampling for pixels wholly inside or outside, equals the
+// count made by testing every sample point, for pixels all around
+// hexagons of varied size and turn.
+func TestSamplesInShortcut(t *testing.T) {
+	rng := rand.New(rand.NewPCG(4, 9))
+	for k := range 200 {
+		h := Hexagon{X: 20 + rng.Float64(), Y: 20 + rng.Float64(), R: 0.5 + 15*rng.Float64(), Theta: rng.Float64() * math.Pi}
+		nd := h.normals()
+		n := 1 + k%5
+		for y := range 40 {
+			for x := range 40 {
+				want := 0
+				for j := range n {
+					for i := range n {
+						if h.contains(float64(x)+(float64(i)+0.5)/float64(n), float64(y)+(float64(j)+0.5)/float64(n), nd) {
+							want++
+						}
+					}
+				}
+				if got := h.samplesIn(x, y, n, nd); got != want {
+					t.Fatalf("hexagon %+v, pixel (%d, %d), %d² samples: got %d inside, want %d", h, x, y, n, got, want)
+				}
+			}
+		}
+	}
+}

@@ -1,0 +1,340 @@
+// Package inflate decompresses zlib streams (RFC 1950) holding DEFLATE
+// data (RFC 1951) into a buffer the caller sized in advance, as a PNG
+// decoder can: the image header gives the exact size of the inflated
+// image data, so the whole output lives in one slice, back-references read
+// it directly and no sliding window is kept.
+//
+// The decoder keeps up to 64 bits of input in a register refilled eight
+// bytes at a time; each Huffman code is decoded by one look-up in a table
+// indexed by the next 10 (literal/length) or 8 (distance) bits, with a
+// second look-up only for longer codes, and a table entry gives both the
+// symbol's meaning and the number of extra bits that follow it, so a
+// length or distance with its extra bits is read in one step. Matches
+// whose distance is at least 8 are copied 8 bytes at a time.
+//
+// Corrupt input gives an error, never a panic or a read outside the
+// input: bad code lengths, unknown symbols, a distance before the start
+// of the output, output longer than the buffer, truncated input and a
+// wrong Adler-32 checksum. The decoder accepts exactly the streams
+// compress/zlib accepts (tested and fuzzed against it).
+//
+// References:
+//   - P. Deutsch, J.-L. Gailly, "ZLIB Compressed Data Format Specification
+//     version 3.3", RFC 1950, 1996.
+//   - P. Deutsch, "DEFLATE Compressed Data Format Specification version
+//     1.3", RFC 1951, 1996.
+package inflate
+
+import (
+	"encoding/binary"
+	"errors"
+	"fmt"
+)
+
+// Errors of a stream that ends early, makes more output than the buffer
+// holds, or fails its checksum; other damage is a *CorruptError.
+var (
+	ErrTruncated = errors.New("inflate: compressed data ends early")
+	ErrTooLong   = errors.New("inflate: more data than expected")
+	ErrChecksum  = errors.New("inflate: Adler-32 checksum mismatch")
+)
+
+// CorruptError reports invalid compressed data at a byte offset of the
+// input.
+type CorruptError struct {
+	Offset int    // input byte at which the damage was seen
+	What   string // what is wrong
+}
+
+func (e *CorruptError) Error() string {
+	return fmt.Sprintf("inflate: %s at input byte %d", e.What, e.Offset)
+}
+
+// Result is what a call to Zlib produced.
+type Result struct {
+	N    int // bytes written to the buffer
+	Used int // bytes of input read, up to and including the checksum
+}
+
+// Zlib inflates the zlib stream at the start of src into dst and returns
+// how much it wrote and read. It fails with ErrTooLong if the stream holds
+// more than len(dst) bytes. When progress is not nil it is called, on the
+// calling goroutine, each time at least step more bytes of dst are final
+// (dst[:n] will not change again), and once with the total after the last
+// block, before the checksum is checked.
+func Zlib(dst, src []byte, step int, progress func(n int)) (Result, error) {
+	if len(src) < 2 {
+		return Result{}, ErrTruncated
+	}
+	cmf, flg := src[0], src[1]
+	if cmf&0x0f != 8 || cmf>>4 > 7 || (uint(cmf)<<8|uint(flg))%31 != 0 {
+		return Result{}, &CorruptError{0, "invalid zlib header"}
+	}
+	start := 2
+	if flg&0x20 != 0 {
+		// A preset dictionary: none is given, so only the identifier of the
+		// empty dictionary (its Adler-32, 1) can be satisfied, as in
+		// compress/zlib.
+		if len(src) < 6 {
+			return Result{}, ErrTruncated
+		}
+		if binary.BigEndian.Uint32(src[2:]) != 1 {
+			return Result{}, &CorruptError{2, "stream needs a preset dictionary"}
+		}
+		start = 6
+	}
+	d := decoder{in: src, pos: start, out: dst, step: max(step, 1), progress: progress}
+	d.nextReport = d.step
+	if err := d.run(); err != nil {
+		return Result{N: d.n}, err
+	}
+	if progress != nil {
+		progress(d.n)
+	}
+	end := d.pos
+	if end+4 > len(src) {
+		return Result{N: d.n}, ErrTruncated
+	}
+	if binary.BigEndian.Uint32(src[end:]) != Adler32(dst[:d.n]) {
+		return Result{N: d.n}, ErrChecksum
+	}
+	return Result{N: d.n, Used: end + 4}, nil
+}
+
+// decoder is the state of one DEFLATE stream.
+type decoder struct {
+	in   []byte
+	pos  int    // next input byte not yet in bits
+	bits uint64 // input bits, least significant first; bits above nb are zero or the next input bits
+	nb   uint   // number of valid bits in bits
+
+	out []byte
+	n   int // output bytes written
+
+	step, nextReport int
+	progress         func(int)
+
+	lit, dist, clen *table
+	lengths         [286 + 30]uint8
+}
+
+// refill tops the bit buffer up to at least 56 bits, or to all the input
+// that is left.
+func (d *decoder) refill() {
+	if d.pos+8 <= len(d.in) {
+		d.bits |= binary.LittleEndian.Uint64(d.in[d.pos:]) << d.nb
+		d.pos += int(63-d.nb) >> 3
+		d.nb |= 56
+		return
+	}
+	for d.nb <= 56 && d.pos < len(d.in) {
+		d.bits |= uint64(d.in[d.pos]) << d.nb
+		d.pos++
+		d.nb += 8
+	}
+}
+
+// take removes and returns the next n ≤ 32 bits.
+func (d *decoder) take(n uint) (uint32, error) {
+	if d.nb < n {
+		d.refill()
+		if d.nb < n {
+			return 0, ErrTruncated
+		}
+	}
+	v := uint32(d.bits & (1<<n - 1))
+	d.bits >>= n
+	d.nb -= n
+	return v, nil
+}
+
+// align drops the bits up to the next byte boundary and gives the whole
+// bytes still in the buffer back to the input.
+func (d *decoder) align() {
+	d.pos -= int(d.nb >> 3)
+	d.bits, d.nb = 0, 0
+}
+
+func (d *decoder) corrupt(what string) error {
+	return &CorruptError{Offset: d.pos - int(d.nb>>3), What: what}
+}
+
+// run decodes blocks until the last one (RFC 1951, section 3.2.3) and
+// leaves pos at the byte after it.
+func (d *decoder) run() error {
+	for {
+		head, err := d.take(3)
+		if err != nil {
+			return err
+		}
+		switch head >> 1 {
+		case 0:
+			err = d.stored()
+		case 1:
+			err = d.huffman(fixedLit, fixedDist)
+		case 2:
+			if err = d.readCodes(); err == nil {
+				err = d.huffman(d.lit, d.dist)
+			}
+		default:
+			err = d.corrupt("invalid block type")
+		}
+		if err != nil {
+			return err
+		}
+		if head&1 != 0 {
+			d.align()
+			return nil
+		}
+	}
+}
+
+// stored copies a block of uncompressed data (section 3.2.4).
+func (d *decoder) stored() error {
+	d.align()
+	if d.pos+4 > len(d.in) {
+		return ErrTruncated
+	}
+	n := int(binary.LittleEndian.Uint16(d.in[d.pos:]))
+	if binary.LittleEndian.Uint16(d.in[d.pos+2:]) != ^uint16(n) {
+		return d.corrupt("stored block length and its complement disagree")
+	}
+	d.pos += 4
+	if d.n+n > len(d.out) {
+		return ErrTooLong
+	}
+	if d.pos+n > len(d.in) {
+		return ErrTruncated
+	}
+	copy(d.out[d.n:], d.in[d.pos:d.pos+n])
+	d.pos += n
+	d.n += n
+	d.report()
+	return nil
+}
+
+// report calls progress when step more bytes are final.
+func (d *decoder) report() {
+	if d.n >= d.nextReport {
+		if d.progress != nil {
+			d.progress(d.n)
+		}
+		d.nextReport = d.n + d.step
+	}
+}
+
+// clenOrder is the order in which code-length code lengths are sent
+// (section 3.2.7).
+var clenOrder = [19]uint8{16, 17, 18, 0, 8, 7, 9, 6, 10, 5, 11, 4, 12, 3, 13, 2, 14, 1, 15}
+
+// readCodes reads a dynamic block's code lengths and builds its tables
+// (section 3.2.7).
+func (d *decoder) readCodes() error {
+	if d.lit == nil {
+		d.lit, d.dist, d.clen = newTable(litRootBits), newTable(distRootBits), newTable(clenRootBits)
+	}
+	h, err := d.take(14)
+	if err != nil {
+		return err
+	}
+	nlit, ndist, nclen := int(h&0x1f)+257, int(h>>5&0x1f)+1, int(h>>10)+4
+	if nlit > 286 || ndist > 30 {
+		return d.corrupt(fmt.Sprintf("%d literal/length or %d distance codes", nlit, ndist))
+	}
+	var cl [19]uint8
+	for _, s := range clenOrder[:nclen] {
+		v, err := d.take(3)
+		if err != nil {
+			return err
+		}
+		cl[s] = uint8(v)
+	}
+	if !d.clen.build(cl[:], clenMeaning[:]) {
+		return d.corrupt("invalid code-length code")
+	}
+	lengths := d.lengths[:nlit+ndist]
+	if err := d.readLengths(lengths); err != nil {
+		return err
+	}
+	if !d.lit.build(lengths[:nlit], litMeaning[:]) {
+		return d.corrupt("invalid literal/length code lengths")
+	}
+	if !d.dist.build(lengths[nlit:], distMeaning[:]) {
+		return d.corrupt("invalid distance code lengths")
+	}
+	return nil
+}
+
+// readLengths decodes the code lengths with the code-length code: 0–15
+// literally, 16 repeats the previous length 3–6 times, 17 and 18 repeat
+// zero 3–10 and 11–138 times.
+func (d *decoder) readLengths(lengths []uint8) error {
+	for i := 0; i < len(lengths); {
+		sym, err := d.symbol(d.clen)
+		if err != nil {
+			return err
+		}
+		if sym < 16 {
+			lengths[i] = uint8(sym)
+			i++
+			continue
+		}
+		var rep uint32
+		var v uint8
+		switch sym {
+		case 16:
+			if i == 0 {
+				return d.corrupt("repeat of a code length before the first")
+			}
+			v = lengths[i-1]
+			rep, err = d.take(2)
+			rep += 3
+		case 17:
+			rep, err = d.take(3)
+			rep += 3
+		default:
+			rep, err = d.take(7)
+			rep += 11
+		}
+		if err != nil {
+			return err
+		}
+		if i+int(rep) > len(lengths) {
+			return d.corrupt("code length repeat past the last code")
+		}
+		for range rep {
+			lengths[i] = v
+			i++
+		}
+	}
+	return nil
+}
+
+// symbol decodes one symbol of a code whose entries carry the symbol as
+// their value and no extra bits.
+func (d *decoder) symbol(t *table) (uint32, error) {
+	if d.nb < maxCodeLength {
+		d.refill()
+	}
+	e := t.lookup(d.bits)
+	if entryKind(e) == kindInvalid {
+		return 0, d.invalidCode(e)
+	}
+	n := entryLen(e)
+	if n > d.nb {
+		return 0, ErrTruncated
+	}
+	d.bits >>= n
+	d.nb -= n
+	return entryValue(e), nil
+}
+
+// invalidCode is the error for bits that decode to no symbol, or to a
+// symbol DEFLATE does not define; running out of input first is
+// truncation.
+func (d *decoder) invalidCode(e uint32) error {
+	if n := entryLen(e); (n > 0 && n <= d.nb) || (n == 0 && d.nb >= maxCodeLength) || d.pos < len(d.in) {
+		return d.corrupt("invalid Huffman code")
+	}
+	return ErrTruncated
+}
