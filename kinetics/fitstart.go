@@ -4,7 +4,6 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/mat"
-	"gonum.org/v1/gonum/mathext"
 )
 
 // linearStart returns the linear least-squares fit of the coordinates to
@@ -85,7 +84,7 @@ func (f *fitter) linearStart() (x []float64, ok bool) {
 			add(gI.plus(2, gG), y-(lk+lnI+2*lnG+3*math.Log(ps.duration)), f.sc)
 		}
 		if di >= 0 {
-			lnP := math.Log(mathext.GammaIncReg(1.0/3, math.Exp(y)))
+			lnP := math.Log(gammaIncThird(math.Exp(y)))
 			alpha := 2.0/3*(lnI-lnG) - lk/3 + math.Log(gamma43) + lnP
 			add(gI.scaled(2.0/3).plus(-2.0/3, gG), f.rows[di].y-alpha, f.sd)
 		}

@@ -272,16 +272,28 @@ func (f *fitter) jacobian(J *mat.Dense, x []float64) {
 // gradients with respect to v along each coordinate's direction, plus
 // the direct derivatives dc, dn along the coordinates (nil: none).
 func (f *fitter) setRows(J *mat.Dense, rows [2]int, gc, gn *fitVec, dc, dn []float64) {
-	for j, c := range f.coords {
-		a, b := gc.dot(c.dir), gn.dot(c.dir)
-		if dc != nil {
-			a, b = a+dc[j], b+dn[j]
+	var jc, jn []float64
+	if r := rows[0]; r >= 0 {
+		jc = J.RawRowView(r)
+	}
+	if r := rows[1]; r >= 0 {
+		jn = J.RawRowView(r)
+	}
+	for j := range f.coords {
+		dir := &f.coords[j].dir
+		if jc != nil {
+			a := gc.dot(*dir)
+			if dc != nil {
+				a += dc[j]
+			}
+			jc[j] = -a / f.sc
 		}
-		if r := rows[0]; r >= 0 {
-			J.Set(r, j, -a/f.sc)
-		}
-		if r := rows[1]; r >= 0 {
-			J.Set(r, j, -b/f.sd)
+		if jn != nil {
+			b := gn.dot(*dir)
+			if dn != nil {
+				b += dn[j]
+			}
+			jn[j] = -b / f.sd
 		}
 	}
 }

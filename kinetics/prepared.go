@@ -4,8 +4,6 @@ import (
 	"fmt"
 	"math"
 
-	"gonum.org/v1/gonum/mathext"
-
 	"github.com/foilrun/foilrun/recipe/gas"
 )
 
@@ -179,7 +177,7 @@ func closedForm(kappa, lnI, lnG, t float64) (X, N, dI, dG float64) {
 	}
 	lnc := math.Log(kappa/3) + lnI + 2*lnG
 	X = closedX(kappa, lnI, lnG, t)
-	P := mathext.GammaIncReg(1.0/3, X)
+	P := gammaIncThird(X)
 	N = math.Exp(lnI-lnc/3) * gamma43 * P
 	D := 0.0
 	if P > 0 {

@@ -247,7 +247,15 @@ func fitRun(ctx context.Context, opts *fitOptions) error {
 	for i, o := range obs {
 		codes[i] = o.Label
 	}
-	out := fitJSON(res, codes)
+	shown := res
+	if opts.output != formatJSON {
+		// The table shows the worst few (the CSV none): round and label only those.
+		cut := *res
+		cut.Residuals = res.Residuals[:min(len(res.Residuals), shownResiduals)]
+		shown = &cut
+	}
+	out := fitJSON(shown, codes)
+	out.residualCount = len(res.Residuals)
 	out.Seconds = fitSecondsJSON{Load: load.Seconds(), Fit: fitTime.Seconds()}
 	out.addConditions(opts.conds, col)
 	switch opts.output {
@@ -372,6 +380,9 @@ type fitResultJSON struct {
 	// Seconds is where the command's time went: reading the log into
 	// observations, and the fit itself.
 	Seconds fitSecondsJSON `json:"seconds"`
+	// residualCount is len(Residuals) before the table's cut (see
+	// shownResiduals).
+	residualCount int
 }
 
 // fitSecondsJSON is fit's own timing, wall-clock seconds.
@@ -399,6 +410,7 @@ func fitJSON(res *kinetics.FitResult, codes []string) fitResultJSON {
 		}
 		out.Correlation = append(out.Correlation, r)
 	}
+	out.Residuals = make([]fitResidualJSON, 0, len(res.Residuals))
 	for _, r := range res.Residuals {
 		j := fitResidualJSON{Run: r.Label, Metric: r.Metric, Measured: round6(r.Measured), Predicted: round6(r.Predicted), Residual: round6(r.Raw), Weighted: round6(r.Weighted)}
 		if r.Metric == "nuclei_density" {
@@ -440,6 +452,10 @@ func corrText(v *float64) string {
 	return fixed(*v, 4)
 }
 
+// shownResiduals is how many residuals the table shows (worst first);
+// --output csv|json lists them all.
+const shownResiduals = 15
+
 func printFit(w io.Writer, r fitResultJSON) error {
 	fmt.Fprintf(w, "fit of %d runs: %d measurements, %d free parameters; %s after %d iterations\n", len(r.Runs), r.Measurements, r.FreeParameters, r.Status, r.Iterations)
 	fmt.Fprintln(w, r.conditionsLine())
@@ -464,9 +480,8 @@ func printFit(w io.Writer, r fitResultJSON) error {
 	}
 	heading(w, "Residuals, worst first")
 	t := table{Header: []string{"run", "metric", "measured", "predicted", "unit", "residual", "weighted", "conditions"}, Numeric: []bool{false, false, true, true, false, true, true, false}}
-	const shown = 15 // on screen; --output csv|json lists them all
 	for i, e := range r.Residuals {
-		if i == shown {
+		if i == shownResiduals {
 			break
 		}
 		t.add(e.Run, e.Metric, num(e.Measured, 4), num(e.Predicted, 4), e.Unit, num(e.Residual, 3), num(e.Weighted, 3), e.Conditions)
@@ -474,8 +489,8 @@ func printFit(w io.Writer, r fitResultJSON) error {
 	if err := writeTable(w, t); err != nil {
 		return err
 	}
-	if len(r.Residuals) > shown {
-		fmt.Fprintf(w, "the %d worst of %d residuals; --output csv or json lists all\n", shown, len(r.Residuals))
+	if r.residualCount > shownResiduals {
+		fmt.Fprintf(w, "the %d worst of %d residuals; --output csv or json lists all\n", shownResiduals, r.residualCount)
 	}
 	fmt.Fprintln(w, "residual: measured − predicted on the fit scale (cloglog coverage, ln density)")
 	for _, s := range r.Warnings {

@@ -43,7 +43,7 @@ func (s *DB) FitRuns(ctx context.Context, f store.Filter, metrics []string, pk s
 	// the chunk's profiles in the same order and k counts them out.
 	var profs [][]byte
 	k := 0
-	return inChunks(f.Limit, func(last int64, n int) ([]*store.RunRecord, []int64, error) {
+	return inChunks(fitChunk, f.Limit, func(last int64, n int) ([]*store.RunRecord, []int64, error) {
 		recs, ids, ps, err := s.fitRuns(ctx, q, qs, append(args, last, n))
 		if err == nil && len(recs) > 0 {
 			err = s.fitChildren(ctx, q, ids, recs, margs, marks)
@@ -55,6 +55,12 @@ func (s *DB) FitRuns(ctx context.Context, f store.Filter, metrics []string, pk s
 		return each(r, profs[k-1])
 	})
 }
+
+// fitChunk is how many runs FitRuns reads per round of queries: its
+// records are narrow (a few hundred bytes with the profile), so a lab's
+// whole log is usually one round (each round repeats the outcome
+// subquery of the filter).
+const fitChunk = 10000
 
 // profileJoin returns the profile column of FitRuns' run query, the join
 // that gives it and the join's arguments: the profile of pk.Version on

@@ -313,7 +313,7 @@ func (s *DB) export(ctx context.Context, q Querier, cond string, args []any, lim
 		w += " AND (" + cond + ")"
 	}
 	qs := s.d.Rebind(runSelect + w + " ORDER BY r.id LIMIT ?")
-	return inChunks(limit, func(last int64, n int) ([]*store.RunRecord, []int64, error) {
+	return inChunks(exportChunk, limit, func(last int64, n int) ([]*store.RunRecord, []int64, error) {
 		recs, ids, err := s.readRuns(ctx, q, qs, append(append([]any{last}, args...), n))
 		if err == nil && len(recs) > 0 {
 			err = s.readChildren(ctx, q, ids, recs)
@@ -323,12 +323,12 @@ func (s *DB) export(ctx context.Context, q Querier, cond string, args []any, lim
 }
 
 // inChunks calls each for the runs read chunk by chunk in id order: read
-// returns at most n runs (with their ids) after the id last, filled in;
-// limit > 0 stops after that many runs.
-func inChunks(limit int, read func(last int64, n int) ([]*store.RunRecord, []int64, error), each func(store.RunRecord) error) error {
+// returns at most n ≤ chunk runs (with their ids) after the id last,
+// filled in; limit > 0 stops after that many runs.
+func inChunks(chunk, limit int, read func(last int64, n int) ([]*store.RunRecord, []int64, error), each func(store.RunRecord) error) error {
 	last, sent := int64(math.MinInt64), 0
 	for {
-		n := exportChunk
+		n := chunk
 		if limit > 0 {
 			n = min(n, limit-sent)
 		}

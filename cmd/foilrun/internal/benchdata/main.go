@@ -4,6 +4,8 @@
 //	benchdata micrograph OUT.png     a 4096×4096 8-bit micrograph (demolab.Micrograph)
 //	benchdata runlog OUT.db          the 100,000-run benchmark log (storetest.BenchBundle) in SQLite
 //	benchdata runlog postgres://…    the same log in a PostgreSQL database
+//	benchdata fitlog DIR             a demo lab in DIR and its 5,000-run fit log DIR/fit.db (fitlog.Bundle)
+//	benchdata observations DB OUT    the observations fit fits on DB (its default settings) as CSV, for the scipy reference
 //
 // It is a tool for the benchmark script, not part of foilrun.
 package main
@@ -23,8 +25,8 @@ import (
 )
 
 func main() {
-	if len(os.Args) != 3 {
-		fmt.Fprintln(os.Stderr, "usage: benchdata micrograph OUT.png | benchdata runlog OUT.db|postgres://URL")
+	if len(os.Args) < 3 {
+		fmt.Fprintln(os.Stderr, "usage: benchdata micrograph OUT.png | runlog OUT.db|postgres://URL | fitlog DIR | observations DB OUT.csv")
 		os.Exit(2)
 	}
 	var err error
@@ -33,8 +35,16 @@ func main() {
 		err = writeMicrograph(os.Args[2])
 	case "runlog":
 		err = writeRunLog(context.Background(), os.Args[2])
+	case "fitlog":
+		err = writeFitLog(context.Background(), os.Args[2])
+	case "observations":
+		if len(os.Args) != 4 {
+			err = fmt.Errorf("observations needs the run log and the CSV file to write")
+			break
+		}
+		err = writeObservations(context.Background(), os.Args[2], os.Args[3])
 	default:
-		err = fmt.Errorf("unknown data %q: want micrograph or runlog", os.Args[1])
+		err = fmt.Errorf("unknown data %q: want micrograph, runlog, fitlog or observations", os.Args[1])
 	}
 	if err != nil {
 		fmt.Fprintln(os.Stderr, "benchdata:", err)

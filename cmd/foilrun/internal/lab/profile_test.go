@@ -8,6 +8,7 @@ import (
 	"reflect"
 	"testing"
 
+	"github.com/foilrun/foilrun/cmd/foilrun/internal/benchdata/fitlog"
 	"github.com/foilrun/foilrun/cmd/foilrun/internal/demolab"
 	"github.com/foilrun/foilrun/kinetics"
 	"github.com/foilrun/foilrun/recipe"
@@ -32,7 +33,7 @@ func TestCollectProfilesFitAsRebuilt(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	bundle, err := benchBundle(paths, 600)
+	bundle, err := fitlog.Bundle(paths, 600)
 	if err != nil {
 		t.Fatal(err)
 	}
