@@ -139,15 +139,23 @@ type fitView struct {
 	Iterations int
 }
 
-func (s *Server) fitPage(w http.ResponseWriter, r *http.Request) {
+// fitRequest reads a /fit request and gives its fit, or answers the
+// error and returns false.
+func (s *Server) fitRequest(w http.ResponseWriter, r *http.Request) (fitQuery, *fitted, bool) {
 	fq, err := readFit(r.URL.Query())
-	if err != nil {
-		s.answerError(w, r, err)
-		return
+	if err == nil {
+		var f *fitted
+		if f, err = s.fit(r, fq); err == nil {
+			return fq, f, true
+		}
 	}
-	f, err := s.fit(r, fq)
-	if err != nil {
-		s.answerError(w, r, err)
+	s.answerError(w, r, err)
+	return fq, nil, false
+}
+
+func (s *Server) fitPage(w http.ResponseWriter, r *http.Request) {
+	fq, f, ok := s.fitRequest(w, r)
+	if !ok {
 		return
 	}
 	v := fitView{Metric: fq.text, Metrics: options([]string{"both", kinetics.MetricCoverage, kinetics.MetricNucleiDensity}, fq.text),
@@ -208,14 +216,8 @@ func combinedTable(cs []kinetics.Combined) table {
 }
 
 func (s *Server) fitParity(w http.ResponseWriter, r *http.Request) {
-	fq, err := readFit(r.URL.Query())
-	if err != nil {
-		s.answerError(w, r, err)
-		return
-	}
-	f, err := s.fit(r, fq)
-	if err != nil {
-		s.answerError(w, r, err)
+	_, f, ok := s.fitRequest(w, r)
+	if !ok {
 		return
 	}
 	if f.err != nil {

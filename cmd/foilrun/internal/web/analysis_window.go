@@ -234,20 +234,26 @@ type windowView struct {
 	PointsOutside int
 }
 
-func (s *Server) windowPage(w http.ResponseWriter, r *http.Request) {
+// windowRequest reads a /window request and gives its map and the logged
+// runs to draw on it, or answers the error and returns false.
+func (s *Server) windowRequest(w http.ResponseWriter, r *http.Request) (windowQuery, windowMap, []chart.MapPoint, bool) {
 	wq, err := readWindow(r.URL.Query())
-	if err != nil {
-		s.answerError(w, r, err)
-		return
+	if err == nil {
+		var wm windowMap
+		if wm, err = s.window(r.Context(), wq); err == nil {
+			var pts []chart.MapPoint
+			if pts, err = s.loggedPoints(r.Context(), wq); err == nil {
+				return wq, wm, pts, true
+			}
+		}
 	}
-	wm, err := s.window(r.Context(), wq)
-	if err != nil {
-		s.answerError(w, r, err)
-		return
-	}
-	pts, err := s.loggedPoints(r.Context(), wq)
-	if err != nil {
-		s.answerError(w, r, err)
+	s.answerError(w, r, err)
+	return wq, windowMap{}, nil, false
+}
+
+func (s *Server) windowPage(w http.ResponseWriter, r *http.Request) {
+	wq, wm, pts, ok := s.windowRequest(w, r)
+	if !ok {
 		return
 	}
 	m := wm.m
@@ -291,19 +297,8 @@ func inside(p chart.MapPoint, hm chart.HeatMap) bool {
 }
 
 func (s *Server) windowSVG(w http.ResponseWriter, r *http.Request) {
-	wq, err := readWindow(r.URL.Query())
-	if err != nil {
-		s.answerError(w, r, err)
-		return
-	}
-	wm, err := s.window(r.Context(), wq)
-	if err != nil {
-		s.answerError(w, r, err)
-		return
-	}
-	pts, err := s.loggedPoints(r.Context(), wq)
-	if err != nil {
-		s.answerError(w, r, err)
+	wq, wm, pts, ok := s.windowRequest(w, r)
+	if !ok {
 		return
 	}
 	hm := chart.WindowMap(wm.m, wq.show)
