@@ -293,6 +293,17 @@ func pointsInside(pts []MapPoint, x0, x1, y0, y1 float64) plotter.XYs {
 	return in
 }
 
+// Covered counts the points that fall on the map: within its outer cell
+// edges, where WriteHeatMap draws them (the rest are counted "off map"
+// in its legend).
+func (m HeatMap) Covered(pts []MapPoint) int {
+	if len(m.X) == 0 || len(m.Y) == 0 {
+		return 0
+	}
+	xs, ys := edges(m.X), edges(m.Y)
+	return len(pointsInside(pts, xs[0], xs[len(xs)-1], ys[0], ys[len(ys)-1]))
+}
+
 // pointsLegend is the legend text of the points: the label and how many
 // are drawn, with how many were outside the map.
 func pointsLegend(label string, drawn, all int) string {

@@ -77,6 +77,9 @@ func TestHeatMapPoints(t *testing.T) {
 			if paths != want {
 				t.Errorf("got %d ring paths, want %d", paths, want)
 			}
+			if got := m.Covered(tc.points); got != tc.rings {
+				t.Errorf("Covered: got %d, want the %d rings drawn", got, tc.rings)
+			}
 			all := strings.Join(texts, "|")
 			if tc.legend != "" && !strings.Contains(all, tc.legend) {
 				t.Errorf("got texts %q, want the legend entry %q", all, tc.legend)

@@ -204,8 +204,11 @@ func (s *Server) loggedPoints(ctx context.Context, wq windowQuery) ([]chart.MapP
 		return nil, err
 	}
 	display := func(a kinetics.Axis, v float64, unit string) float64 {
+		if math.IsNaN(v) {
+			return v // the run lacks the parameter: left off the map
+		}
 		q, err := recipe.Parse(strconv.FormatFloat(v, 'g', -1, 64)+" "+unit, a.Dim)
-		if err != nil || math.IsNaN(v) {
+		if err != nil {
 			return math.NaN()
 		}
 		return a.Display(q.SI)
@@ -219,19 +222,17 @@ func (s *Server) loggedPoints(ctx context.Context, wq windowQuery) ([]chart.MapP
 
 // windowView is the data of pages/window.html.
 type windowView struct {
-	Recipe, Show  string
-	Vary          [2]string
-	Shows         []option
-	Templates     []string
-	Where         []string
-	Label         string
-	Summary       string
-	Rules         []string // the checks that made points infeasible
-	Figure        string
-	MaxPoints     int
-	NotPredicted  string
-	PointsDrawn   int
-	PointsOutside int
+	Recipe       string
+	Vary         [2]string
+	Shows        []option
+	Templates    []string
+	Where        []string
+	Label        string
+	Summary      string
+	Rules        []string // the checks that made points infeasible
+	Figure       string
+	MaxPoints    int
+	NotPredicted string
 }
 
 // windowRequest reads a /window request and gives its map and the logged
@@ -257,7 +258,7 @@ func (s *Server) windowPage(w http.ResponseWriter, r *http.Request) {
 		return
 	}
 	m := wm.m
-	v := windowView{Recipe: wq.recipe, Show: wq.show, Vary: [2]string{wq.vary[0], wq.vary[1]}, Shows: options(chart.WindowShows, wq.show),
+	v := windowView{Recipe: wq.recipe, Vary: [2]string{wq.vary[0], wq.vary[1]}, Shows: options(chart.WindowShows, wq.show),
 		Templates: recipeTemplates(), Where: append(slices.Clone(wq.where), ""), Label: wm.label, MaxPoints: maxWindowPoints,
 		Figure: "/window.svg?" + r.URL.RawQuery}
 	infeasible, rules := 0, map[string]bool{}
@@ -272,28 +273,15 @@ func (s *Server) windowPage(w http.ResponseWriter, r *http.Request) {
 			}
 		}
 	}
-	hm := chart.WindowMap(m, wq.show)
-	for _, p := range pts {
-		if inside(p, hm) {
-			v.PointsDrawn++
-		}
-	}
-	v.PointsOutside = len(pts) - v.PointsDrawn
+	drawn := chart.WindowMap(m, wq.show).Covered(pts)
 	v.Summary = fmt.Sprintf("%s, step %s: %d × %d points, %d outside the furnace limits; %d logged runs on the map, %d outside its axes",
-		m.Recipe, m.Step, len(m.Xs), len(m.Ys), infeasible, v.PointsDrawn, v.PointsOutside)
+		m.Recipe, m.Step, len(m.Xs), len(m.Ys), infeasible, drawn, len(pts)-drawn)
 	if wq.show != "time_to_99" {
 		if err := kinetics.DefaultParams().Predicts(wq.show); err != nil {
 			v.NotPredicted = err.Error()
 		}
 	}
 	s.render(w, r, http.StatusOK, "window", "Process window", v)
-}
-
-// inside reports whether p falls within the heat map's axes.
-func inside(p chart.MapPoint, hm chart.HeatMap) bool {
-	lo := func(v []float64) float64 { return slices.Min(v) }
-	hi := func(v []float64) float64 { return slices.Max(v) }
-	return p.X >= lo(hm.X) && p.X <= hi(hm.X) && p.Y >= lo(hm.Y) && p.Y <= hi(hm.Y)
 }
 
 func (s *Server) windowSVG(w http.ResponseWriter, r *http.Request) {

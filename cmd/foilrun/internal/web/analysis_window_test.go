@@ -112,14 +112,16 @@ func testWindowPageIsTheLibrarys(t *testing.T) {
 		t.Errorf("a grid to 1100 °C and 30 sccm crosses no furnace limit of the template furnace; widen it so the test sees blocked cells")
 	}
 	// Every demo run has a coverage, a grow temperature and a CH4 flow;
-	// those within 900–1100 °C and 0.5–30 sccm are on the map.
+	// those within the map's outer cell edges are on it: half a step
+	// beyond the first and last grid values: 887.5–1112.5 °C (step 25 °C)
+	// and 0.5 − 29.5/12 to 30 + 29.5/12 sccm (step 29.5/6 sccm).
 	pk, err := lab.TwinSamples(context.Background(), l, store.Filter{}, "coverage", []string{"growth_temperature_c", "ch4_flow_sccm"}, lab.Logged)
 	if err != nil {
 		t.Fatal(err)
 	}
 	on := 0
 	for _, s := range pk.Samples {
-		if s.Params[0] >= 900 && s.Params[0] <= 1100 && s.Params[1] >= 0.5 && s.Params[1] <= 30 {
+		if s.Params[0] >= 887.5 && s.Params[0] <= 1112.5 && s.Params[1] >= 0.5-29.5/12 && s.Params[1] <= 30+29.5/12 {
 			on++
 		}
 	}
