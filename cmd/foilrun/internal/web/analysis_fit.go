@@ -111,12 +111,13 @@ func (s *Server) fit(r *http.Request, fq fitQuery) (*fitted, error) {
 
 // observationsDigest is a SHA-256 of everything the fit sees: the
 // request's choices and each observation's code, measured values,
-// conditions and prepared profile.
+// conditions and profile (the rest of a Prepared follows from the profile
+// and the fixed start parameters).
 func observationsDigest(fq fitQuery, col lab.Observations) [32]byte {
 	h := sha256.New()
 	fmt.Fprintf(h, "%v %v %d\n", fq.metrics, fq.src, len(col.Observations))
 	for i, o := range col.Observations {
-		fmt.Fprintf(h, "%s %x %x %v %v\n", o.Label, math.Float64bits(o.Coverage), math.Float64bits(o.NucleiDensity), col.Logged[i], *o.Prepared)
+		fmt.Fprintf(h, "%s %x %x %v %v\n", o.Label, math.Float64bits(o.Coverage), math.Float64bits(o.NucleiDensity), col.Logged[i], o.Prepared.Profile)
 	}
 	var out [32]byte
 	h.Sum(out[:0])
@@ -125,18 +126,16 @@ func observationsDigest(fq fitQuery, col lab.Observations) [32]byte {
 
 // fitView is the data of pages/fit.html.
 type fitView struct {
-	Metric     string
-	Metrics    []option
-	Planned    bool
-	Message    string // why there is no fit
-	Summary    string
-	Estimates  table
-	Combined   table
-	Skipped    []string
-	Figure     string
-	Warnings   []string
-	Reference  string // T_ref
-	Iterations int
+	Metrics   []option
+	Planned   bool
+	Message   string // why there is no fit
+	Summary   string
+	Estimates table
+	Combined  table
+	Skipped   []string
+	Figure    string
+	Warnings  []string
+	Reference string // T_ref
 }
 
 // fitRequest reads a /fit request and gives its fit, or answers the
@@ -158,7 +157,7 @@ func (s *Server) fitPage(w http.ResponseWriter, r *http.Request) {
 	if !ok {
 		return
 	}
-	v := fitView{Metric: fq.text, Metrics: options([]string{"both", kinetics.MetricCoverage, kinetics.MetricNucleiDensity}, fq.text),
+	v := fitView{Metrics: options([]string{"both", kinetics.MetricCoverage, kinetics.MetricNucleiDensity}, fq.text),
 		Planned: fq.src == lab.Planned}
 	for i, sk := range f.col.Skipped {
 		if i == maxSkippedShown {
