@@ -55,7 +55,6 @@ func testFitPage(t *testing.T) {
 		t.Fatal(err)
 	}
 	srv, c := testServer(t, l, Config{})
-	_ = srv
 	direct := func(path string) (int, string) { return get(t, c, srv.URL+path) }
 	status, page := direct("/fit")
 	if status != 200 {

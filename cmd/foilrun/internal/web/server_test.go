@@ -114,11 +114,7 @@ func TestRoutes(t *testing.T) { backends(t, testRoutes) }
 func testRoutes(t *testing.T) {
 	l, codes := testLog(t, 3)
 	srv, c := testServer(t, l, Config{})
-	tests := []struct {
-		name, method, path string
-		want               int
-		body               string // a substring the page must hold
-	}{
+	checkRoutes(t, srv, c, "default-src 'self'", []route{
 		{"runs", "GET", "/runs", 200, codes[2]},
 		{"root goes to runs", "GET", "/", 303, ""},
 		{"runs filtered", "GET", "/runs?where=" + url.QueryEscape("growth_temperature_c >= 900"), 200, codes[0]},
@@ -133,8 +129,21 @@ func testRoutes(t *testing.T) {
 		{"note by GET", "GET", "/runs/" + codes[0] + "/notes", 405, ""},
 		{"stylesheet", "GET", "/static/style.css", 200, "{"},
 		{"no such static file", "GET", "/static/nothing.css", 404, ""},
-	}
-	for _, tt := range tests {
+	})
+}
+
+// route is one request of a route table and what its answer must hold.
+type route struct {
+	name, method, path string
+	want               int
+	body               string // a substring the answer must hold
+}
+
+// checkRoutes sends each request of routes to srv with c and checks the
+// status and body; with csp not empty, also the Content-Security-Policy.
+func checkRoutes(t *testing.T, srv *httptest.Server, c *http.Client, csp string, routes []route) {
+	t.Helper()
+	for _, tt := range routes {
 		t.Run(tt.name, func(t *testing.T) {
 			req, _ := http.NewRequest(tt.method, srv.URL+tt.path, nil)
 			resp, err := c.Do(req)
@@ -147,10 +156,10 @@ func testRoutes(t *testing.T) {
 				t.Fatalf("%s %s: got %d, want %d\n%s", tt.method, tt.path, resp.StatusCode, tt.want, b)
 			}
 			if !strings.Contains(string(b), tt.body) {
-				t.Errorf("%s %s: body lacks %q", tt.method, tt.path, tt.body)
+				t.Errorf("%s %s: the answer lacks %q:\n%.2000s", tt.method, tt.path, tt.body, b)
 			}
-			if csp := resp.Header.Get("Content-Security-Policy"); csp != "default-src 'self'" {
-				t.Errorf("Content-Security-Policy: got %q, want default-src 'self'", csp)
+			if got := resp.Header.Get("Content-Security-Policy"); csp != "" && got != csp {
+				t.Errorf("%s %s: Content-Security-Policy %q, want %q", tt.method, tt.path, got, csp)
 			}
 		})
 	}
