@@ -1,13 +1,14 @@
 package kinetics
 
 import (
-	"cmp"
 	"fmt"
 	"math"
 	"slices"
 	"strings"
 
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/foilrun/foilrun/kinetics/internal/lm"
 )
 
 // result reports the fit at x: estimates with standard errors, the
@@ -145,8 +146,8 @@ func (f *fitter) covariance(res *FitResult) (cov *mat.Dense, singular bool) {
 // D = diag(√(JᵀJ)ᵢᵢ) (1 for an all-zero column), and D's diagonal.
 func scaledGram(J *mat.Dense) (*mat.SymDense, []float64) {
 	_, p := J.Dims()
-	var A mat.SymDense
-	A.SymOuterK(1, J.T())
+	A := mat.NewSymDense(p, nil)
+	lm.Normal(A, nil, J, nil)
 	scale := make([]float64, p)
 	S := mat.NewSymDense(p, nil)
 	for j := range p {
@@ -354,19 +355,27 @@ func (f *fitter) residualList(x, r []float64) []Residual {
 			}
 		}
 	}
+	// The key orders as |r| does: the IEEE 754 bits of a non-negative
+	// float64 order as its value, +1 so that a NaN (key 0) comes last.
 	type key struct {
-		abs float64
+		abs uint64
 		row int
 	}
 	keys := make([]key, len(f.rows))
 	for i := range keys {
-		keys[i] = key{math.Abs(r[i]), i}
+		keys[i] = key{0, i}
+		if a := math.Abs(r[i]); !math.IsNaN(a) {
+			keys[i].abs = math.Float64bits(a) + 1
+		}
 	}
 	slices.SortFunc(keys, func(a, b key) int {
-		if c := cmp.Compare(b.abs, a.abs); c != 0 {
-			return c
+		if a.abs != b.abs {
+			if a.abs > b.abs {
+				return -1
+			}
+			return 1
 		}
-		return cmp.Compare(a.row, b.row)
+		return a.row - b.row
 	})
 	out := make([]Residual, len(keys))
 	for n, kk := range keys {

@@ -200,6 +200,7 @@ func (f *fitter) coordinates(coverageOnly bool) {
 	}
 	f.coords = cs
 	f.slots = [2]valueSlot{} // values at x depend on the coordinates
+	f.ctab = nil
 	f.x0 = make([]float64, len(cs))
 	f.base = f.v0
 	for j, c := range cs {

@@ -50,38 +50,40 @@ import (
 //
 // (Volume and page numbers from memory.)
 func (f *fitter) linearStart() (x []float64, ok bool) {
-	var M mat.SymDense
-	M.ReuseAsSym(nFit)
+	var m [nFit][nFit]float64 // upper triangle of M
 	var q fitVec
 	rows := 0
 	add := func(g fitVec, y, sigma float64) {
+		w := 1 / (sigma * sigma)
 		for a := range nFit {
-			q[a] += g[a] * y / (sigma * sigma)
+			if g[a] == 0 {
+				continue
+			}
+			q[a] += g[a] * y * w
 			for b := a; b < nFit; b++ {
-				M.SetSym(a, b, M.At(a, b)+g[a]*g[b]/(sigma*sigma))
+				m[a][b] += g[a] * g[b] * w
 			}
 		}
 		rows++
 	}
 	eps := f.s.Epsilon
+	t := f.closedTable()
 	for k, o := range f.obs {
-		pr := f.all[o].Prepared
 		ci, di := f.idx[k][0], f.idx[k][1]
-		if pr.Mode != Continuous || !pr.closed() || pr.segs[0].iso.etch || ci < 0 {
+		if !t.grow[k] || ci < 0 {
 			continue
 		}
-		ps := &pr.segs[0]
 		y, theta := f.rows[ci].y, f.all[o].Coverage
-		if theta <= eps || !(ps.duration > 0) {
+		if theta <= eps {
 			continue
 		}
+		pr := f.all[o].Prepared
 		var gI, gG fitVec // ∂ln I/∂v, ∂ln G/∂v
 		pr.channelGrad(0, 1, &gI)
 		pr.channelGrad(1, 1, &gG)
-		lnI, lnG := ps.iso.lnI(&f.base), ps.iso.lnG(&f.base)
-		lk := math.Log(pr.Shape.Kappa() / 3)
+		lnI, lnG, lk := t.aI[k], t.aG[k], t.lk3[k]
 		if theta < 1-eps {
-			add(gI.plus(2, gG), y-(lk+lnI+2*lnG+3*math.Log(ps.duration)), f.sc)
+			add(gI.plus(2, gG), y-(lk+lnI+2*lnG+t.lt3[k]), f.sc)
 		}
 		if di >= 0 {
 			lnP := math.Log(gammaIncThird(math.Exp(y)))
@@ -92,7 +94,13 @@ func (f *fitter) linearStart() (x []float64, ok bool) {
 	if rows <= len(f.coords) {
 		return nil, false
 	}
-	return f.solveLinear(&M, q)
+	M := mat.NewSymDense(nFit, nil)
+	for a := range nFit {
+		for b := a; b < nFit; b++ {
+			M.SetSym(a, b, m[a][b])
+		}
+	}
+	return f.solveLinear(M, q)
 }
 
 // solveLinear solves the normal equations (DᵀMD)·x = Dᵀq of linearStart,

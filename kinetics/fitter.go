@@ -44,6 +44,7 @@ type fitter struct {
 	// the one of the last Jacobian (see values).
 	slots  [2]valueSlot
 	pinned int
+	ctab   *closedRuns // see closedTable
 
 	// The coordinates the minimiser moves (see fitCoord): v = base +
 	// Σ x_j·coords[j].dir, started at x0, bounded by clo, chi.
@@ -126,30 +127,22 @@ func (f *fitter) evaluate(slot *valueSlot, x []float64) {
 	slot.x = append(slot.x[:0], x...)
 	v := f.vec(x)
 	density := f.hasDensity()
+	t := f.closedTable()
 	f.parallel(func(k int) {
-		slot.vals[k] = f.model(f.all[f.obs[k]].Prepared, &v, density)
+		if t.use[k] {
+			slot.vals[k] = t.model(k, x, density, f.xlo, f.xhi)
+			return
+		}
+		slot.vals[k] = f.model(f.all[f.obs[k]].Prepared, &v)
 	})
 	f.evals++
 }
 
-// model evaluates one run at v; N (and its derivatives) only when
-// density is true, for a closed-form run (X alone needs no incomplete
-// gamma function).
-func (f *fitter) model(pr *Prepared, v *fitVec, density bool) runValues {
+// model evaluates one run at v that has no closed form (see
+// closedTable for those).
+func (f *fitter) model(pr *Prepared, v *fitVec) runValues {
 	var rv runValues
-	if pr.closed() {
-		ps := &pr.segs[0]
-		if !ps.iso.etch {
-			lnI, lnG := ps.iso.lnI(v), ps.iso.lnG(v)
-			if density {
-				rv.X, rv.N, rv.dI, rv.dG = closedForm(pr.Shape.Kappa(), lnI, lnG, ps.duration)
-			} else {
-				rv.X = closedX(pr.Shape.Kappa(), lnI, lnG, ps.duration)
-			}
-		}
-	} else {
-		rv.X, rv.N = pr.final(v, nil, -1, math.NaN())
-	}
+	rv.X, rv.N = pr.final(v, nil, -1, math.NaN())
 	rv.c, rv.lnN = f.clogX(rv.X), math.Log(math.Max(rv.N, 1))
 	return rv
 }
@@ -229,14 +222,21 @@ func (f *fitter) jacobian(J *mat.Dense, x []float64) {
 	for _, o := range f.obs {
 		open = open || !f.all[o].Prepared.closed()
 	}
+	t := f.closedTable()
 	f.parallel(func(k int) {
-		pr := f.all[f.obs[k]].Prepared
-		var gc, gn fitVec // ∂(cloglog θ)/∂v, ∂(ln N)/∂v
-		if pr.closed() {
-			f.closedGrad(pr, vals[k], &gc, &gn)
-			f.setRows(J, idx[k], &gc, &gn, nil, nil)
+		if t.use[k] {
+			var jc, jn []float64
+			if r := idx[k][0]; r >= 0 {
+				jc = J.RawRowView(r)
+			}
+			if r := idx[k][1]; r >= 0 {
+				jn = J.RawRowView(r)
+			}
+			t.rows(k, vals[k], f.xlo, f.xhi, f.sc, f.sd, jc, jn)
 			return
 		}
+		pr := f.all[f.obs[k]].Prepared
+		var gc, gn fitVec // ∂(cloglog θ)/∂v, ∂(ln N)/∂v
 		ch := pr.isoChannels(&v, make([]float64, 0, 2*pr.nIso))
 		c0, n0 := vals[k].c, vals[k].lnN
 		for c := range ch {
@@ -296,27 +296,6 @@ func (f *fitter) setRows(J *mat.Dense, rows [2]int, gc, gn *fitVec, dc, dn []flo
 			jn[j] = -b / f.sd
 		}
 	}
-}
-
-// closedGrad gives the analytic gradients of cloglog θ and ln N for a
-// closed-form run (see closedForm) from its values rv: ∂ln X/∂ln I = 1,
-// ∂ln X/∂ln G = 2 inside the clip, 0 outside.
-func (f *fitter) closedGrad(pr *Prepared, rv runValues, gc, gn *fitVec) {
-	if pr.segs[0].iso.etch {
-		return
-	}
-	cI, cG := 1.0, 2.0
-	if rv.X <= f.xlo || rv.X >= f.xhi {
-		cI, cG = 0, 0
-	}
-	dI, dG := rv.dI, rv.dG
-	if rv.N <= 1 {
-		dI, dG = 0, 0
-	}
-	pr.channelGrad(0, cI, gc)
-	pr.channelGrad(1, cG, gc)
-	pr.channelGrad(0, dI, gn)
-	pr.channelGrad(1, dG, gn)
 }
 
 // minimize runs Levenberg–Marquardt (package lm) from x within the bounds

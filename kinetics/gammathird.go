@@ -30,17 +30,26 @@ import "math"
 //
 // (Equation and section numbers from memory.)
 func gammaIncThird(x float64) float64 {
+	P, _ := gammaIncThirdFront(x, math.Log(x))
+	return P
+}
+
+// gammaIncThirdFront returns P(1/3, x) as gammaIncThird does, given also
+// lnx = ln x, and the factor both expansions share, e^(−x)·x^(1/3)/Γ(1/3)
+// (0 at x = 0), which closedForm's derivative D needs as well.
+func gammaIncThirdFront(x, lnx float64) (P, front float64) {
 	const a = 1.0 / 3
 	switch {
 	case math.IsNaN(x) || x < 0:
-		return math.NaN()
+		return math.NaN(), math.NaN()
 	case x == 0:
-		return 0
-	case x >= 37:
-		// Q(a, x) < x^(a−1)·e^(−x)/Γ(a) for a < 1, below 2^−55 here.
-		return 1
+		return 0, 0
 	}
-	front := math.Exp(a*math.Log(x) - x - lgamma13) // e^(−x)·x^a/Γ(a)
+	front = math.Exp(a*lnx - x - lgamma13) // e^(−x)·x^a/Γ(a)
+	if x >= 37 {
+		// Q(a, x) < x^(a−1)·e^(−x)/Γ(a) for a < 1, below 2^−55 here.
+		return 1, front
+	}
 	if x < a+1 {
 		term := 1 / a
 		sum := term
@@ -51,7 +60,7 @@ func gammaIncThird(x float64) float64 {
 				break
 			}
 		}
-		return sum * front
+		return sum * front, front
 	}
 	const tiny = 1e-300
 	b := x + 1 - a
@@ -75,7 +84,7 @@ func gammaIncThird(x float64) float64 {
 			break
 		}
 	}
-	return 1 - front*h
+	return 1 - front*h, front
 }
 
 // thirdPlusInv[n] is 1/(1/3 + n): the series of gammaIncThird multiplies

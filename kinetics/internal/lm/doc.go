@@ -42,8 +42,8 @@
 //   - StepConvergence when a step has ‖Δx‖ ≤
 //     StepTolerance·(‖x‖ + StepTolerance), accepted or not (a rejected
 //     one that short: a larger λ would only shorten it further);
-//   - CostConvergence when an accepted step lowers F by no more than
-//     CostTolerance·F, or F falls below 10⁻³⁰⁰;
+//   - CostConvergence when an accepted step lowers F, or a rejected one
+//     raises it, by no more than CostTolerance·F, or F falls below 10⁻³⁰⁰;
 //   - PrecisionLimit when no step lowers F but max_j |g_j| ≤
 //     StallTolerance·(1 + F): a minimum to working precision;
 //   - Stalled when no step lowers F and the gradient is not small;

@@ -3,6 +3,9 @@ package lm
 import (
 	"fmt"
 	"math"
+	"runtime"
+	"sync"
+	"sync/atomic"
 
 	"gonum.org/v1/gonum/mat"
 )
@@ -34,8 +37,9 @@ type Settings struct {
 	// StepTolerance stops when an accepted step has ‖Δx‖ ≤
 	// StepTolerance·(‖x‖ + StepTolerance), relative; > 0, default 1e-10.
 	StepTolerance float64
-	// CostTolerance stops when an accepted step lowers F by no more than
-	// CostTolerance·F, relative; > 0, default 1e-10.
+	// CostTolerance stops when an accepted step lowers F, or a rejected
+	// one raises it, by no more than CostTolerance·F, relative; > 0,
+	// default 1e-10.
 	CostTolerance float64
 	// StallTolerance: when no step lowers F, the point still counts as
 	// converged (PrecisionLimit) if max|g_j| ≤ StallTolerance·(1 + F);
@@ -195,15 +199,14 @@ func (m *minimizer) run(x0 []float64) Result {
 	cost := dot(r, r) / 2
 	J := mat.NewDense(M, n, nil)
 	m.jacobian(J, x)
-	var A mat.SymDense
+	A := mat.NewSymDense(n, nil)
 	lambda := m.s.InitialDamping
 	nu := 2.0
 	status := IterationLimit
 	g := mat.NewVecDense(n, nil)
 	for it := 1; it <= m.s.MaxIterations; it++ {
 		m.res.Iterations++
-		A.SymOuterK(1, J.T())
-		g.MulVec(J.T(), mat.NewVecDense(M, r))
+		Normal(A, g, J, r)
 		gmax := 0.0
 		for j := range n {
 			gmax = math.Max(gmax, math.Abs(g.AtVec(j)))
@@ -212,9 +215,9 @@ func (m *minimizer) run(x0 []float64) Result {
 			status = GradientConvergence
 			break
 		}
-		st := m.step(&A, g, J, x, r, rn, cost, &lambda, &nu)
-		if !st.accepted && st.status == StepConvergence {
-			status = StepConvergence
+		st := m.step(A, g, J, x, r, rn, cost, &lambda, &nu)
+		if !st.accepted && st.status != 0 {
+			status = st.status
 			break
 		}
 		if !st.accepted {
@@ -239,6 +242,76 @@ func (m *minimizer) run(x0 []float64) Result {
 	return m.res
 }
 
+// Normal sets A = JᵀJ and, when g is not nil, g = Jᵀr: the normal
+// equations of the linear least-squares problem J·Δ ≈ r. It sums only the
+// upper triangle, in one pass over the rows of J (n is a handful of
+// parameters, M thousands of residuals: gonum's general routines spend
+// more on the loop structure than on the products here), in blocks of
+// normalBlock rows on up to GOMAXPROCS goroutines. The blocks are fixed
+// and added in order, so the sums do not depend on the number of
+// goroutines or their timing. A must be n×n.
+func Normal(A *mat.SymDense, g *mat.VecDense, J *mat.Dense, r []float64) {
+	raw := J.RawMatrix()
+	n := raw.Cols
+	w := n*n + n // upper triangle by rows, then g
+	blocks := (raw.Rows + normalBlock - 1) / normalBlock
+	part := make([]float64, max(blocks, 1)*w)
+	sum := func(b int) {
+		acc := part[b*w : b*w+n*n]
+		gv := part[b*w+n*n : (b+1)*w]
+		for i := b * normalBlock; i < min((b+1)*normalBlock, raw.Rows); i++ {
+			row := raw.Data[i*raw.Stride : i*raw.Stride+n]
+			ri := 0.0
+			if r != nil {
+				ri = r[i]
+			}
+			for a, ra := range row {
+				if ra == 0 {
+					continue
+				}
+				gv[a] += ra * ri
+				up := acc[a*n : a*n+n]
+				for c := a; c < n; c++ {
+					up[c] += ra * row[c]
+				}
+			}
+		}
+	}
+	workers := min(runtime.GOMAXPROCS(0), blocks)
+	if workers <= 1 {
+		for b := range blocks {
+			sum(b)
+		}
+	} else {
+		var next atomic.Int64
+		var wg sync.WaitGroup
+		for range workers {
+			wg.Go(func() {
+				for b := int(next.Add(1) - 1); b < blocks; b = int(next.Add(1) - 1) {
+					sum(b)
+				}
+			})
+		}
+		wg.Wait()
+	}
+	for b := 1; b < blocks; b++ {
+		for k, v := range part[b*w : (b+1)*w] {
+			part[k] += v
+		}
+	}
+	for a := range n {
+		if g != nil {
+			g.SetVec(a, part[n*n+a])
+		}
+		for c := a; c < n; c++ {
+			A.SetSym(a, c, part[a*n+c])
+		}
+	}
+}
+
+// normalBlock is the rows of J one block of Normal sums.
+const normalBlock = 2048
+
 // minDampingFactor is the most an accepted step lowers λ by: 1/10, where
 // Nielsen's rule alone stops at 1/3; a good model (ρ near 1) then reaches
 // Gauss–Newton steps in a few iterations instead of many.
@@ -250,7 +323,8 @@ type stepResult struct {
 	cost     float64
 	// status is StepConvergence or CostConvergence, else 0; not accepted
 	// with StepConvergence: the rejected step was already within the step
-	// tolerance (see step).
+	// tolerance, with CostConvergence: it changed the cost by no more
+	// than the cost tolerance (see step).
 	status Status
 }
 
@@ -304,6 +378,12 @@ func (m *minimizer) step(A *mat.SymDense, g *mat.VecDense, J *mat.Dense, x, r, r
 		}
 		if m.small(dx, x) {
 			return stepResult{status: StepConvergence}
+		}
+		// A rejected step that changes F by no more than CostTolerance·F:
+		// the cost no longer changes to the tolerance (the step is lost
+		// in rounding), and shorter steps change it less.
+		if !math.IsNaN(costn) && costn-cost <= m.s.CostTolerance*cost {
+			return stepResult{status: CostConvergence}
 		}
 		*lambda *= *nu
 		*nu *= 2

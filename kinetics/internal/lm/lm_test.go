@@ -2,6 +2,8 @@ package lm
 
 import (
 	"math"
+	"math/rand/v2"
+	"runtime"
 	"strings"
 	"testing"
 
@@ -311,5 +313,76 @@ func BenchmarkMisra1a(b *testing.B) {
 	p := misra1a.problem()
 	for b.Loop() {
 		Minimize(p, []float64{500, 1e-4}, Settings{})
+	}
+}
+
+// A cost that no longer changes to the cost tolerance ends the search at
+// the first rejected step that shows it, with CostConvergence at the
+// point reached: F = ½·(1 + 10⁻¹³·(x−x₀)²)² rises by about 10⁻¹³·F for
+// the unit step a misleading Jacobian (J = 1) proposes, far below the
+// default tolerance of 10⁻¹⁰. Without the rule λ grows until the step
+// falls under the step tolerance, dozens of evaluations later.
+func TestFlatCostStopsAtFirstRejection(t *testing.T) {
+	const x0 = 3.0
+	p := Problem{M: 1,
+		Residuals: func(r, x []float64) { d := x[0] - x0; r[0] = 1 + 1e-13*d*d },
+		Jacobian:  func(J *mat.Dense, x []float64) { J.Set(0, 0, 1) },
+	}
+	res := Minimize(p, []float64{x0}, Settings{})
+	if res.Status != CostConvergence || res.X[0] != x0 || res.Evaluations != 2 {
+		t.Errorf("got %s at x = %g after %d evaluations, want %s at %g after 2", res.Status, res.X[0], res.Evaluations, CostConvergence, x0)
+	}
+}
+
+// Normal agrees with gonum's general routines (SymOuterK for JᵀJ, MulVec
+// for Jᵀr) to rounding, on shapes below, at and across block edges, with
+// zero columns, and without g; and it gives the same bits for any number
+// of goroutines.
+func TestNormalMatchesGonum(t *testing.T) {
+	rng := rand.New(rand.NewPCG(7, 8))
+	for _, c := range []struct {
+		name string
+		m, n int
+	}{
+		{"one row", 1, 3}, {"under a block", 100, 6}, {"one block", normalBlock, 6},
+		{"across blocks", 3*normalBlock + 17, 7}, {"one column", 5000, 1},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			J := mat.NewDense(c.m, c.n, nil)
+			r := make([]float64, c.m)
+			for i := range c.m {
+				r[i] = rng.NormFloat64()
+				for j := range c.n {
+					if j != 1 { // column 1 stays zero
+						J.Set(i, j, rng.NormFloat64()*math.Pow(10, float64(j)))
+					}
+				}
+			}
+			var want mat.SymDense
+			want.SymOuterK(1, J.T())
+			var wantg mat.VecDense
+			wantg.MulVec(J.T(), mat.NewVecDense(c.m, r))
+			A, g := mat.NewSymDense(c.n, nil), mat.NewVecDense(c.n, nil)
+			Normal(A, g, J, r)
+			for a := range c.n {
+				if d := math.Abs(g.AtVec(a) - wantg.AtVec(a)); d > 1e-12*(1+math.Abs(wantg.AtVec(a)))*float64(c.m) {
+					t.Errorf("g[%d]: got %g, want %g (gonum MulVec)", a, g.AtVec(a), wantg.AtVec(a))
+				}
+				for b := range c.n {
+					if d := math.Abs(A.At(a, b) - want.At(a, b)); d > 1e-13*math.Abs(want.At(a, a)+want.At(b, b))+1e-300 {
+						t.Errorf("A[%d][%d]: got %g, want %g (gonum SymOuterK)", a, b, A.At(a, b), want.At(a, b))
+					}
+				}
+			}
+			B := mat.NewSymDense(c.n, nil)
+			Normal(B, nil, J, nil)
+			prev := runtime.GOMAXPROCS(1)
+			C := mat.NewSymDense(c.n, nil)
+			Normal(C, nil, J, nil)
+			runtime.GOMAXPROCS(prev)
+			if !mat.Equal(A, B) || !mat.Equal(B, C) {
+				t.Errorf("JᵀJ differs with g, without g, or on one goroutine")
+			}
+		})
 	}
 }

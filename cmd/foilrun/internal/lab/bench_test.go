@@ -7,6 +7,7 @@ import (
 
 	"github.com/foilrun/foilrun/cmd/foilrun/internal/benchdata/fitlog"
 	"github.com/foilrun/foilrun/cmd/foilrun/internal/demolab"
+	"github.com/foilrun/foilrun/kinetics"
 	"github.com/foilrun/foilrun/store"
 	"github.com/foilrun/foilrun/store/sqlite"
 )
@@ -49,4 +50,29 @@ func BenchmarkCollect5000(b *testing.B) {
 			b.Fatalf("got %d observations, want 5000", len(col.Observations))
 		}
 	}
+}
+
+// BenchmarkFitLogged5000 is kinetics.Fit on what Collect gives for the
+// 5,000-run fit benchmark log (the `seconds.fit` part of `foilrun fit`),
+// with its iterations and residual evaluations. Target (issue 18): not
+// slower than scipy's least_squares on the same observations
+// (kinetics/testdata/scipyfit/time_fit.py).
+func BenchmarkFitLogged5000(b *testing.B) {
+	l, _ := benchLog(b, 5000)
+	rb, err := NewRebuilder(l, "")
+	if err != nil {
+		b.Fatal(err)
+	}
+	col, err := Collect(context.Background(), rb, store.Filter{}, Metrics{Coverage: true, Density: true}, kinetics.DefaultParams(), Logged)
+	if err != nil {
+		b.Fatal(err)
+	}
+	var res *kinetics.FitResult
+	for b.Loop() {
+		if res, err = kinetics.Fit(col.Observations, kinetics.DefaultParams(), kinetics.FitSettings{}); err != nil {
+			b.Fatal(err)
+		}
+	}
+	b.ReportMetric(float64(res.Iterations), "iterations")
+	b.ReportMetric(float64(res.Evaluations), "evaluations")
 }
