@@ -3,6 +3,7 @@ package kinetics
 import (
 	"fmt"
 	"math"
+	"slices"
 	"runtime"
 	"strings"
 
@@ -304,6 +305,8 @@ func (f *fitter) usedBounds() map[string][2]float64 {
 // metric each run has measured.
 func (f *fitter) addRows(obs []Observation) error {
 	s := f.s
+	f.rows = slices.Grow(f.rows, 2*len(obs))
+	f.obs = slices.Grow(f.obs, len(obs))
 	for k, o := range obs {
 		if o.Prepared == nil {
 			panic("kinetics: Fit observation " + o.Label + " has no Prepared profile")

@@ -181,7 +181,7 @@ func (f *fitter) parallel(fn func(k int)) {
 // rowIndex returns the row indexes of each used observation (at most two).
 func (f *fitter) rowIndex() [][2]int {
 	idx := make([][2]int, len(f.obs))
-	pos := map[int]int{}
+	pos := make([]int, len(f.all)) // observation → position in f.obs
 	for k, o := range f.obs {
 		pos[o] = k
 		idx[k] = [2]int{-1, -1}

@@ -257,25 +257,8 @@ func Normal(A *mat.SymDense, g *mat.VecDense, J *mat.Dense, r []float64) {
 	blocks := (raw.Rows + normalBlock - 1) / normalBlock
 	part := make([]float64, max(blocks, 1)*w)
 	sum := func(b int) {
-		acc := part[b*w : b*w+n*n]
-		gv := part[b*w+n*n : (b+1)*w]
-		for i := b * normalBlock; i < min((b+1)*normalBlock, raw.Rows); i++ {
-			row := raw.Data[i*raw.Stride : i*raw.Stride+n]
-			ri := 0.0
-			if r != nil {
-				ri = r[i]
-			}
-			for a, ra := range row {
-				if ra == 0 {
-					continue
-				}
-				gv[a] += ra * ri
-				up := acc[a*n : a*n+n]
-				for c := a; c < n; c++ {
-					up[c] += ra * row[c]
-				}
-			}
-		}
+		lo, hi := b*normalBlock, min((b+1)*normalBlock, raw.Rows)
+		normalRows(raw.Data[lo*raw.Stride:], raw.Stride, n, hi-lo, r, lo, part[b*w:(b+1)*w])
 	}
 	workers := min(runtime.GOMAXPROCS(0), blocks)
 	if workers <= 1 {
@@ -305,6 +288,56 @@ func Normal(A *mat.SymDense, g *mat.VecDense, J *mat.Dense, r []float64) {
 		}
 		for c := a; c < n; c++ {
 			A.SetSym(a, c, part[a*n+c])
+		}
+	}
+}
+
+// normalRows adds the products of rows rows of J (data, from its first
+// row, with stride) into out: the upper triangle of JᵀJ by rows, then
+// Jᵀr (r from index r0; nil: 0). Up to 8 columns are summed in arrays on
+// the stack (the usual case: a fit has at most 7 coordinates).
+func normalRows(data []float64, stride, n, rows int, r []float64, r0 int, out []float64) {
+	if n > 8 {
+		normalRowsWide(data, stride, n, rows, r, r0, out)
+		return
+	}
+	var acc [64]float64
+	var gv [8]float64
+	for i := range rows {
+		row := data[i*stride : i*stride+n]
+		ri := 0.0
+		if r != nil {
+			ri = r[r0+i]
+		}
+		for a := range row {
+			ra := row[a]
+			gv[a&7] += ra * ri
+			for c := a; c < len(row); c++ {
+				acc[(a&7)<<3|c&7] += ra * row[c]
+			}
+		}
+	}
+	for a := range n {
+		copy(out[a*n+a:a*n+n], acc[a*8+a:a*8+n])
+		out[n*n+a] = gv[a]
+	}
+}
+
+// normalRowsWide is normalRows for more than 8 columns.
+func normalRowsWide(data []float64, stride, n, rows int, r []float64, r0 int, out []float64) {
+	acc, gv := out[:n*n], out[n*n:n*n+n]
+	for i := range rows {
+		row := data[i*stride : i*stride+n]
+		ri := 0.0
+		if r != nil {
+			ri = r[r0+i]
+		}
+		for a, ra := range row {
+			gv[a] += ra * ri
+			up := acc[a*n+a : a*n+n]
+			for c, rc := range row[a:] {
+				up[c] += ra * rc
+			}
 		}
 	}
 }

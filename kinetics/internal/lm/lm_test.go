@@ -345,7 +345,8 @@ func TestNormalMatchesGonum(t *testing.T) {
 		m, n int
 	}{
 		{"one row", 1, 3}, {"under a block", 100, 6}, {"one block", normalBlock, 6},
-		{"across blocks", 3*normalBlock + 17, 7}, {"one column", 5000, 1},
+		{"across blocks", 3*normalBlock + 17, 7}, {"one column", 5000, 1}, {"eight columns", 3000, 8},
+		{"wide", normalBlock + 5, 11},
 	} {
 		t.Run(c.name, func(t *testing.T) {
 			J := mat.NewDense(c.m, c.n, nil)
@@ -384,5 +385,23 @@ func TestNormalMatchesGonum(t *testing.T) {
 				t.Errorf("JᵀJ differs with g, without g, or on one goroutine")
 			}
 		})
+	}
+}
+
+// BenchmarkNormal5000 is Normal on the Jacobian shape of a 5,000-run fit
+// of both metrics: 10,000 rows, 6 coordinates.
+func BenchmarkNormal5000(b *testing.B) {
+	rng := rand.New(rand.NewPCG(1, 2))
+	J := mat.NewDense(10000, 6, nil)
+	r := make([]float64, 10000)
+	for i := range r {
+		r[i] = rng.NormFloat64()
+		for j := range 6 {
+			J.Set(i, j, rng.NormFloat64())
+		}
+	}
+	A, g := mat.NewSymDense(6, nil), mat.NewVecDense(6, nil)
+	for b.Loop() {
+		Normal(A, g, J, r)
 	}
 }
