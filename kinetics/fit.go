@@ -3,8 +3,8 @@ package kinetics
 import (
 	"fmt"
 	"math"
-	"slices"
 	"runtime"
+	"slices"
 	"strings"
 
 	"github.com/foilrun/foilrun/recipe"
