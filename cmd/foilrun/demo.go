@@ -39,8 +39,8 @@ in DIR, so the demo never touches your own log.`,
 			if len(args) == 1 {
 				opts.dir = args[0]
 			}
-			if opts.runs < 10 {
-				return usagef("--runs %d: want at least 10 seeded runs", opts.runs)
+			if opts.runs < 10 || opts.runs > demolab.MaxSeedRuns {
+				return usagef("--runs %d: want 10 to %d seeded runs", opts.runs, demolab.MaxSeedRuns)
 			}
 			return demoRun(cmd.Context(), opts)
 		},

@@ -5,6 +5,7 @@ import (
 	"math"
 	"path/filepath"
 	"testing"
+	"time"
 
 	"github.com/foilrun/foilrun/recipe"
 	"github.com/foilrun/foilrun/store"
@@ -108,5 +109,36 @@ func TestSeed(t *testing.T) {
 	}
 	if n != 12 {
 		t.Errorf("got %d runs, want 12", n)
+	}
+}
+
+// The seeded runs keep the demo's 26-hour rhythm while it fits in three
+// years and are packed closer beyond that, so that the last run's
+// outcome (measured 30 h after its start) stays within the five years
+// ahead of the clock that the run log accepts (store/validate.go), for
+// every run count the demo accepts; 1,770 runs at 26 h used to run past
+// it.
+func TestSeedStep(t *testing.T) {
+	for _, c := range []struct {
+		n    int
+		want time.Duration
+	}{
+		{10, 26 * time.Hour},
+		{60, 26 * time.Hour},
+		{1010, 26 * time.Hour}, // 1,010 × 26 h is just under three years
+		{1770, (seedSpan / 1770).Truncate(time.Minute)},
+		{MaxSeedRuns, minSeedStep},
+	} {
+		got := seedStep(c.n)
+		if got != c.want {
+			t.Errorf("%d runs: got a step of %s, want %s", c.n, got, c.want)
+		}
+		last := time.Duration(c.n-1)*got + 30*time.Hour
+		if last > store.FutureSlack || got < minSeedStep {
+			t.Errorf("%d runs: the last outcome is %s after the first start with a step of %s; want within five years, step ≥ %s", c.n, last, got, minSeedStep)
+		}
+	}
+	if err := Seed(context.Background(), nil, Paths{}, MaxSeedRuns+1); err == nil {
+		t.Errorf("Seed of %d runs: got no error, want one naming the limit %d", MaxSeedRuns+1, MaxSeedRuns)
 	}
 }

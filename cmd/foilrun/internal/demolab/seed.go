@@ -37,6 +37,10 @@ func SeedLog(ctx context.Context, paths Paths, n int) error {
 // (fixed seed), over a spread of growth temperature, CH4 flow and time, on
 // furnace A. The runs go in with one Import: all or none.
 func Seed(ctx context.Context, log store.RunLog, paths Paths, n int) error {
+	if n > MaxSeedRuns {
+		return fmt.Errorf("%d runs: the demo seeds at most %d (one every %s over %s)", n, MaxSeedRuns, minSeedStep, seedSpan)
+	}
+	step := seedStep(n)
 	furnace, err := recipe.LoadFurnace(paths.FurnaceA)
 	if err != nil {
 		return err
@@ -67,7 +71,7 @@ func Seed(ctx context.Context, log store.RunLog, paths Paths, n int) error {
 			bundle.Snapshots = append(bundle.Snapshots, snap)
 			seen[snap.SHA256] = true
 		}
-		t0 := start.Add(time.Duration(i) * 26 * time.Hour)
+		t0 := start.Add(time.Duration(i) * step)
 		rec := store.RunRecord{
 			Run: store.Run{Code: store.FormatCode("", t0, int64(i+1)), Status: store.Done, RecipeName: r.Name, RecipeHash: snap.SHA256,
 				Furnace: furnace.Name, FurnaceHash: fsnap.SHA256, Operator: operators[i%3], Lot: "demo-lot-" + strconv.Itoa(1+i/20),
@@ -81,6 +85,26 @@ func Seed(ctx context.Context, log store.RunLog, paths Paths, n int) error {
 	}
 	_, err = log.Import(ctx, bundle, nil)
 	return err
+}
+
+// The seeded runs start every 26 hours, closer together when that would
+// take them beyond seedSpan (the run log refuses times more than five
+// years ahead of the clock), but never closer than minSeedStep (each run
+// takes under two hours on the one furnace).
+const (
+	seedSpan    = 3 * 365 * 24 * time.Hour
+	minSeedStep = 3 * time.Hour
+	// MaxSeedRuns is the most runs Seed lays out.
+	MaxSeedRuns = int(seedSpan / minSeedStep)
+)
+
+// seedStep is the time between the starts of n seeded runs.
+func seedStep(n int) time.Duration {
+	step := 26 * time.Hour
+	if n > 0 && time.Duration(n)*step > seedSpan {
+		step = (seedSpan / time.Duration(n)).Truncate(time.Minute)
+	}
+	return step
 }
 
 // noisyOutcomes are a prediction as a lab would measure it: coverage on
