@@ -3,6 +3,7 @@ package sqldb
 import (
 	"context"
 	"database/sql"
+	"database/sql/driver"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -38,19 +39,40 @@ func Columns() []string {
 
 const runSelect = `SELECT r.id, r.code, r.status, r.recipe_sha256, r.recipe_name, r.furnace, r.operator, r.lot, r.started_at, r.ended_at, r.created_at, r.furnace_sha256, r.site_sha256, r.source FROM runs r`
 
-func scanRun(rows *sql.Rows) (int64, store.Run, error) {
-	var id int64
+// selectColumns is the number of columns runSelect returns.
+const selectColumns = 14
+
+// runOf turns one row of runSelect, as the driver gives it (see eachRow),
+// into its id and run.
+func runOf(vals []driver.Value) (int64, store.Run, error) {
 	var r store.Run
-	var st string
-	var hash, started, ended, created, furnace, site sql.NullString
-	if err := rows.Scan(&id, &r.Code, &st, &hash, &r.RecipeName, &r.Furnace, &r.Operator, &r.Lot, &started, &ended, &created, &furnace, &site, &r.Source); err != nil {
-		return 0, r, err
+	id, ok := vals[0].(int64)
+	if !ok {
+		var n sql.NullInt64
+		if err := n.Scan(vals[0]); err != nil || !n.Valid {
+			return 0, r, fmt.Errorf("run id %v: not an integer", vals[0])
+		}
+		id = n.Int64
 	}
-	r.Status, r.RecipeHash, r.FurnaceHash, r.SiteHash = store.Status(st), hash.String, furnace.String, site.String
+	var t [selectColumns]sql.NullString
+	for k := 1; k < selectColumns; k++ {
+		switch x := vals[k].(type) {
+		case string:
+			t[k] = sql.NullString{String: x, Valid: true}
+		case nil:
+		default:
+			if err := t[k].Scan(x); err != nil {
+				return 0, r, fmt.Errorf("run %d: column %d: %w", id, k+1, err)
+			}
+		}
+	}
+	r.Code, r.Status, r.RecipeHash, r.RecipeName = t[1].String, store.Status(t[2].String), t[3].String, t[4].String
+	r.Furnace, r.Operator, r.Lot = t[5].String, t[6].String, t[7].String
+	r.FurnaceHash, r.SiteHash, r.Source = t[11].String, t[12].String, t[13].String
 	var err1, err2, err3 error
-	r.Started, err1 = parseStamp(started)
-	r.Ended, err2 = parseStamp(ended)
-	r.Created, err3 = parseStamp(created)
+	r.Started, err1 = parseStamp(t[8])
+	r.Ended, err2 = parseStamp(t[9])
+	r.Created, err3 = parseStamp(t[10])
 	return id, r, errors.Join(err1, err2, err3)
 }
 
@@ -184,7 +206,12 @@ func (s *DB) names(ctx context.Context, q Querier) ([]store.Name, error) {
 // with f.Newest), from f.Offset on; a filter reads parameters and metrics
 // from the run summary.
 func (s *DB) List(ctx context.Context, f store.Filter) ([]store.Run, error) {
-	w, args, err := s.whereSummary(ctx, s.db, f, "")
+	rq, end, err := s.d.Read(ctx, s.db)
+	if err != nil {
+		return nil, err
+	}
+	defer end()
+	w, args, err := s.whereSummary(ctx, rq, f, "")
 	if err != nil {
 		return nil, err
 	}
@@ -206,20 +233,13 @@ func (s *DB) List(ctx context.Context, f store.Filter) ([]store.Run, error) {
 		q += " LIMIT ? OFFSET ?"
 		args = append(args, limit, max(f.Offset, 0))
 	}
-	rows, err := s.db.QueryContext(ctx, s.d.Rebind(q), args...)
-	if err != nil {
-		return nil, err
-	}
-	defer rows.Close()
 	var out []store.Run
-	for rows.Next() {
-		_, r, err := scanRun(rows)
-		if err != nil {
-			return nil, err
-		}
+	err = eachRow(ctx, rq, s.d.Rebind(q), args, selectColumns, func(vals []driver.Value) error {
+		_, r, err := runOf(vals)
 		out = append(out, r)
-	}
-	return out, rows.Err()
+		return err
+	})
+	return out, err
 }
 
 // Count returns how many runs pass the filter's Where and Codes.
@@ -353,22 +373,18 @@ func inChunks(chunk, limit int, read func(last int64, n int) ([]*store.RunRecord
 }
 
 func (s *DB) readRuns(ctx context.Context, q Querier, qs string, args []any) ([]*store.RunRecord, []int64, error) {
-	rows, err := q.QueryContext(ctx, qs, args...)
+	var recs []*store.RunRecord
+	var ids []int64
+	err := eachRow(ctx, q, qs, args, selectColumns, func(vals []driver.Value) error {
+		id, r, err := runOf(vals)
+		recs = append(recs, &store.RunRecord{Run: r, Params: map[string]float64{}})
+		ids = append(ids, id)
+		return err
+	})
 	if err != nil {
 		return nil, nil, err
 	}
-	defer rows.Close()
-	var recs []*store.RunRecord
-	var ids []int64
-	for rows.Next() {
-		id, r, err := scanRun(rows)
-		if err != nil {
-			return nil, nil, err
-		}
-		recs = append(recs, &store.RunRecord{Run: r, Params: map[string]float64{}})
-		ids = append(ids, id)
-	}
-	return recs, ids, rows.Err()
+	return recs, ids, nil
 }
 
 // readChildren fills params, notes, outcomes, actuals, deviations,

@@ -117,5 +117,16 @@ func When(t time.Time) string {
 	if t.IsZero() {
 		return ""
 	}
-	return t.Local().Format("2006-01-02 15:04")
+	lt := t.Local()
+	y, mo, d := lt.Date()
+	h, mi, _ := lt.Clock()
+	if y < 0 || y > 9999 {
+		return lt.Format("2006-01-02 15:04")
+	}
+	// What Format("2006-01-02 15:04") gives, without parsing the layout
+	// (a run list formats two times a row, thousands of rows).
+	b := [16]byte{'0' + byte(y/1000), '0' + byte(y/100%10), '0' + byte(y/10%10), '0' + byte(y%10), '-',
+		'0' + byte(mo/10), '0' + byte(mo%10), '-', '0' + byte(d/10), '0' + byte(d%10), ' ',
+		'0' + byte(h/10), '0' + byte(h%10), ':', '0' + byte(mi/10), '0' + byte(mi%10)}
+	return string(b[:])
 }
