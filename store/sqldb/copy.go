@@ -161,6 +161,9 @@ func Copy(ctx context.Context, dst, src *DB, progress func(done, total int)) (st
 			return store.Digest{}, fmt.Errorf("copy: %w", err)
 		}
 	}
+	if err := w.summarise(ctx); err != nil {
+		return store.Digest{}, err
+	}
 	if err := endBulk(ctx); err != nil {
 		return store.Digest{}, fmt.Errorf("copy: %w", err)
 	}

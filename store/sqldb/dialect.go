@@ -31,7 +31,8 @@ type Dialect interface {
 	Check(ctx context.Context, db *sql.DB) ([]string, error)
 	// Bulk prepares the transaction tx for writing many runs at once (for
 	// example by dropping an index to rebuild it once at the end); end
-	// finishes that inside the same transaction. It may do nothing.
+	// finishes that inside the same transaction, after the runs and
+	// their summary are written. It may do nothing.
 	Bulk(ctx context.Context, tx *sql.Tx, runs int) (end func(context.Context) error, err error)
 	// MaxArgs is the most bound arguments one statement may take.
 	MaxArgs() int

@@ -56,6 +56,9 @@ func (s *DB) importBundle(ctx context.Context, b store.Bundle, progress func(int
 			return 0, err
 		}
 	}
+	if err := w.summarise(ctx); err != nil {
+		return 0, err
+	}
 	if err := endBulk(ctx); err != nil {
 		return 0, fmt.Errorf("import: %w", err)
 	}

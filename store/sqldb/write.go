@@ -79,10 +79,19 @@ func (w *writer) commit(ctx context.Context) error {
 			return err
 		}
 	}
-	if err := summarise(ctx, w.tx, w.s.d, w.touched); err != nil {
+	if err := w.summarise(ctx); err != nil {
 		return err
 	}
 	return w.tx.Commit()
+}
+
+// summarise rewrites the summary of the runs touched so far (commit does
+// it for the rest); a bulk write calls it before its end, so that the
+// end can see the summary (PostgreSQL's ANALYZE of it).
+func (w *writer) summarise(ctx context.Context) error {
+	err := summarise(ctx, w.tx, w.s.d, w.touched)
+	w.touched = w.touched[:0]
+	return err
 }
 
 func (w *writer) loadNames(ctx context.Context) error {
