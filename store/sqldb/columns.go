@@ -2,6 +2,7 @@ package sqldb
 
 import (
 	"context"
+	"database/sql"
 	"database/sql/driver"
 	"fmt"
 	"math"
@@ -105,19 +106,33 @@ func (s *DB) columnPart(cq store.ColumnQuery, logged map[string]bool, lo int) co
 	return p
 }
 
+// maskTwins is how many twins one read marks in the bits of a row's
+// twin column; a part with more counts them in an aggregate of its own.
+const maskTwins = 62
+
 // readPart reads one part's columns into out (the metric from the first
 // part, checked against the others' run count) and, with twins, which
-// runs gave one and how many gave each.
+// runs gave one and how many gave each. Each row's twin column has bit k
+// set when the run gave twin k (up to maskTwins twins), so the counts come
+// from the same read of the summary as the values.
 func (s *DB) readPart(ctx context.Context, q Querier, cq store.ColumnQuery, p columnPart, bound int, out *store.Columns, used *[]bool) error {
 	tail, args, err := p.r.tail(ctx, s, q, cq.Filter, "")
 	if err != nil {
 		return err
 	}
+	masked := len(p.twin) <= maskTwins
 	flag := "0"
-	if len(p.twin) > 0 {
+	switch {
+	case len(p.twin) > 0 && masked:
+		bits := make([]string, len(p.twin))
+		for k, c := range p.twin {
+			bits[k] = fmt.Sprintf("CASE WHEN %s THEN CAST(%d AS BIGINT) ELSE 0 END", c, uint64(1)<<k)
+		}
+		flag = strings.Join(bits, " + ")
+	case len(p.twin) > 0:
 		flag = "CASE WHEN " + strings.Join(p.twin, " OR ") + " THEN 1 ELSE 0 END"
 	}
-	ms, xs, flags, err := readColumns(ctx, q, s.d.Rebind("SELECT "+strings.Join(append([]string{p.r.metric, flag}, p.sel...), ", ")+tail+" ORDER BY su.run_id"), args, len(p.sel), bound)
+	ms, xs, masks, err := readColumns(ctx, q, s.d.Rebind("SELECT "+strings.Join(append([]string{p.r.metric, flag}, p.sel...), ", ")+tail+" ORDER BY su.run_id"), args, len(p.sel), bound)
 	if err != nil {
 		return err
 	}
@@ -129,10 +144,20 @@ func (s *DB) readPart(ctx context.Context, q Querier, cq store.ColumnQuery, p co
 	for k, j := range p.idx {
 		out.Params[j] = xs[k]
 	}
-	for i, f := range flags {
-		(*used)[i] = (*used)[i] || f
+	for i, m := range masks {
+		(*used)[i] = (*used)[i] || m != 0
 	}
 	if len(p.twin) == 0 {
+		return nil
+	}
+	if masked {
+		for k, j := range p.twinIdx {
+			n := 0
+			for _, m := range masks {
+				n += int(m >> k & 1)
+			}
+			out.PerParam[j] = n
+		}
 		return nil
 	}
 	counts := make([]string, len(p.twin))
@@ -153,11 +178,12 @@ func (s *DB) readPart(ctx context.Context, q Querier, cq store.ColumnQuery, p co
 	return nil
 }
 
-// readColumns runs the query, whose rows are (metric, twin given 0 or
-// 1, n values), and reads them into a column each, NaN for NULL, sized
-// for bound rows.
-func readColumns(ctx context.Context, q Querier, query string, args []any, n, bound int) (ms []float64, xs [][]float64, flags []bool, err error) {
-	ms, flags = make([]float64, 0, bound), make([]bool, 0, bound)
+// readColumns runs the query, whose rows are (metric, twin mask, n
+// values), and reads them into a column each, NaN for NULL, sized for
+// bound rows; the masks are read as integers (a mask of 62 bits does not
+// fit a float64's mantissa).
+func readColumns(ctx context.Context, q Querier, query string, args []any, n, bound int) (ms []float64, xs [][]float64, masks []uint64, err error) {
+	ms, masks = make([]float64, 0, bound), make([]uint64, 0, bound)
 	xs = make([][]float64, n)
 	for j := range xs {
 		xs[j] = make([]float64, 0, bound)
@@ -167,11 +193,19 @@ func readColumns(ctx context.Context, q Querier, query string, args []any, n, bo
 		if err != nil {
 			return fmt.Errorf("metric: %w", err)
 		}
-		f, err := unbox(vals[1])
-		if err != nil {
-			return fmt.Errorf("twin given: %w", err)
+		var mask uint64
+		switch f := vals[1].(type) {
+		case int64:
+			mask = uint64(f)
+		case nil:
+		default:
+			var i sql.NullInt64
+			if err := i.Scan(f); err != nil {
+				return fmt.Errorf("twin mask: %w", err)
+			}
+			mask = uint64(i.Int64)
 		}
-		ms, flags = append(ms, m), append(flags, f == 1)
+		ms, masks = append(ms, m), append(masks, mask)
 		for j := range xs {
 			v, err := unbox(vals[2+j])
 			if err != nil {
@@ -181,7 +215,7 @@ func readColumns(ctx context.Context, q Querier, query string, args []any, n, bo
 		}
 		return nil
 	})
-	return ms, xs, flags, err
+	return ms, xs, masks, err
 }
 
 // nanColumn is a column of n NaNs.

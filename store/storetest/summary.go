@@ -86,12 +86,19 @@ func summaryRecords(n int) []store.RunRecord {
 	recs := Records(n, "")
 	for i := range recs {
 		p := recs[i].Params
+		// twins given in different runs, so that each parameter's
+		// count of them differs
 		if i%3 == 0 {
 			p["growth_temperature_c_logged"] = p["growth_temperature_c"] + 3
+		}
+		if i%6 == 0 {
 			p["ch4_flow_sccm_logged"] = p["ch4_flow_sccm"] - 1
 		}
 		if i%5 == 0 {
 			p["foil_anneal_passes"] = float64(1 + i%4)
+		}
+		if i%10 == 0 {
+			p["foil_anneal_passes_logged"] = float64(2 + i%4)
 		}
 		if i%7 == 0 {
 			o := recs[i].Outcomes[0]
