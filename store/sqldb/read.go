@@ -233,14 +233,39 @@ func (s *DB) List(ctx context.Context, f store.Filter) ([]store.Run, error) {
 		q += " LIMIT ? OFFSET ?"
 		args = append(args, limit, max(f.Offset, 0))
 	}
-	var out []store.Run
+	// in blocks, copied once into the answer: a slice grown by append
+	// copies its runs about twice over and leaves the copies to collect
+	var blocks [][]store.Run
+	block := make([]store.Run, 0, 64)
 	err = eachRow(ctx, rq, s.d.Rebind(q), args, selectColumns, func(vals []driver.Value) error {
 		_, r, err := runOf(vals)
-		out = append(out, r)
+		if len(block) == cap(block) {
+			blocks, block = append(blocks, block), make([]store.Run, 0, min(4*cap(block), listBlock))
+		}
+		block = append(block, r)
 		return err
 	})
+	if len(blocks) == 0 {
+		if len(block) == 0 {
+			return nil, err
+		}
+		return block, err
+	}
+	blocks = append(blocks, block)
+	n := 0
+	for _, b := range blocks {
+		n += len(b)
+	}
+	out := make([]store.Run, 0, n)
+	for _, b := range blocks {
+		out = append(out, b...)
+	}
 	return out, err
 }
+
+// listBlock is the most runs List reads into one block (the first holds
+// 64, each next four times the last).
+const listBlock = 1024
 
 // Count returns how many runs pass the filter's Where and Codes.
 func (s *DB) Count(ctx context.Context, f store.Filter) (int, error) {
