@@ -301,6 +301,10 @@ func normalRows(data []float64, stride, n, rows int, r []float64, r0 int, out []
 		normalRowsWide(data, stride, n, rows, r, r0, out)
 		return
 	}
+	if n == 6 && r != nil {
+		normalRows6(data, stride, rows, r[r0:r0+rows], out)
+		return
+	}
 	var acc [64]float64
 	var gv [8]float64
 	for i := range rows {
@@ -321,6 +325,55 @@ func normalRows(data []float64, stride, n, rows int, r []float64, r0 int, out []
 		copy(out[a*n+a:a*n+n], acc[a*8+a:a*8+n])
 		out[n*n+a] = gv[a]
 	}
+}
+
+// normalRows6 is normalRows for 6 columns with r, the shape of a fit of
+// both metrics with six free parameters, its sums held in variables.
+func normalRows6(data []float64, stride, rows int, r []float64, out []float64) {
+	var a00, a01, a02, a03, a04, a05 float64
+	var a11, a12, a13, a14, a15 float64
+	var a22, a23, a24, a25 float64
+	var a33, a34, a35 float64
+	var a44, a45, a55 float64
+	var g0, g1, g2, g3, g4, g5 float64
+	for i, ri := range r[:rows] {
+		row := data[i*stride : i*stride+6 : i*stride+6]
+		x0, x1, x2, x3, x4, x5 := row[0], row[1], row[2], row[3], row[4], row[5]
+		g0 += x0 * ri
+		g1 += x1 * ri
+		g2 += x2 * ri
+		g3 += x3 * ri
+		g4 += x4 * ri
+		g5 += x5 * ri
+		a00 += x0 * x0
+		a01 += x0 * x1
+		a02 += x0 * x2
+		a03 += x0 * x3
+		a04 += x0 * x4
+		a05 += x0 * x5
+		a11 += x1 * x1
+		a12 += x1 * x2
+		a13 += x1 * x3
+		a14 += x1 * x4
+		a15 += x1 * x5
+		a22 += x2 * x2
+		a23 += x2 * x3
+		a24 += x2 * x4
+		a25 += x2 * x5
+		a33 += x3 * x3
+		a34 += x3 * x4
+		a35 += x3 * x5
+		a44 += x4 * x4
+		a45 += x4 * x5
+		a55 += x5 * x5
+	}
+	copy(out[0:6], []float64{a00, a01, a02, a03, a04, a05})
+	copy(out[7:12], []float64{a11, a12, a13, a14, a15})
+	copy(out[14:18], []float64{a22, a23, a24, a25})
+	copy(out[21:24], []float64{a33, a34, a35})
+	copy(out[28:30], []float64{a44, a45})
+	out[35] = a55
+	copy(out[36:42], []float64{g0, g1, g2, g3, g4, g5})
 }
 
 // normalRowsWide is normalRows for more than 8 columns.
