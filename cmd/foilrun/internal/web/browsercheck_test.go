@@ -10,6 +10,7 @@ import (
 // TestNotBlank checks the blank-page test on images whose ink share and
 // colours are known by construction.
 func TestNotBlank(t *testing.T) {
+	t.Parallel()
 	white := color.RGBA{255, 255, 255, 255}
 	page := func(rows int, colours int) image.Image {
 		img := image.NewRGBA(image.Rect(0, 0, 100, 100))
@@ -52,6 +53,7 @@ func TestNotBlank(t *testing.T) {
 // object is /Type /Page, a tree node /Type /Pages; section number from
 // memory).
 func TestPDFPages(t *testing.T) {
+	t.Parallel()
 	tests := []struct {
 		name string
 		pdf  string
