@@ -30,6 +30,7 @@ func TestMain(m *testing.M) {
 // copied in as $TEMPLATES. Besides testscript's own commands a script may
 // use runcode and squares (below).
 func TestScripts(t *testing.T) {
+	t.Parallel() // the scripts run foilrun as a child process, each in a folder of its own
 	tmpl, err := filepath.Abs("../../templates")
 	if err != nil {
 		t.Fatal(err)
