@@ -9,6 +9,7 @@ import (
 	"flag"
 	"fmt"
 	"image"
+	"image/color"
 	"image/png"
 	"net/http"
 	"net/http/httptest"
@@ -339,12 +340,12 @@ const (
 func notBlank(img image.Image) error {
 	counts := map[[4]uint32]int{}
 	r := img.Bounds()
+	at := colourAt(img)
 	for y := r.Min.Y; y < r.Max.Y; y++ {
 		var run [4]uint32
 		n := 0
 		for x := r.Min.X; x < r.Max.X; x++ {
-			cr, cg, cb, ca := img.At(x, y).RGBA()
-			if c := [4]uint32{cr, cg, cb, ca}; c != run || n == 0 {
+			if c := at(x, y); c != run || n == 0 {
 				if n > 0 {
 					counts[run] += n
 				}
@@ -369,6 +370,30 @@ func notBlank(img image.Image) error {
 		return fmt.Errorf("%d distinct colours, want at least %d", len(counts), minColours)
 	}
 	return nil
+}
+
+// colourAt returns a function giving the colour of a pixel of img as
+// img.At(x, y).RGBA() does (16-bit, alpha-premultiplied), reading the
+// pixels of the RGBA and NRGBA images png.Decode returns for screenshots
+// directly rather than through a color.Color per pixel.
+func colourAt(img image.Image) func(x, y int) [4]uint32 {
+	rgba := func(c color.Color) [4]uint32 {
+		r, g, b, a := c.RGBA()
+		return [4]uint32{r, g, b, a}
+	}
+	switch m := img.(type) {
+	case *image.RGBA:
+		return func(x, y int) [4]uint32 {
+			p := m.Pix[m.PixOffset(x, y):]
+			return rgba(color.RGBA{p[0], p[1], p[2], p[3]})
+		}
+	case *image.NRGBA:
+		return func(x, y int) [4]uint32 {
+			p := m.Pix[m.PixOffset(x, y):]
+			return rgba(color.NRGBA{p[0], p[1], p[2], p[3]})
+		}
+	}
+	return func(x, y int) [4]uint32 { return rgba(img.At(x, y)) }
 }
 
 // runList opens /runs, checks every run is listed, then filters with the
