@@ -11,6 +11,7 @@ import (
 const tmplDir = "../../templates/"
 
 func TestCheckExitCodes(t *testing.T) {
+	t.Parallel()
 	tests := []struct {
 		name string
 		args []string
@@ -40,6 +41,7 @@ func TestCheckExitCodes(t *testing.T) {
 }
 
 func TestCheckGolden(t *testing.T) {
+	t.Parallel()
 	for _, name := range []string{"lowpressure", "atmospheric", "largedomain"} {
 		t.Run(name, func(t *testing.T) {
 			code, out, stderr := runCLI(t, "check", tmplDir+"recipe-"+name+".yaml")
@@ -52,6 +54,7 @@ func TestCheckGolden(t *testing.T) {
 }
 
 func TestCheckJSON(t *testing.T) {
+	t.Parallel()
 	code, out, stderr := runCLI(t, "check", "--output", "json", "../../testdata/bad/recipe-above-copper-melting/recipe.yaml")
 	if code != 1 {
 		t.Fatalf("exit %d, want 1: %s", code, stderr)
@@ -70,6 +73,7 @@ func TestCheckJSON(t *testing.T) {
 }
 
 func TestCheckCSV(t *testing.T) {
+	t.Parallel()
 	code, out, _ := runCLI(t, "check", "--output", "csv", tmplDir+"recipe-lowpressure.yaml")
 	lines := strings.Split(strings.TrimSpace(out), "\n")
 	if code != 0 || len(lines) != 10 || !strings.HasPrefix(lines[0], "step,") {
@@ -78,6 +82,7 @@ func TestCheckCSV(t *testing.T) {
 }
 
 func TestNewWritesTemplatesThatPassCheck(t *testing.T) {
+	t.Parallel()
 	dir := t.TempDir()
 	for _, kind := range []string{"furnace", "site"} {
 		if code, _, e := runCLI(t, "new", kind, "-o", filepath.Join(dir, kind+".yaml")); code != 0 {
@@ -108,6 +113,7 @@ func TestNewWritesTemplatesThatPassCheck(t *testing.T) {
 }
 
 func TestNewList(t *testing.T) {
+	t.Parallel()
 	code, out, _ := runCLI(t, "new", "--list")
 	for _, want := range []string{"lowpressure", "atmospheric", "largedomain", "furnace", "site"} {
 		if !strings.Contains(out, want) {

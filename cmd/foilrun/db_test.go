@@ -15,6 +15,7 @@ import (
 // same JSON; a copy into a log that holds runs is refused and leaves no
 // new file behind; bad flag use exits 2.
 func TestDBCopy(t *testing.T) {
+	t.Parallel()
 	dir := t.TempDir()
 	src := filepath.Join(dir, "src.db")
 	recipe := "../../templates/recipe-lowpressure.yaml"

@@ -10,6 +10,7 @@ import (
 // tables are aligned like any command's, and piped they are
 // tab-separated; their status lines go to stderr.
 func TestDemoStepsKeepTheTerminal(t *testing.T) {
+	t.Parallel()
 	// check's derived-numbers table of the demo recipe, as its header row
 	// starts on a terminal and in a pipe.
 	const aligned, tsv = "│ step ", "step\tt0 min\t"
@@ -22,6 +23,7 @@ func TestDemoStepsKeepTheTerminal(t *testing.T) {
 		{"pipe", false, tsv, aligned},
 	} {
 		t.Run(c.name, func(t *testing.T) {
+			t.Parallel()
 			dir := filepath.Join(t.TempDir(), "lab")
 			code, out, errs := runStreams(t, c.tty, "demo", dir, "--runs", "10")
 			if code != 0 {

@@ -19,6 +19,7 @@ func (e hinted) Error() string { return e.msg }
 func (e hinted) Hint() string  { return e.hint }
 
 func TestExitStatus(t *testing.T) {
+	t.Parallel()
 	plain := errors.New("disk full")
 	tests := []struct {
 		name   string
@@ -58,6 +59,7 @@ func TestExitStatus(t *testing.T) {
 }
 
 func TestHintOf(t *testing.T) {
+	t.Parallel()
 	lib := hinted{"target \"size>=4um\": unknown quantity", "write domain_size"}
 	tests := []struct {
 		name string
@@ -85,6 +87,7 @@ func TestHintOf(t *testing.T) {
 // exitCode prints the message (continuation lines indented) and the hint
 // line; findings were printed by the command and print nothing more.
 func TestExitCodePrints(t *testing.T) {
+	t.Parallel()
 	tests := []struct {
 		name   string
 		err    error
@@ -109,6 +112,7 @@ func TestExitCodePrints(t *testing.T) {
 
 // Flag and argument mistakes are usage errors with their own words.
 func TestUsageErrorsFromTheCommandLine(t *testing.T) {
+	t.Parallel()
 	tests := []struct {
 		name string
 		args []string

@@ -84,6 +84,7 @@ func checkRefused(t *testing.T, file string, tests []refusedCase) {
 // a hard link to the log named .png, so that the extension check passes
 // and the guard must recognise the same file under another name.
 func TestOutputsSpareTheRunLog(t *testing.T) {
+	t.Parallel()
 	l := newTestLab(t)
 	png := filepath.Join(l.dir, "lab.png")
 	if err := os.Link(l.db, png); err != nil {
@@ -117,6 +118,7 @@ func TestOutputsSpareTheRunLog(t *testing.T) {
 // checklist recipe.yaml -o recipe.yaml replaced the recipe; outcome
 // measure --overlay replaced the micrograph).
 func TestOutputsSpareTheInputs(t *testing.T) {
+	t.Parallel()
 	l := newTestLab(t)
 	checkRefused(t, l.recipe, []refusedCase{
 		{"checklist onto its recipe", []string{"checklist", l.recipe, "-o", l.recipe}, "is the recipe this command reads"},
@@ -141,6 +143,7 @@ func TestOutputsSpareTheInputs(t *testing.T) {
 // file is written; a filter the log refuses leaves the file as it was
 // (issue 16: runs export -o keep.json --where bad truncated keep.json).
 func TestOutputGuard(t *testing.T) {
+	t.Parallel()
 	l := newTestLab(t)
 	db := "--db=" + l.db
 	keep := filepath.Join(l.dir, "keep.json")
@@ -189,6 +192,7 @@ func noTempFiles(t *testing.T, dir string) {
 // TestNewKeepsItsRule: new -o still refuses an existing file with the
 // message it always gave, and replaces it with --force.
 func TestNewKeepsItsRule(t *testing.T) {
+	t.Parallel()
 	path := filepath.Join(t.TempDir(), "furnace.yaml")
 	if code, _, errs := runArgs(t, "new", "furnace", "-o", path); code != 0 {
 		t.Fatalf("new: exit %d: %s", code, errs)
@@ -232,6 +236,7 @@ func limitFileSize() {
 // limit, 48 KiB, is above the 32 KiB SQLite needs for the log's
 // shared-memory file and below the export's size.
 func TestFailedExportKeepsOldFile(t *testing.T) {
+	t.Parallel()
 	l := newTestLab(t)
 	// Nine notes of 9.1 kB (a note holds at most 10,000 bytes): the export
 	// is larger than the limit.
@@ -265,6 +270,7 @@ func TestFailedExportKeepsOldFile(t *testing.T) {
 // enough (about 8 MB) that the copy takes long enough to be caught half
 // way: the test kills the process as soon as anything of the copy appears.
 func TestKilledBackup(t *testing.T) {
+	t.Parallel()
 	l := newTestLab(t)
 	args := []string{"--db", l.db, "run", "add", l.recipe}
 	for i := range 100 {

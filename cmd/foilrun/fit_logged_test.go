@@ -143,6 +143,7 @@ func flowSCCM(s recipe.StepPlan, g string) float64 {
 // believes the growth happened hotter than it did, and the energies come
 // out biased by more than 3 SE. The output counts the runs on each.
 func TestFitLoggedConditions(t *testing.T) {
+	t.Parallel()
 	const nLogged, nPlanned = 80, 5 // with 40 logged runs the planned fit's Eg bias was only 2.6 SE
 	db := loggedLab(t, nLogged, nPlanned)
 	truth := kinetics.DefaultParams()

@@ -90,6 +90,7 @@ func copyTemplates(t *testing.T, dir string, names ...string) {
 // wiring; kinetics.TestFitRecovery the statistics) and writes a params file
 // that predict, window and suggest accept with its covariance.
 func TestFitCommand(t *testing.T) {
+	t.Parallel()
 	db, dir := fitLab(t, 30, false)
 	params := filepath.Join(dir, "fitted.yaml")
 	plot := filepath.Join(dir, "parity.svg")
@@ -210,6 +211,7 @@ func checkSuggestConfidence(t *testing.T, dir, params string) {
 // Bad input: the exit status is 2 and the message says what is wrong.
 // Goldens: testdata/cli/fit/<case>.txt (stderr).
 func TestFitCommandErrors(t *testing.T) {
+	t.Parallel()
 	db, dir := fitLab(t, 8, false)
 	dbOne, dirOne := fitLab(t, 8, true)
 	for _, c := range []struct {
@@ -237,6 +239,7 @@ func TestFitCommandErrors(t *testing.T) {
 // recipe passes check, and an impossible target exits 2 naming the
 // limits that bind (testdata/cli/suggest/impossible.txt).
 func TestSuggestCommand(t *testing.T) {
+	t.Parallel()
 	dir := t.TempDir()
 	out := filepath.Join(dir, "fast.yaml")
 	code, stdout, errs := runCLI(t, "suggest", "../../templates/recipe-lowpressure.yaml", "--target", "coverage>=0.99",
@@ -277,6 +280,7 @@ func TestSuggestCommand(t *testing.T) {
 // On a terminal the fit draws the one progress bar ("fitting") on stderr;
 // piped, stderr holds only the status lines.
 func TestFitProgressOnTerminal(t *testing.T) {
+	t.Parallel()
 	db, _ := fitLab(t, 8, false)
 	for _, tty := range []bool{true, false} {
 		var out, errb strings.Builder

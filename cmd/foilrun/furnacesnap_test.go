@@ -154,6 +154,7 @@ func TestFurnaceSnapshotKept(t *testing.T) {
 // Two furnaces, one fit: runs logged on tube-1 and tube-2 (each its own
 // furnace file) fit together, each on its own snapshot.
 func TestFurnaceSnapshotTwoFurnaces(t *testing.T) {
+	t.Parallel()
 	dir := t.TempDir()
 	db := filepath.Join(dir, "runs.db")
 	snapLab(t, dir, db, "furnace.yaml", "tube-1", 7, 8)

@@ -17,6 +17,7 @@ const bigRows = 100_000
 // and want.txt, the message (-update rewrites it): each exits 2 and
 // leaves the log as it was (one run logged before stays the only one).
 func TestHistoryBadInputs(t *testing.T) {
+	t.Parallel()
 	root := filepath.Join("..", "..", "testdata", "history", "bad")
 	cases, err := os.ReadDir(root)
 	if err != nil {
@@ -24,6 +25,7 @@ func TestHistoryBadInputs(t *testing.T) {
 	}
 	for _, c := range cases {
 		t.Run(c.Name(), func(t *testing.T) {
+			t.Parallel()
 			dir := t.TempDir()
 			copyTemplates(t, dir, "furnace.yaml", "site.yaml", "recipe-lowpressure.yaml")
 			caseDir := filepath.Join(root, c.Name())

@@ -163,6 +163,7 @@ func fitLog(t *testing.T, db string, start kinetics.Params) *kinetics.FitResult 
 // 99.7 % chance: with seed 13 b lands at 3.3 SE, seeds 14 to 16 all
 // inside; the test uses 14.)
 func TestHistoryRecovery(t *testing.T) {
+	t.Parallel()
 	dir := t.TempDir()
 	copyTemplates(t, dir, "furnace.yaml", "site.yaml", "recipe-lowpressure.yaml")
 	truth := kinetics.DefaultParams()
@@ -261,6 +262,7 @@ func BenchmarkHistoryImport10k(b *testing.B) {
 // Row 3 sets 0.5 Torr with 55 sccm, below the 602 mTorr the template
 // furnace's 5.5 m3/h pump holds (the pressure.pump-limit rule).
 func TestHistoryCheckFindingsShown(t *testing.T) {
+	t.Parallel()
 	dir := t.TempDir()
 	copyTemplates(t, dir, "furnace.yaml", "site.yaml", "recipe-lowpressure.yaml")
 	sheet := filepath.Join(dir, "runs.csv")

@@ -17,6 +17,7 @@ import (
 // in a goroutine so that a hang fails the test after 5 s instead of
 // blocking it.
 func TestInputsNotRegular(t *testing.T) {
+	t.Parallel()
 	l := newTestLab(t)
 	fifo := filepath.Join(l.dir, "pipe")
 	if err := syscall.Mkfifo(fifo, 0o644); err != nil {
@@ -96,6 +97,7 @@ func TestInputsNotRegular(t *testing.T) {
 // run show, in runs list tables (aligned and piped) and CSV, and kept as
 // they were in JSON (issue 16: run show printed them raw).
 func TestControlCharactersEscaped(t *testing.T) {
+	t.Parallel()
 	l := newTestLab(t)
 	const operator, note, lot = "eve\x1b[2J\x1b[31m", "ring\x07 the bell\r, reversed \u202egnirts", "L\x7f-1"
 	code, out, errs := runArgs(t, "--db", l.db, "run", "add", l.recipe, "--operator", operator, "--note", note, "--lot", lot)
@@ -149,6 +151,7 @@ func TestControlCharactersEscaped(t *testing.T) {
 // work, with its memory estimate; at the limit it runs. The default
 // limit is 1,000 × 1,000.
 func TestWindowGridBound(t *testing.T) {
+	t.Parallel()
 	recipe := "../../templates/recipe-lowpressure.yaml"
 	vary := []string{"--vary", "temperature=950C:1000C:3", "--vary", "CH4=5sccm:10sccm:3"}
 	tests := []struct {

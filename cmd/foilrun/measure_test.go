@@ -28,6 +28,7 @@ func writeSynth(t *testing.T, n int, r float64) (string, float64) {
 }
 
 func TestMeasureImage(t *testing.T) {
+	t.Parallel()
 	path, cov := writeSynth(t, 40, 18)
 	overlay := filepath.Join(t.TempDir(), "o.png")
 	code, out, e := runCLI(t, "measure", "image", path, "--pixel", "0.5um", "--polarity", "darker", "--overlay", overlay, "--output", "json")
@@ -48,6 +49,7 @@ func TestMeasureImage(t *testing.T) {
 }
 
 func TestMeasureBadInput(t *testing.T) {
+	t.Parallel()
 	path, _ := writeSynth(t, 10, 10)
 	tests := []struct {
 		name string
@@ -77,6 +79,7 @@ func TestMeasureBadInput(t *testing.T) {
 }
 
 func TestMeasureFilm(t *testing.T) {
+	t.Parallel()
 	// Nair et al., Science 320, 1308 (2008): a monolayer absorbs πα ≈ 2.3 %,
 	// so 97.7 % transmittance reads as one layer.
 	code, out, e := runCLI(t, "measure", "film", "--transmittance", "97.7%", "--raman", "2d/g=2.3,d/g=0.05", "--output", "json")
@@ -101,6 +104,7 @@ func TestMeasureFilm(t *testing.T) {
 // against the run with their method, and the image is attached by its
 // content hash; a bad image stores nothing.
 func TestOutcomeMeasureStores(t *testing.T) {
+	t.Parallel()
 	db := "--db=" + filepath.Join(t.TempDir(), "log.db")
 	code, out, e := runCLI(t, db, "run", "add", tmplDir+"recipe-lowpressure.yaml")
 	if code != 0 {

@@ -11,6 +11,7 @@ import (
 // more than one. Values: the mean of 0.90 and 0.94 is 0.92; their sample
 // standard deviation is |0.94 − 0.90|/√2 = 0.028284 (by hand).
 func TestRepeatedMeasurements(t *testing.T) {
+	t.Parallel()
 	dir := t.TempDir()
 	db := filepath.Join(dir, "runs.db")
 	snapLab(t, dir, db, "furnace.yaml", "tube-1", 7, 8)
@@ -36,6 +37,7 @@ func TestRepeatedMeasurements(t *testing.T) {
 // outcome add --replace corrects a mistaken entry; run show --history
 // lists who replaced what, when; a metric the run lacks is refused.
 func TestOutcomeReplace(t *testing.T) {
+	t.Parallel()
 	dir := t.TempDir()
 	db := filepath.Join(dir, "runs.db")
 	code, out, errs := runArgs(t, "--db", db, "run", "add", "../../templates/recipe-lowpressure.yaml", "--outcome", "coverage=39%")

@@ -37,6 +37,7 @@ func boxedSame(t *testing.T, tb table) (drawn bool) {
 // what tablewriter draws, on named cases and on 300 random tables of
 // plain cells, and declines every table it cannot draw.
 func TestBoxedSameAsTablewriter(t *testing.T) {
+	t.Parallel()
 	tests := []struct {
 		name  string
 		tb    table

@@ -7,6 +7,7 @@ import (
 )
 
 func TestOutputFormatFlag(t *testing.T) {
+	t.Parallel()
 	tests := []struct {
 		in      string
 		want    outputFormat
@@ -39,6 +40,7 @@ func TestOutputFormatFlag(t *testing.T) {
 // tab-separated with the header row when piped (cells' tabs and line
 // breaks become spaces so each row stays one line).
 func TestWriteTableForms(t *testing.T) {
+	t.Parallel()
 	tb := table{Header: []string{"step", "T C"}, Numeric: []bool{false, true}}
 	tb.add("1 anneal", "1000")
 	tb.add("2 grow\n→ check the flow", "980")
@@ -73,6 +75,7 @@ func TestWriteTableForms(t *testing.T) {
 // The piped form of a whole command's human output, pinned: check on the
 // low-pressure template with stdout not a terminal.
 func TestCheckPipedGolden(t *testing.T) {
+	t.Parallel()
 	code, out, errs := runPiped(t, "check", tmplDir+"recipe-lowpressure.yaml")
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, errs)
@@ -84,6 +87,7 @@ func TestCheckPipedGolden(t *testing.T) {
 }
 
 func TestProgressOnlyOnATerminal(t *testing.T) {
+	t.Parallel()
 	var b bytes.Buffer
 	if p := (&streams{Err: &b}).progress("copying"); p != nil || p.report() != nil {
 		t.Fatalf("got a progress bar with stderr piped")

@@ -15,6 +15,7 @@ const lowPressure = "../../templates/recipe-lowpressure.yaml"
 // are the kinetics package's (checked there against the Avrami solution,
 // N∞ and a scipy reference); this pins the command's form and units.
 func TestPredictJSONGolden(t *testing.T) {
+	t.Parallel()
 	code, out, errOut := runCLI(t, "predict", lowPressure, "--output", "json")
 	if code != exitOK || errOut != "" {
 		t.Fatalf("exit %d, stderr %q", code, errOut)
@@ -32,6 +33,7 @@ func TestPredictJSONGolden(t *testing.T) {
 }
 
 func TestPredictTable(t *testing.T) {
+	t.Parallel()
 	code, out, _ := runCLI(t, "predict", lowPressure)
 	if code != exitOK {
 		t.Fatalf("exit %d", code)
@@ -51,6 +53,7 @@ func TestPredictTable(t *testing.T) {
 // 22.8 cm (4 rows of 5 cm under a 2.8 cm header) at 120 dpi is
 // 1228 × 1077 pixels (26 / 2.54 × 120 = 1228.3, 22.8 / 2.54 × 120 = 1077.2).
 func TestPredictPlotPNG(t *testing.T) {
+	t.Parallel()
 	path := filepath.Join(t.TempDir(), "profile.png")
 	code, _, errOut := runCLI(t, "predict", lowPressure, "--plot", path, "--output", "json")
 	if code != exitOK {
@@ -74,6 +77,7 @@ func TestPredictPlotPNG(t *testing.T) {
 }
 
 func TestPredictPlotSVG(t *testing.T) {
+	t.Parallel()
 	path := filepath.Join(t.TempDir(), "profile.svg")
 	if code, _, errOut := runCLI(t, "predict", lowPressure, "--plot", path); code != exitOK {
 		t.Fatalf("exit %d: %s", code, errOut)
@@ -86,6 +90,7 @@ func TestPredictPlotSVG(t *testing.T) {
 
 // Bad input: exit 2 with an exact message.
 func TestPredictBadInput(t *testing.T) {
+	t.Parallel()
 	dir := t.TempDir()
 	bad := filepath.Join(dir, "p.yaml")
 	if err := os.WriteFile(bad, []byte("nucleation_energy: 1 eV\nspeed: 3\n"), 0o644); err != nil {
@@ -108,6 +113,7 @@ func TestPredictBadInput(t *testing.T) {
 }
 
 func TestWindowTable(t *testing.T) {
+	t.Parallel()
 	code, out, errOut := runCLI(t, "window", lowPressure, "--vary", "temperature=960C:1080C:3", "--vary", "CH4=5sccm:35sccm:2", "--show", "nuclei_density")
 	if code != exitOK {
 		t.Fatalf("exit %d: %s", code, errOut)
@@ -126,6 +132,7 @@ func TestWindowTable(t *testing.T) {
 }
 
 func TestWindowJSONAndPlot(t *testing.T) {
+	t.Parallel()
 	path := filepath.Join(t.TempDir(), "map.png")
 	code, out, errOut := runCLI(t, "window", lowPressure, "--vary", "duration=1min:5min:3", "--vary", "pressure=20Pa:200Pa:2", "--output", "json", "--plot", path, "--show", "time_to_99")
 	if code != exitOK {
@@ -149,6 +156,7 @@ func TestWindowJSONAndPlot(t *testing.T) {
 }
 
 func TestWindowBadInput(t *testing.T) {
+	t.Parallel()
 	hint := "  hint: write --vary PARAM=FROM:TO:STEPS with PARAM temperature, pressure, duration or a gas, e.g. --vary temperature=950C:1050C:11\n"
 	for _, c := range []struct {
 		name string
@@ -174,6 +182,7 @@ func TestWindowBadInput(t *testing.T) {
 
 // On a terminal the window draws a progress bar on stderr, and only there.
 func TestWindowProgressOnTerminal(t *testing.T) {
+	t.Parallel()
 	var out, errb strings.Builder
 	code := run([]string{"window", lowPressure, "--vary", "temperature=960C:1040C:3", "--vary", "CH4=5sccm:35sccm:2", "--output", "csv"},
 		&streams{In: strings.NewReader(""), Out: &out, Err: &errb, ErrTTY: true})

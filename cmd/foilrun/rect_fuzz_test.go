@@ -35,6 +35,7 @@ func FuzzParseRect(f *testing.F) {
 
 // TestParseRect pins the flag's readings and messages.
 func TestParseRect(t *testing.T) {
+	t.Parallel()
 	tests := []struct {
 		name, in, want, err string
 	}{

@@ -13,6 +13,7 @@ import (
 // (finish). The furnace log is the demo lab's short run, whose CH4 line
 // reads 4.6 sccm against a set-point of 5 sccm (the demo's seeded noise).
 func TestRunDeviationsOnStdout(t *testing.T) {
+	t.Parallel()
 	paths, err := demolab.Lay(t.TempDir())
 	if err != nil {
 		t.Fatal(err)

@@ -29,6 +29,7 @@ func labWithRunCodes(t *testing.T, runCodes string) string {
 // nothing), the two digits of the year the run started and a sequence
 // per prefix and year.
 func TestRunCodePrefix(t *testing.T) {
+	t.Parallel()
 	tests := []struct {
 		name, runCodes string
 		started        []string
@@ -59,6 +60,7 @@ func TestRunCodePrefix(t *testing.T) {
 // TestRunCodePrefixRefused: a prefix that would not read back is an error
 // at the site file's line.
 func TestRunCodePrefixRefused(t *testing.T) {
+	t.Parallel()
 	dir := labWithRunCodes(t, "run_codes:\n  prefix: t-2\n")
 	code, _, errs := runArgs(t, "--db", filepath.Join(dir, "runs.db"), "run", "add", filepath.Join(dir, "recipe-lowpressure.yaml"))
 	if code != 2 || !strings.Contains(errs, `run-code prefix "t-2"`) || !strings.Contains(errs, "site.yaml\": line ") {
@@ -72,6 +74,7 @@ func TestRunCodePrefixRefused(t *testing.T) {
 // hint and changes nothing. Every old code resolves: run show OLD names
 // the run it was renumbered to, and that run lists its old code.
 func TestRunsImportRenumber(t *testing.T) {
+	t.Parallel()
 	for _, format := range []string{"json", "csv"} {
 		t.Run(format, func(t *testing.T) {
 			dir := t.TempDir()

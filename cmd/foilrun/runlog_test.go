@@ -16,6 +16,7 @@ func runArgs(t *testing.T, args ...string) (int, string, string) {
 
 // TestRunLogCommands drives the run-log commands on a real SQLite file.
 func TestRunLogCommands(t *testing.T) {
+	t.Parallel()
 	dir := t.TempDir()
 	db := filepath.Join(dir, "runs.db")
 	recipe := "../../templates/recipe-lowpressure.yaml"

@@ -67,6 +67,7 @@ func conditionsLab(t *testing.T, finish bool) string {
 // logged temperature is the mean of 90 samples with σ 1 K noise, so it
 // lies within 0.5 K of 980 °C (about 5 standard errors, 1/√90 K each).
 func TestBestConditions(t *testing.T) {
+	t.Parallel()
 	for _, finish := range []bool{false, true} {
 		name := map[bool]string{false: "run add", true: "run finish"}[finish]
 		t.Run(name, func(t *testing.T) {

@@ -8,6 +8,7 @@ import (
 )
 
 func TestSafetyExitCodes(t *testing.T) {
+	t.Parallel()
 	cases := []struct {
 		name string
 		args []string
@@ -35,6 +36,7 @@ func TestSafetyExitCodes(t *testing.T) {
 }
 
 func TestSafetyNeedsSite(t *testing.T) {
+	t.Parallel()
 	dir := t.TempDir()
 	data, err := os.ReadFile("../../templates/recipe-lowpressure.yaml")
 	if err != nil {
@@ -57,6 +59,7 @@ func TestSafetyNeedsSite(t *testing.T) {
 // Each template recipe's checklist, in both formats, pinned in
 // testdata/checklist/<name>.txt and .md; one printable page each.
 func TestChecklistGoldens(t *testing.T) {
+	t.Parallel()
 	for _, name := range []string{"lowpressure", "atmospheric", "largedomain"} {
 		for _, f := range []struct{ format, ext string }{{"text", ".txt"}, {"markdown", ".md"}} {
 			t.Run(name+f.ext, func(t *testing.T) {
@@ -79,6 +82,7 @@ func TestChecklistGoldens(t *testing.T) {
 }
 
 func TestChecklistFileAndStops(t *testing.T) {
+	t.Parallel()
 	path := filepath.Join(t.TempDir(), "list.md")
 	code, out, errs := runCLI(t, "checklist", "../../testdata/safety/h2-before-leak-check/recipe.yaml", "--format", "markdown", "-o", path)
 	if code != 1 {

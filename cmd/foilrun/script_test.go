@@ -4,10 +4,13 @@ import (
 	"image"
 	"image/color"
 	"image/png"
+	"io/fs"
 	"os"
+	"os/exec"
 	"path/filepath"
 	"regexp"
 	"strconv"
+	"sync"
 	"testing"
 
 	"github.com/rogpeppe/go-internal/testscript"
@@ -28,12 +31,14 @@ func TestMain(m *testing.M) {
 // each pins a user-visible behaviour (exit status, message, output) of the
 // real binary entry point, in a fresh working folder with the templates
 // copied in as $TEMPLATES. Besides testscript's own commands a script may
-// use runcode and squares (below).
+// use runcode, squares and demolab (below).
 func TestScripts(t *testing.T) {
+	t.Parallel() // the scripts run foilrun as a child process, each in a folder of its own
 	tmpl, err := filepath.Abs("../../templates")
 	if err != nil {
 		t.Fatal(err)
 	}
+	demo := &demoCache{dir: t.TempDir()}
 	testscript.Run(t, testscript.Params{
 		Dir: "../../testdata/script",
 		Setup: func(env *testscript.Env) error {
@@ -45,6 +50,7 @@ func TestScripts(t *testing.T) {
 		Cmds: map[string]func(ts *testscript.TestScript, neg bool, args []string){
 			"runcode": cmdRunCode,
 			"squares": cmdSquares,
+			"demolab": demo.cmd,
 		},
 	})
 }
@@ -108,4 +114,59 @@ func cmdSquares(ts *testscript.TestScript, neg bool, args []string) {
 	ts.Check(err)
 	ts.Check(png.Encode(f, img))
 	ts.Check(f.Close())
+}
+
+// demoCache is the lab that "foilrun demo lab" lays out, made once for all
+// the scripts that start from it (demolab) rather than once per script;
+// demo.txtar still runs the demo itself and checks what it prints.
+type demoCache struct {
+	dir  string // the folder the demo ran in; the lab is dir/lab
+	once sync.Once
+	out  string // the demo's output when it failed
+	err  error
+}
+
+// cmd is "demolab": it lays out the demo lab as "exec foilrun demo lab"
+// does in the script's folder, by copying the lab of one demo run, file
+// for file. The demo ran as the scripts run it (a child foilrun, in a
+// folder of its own, with the argument "lab"), so every path it wrote
+// into the lab and its log reads as it would; the demo is seeded, so its
+// lab does not depend on which script ran it first.
+func (c *demoCache) cmd(ts *testscript.TestScript, neg bool, args []string) {
+	if neg || len(args) != 0 {
+		ts.Fatalf("usage: demolab")
+	}
+	c.once.Do(func() {
+		cmd := exec.Command("foilrun", "demo", "lab")
+		cmd.Dir = c.dir
+		cmd.Env = append(os.Environ(), "FOILRUN_DB=", "XDG_DATA_HOME="+filepath.Join(c.dir, "xdg"))
+		out, err := cmd.CombinedOutput()
+		c.out, c.err = string(out), err
+	})
+	if c.err != nil {
+		ts.Fatalf("demolab: foilrun demo lab: %v\n%s", c.err, c.out)
+	}
+	src := filepath.Join(c.dir, "lab")
+	ts.Check(filepath.WalkDir(src, func(path string, d fs.DirEntry, err error) error {
+		if err != nil {
+			return err
+		}
+		rel, err := filepath.Rel(src, path)
+		if err != nil {
+			return err
+		}
+		dst := ts.MkAbs(filepath.Join("lab", rel))
+		info, err := d.Info()
+		if err != nil {
+			return err
+		}
+		if d.IsDir() {
+			return os.MkdirAll(dst, info.Mode().Perm())
+		}
+		data, err := os.ReadFile(path)
+		if err != nil {
+			return err
+		}
+		return os.WriteFile(dst, data, info.Mode().Perm())
+	}))
 }

@@ -6,6 +6,7 @@ import (
 )
 
 func TestVersionAndCompletion(t *testing.T) {
+	t.Parallel()
 	code, out, _ := runCLI(t, "version")
 	if code != 0 || !strings.HasPrefix(out, "foilrun ") {
 		t.Errorf("version: exit %d, %q", code, out)

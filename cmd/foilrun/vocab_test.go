@@ -19,6 +19,7 @@ import (
 // The suggest and fit cases go through the kinetics parsers
 // (kinetics.ParseTarget, the --vary list, kinetics.ParseMetric).
 func TestOldSpellingsRefused(t *testing.T) {
+	t.Parallel()
 	db := "--db=" + filepath.Join(t.TempDir(), "log.db")
 	window := []string{"window", lowPressure, "--vary", "temperature=960C:1040C:3", "--vary", "CH4=5sccm:35sccm:2"}
 	tests := []struct {
@@ -59,6 +60,7 @@ func TestOldSpellingsRefused(t *testing.T) {
 // percentage: 90% and 0.9 give the same table; a non-fraction metric
 // takes a number in its canonical unit only.
 func TestRunsBestPercentages(t *testing.T) {
+	t.Parallel()
 	db := "--db=" + filepath.Join(t.TempDir(), "log.db")
 	for _, cov := range []string{"0.95", "80%", "97%"} {
 		if code, _, errs := runPiped(t, db, "run", "add", tmplDir+"recipe-lowpressure.yaml", "--outcome", "coverage="+cov, "--outcome", "domain_size=12um"); code != 0 {
@@ -102,6 +104,7 @@ func TestRunsBestPercentages(t *testing.T) {
 // The kinetics library's messages name no flag; the command line puts the
 // flag in front and keeps the library's hint line.
 func TestLibraryErrorsNameTheFlag(t *testing.T) {
+	t.Parallel()
 	db := "--db=" + filepath.Join(t.TempDir(), "log.db")
 	tests := []struct {
 		name string
@@ -151,6 +154,7 @@ var oldInHelp = []struct {
 
 // The patterns trip on the old help texts and pass the prose of the new.
 func TestOldInHelpPatterns(t *testing.T) {
+	t.Parallel()
 	for _, c := range []struct {
 		text string
 		want string // pattern name, "" for none
@@ -185,6 +189,7 @@ func TestOldInHelpPatterns(t *testing.T) {
 // No command's --help teaches an old spelling. The commands are found by
 // walking the root command's tree, so a new command is covered too.
 func TestHelpUsesOneVocabulary(t *testing.T) {
+	t.Parallel()
 	root := newRootCmd(&factory{io: &streams{In: strings.NewReader(""), Out: io.Discard, Err: io.Discard}, now: time.Now})
 	var paths [][]string
 	var walk func(c *cobra.Command, path []string)

@@ -59,6 +59,7 @@ func readmeRoles(t *testing.T) (admin, owner []string) {
 // fit through a read-only open; a write with the reader's rights fails
 // with a hint naming the privilege.
 func TestReadmeRoles(t *testing.T) {
+	t.Parallel()
 	base := serverURL(t)
 	ctx := context.Background()
 	adminSQL, ownerSQL := readmeRoles(t)

@@ -23,6 +23,7 @@ import (
 // file permissions stop nothing, so this holds only because OpenReadOnly
 // opens with mode=ro.
 func TestReadOnlyFile(t *testing.T) {
+	t.Parallel()
 	ctx := context.Background()
 	path := filepath.Join(t.TempDir(), "runs.db")
 	w, err := Open(ctx, path)
@@ -75,6 +76,7 @@ func readStat(t *testing.T, path string) ([]byte, fs.FileInfo) {
 // migrated, and SQLite's own refusal of a write (SQLITE_READONLY) is what
 // Refused recognises, so a writer gets the hint naming the permission.
 func TestReadOnlyOpenErrors(t *testing.T) {
+	t.Parallel()
 	ctx := context.Background()
 	dir := t.TempDir()
 	missing := filepath.Join(dir, "no-such.db")

@@ -12,6 +12,7 @@ import (
 )
 
 func TestPragmas(t *testing.T) {
+	t.Parallel()
 	db, _ := openTemp(t)
 	ctx := context.Background()
 	var mode string
@@ -26,6 +27,7 @@ func TestPragmas(t *testing.T) {
 // TestMigrations: from an empty file and from files left at every
 // earlier version (the shared check in storetest).
 func TestMigrations(t *testing.T) {
+	t.Parallel()
 	storetest.Migrations(t, dialect{}, func(t *testing.T) (*sql.DB, func() (store.RunLog, error)) {
 		path := filepath.Join(t.TempDir(), "runs.db")
 		raw, err := open(context.Background(), path, false)
@@ -37,12 +39,14 @@ func TestMigrations(t *testing.T) {
 }
 
 func TestSchemaTooNew(t *testing.T) {
+	t.Parallel()
 	db, path := openTemp(t)
 	storetest.SchemaTooNew(t, db, func() (store.RunLog, error) { return Open(context.Background(), path) })
 }
 
 // TestSuite runs the back-end-agnostic suite on fresh SQLite files.
 func TestSuite(t *testing.T) {
+	t.Parallel()
 	storetest.Run(t, func(t *testing.T) store.RunLog {
 		db, _ := openTemp(t)
 		return db
@@ -50,6 +54,7 @@ func TestSuite(t *testing.T) {
 }
 
 func TestBackupWhileWriting(t *testing.T) {
+	t.Parallel()
 	db, path := openTemp(t)
 	ctx := context.Background()
 	recs := make([]store.RunRecord, 500)

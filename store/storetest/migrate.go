@@ -28,6 +28,7 @@ func Migrations(t *testing.T, d sqldb.Dialect, fresh Fresh) {
 	}
 	for v := 0; v < latest; v++ {
 		t.Run("from"+strconv.Itoa(v), func(t *testing.T) {
+			t.Parallel() // each start is a log of its own
 			raw, open := fresh(t)
 			if v > 0 {
 				if err := sqldb.Migrate(ctx, raw, d, v); err != nil {

@@ -188,6 +188,7 @@ func killAtHalfway(t *testing.T, args ...string) {
 func KilledImport(t *testing.T, open OpenFunc, target func(t *testing.T) string, n int) {
 	for _, pause := range []string{"1", "0"} {
 		t.Run("pause"+pause, func(t *testing.T) {
+			t.Parallel()
 			ctx := context.Background()
 			tg := target(t)
 			l, err := open(ctx, tg)

@@ -33,7 +33,8 @@ import (
 // and removes it in t.Cleanup.
 type Opener func(t *testing.T) store.RunLog
 
-// Run runs the shared suite, each test on its own fresh log.
+// Run runs the shared suite, each test on its own fresh log and in
+// parallel with the others (they share nothing but the back end's server).
 func Run(t *testing.T, open Opener) {
 	tests := []struct {
 		name string
@@ -65,7 +66,10 @@ func Run(t *testing.T, open Opener) {
 		{"Override", testOverride},
 	}
 	for _, tt := range tests {
-		t.Run(tt.name, func(t *testing.T) { tt.fn(t, open) })
+		t.Run(tt.name, func(t *testing.T) {
+			t.Parallel()
+			tt.fn(t, open)
+		})
 	}
 }
 

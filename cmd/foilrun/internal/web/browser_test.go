@@ -9,6 +9,7 @@ import (
 	"flag"
 	"fmt"
 	"image"
+	"image/color"
 	"image/png"
 	"net/http"
 	"net/http/httptest"
@@ -47,6 +48,7 @@ const browserRuns = 12
 // checklist in print media (one page of PDF), and the analysis pages
 // (/best, /rank, /fit, /window). Every page's screenshot must not be blank.
 func TestBrowser(t *testing.T) {
+	t.Parallel()
 	if _, err := os.Stat(chromiumPath); err != nil {
 		if os.Getenv("CI") == "true" {
 			t.Fatalf("no browser at %s under CI=true: install it (apt-get install -y chromium)", chromiumPath)
@@ -55,8 +57,10 @@ func TestBrowser(t *testing.T) {
 	}
 	root := startBrowser(t)
 	// The back ends walk one after the other, each in a tab of its own:
-	// a background tab does not take typed keys, so they cannot share the
-	// browser in parallel.
+	// a background tab does not take typed keys (tried again with focus
+	// emulation and with each tab brought to the front for its typing,
+	// both lost keys), so they cannot share the browser in parallel. The
+	// test as a whole runs in parallel with the package's other tests.
 	t.Run("sqlite", func(t *testing.T) {
 		log, err := sqlite.Open(context.Background(), filepath.Join(t.TempDir(), "browser.db"))
 		if err != nil {
@@ -290,7 +294,7 @@ func (b *browser) shot(name string) {
 	b.t.Helper()
 	ctx, cancel := b.step()
 	defer cancel()
-	data, err := chromedp.Run(ctx, chromedp.FullScreenshot(100))
+	data, err := chromedp.Run(ctx, fullScreenshot)
 	if err != nil {
 		b.t.Fatalf("screenshot %s: %v", name, err)
 	}
@@ -307,6 +311,19 @@ func (b *browser) shot(name string) {
 	}
 }
 
+// fullScreenshot captures the whole page as a PNG, as
+// chromedp.FullScreenshot(100) does, but asks Chromium to encode for speed
+// (less compression, the same pixels).
+func fullScreenshot(ctx context.Context, t *chromedp.Target) ([]byte, error) {
+	yes := true
+	r, err := cdp.Call(ctx, t, page.CaptureScreenshot, page.CaptureScreenshotParams{
+		Format: page.CaptureScreenshotFormatPng, CaptureBeyondViewport: &yes, FromSurface: &yes, OptimizeForSpeed: &yes})
+	if err != nil {
+		return nil, err
+	}
+	return r.Data, nil
+}
+
 // Thresholds of a non-blank page: at least minInk of the pixels differ
 // from the page's background (its most common colour) and at least
 // minColours distinct colours appear. A page of text and tables covers a
@@ -317,14 +334,27 @@ const (
 	minColours = 8
 )
 
-// notBlank reports whether img looks like a drawn page.
+// notBlank reports whether img looks like a drawn page. Pixels are
+// counted per run of one colour along a row (a page is mostly long runs
+// of its background), so the map is touched once per run, not per pixel.
 func notBlank(img image.Image) error {
 	counts := map[[4]uint32]int{}
 	r := img.Bounds()
+	at := colourAt(img)
 	for y := r.Min.Y; y < r.Max.Y; y++ {
+		var run [4]uint32
+		n := 0
 		for x := r.Min.X; x < r.Max.X; x++ {
-			cr, cg, cb, ca := img.At(x, y).RGBA()
-			counts[[4]uint32{cr, cg, cb, ca}]++
+			if c := at(x, y); c != run || n == 0 {
+				if n > 0 {
+					counts[run] += n
+				}
+				run, n = c, 0
+			}
+			n++
+		}
+		if n > 0 {
+			counts[run] += n
 		}
 	}
 	background := 0
@@ -340,6 +370,30 @@ func notBlank(img image.Image) error {
 		return fmt.Errorf("%d distinct colours, want at least %d", len(counts), minColours)
 	}
 	return nil
+}
+
+// colourAt returns a function giving the colour of a pixel of img as
+// img.At(x, y).RGBA() does (16-bit, alpha-premultiplied), reading the
+// pixels of the RGBA and NRGBA images png.Decode returns for screenshots
+// directly rather than through a color.Color per pixel.
+func colourAt(img image.Image) func(x, y int) [4]uint32 {
+	rgba := func(c color.Color) [4]uint32 {
+		r, g, b, a := c.RGBA()
+		return [4]uint32{r, g, b, a}
+	}
+	switch m := img.(type) {
+	case *image.RGBA:
+		return func(x, y int) [4]uint32 {
+			p := m.Pix[m.PixOffset(x, y):]
+			return rgba(color.RGBA{p[0], p[1], p[2], p[3]})
+		}
+	case *image.NRGBA:
+		return func(x, y int) [4]uint32 {
+			p := m.Pix[m.PixOffset(x, y):]
+			return rgba(color.NRGBA{p[0], p[1], p[2], p[3]})
+		}
+	}
+	return func(x, y int) [4]uint32 { return rgba(img.At(x, y)) }
 }
 
 // runList opens /runs, checks every run is listed, then filters with the

@@ -3,6 +3,7 @@ package web
 import (
 	"image"
 	"image/color"
+	"image/draw"
 	"strings"
 	"testing"
 )
@@ -10,6 +11,7 @@ import (
 // TestNotBlank checks the blank-page test on images whose ink share and
 // colours are known by construction.
 func TestNotBlank(t *testing.T) {
+	t.Parallel()
 	white := color.RGBA{255, 255, 255, 255}
 	page := func(rows int, colours int) image.Image {
 		img := image.NewRGBA(image.Rect(0, 0, 100, 100))
@@ -33,6 +35,11 @@ func TestNotBlank(t *testing.T) {
 		{"half a row of ink", halfRow(), "of the pixels differ"},
 		{"ink in two colours", page(30, 2), "distinct colours"},
 		{"text-like page", page(30, 16), ""},
+		// the same pages in the other pixel layouts notBlank reads
+		{"white page, NRGBA", asNRGBA(page(0, 1)), "of the pixels differ"},
+		{"text-like page, NRGBA", asNRGBA(page(30, 16)), ""},
+		{"text-like page, 16-bit", as64(page(30, 16)), ""},
+		{"ink in two colours, 16-bit", as64(page(30, 2)), "distinct colours"},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
@@ -52,6 +59,7 @@ func TestNotBlank(t *testing.T) {
 // object is /Type /Page, a tree node /Type /Pages; section number from
 // memory).
 func TestPDFPages(t *testing.T) {
+	t.Parallel()
 	tests := []struct {
 		name string
 		pdf  string
@@ -84,4 +92,17 @@ func halfRow() image.Image {
 		}
 	}
 	return img
+}
+
+// asNRGBA and as64 copy img into an NRGBA and an RGBA64 image.
+func asNRGBA(img image.Image) image.Image {
+	m := image.NewNRGBA(img.Bounds())
+	draw.Draw(m, m.Bounds(), img, img.Bounds().Min, draw.Src)
+	return m
+}
+
+func as64(img image.Image) image.Image {
+	m := image.NewRGBA64(img.Bounds())
+	draw.Draw(m, m.Bounds(), img, img.Bounds().Min, draw.Src)
+	return m
 }

@@ -23,10 +23,17 @@ import (
 
 // backends runs f once per store back end, as the subtests "sqlite" and
 // "postgres"; testLog opens the one the subtest names. PostgreSQL runs
-// when .ci/postgres's environment is set, and must under CI=true.
+// when .ci/postgres's environment is set, and must under CI=true. Each
+// subtest has a log and a server of its own, so the test and both of its
+// subtests run in parallel with the others.
 func backends(t *testing.T, f func(t *testing.T)) {
-	t.Run("sqlite", f)
+	t.Parallel()
+	t.Run("sqlite", func(t *testing.T) {
+		t.Parallel()
+		f(t)
+	})
 	t.Run("postgres", func(t *testing.T) {
+		t.Parallel()
 		if os.Getenv(postgresEnv) == "" {
 			if os.Getenv("CI") == "true" {
 				t.Fatalf("%s is not set and CI=true: source .ci/postgres first", postgresEnv)
