@@ -4,13 +4,17 @@ import "encoding/binary"
 
 // huffman decodes one compressed block with the literal/length table lit
 // and the distance table dist (RFC 1951, section 3.2.5) until its end of
-// block code. This is the hot loop, with the bit buffer in local
-// variables: after a refill the buffer holds at least 56 bits unless the
+// block code. The fast loop (fast) takes the block while it is far from
+// the ends of input and output; this careful loop, with the bit buffer in
+// local variables, decodes the rest and reports damage: after a refill the buffer holds at least 56 bits unless the
 // input is ending, enough for a literal/length code with its extra bits
 // (at most 15 + 5) and a distance code with its extra bits (at most
 // 15 + 13), so one refill serves a whole match; the length checks against
 // nb only fail near the end of the input.
 func (d *decoder) huffman(lit, dist *table) error {
+	if d.fast(lit, dist) {
+		return nil
+	}
 	out, n := d.out, d.n
 	in, pos, bits, nb := d.in, d.pos, d.bits, d.nb
 	var err error

@@ -10,7 +10,10 @@
 // second look-up only for longer codes, and a table entry gives both the
 // symbol's meaning and the number of extra bits that follow it, so a
 // length or distance with its extra bits is read in one step. Matches
-// whose distance is at least 8 are copied 8 bytes at a time.
+// whose distance is at least 8 are copied 8 bytes at a time. Away from the
+// ends of the input and the output a fast loop (fast.go) decodes without
+// any end checks, up to three literals per refill; the careful loop
+// (huffman.go) takes over near the ends and reports damage.
 //
 // Corrupt input gives an error, never a panic or a read outside the
 // input: bad code lengths, unknown symbols, a distance before the start

@@ -6,6 +6,7 @@ import (
 	"compress/zlib"
 	"encoding/binary"
 	"errors"
+	"hash/adler32"
 	"io"
 	"io/fs"
 	"math/rand/v2"
@@ -370,6 +371,31 @@ func BenchmarkZlibStd(b *testing.B) {
 		}
 		if _, err := io.ReadFull(z, dst); err != nil {
 			b.Fatal(err)
+		}
+	}
+}
+
+// TestAdler32: against the standard library's hash/adler32 (an
+// independent implementation of RFC 1950, section 8.2) on random bytes and
+// on all-0xff bytes (the largest sums), at every length up to 100, around
+// the 5552-byte reduction interval and over a few MB.
+func TestAdler32(t *testing.T) {
+	t.Parallel()
+	r := rand.New(rand.NewPCG(7, 8))
+	random := make([]byte, 3<<20+5)
+	for i := range random {
+		random[i] = byte(r.Uint32())
+	}
+	ones := bytes.Repeat([]byte{0xff}, len(random))
+	lengths := []int{5551, 5552, 5553, 5552*3 + 7, 1 << 20, len(random)}
+	for n := range 101 {
+		lengths = append(lengths, n)
+	}
+	for name, data := range map[string][]byte{"random": random, "0xff": ones} {
+		for _, n := range lengths {
+			if got, want := Adler32(data[:n]), adler32.Checksum(data[:n]); got != want {
+				t.Errorf("%s, %d bytes: got %08x, want hash/adler32's %08x", name, n, got, want)
+			}
 		}
 	}
 }
