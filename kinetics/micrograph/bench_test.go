@@ -48,7 +48,7 @@ func BenchmarkAnalyze4096(b *testing.B) {
 func BenchmarkSmooth4096(b *testing.B) {
 	p, _, _ := toPlane(benchImage(), nil)
 	for b.Loop() {
-		smooth(p, DefaultSmoothRadius)
+		smooth(p, DefaultSmoothRadius, numWorkers(p.h))
 	}
 }
 

@@ -308,11 +308,27 @@ func (d *pngReader) parseTRNS(length uint32) error {
 	return d.verifyChecksum()
 }
 
+// idatRoom is the room made for the image data before it is read, so
+// that it is read into one buffer without growing it: the size of a zlib
+// stream of stored blocks holding the rows the header gives (5 bytes a
+// block of 65 535, 6 for the zlib header and checksum), which a deflating
+// encoder does not exceed, or the file's size when that is smaller.
+// Longer data still fits, by growing the buffer.
+func (d *pngReader) idatRoom() int {
+	h := &d.hdr
+	raw := h.height * (1 + (h.bitsPerPixel()*h.width+7)/8)
+	room := raw + 5*(raw/65535+1) + 6
+	if d.sizeHint > 0 {
+		room = min(room, d.sizeHint)
+	}
+	return max(room, int(d.idatLeft))
+}
+
 // readIDAT reads the data of consecutive IDAT chunks, the first of
 // which has d.idatLeft bytes to come, checking each chunk's CRC, and
 // leaves the header of the chunk after them pending.
 func (d *pngReader) readIDAT() ([]byte, error) {
-	data := make([]byte, 0, max(d.sizeHint, int(d.idatLeft)))
+	data := make([]byte, 0, d.idatRoom())
 	for {
 		if int32(d.idatLeft) < 0 {
 			return nil, pngUnsupportedError("IDAT chunk length overflow")
@@ -357,12 +373,8 @@ func (d *pngReader) decodePixels() (image.Image, error) {
 	if err != nil {
 		return nil, err
 	}
-	depth := 8
-	if d.hdr.depth == 16 {
-		depth = 16
-	}
-	img := newLumaImage(d.hdr.width, d.hdr.height, depth)
-	if err := d.readRows(data, img); err != nil {
+	img, err := d.readRows(data)
+	if err != nil {
 		return nil, err
 	}
 	if err := d.chunksUntil(stIEND); err != nil {

@@ -22,9 +22,14 @@ import "encoding/binary"
 //     version 3.3", RFC 1950, 1996, section 8.2.
 //   - H. S. Warren, Jr., "Hacker's Delight", 2nd ed., Addison-Wesley, 2012,
 //     section 5-1 (summing the fields of a word by multiplication).
-func Adler32(p []byte) uint32 {
+func Adler32(p []byte) uint32 { return Adler32Update(1, p) }
+
+// Adler32Update returns the Adler-32 of the bytes whose checksum is sum
+// followed by p (the checksum of no bytes is 1): Adler-32 is computed in
+// one pass, so the sums of consecutive pieces chain.
+func Adler32Update(sum uint32, p []byte) uint32 {
 	const mod, nmax = 65521, 5552 // nmax is a multiple of 8
-	a, b := uint32(1), uint32(0)
+	a, b := sum&0xffff, sum>>16
 	for len(p) > 0 {
 		chunk := p[:min(len(p), nmax)]
 		p = p[len(chunk):]

@@ -66,12 +66,26 @@ type Result struct {
 // (dst[:n] will not change again), and once with the total after the last
 // block, before the checksum is checked.
 func Zlib(dst, src []byte, step int, progress func(n int)) (Result, error) {
+	res, sum, err := Inflate(dst, src, step, progress)
+	if err == nil && sum != Adler32(dst[:res.N]) {
+		return Result{N: res.N}, ErrChecksum
+	}
+	return res, err
+}
+
+// Inflate is Zlib without the checksum test: it returns the Adler-32 the
+// stream ends with, for a caller that sums the output itself while it
+// consumes it (Adler32Update over dst[:Result.N], in order), say on another
+// goroutine, and compares. Back-references reach at most Window bytes
+// back, so once progress has reported n, dst[:n−Window] is never read
+// again and the caller may overwrite it (after summing it).
+func Inflate(dst, src []byte, step int, progress func(n int)) (Result, uint32, error) {
 	if len(src) < 2 {
-		return Result{}, ErrTruncated
+		return Result{}, 0, ErrTruncated
 	}
 	cmf, flg := src[0], src[1]
 	if cmf&0x0f != 8 || cmf>>4 > 7 || (uint(cmf)<<8|uint(flg))%31 != 0 {
-		return Result{}, &CorruptError{0, "invalid zlib header"}
+		return Result{}, 0, &CorruptError{0, "invalid zlib header"}
 	}
 	start := 2
 	if flg&0x20 != 0 {
@@ -79,30 +93,31 @@ func Zlib(dst, src []byte, step int, progress func(n int)) (Result, error) {
 		// empty dictionary (its Adler-32, 1) can be satisfied, as in
 		// compress/zlib.
 		if len(src) < 6 {
-			return Result{}, ErrTruncated
+			return Result{}, 0, ErrTruncated
 		}
 		if binary.BigEndian.Uint32(src[2:]) != 1 {
-			return Result{}, &CorruptError{2, "stream needs a preset dictionary"}
+			return Result{}, 0, &CorruptError{2, "stream needs a preset dictionary"}
 		}
 		start = 6
 	}
 	d := decoder{in: src, pos: start, out: dst, step: max(step, 1), progress: progress}
 	d.nextReport = d.step
 	if err := d.run(); err != nil {
-		return Result{N: d.n}, err
+		return Result{N: d.n}, 0, err
 	}
 	if progress != nil {
 		progress(d.n)
 	}
 	end := d.pos
 	if end+4 > len(src) {
-		return Result{N: d.n}, ErrTruncated
+		return Result{N: d.n}, 0, ErrTruncated
 	}
-	if binary.BigEndian.Uint32(src[end:]) != Adler32(dst[:d.n]) {
-		return Result{N: d.n}, ErrChecksum
-	}
-	return Result{N: d.n, Used: end + 4}, nil
+	return Result{N: d.n, Used: end + 4}, binary.BigEndian.Uint32(src[end:]), nil
 }
+
+// Window is the DEFLATE window: the farthest back a match may reach
+// (RFC 1951, section 3.2.5: distances 1 to 32768).
+const Window = 32768
 
 // decoder is the state of one DEFLATE stream.
 type decoder struct {
@@ -185,6 +200,7 @@ func (d *decoder) run() error {
 		if err != nil {
 			return err
 		}
+		d.report()
 		if head&1 != 0 {
 			d.align()
 			return nil

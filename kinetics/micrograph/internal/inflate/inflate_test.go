@@ -56,6 +56,9 @@ func agree(t *testing.T, src []byte) {
 	if res.Used > len(src) {
 		t.Fatalf("got %d bytes used, input has %d", res.Used, len(src))
 	}
+	if res2, sum, err := Inflate(got, src, 1, nil); err != nil || res2 != res || sum != adler32.Checksum(want) {
+		t.Fatalf("Inflate: got %+v, checksum %08x, error %v; want %+v, hash/adler32's %08x", res2, sum, err, res, adler32.Checksum(want))
+	}
 	if len(want) > 0 {
 		if _, err := Zlib(make([]byte, len(want)-1), src, 1, nil); !errors.Is(err, ErrTooLong) {
 			t.Fatalf("buffer one byte short: got %v, want ErrTooLong", err)
@@ -393,8 +396,14 @@ func TestAdler32(t *testing.T) {
 	}
 	for name, data := range map[string][]byte{"random": random, "0xff": ones} {
 		for _, n := range lengths {
-			if got, want := Adler32(data[:n]), adler32.Checksum(data[:n]); got != want {
+			want := adler32.Checksum(data[:n])
+			if got := Adler32(data[:n]); got != want {
 				t.Errorf("%s, %d bytes: got %08x, want hash/adler32's %08x", name, n, got, want)
+			}
+			// In two pieces, split anywhere: the sums chain.
+			if cut := n / 3; Adler32Update(Adler32(data[:cut]), data[cut:n]) != want {
+				t.Errorf("%s, %d bytes cut at %d: got %08x, want hash/adler32's %08x", name, n, cut,
+					Adler32Update(Adler32(data[:cut]), data[cut:n]), want)
 			}
 		}
 	}
