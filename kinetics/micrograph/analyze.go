@@ -155,12 +155,12 @@ func flattenSmoothed(img image.Image, s Settings, res *Result, unit float64) (*p
 			res.Notes = append(res.Notes, "illumination surface could not be fitted; image left unflattened")
 		}
 	}
-	pr := prepare(img, bg, s.SmoothRadius, numWorkers(img.Bounds().Dy()))
-	if pr.lo == pr.hi {
+	if level, ok := uniform(img); ok {
 		return nil, nil, fmt.Errorf("%w: every pixel is gray %g of %g; a blank, black or saturated frame has nothing to measure",
-			ErrUniform, float64(pr.lo)/unit, 65535/unit)
+			ErrUniform, float64(level)/unit, 65535/unit)
 	}
-	return pr.p, pr.hist, nil
+	p, hist := prepare(img, bg, s.SmoothRadius, numWorkers(img.Bounds().Dy()))
+	return p, hist, nil
 }
 
 // bareLevel returns the bare-copper level in 16-bit units from the bare

@@ -46,7 +46,7 @@ func BenchmarkAnalyze4096(b *testing.B) {
 }
 
 func BenchmarkSmooth4096(b *testing.B) {
-	p, _, _ := toPlane(benchImage(), nil)
+	p := toPlane(benchImage(), nil)
 	for b.Loop() {
 		smooth(p, DefaultSmoothRadius, numWorkers(p.h))
 	}
@@ -62,7 +62,7 @@ func BenchmarkFlatten4096(b *testing.B) {
 }
 
 func BenchmarkLabel4096(b *testing.B) {
-	p, _, _ := toPlane(benchImage(), nil)
+	p := toPlane(benchImage(), nil)
 	t, _ := Otsu(histogram(p))
 	for b.Loop() {
 		runs, rowStart := runsOf(p, uint16(t), false)

@@ -275,9 +275,11 @@ func splitResiduals(resid []float64, m []bool) {
 	}
 }
 
-// applyRow divides row y (converted luma) by the fitted illumination, in
-// place; knots is scratch of bg.nkx values.
-func (bg *background) applyRow(y int, row []uint16, knots []float32) {
+// applyRow writes into dst row y of the image divided by the fitted
+// illumination: src holds the row's levels, in 16-bit units once
+// multiplied by unit (257 for 8-bit levels, 1 for 16-bit; src and dst may
+// be the same row); knots is scratch of bg.nkx values.
+func applyRow[T uint8 | uint16](bg *background, y int, src []T, unit uint16, dst []uint16, knots []float32) {
 	j := y / knotStride
 	y0 := j * knotStride
 	fy := float32(y-y0) / float32(max(min(y0+knotStride, bg.h-1)-y0, 1))
@@ -285,15 +287,16 @@ func (bg *background) applyRow(y int, row []uint16, knots []float32) {
 	for k := range knots {
 		knots[k] = g0[k] + fy*(g1[k]-g0[k])
 	}
-	w := len(row)
+	w := len(dst)
+	src = src[:w]
 	for x0 := 0; x0 < w; x0 += knotStride {
 		k := x0 / knotStride
 		x1 := min(x0+knotStride, w)
 		span := float32(max(min(x0+knotStride, w-1)-x0, 1))
 		g, dg := knots[k], (knots[k+1]-knots[k])/span
-		seg := row[x0:x1]
-		for x, v := range seg {
-			f := float32(v)*g + 0.5
+		in, seg := src[x0:x1], dst[x0:x1]
+		for x, v := range in {
+			f := float32(uint16(v)*unit)*g + 0.5
 			g += dg
 			if f >= 65535 {
 				seg[x] = 65535

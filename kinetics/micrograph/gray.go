@@ -51,12 +51,12 @@ func luma16(r, g, b uint32) uint16 {
 }
 
 // toPlane converts any image to 16-bit luma, divided by the illumination
-// bg when bg is not nil, and returns the extremes of the raw luma (prepare
-// without smoothing). Common decoder outputs take fast paths in
-// convertRow; others go through color.Gray16Model.
-func toPlane(img image.Image, bg *background) (p *plane, lo, hi uint16) {
-	pr := prepare(img, bg, 0, numWorkers(img.Bounds().Dy()))
-	return pr.p, pr.lo, pr.hi
+// bg when bg is not nil (prepare without smoothing). Common decoder
+// outputs take fast paths in convertRow; others go through
+// color.Gray16Model.
+func toPlane(img image.Image, bg *background) *plane {
+	p, _ := prepare(img, bg, 0, numWorkers(img.Bounds().Dy()))
+	return p
 }
 
 func convertRow(img image.Image, x0, y int, dst []uint16) {

@@ -27,7 +27,7 @@ func referencePlane(data []byte) (levels []uint16, depth int, err error) {
 	if err != nil {
 		return nil, 0, err
 	}
-	p, _, _ := toPlane(img, nil)
+	p := toPlane(img, nil)
 	return p.pix, bitDepth(img), nil
 }
 
@@ -37,7 +37,7 @@ func decodedPlane(data []byte, lim Limits) ([]uint16, int, error) {
 	if err != nil {
 		return nil, 0, err
 	}
-	p, _, _ := toPlane(img, nil)
+	p := toPlane(img, nil)
 	return p.pix, info.BitDepth, nil
 }
 
