@@ -152,9 +152,10 @@ func alternateFit(rows [][]float64, zs []float64) (coef, resid []float64) {
 	n, nt := len(zs), len(rows[0])
 	m := make([]bool, n)
 	resid = make([]float64, n)
+	surf := surfaceSums(rows, zs)
 	for round := range fitRounds {
 		withStep := round > 0 && bothClassesFit(m, nt)
-		c := solveLeastSquares(rows, zs, m, withStep)
+		c := solveLeastSquares(surf, rows, zs, m, withStep)
 		if c == nil {
 			return nil, nil
 		}
@@ -201,41 +202,71 @@ func (bg *background) gainGrid() {
 	}
 }
 
-// solveLeastSquares solves the normal equations for z ≈ Σ c_k·row_k
-// (+ c_step·m when withStep). It returns nil if they are singular.
-func solveLeastSquares(rows [][]float64, z []float64, m []bool, withStep bool) []float64 {
+// normalSums are the sums of the normal equations of the surface alone,
+// Σ row_j·row_k (j ≤ k, row-major nt×nt) and Σ row_j·z, summed over the
+// samples in order. They do not change between the rounds of the fit.
+type normalSums struct {
+	nt  int
+	ata []float64
+	atb []float64
+}
+
+// surfaceSums sums the normal equations of the surface over the samples.
+func surfaceSums(rows [][]float64, z []float64) normalSums {
 	nt := len(rows[0])
+	s := normalSums{nt: nt, ata: make([]float64, nt*nt), atb: make([]float64, nt)}
+	for i, a := range rows {
+		a = a[:nt]
+		for j, aj := range a {
+			s.atb[j] += aj * z[i]
+			row := s.ata[j*nt : (j+1)*nt]
+			for k := j; k < nt; k++ {
+				row[k] += aj * a[k]
+			}
+		}
+	}
+	return s
+}
+
+// solveLeastSquares solves the normal equations for z ≈ Σ c_k·row_k
+// (+ c_step·m when withStep), from the surface's sums surf and, for the
+// step, the sums over the samples with m set: Σ row_j, their count and
+// Σ z. These are the sums the full design matrix (the surface's columns
+// and a 0/1 column) gives, in the same order, so the result does not
+// depend on how they are split. It returns nil if the equations are
+// singular.
+func solveLeastSquares(surf normalSums, rows [][]float64, z []float64, m []bool, withStep bool) []float64 {
+	nt := surf.nt
 	np := nt
 	if withStep {
 		np++
 	}
 	ata := mat.NewSymDense(np, nil)
 	atb := mat.NewVecDense(np, nil)
-	a := make([]float64, np)
-	acc := make([]float64, np*np)
-	bacc := make([]float64, np)
-	for i, r := range rows {
-		copy(a, r)
-		if withStep {
-			a[nt] = 0
-			if m[i] {
-				a[nt] = 1
-			}
-		}
-		for j := range np {
-			aj := a[j]
-			bacc[j] += aj * z[i]
-			row := acc[j*np:]
-			for k := j; k < np; k++ {
-				row[k] += aj * a[k]
-			}
+	for j := range nt {
+		atb.SetVec(j, surf.atb[j])
+		for k := j; k < nt; k++ {
+			ata.SetSym(j, k, surf.ata[j*nt+k])
 		}
 	}
-	for j := range np {
-		atb.SetVec(j, bacc[j])
-		for k := j; k < np; k++ {
-			ata.SetSym(j, k, acc[j*np+k])
+	if withStep {
+		step := make([]float64, nt) // Σ row_j over the samples with m set
+		var count, sz float64
+		for i, r := range rows {
+			if !m[i] {
+				continue
+			}
+			for j, v := range r[:nt] {
+				step[j] += v
+			}
+			count++
+			sz += z[i]
 		}
+		for j := range nt {
+			ata.SetSym(j, nt, step[j])
+		}
+		ata.SetSym(nt, nt, count)
+		atb.SetVec(nt, sz)
 	}
 	var ch mat.Cholesky
 	if !ch.Factorize(ata) {

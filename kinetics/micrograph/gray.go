@@ -55,7 +55,7 @@ func luma16(r, g, b uint32) uint16 {
 // outputs take fast paths in convertRow; others go through
 // color.Gray16Model.
 func toPlane(img image.Image, bg *background) *plane {
-	p, _ := prepare(img, bg, 0, numWorkers(img.Bounds().Dy()))
+	p, _ := pass(img, bg, 0, numWorkers(img.Bounds().Dy()), false)
 	return p
 }
 

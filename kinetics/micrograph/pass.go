@@ -10,13 +10,21 @@ import "image"
 // workers: a band makes the rows it needs beyond its ends itself, and the
 // counts of the bands are merged exactly.
 func prepare(img image.Image, bg *background, r, workers int) (*plane, []uint64) {
+	return pass(img, bg, r, workers, true)
+}
+
+// pass is prepare, without the histogram (nil) unless count is set.
+func pass(img image.Image, bg *background, r, workers int, count bool) (*plane, []uint64) {
 	b := img.Bounds()
 	p := &plane{w: b.Dx(), h: b.Dy(), pix: make([]uint16, b.Dx()*b.Dy())}
 	workers = max(1, min(workers, p.h))
 	hists := make([]*[1 << 16]uint32, workers) // at most 2^28 pixels (DefaultMaxPixels) a band
 	gray, _ := img.(*image.Gray)
 	parallelBands(p.h, workers, func(i, lo, hi int) {
-		hist := new([1 << 16]uint32)
+		var hist *[1 << 16]uint32
+		if count {
+			hist = new([1 << 16]uint32)
+		}
 		var knots []float32
 		if bg != nil {
 			knots = make([]float32, bg.nkx)
@@ -38,13 +46,18 @@ func prepare(img image.Image, bg *background, r, workers int) (*plane, []uint64)
 			for y := lo; y < hi; y++ {
 				row := p.row(y)
 				src(y, row)
-				for _, v := range row {
-					hist[v]++
+				if hist != nil {
+					for _, v := range row {
+						hist[v]++
+					}
 				}
 			}
 		}
 		hists[i] = hist
 	})
+	if !count {
+		return p, nil
+	}
 	out := make([]uint64, 1<<16)
 	for _, h := range hists {
 		for v, c := range h {

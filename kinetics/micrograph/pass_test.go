@@ -3,8 +3,11 @@ package micrograph
 import (
 	"fmt"
 	"image"
+	"math/rand/v2"
 	"slices"
 	"testing"
+
+	"gonum.org/v1/gonum/mat"
 )
 
 // TestPrepareWorkers: the one pass (prepare) on 1 to 5 bands gives exactly
@@ -64,4 +67,71 @@ func stepByStep(img image.Image, bg *background, r int) ([]uint16, []uint64) {
 		hist[v]++
 	}
 	return p.pix, hist
+}
+
+// TestSolveLeastSquaresSplit: the normal equations built from the
+// surface's sums and the step's sums give bit for bit the solution of the
+// equations summed over the full design matrix (the surface's columns and
+// a 0/1 column for m) sample by sample, for every degree.
+func TestSolveLeastSquaresSplit(t *testing.T) {
+	t.Parallel()
+	r := rand.New(rand.NewPCG(9, 10))
+	for deg := 1; deg <= MaxDegree; deg++ {
+		bg := &background{deg: deg, scaleU: 2.0 / 99, scaleV: 2.0 / 79}
+		var xs, ys, zs []float64
+		m := make([]bool, 0, 2000)
+		for range 2000 {
+			xs, ys = append(xs, 100*r.Float64()), append(ys, 80*r.Float64())
+			zs = append(zs, 5+r.NormFloat64())
+			m = append(m, r.IntN(3) == 0)
+		}
+		rows := bg.design(xs, ys)
+		surf := surfaceSums(rows, zs)
+		for _, withStep := range []bool{false, true} {
+			got := solveLeastSquares(surf, rows, zs, m, withStep)
+			want := fullDesignSolve(rows, zs, m, withStep)
+			if got == nil || !slices.Equal(got, want) {
+				t.Errorf("degree %d, step %v: got %v, want %v", deg, withStep, got, want)
+			}
+		}
+	}
+}
+
+// fullDesignSolve solves the normal equations summed sample by sample over
+// the full design matrix.
+func fullDesignSolve(rows [][]float64, z []float64, m []bool, withStep bool) []float64 {
+	nt := len(rows[0])
+	np := nt
+	if withStep {
+		np++
+	}
+	acc, bacc := make([]float64, np*np), make([]float64, np)
+	a := make([]float64, np)
+	for i, row := range rows {
+		copy(a, row)
+		if withStep {
+			a[nt] = 0
+			if m[i] {
+				a[nt] = 1
+			}
+		}
+		for j := range np {
+			bacc[j] += a[j] * z[i]
+			for k := j; k < np; k++ {
+				acc[j*np+k] += a[j] * a[k]
+			}
+		}
+	}
+	ata, atb := mat.NewSymDense(np, nil), mat.NewVecDense(np, bacc)
+	for j := range np {
+		for k := j; k < np; k++ {
+			ata.SetSym(j, k, acc[j*np+k])
+		}
+	}
+	var ch mat.Cholesky
+	var x mat.VecDense
+	if !ch.Factorize(ata) || ch.SolveVecTo(&x, atb) != nil {
+		return nil
+	}
+	return slices.Clone(x.RawVector().Data)
 }
