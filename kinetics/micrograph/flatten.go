@@ -320,20 +320,45 @@ func applyRow[T uint8 | uint16](bg *background, y int, src []T, unit uint16, dst
 	}
 	w := len(dst)
 	src = src[:w]
-	for x0 := 0; x0 < w; x0 += knotStride {
-		k := x0 / knotStride
-		x1 := min(x0+knotStride, w)
+	// The gain is interpolated along each segment of knotStride pixels by
+	// repeated addition; two segments are run side by side so that their
+	// chains of additions overlap (each is the same chain as alone).
+	seg := func(k int) (g, dg float32) {
+		x0 := k * knotStride
 		span := float32(max(min(x0+knotStride, w-1)-x0, 1))
-		g, dg := knots[k], (knots[k+1]-knots[k])/span
-		in, seg := src[x0:x1], dst[x0:x1]
-		for x, v := range in {
-			f := float32(uint16(v)*unit)*g + 0.5
-			g += dg
-			if f >= 65535 {
-				seg[x] = 65535
-			} else {
-				seg[x] = uint16(f)
-			}
+		return knots[k], (knots[k+1] - knots[k]) / span
+	}
+	k := 0
+	for ; (k+2)*knotStride <= w; k += 2 {
+		ga, dga := seg(k)
+		gb, dgb := seg(k + 1)
+		x0 := k * knotStride
+		ina, outa := (*[knotStride]T)(src[x0:]), (*[knotStride]uint16)(dst[x0:])
+		inb, outb := (*[knotStride]T)(src[x0+knotStride:]), (*[knotStride]uint16)(dst[x0+knotStride:])
+		for x := range knotStride {
+			fa := float32(uint16(ina[x])*unit)*ga + 0.5
+			fb := float32(uint16(inb[x])*unit)*gb + 0.5
+			ga += dga
+			gb += dgb
+			outa[x], outb[x] = gainLevel(fa), gainLevel(fb)
 		}
 	}
+	for ; k*knotStride < w; k++ {
+		g, dg := seg(k)
+		x0 := k * knotStride
+		out := dst[x0:min(x0+knotStride, w)]
+		for x, v := range src[x0 : x0+len(out)] {
+			out[x] = gainLevel(float32(uint16(v)*unit)*g + 0.5)
+			g += dg
+		}
+	}
+}
+
+// gainLevel is a flattened level f + 0.5 (f ≥ 0) rounded down to a 16-bit
+// level, saturating at 65535.
+func gainLevel(f float32) uint16 {
+	if f >= 65535 {
+		return 65535
+	}
+	return uint16(f)
 }
