@@ -41,7 +41,7 @@ func pass(img image.Image, bg *background, r, workers int, count bool) (*plane, 
 			}
 		}
 		if r > 0 {
-			newBandSmoother(p, r, lo, hi, src).run(hist)
+			newSmoother(p, r, lo, hi, src).run(hist)
 		} else {
 			for y := lo; y < hi; y++ {
 				row := p.row(y)

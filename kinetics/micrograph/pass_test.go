@@ -135,3 +135,33 @@ func fullDesignSolve(rows [][]float64, z []float64, m []bool, withStep bool) []f
 	}
 	return slices.Clone(x.RawVector().Data)
 }
+
+// TestPairSmoother: the smoother on lane pairs (r = 2) writes and counts
+// exactly what the general one writes with the taps 1 4 6 4 1, at odd and
+// even widths down to one pixel and heights down to one row.
+func TestPairSmoother(t *testing.T) {
+	t.Parallel()
+	r := rand.New(rand.NewPCG(11, 12))
+	for _, w := range []int{1, 2, 3, 4, 5, 8, 9, 4101} {
+		for _, h := range []int{1, 2, 3, 6} {
+			src := &plane{w: w, h: h, pix: make([]uint16, w*h)}
+			for i := range src.pix {
+				src.pix[i] = uint16(r.Uint32())
+				if r.IntN(4) == 0 {
+					src.pix[i] = 65535 // the largest sums
+				}
+			}
+			read := func(y int, dst []uint16) { copy(dst, src.row(y)) }
+			got, want := &plane{w: w, h: h, pix: make([]uint16, w*h)}, &plane{w: w, h: h, pix: make([]uint16, w*h)}
+			gotHist, wantHist := new([1 << 16]uint32), new([1 << 16]uint32)
+			newPairSmoother(got, 0, h, read).run(gotHist)
+			newBandSmoother(want, 2, 0, h, read).run(wantHist)
+			if i := firstDifference(got.pix, want.pix); i >= 0 {
+				t.Errorf("%d×%d: pixel (%d, %d): got %d, want %d", w, h, i%w, i/w, got.pix[i], want.pix[i])
+			}
+			if *gotHist != *wantHist {
+				t.Errorf("%d×%d: histograms differ", w, h)
+			}
+		}
+	}
+}

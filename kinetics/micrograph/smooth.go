@@ -38,7 +38,7 @@ func smooth(p *plane, r, workers int) {
 	}
 	src := &plane{w: p.w, h: p.h, pix: append([]uint16(nil), p.pix...)}
 	parallelBands(p.h, workers, func(_, lo, hi int) {
-		newBandSmoother(p, r, lo, hi, func(y int, dst []uint16) { copy(dst, src.row(y)) }).run(nil)
+		newSmoother(p, r, lo, hi, func(y int, dst []uint16) { copy(dst, src.row(y)) }).run(nil)
 	})
 }
 
@@ -59,6 +59,22 @@ type bandSmoother struct {
 	ring   []uint16 // 2r+1 rows smoothed along x, slot (y−lo+r) mod (2r+1)
 	buf    []uint16 // one source row with r edge pixels repeated at each end
 	acc    []uint32 // column sums of one output row
+}
+
+// smoother smooths a band of rows into a plane, counting the output
+// levels in hist when it is not nil.
+type smoother interface {
+	run(hist *[1 << 16]uint32)
+}
+
+// newSmoother returns the smoother of band lo … hi−1 of p, of radius r,
+// reading the source rows from src: for r = 2 the one on lane pairs
+// (smooth5.go).
+func newSmoother(p *plane, r, lo, hi int, src rowSource) smoother {
+	if r == 2 {
+		return newPairSmoother(p, lo, hi, src)
+	}
+	return newBandSmoother(p, r, lo, hi, src)
 }
 
 // newBandSmoother returns the smoother of band lo … hi−1 of p, of radius
@@ -111,10 +127,6 @@ func (b *bandSmoother) horiz(y int) {
 		buf[r+w+j] = row[w-1]
 	}
 	dst := b.slot(y)
-	if r == 2 {
-		taps5Row(dst, buf)
-		return
-	}
 	for x := range dst {
 		var s uint32
 		win := buf[x : x+2*r+1]
@@ -125,47 +137,24 @@ func (b *bandSmoother) horiz(y int) {
 	}
 }
 
-// taps5Row is horiz for r = 2, the default, unrolled: taps 1 4 6 4 1 over
-// buf, which holds len(dst)+4 pixels.
-func taps5Row(dst, buf []uint16) {
-	for x := range dst {
-		b := buf[x : x+5 : x+5]
-		s := uint32(b[0]) + uint32(b[4]) + 4*(uint32(b[1])+uint32(b[3])) + 6*uint32(b[2])
-		dst[x] = uint16((s + 8) >> 4)
-	}
-}
-
 // vert writes output row y: the ring rows y−r … y+r combined with the
 // taps, counted into hist when it is not nil.
 func (b *bandSmoother) vert(y int, hist *[1 << 16]uint32) {
 	dst := b.p.row(y)
-	if b.r == 2 {
-		taps5Col(dst, b.slot(y-2), b.slot(y-1), b.slot(y), b.slot(y+1), b.slot(y+2))
-	} else {
-		acc := b.acc
-		clear(acc)
-		for j, c := range b.k {
-			src := b.slot(y + j - b.r)
-			for x, v := range src {
-				acc[x] += c * uint32(v)
-			}
+	acc := b.acc
+	clear(acc)
+	for j, c := range b.k {
+		src := b.slot(y + j - b.r)
+		for x, v := range src {
+			acc[x] += c * uint32(v)
 		}
-		for x, s := range acc {
-			dst[x] = uint16((s + b.half) >> b.shift)
-		}
+	}
+	for x, s := range acc {
+		dst[x] = uint16((s + b.half) >> b.shift)
 	}
 	if hist != nil {
 		for _, v := range dst {
 			hist[v]++
 		}
-	}
-}
-
-// taps5Col is vert for r = 2, unrolled: taps 1 4 6 4 1 over rows a … e.
-func taps5Col(dst, a, b, c, d, e []uint16) {
-	a, b, c, d, e = a[:len(dst)], b[:len(dst)], c[:len(dst)], d[:len(dst)], e[:len(dst)]
-	for x := range dst {
-		s := uint32(a[x]) + uint32(e[x]) + 4*(uint32(b[x])+uint32(d[x])) + 6*uint32(c[x])
-		dst[x] = uint16((s + 8) >> 4)
 	}
 }
