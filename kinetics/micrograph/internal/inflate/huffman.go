@@ -1,6 +1,9 @@
 package inflate
 
-import "encoding/binary"
+import (
+	"encoding/binary"
+	"errors"
+)
 
 // huffman decodes one compressed block with the literal/length table lit
 // and the distance table dist (RFC 1951, section 3.2.5) until its end of
@@ -12,9 +15,24 @@ import "encoding/binary"
 // 15 + 13), so one refill serves a whole match; the length checks against
 // nb only fail near the end of the input.
 func (d *decoder) huffman(lit, dist *table) error {
-	if d.fast(lit, dist) {
-		return nil
+	for {
+		if d.fast(lit, dist) {
+			return nil
+		}
+		if err := d.careful(lit, dist); err != errMoreInput {
+			return err
+		}
 	}
+}
+
+// errMoreInput tells huffman that more of an arriving stream came in
+// while the careful loop ran: back to the fast loop.
+var errMoreInput = errors.New("inflate: more input")
+
+// careful is the careful loop of huffman, to the end of the block; it
+// returns errMoreInput, with the state saved, as soon as more input of an
+// arriving stream has come in.
+func (d *decoder) careful(lit, dist *table) error {
 	out, n := d.out, d.n
 	in, pos, bits, nb := d.in, d.pos, d.bits, d.nb
 	var err error
@@ -28,9 +46,14 @@ loop:
 				pos += int(63-nb) >> 3
 				nb |= 56
 			} else {
+				had := len(in)
 				d.pos, d.bits, d.nb = pos, bits, nb
 				d.refill()
 				pos, bits, nb = d.pos, d.bits, d.nb
+				if in = d.in; len(in) > had+fastInMargin {
+					err = errMoreInput
+					break
+				}
 			}
 		}
 		e := lit.root[bits&(1<<litRootBits-1)]

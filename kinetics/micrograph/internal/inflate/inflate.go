@@ -80,27 +80,39 @@ func Zlib(dst, src []byte, step int, progress func(n int)) (Result, error) {
 // back, so once progress has reported n, dst[:n−Window] is never read
 // again and the caller may overwrite it (after summing it).
 func Inflate(dst, src []byte, step int, progress func(n int)) (Result, uint32, error) {
-	if len(src) < 2 {
+	return InflateArriving(dst, src, nil, step, progress)
+}
+
+// InflateArriving is Inflate of a stream that is still arriving in src:
+// when wait is not nil only src[:wait(n)] holds data, wait(n) blocking
+// until at least n bytes are there, or returning fewer when no more will
+// come. The decoder asks for more only when it has used what it has.
+func InflateArriving(dst, src []byte, wait func(n int) int, step int, progress func(n int)) (Result, uint32, error) {
+	d := decoder{src: src, in: src, wait: wait, out: dst, step: max(step, 1), progress: progress}
+	if wait != nil {
+		d.in = src[:0]
+	}
+	d.need(2)
+	if len(d.in) < 2 {
 		return Result{}, 0, ErrTruncated
 	}
-	cmf, flg := src[0], src[1]
+	cmf, flg := d.in[0], d.in[1]
 	if cmf&0x0f != 8 || cmf>>4 > 7 || (uint(cmf)<<8|uint(flg))%31 != 0 {
 		return Result{}, 0, &CorruptError{0, "invalid zlib header"}
 	}
-	start := 2
+	d.pos = 2
 	if flg&0x20 != 0 {
 		// A preset dictionary: none is given, so only the identifier of the
 		// empty dictionary (its Adler-32, 1) can be satisfied, as in
 		// compress/zlib.
-		if len(src) < 6 {
+		if d.need(6); len(d.in) < 6 {
 			return Result{}, 0, ErrTruncated
 		}
-		if binary.BigEndian.Uint32(src[2:]) != 1 {
+		if binary.BigEndian.Uint32(d.in[2:]) != 1 {
 			return Result{}, 0, &CorruptError{2, "stream needs a preset dictionary"}
 		}
-		start = 6
+		d.pos = 6
 	}
-	d := decoder{in: src, pos: start, out: dst, step: max(step, 1), progress: progress}
 	d.nextReport = d.step
 	if err := d.run(); err != nil {
 		return Result{N: d.n}, 0, err
@@ -109,10 +121,10 @@ func Inflate(dst, src []byte, step int, progress func(n int)) (Result, uint32, e
 		progress(d.n)
 	}
 	end := d.pos
-	if end+4 > len(src) {
+	if d.need(end + 4); end+4 > len(d.in) {
 		return Result{N: d.n}, 0, ErrTruncated
 	}
-	return Result{N: d.n, Used: end + 4}, binary.BigEndian.Uint32(src[end:]), nil
+	return Result{N: d.n, Used: end + 4}, binary.BigEndian.Uint32(d.in[end:]), nil
 }
 
 // Window is the DEFLATE window: the farthest back a match may reach
@@ -121,8 +133,10 @@ const Window = 32768
 
 // decoder is the state of one DEFLATE stream.
 type decoder struct {
-	in   []byte
-	pos  int    // next input byte not yet in bits
+	src  []byte        // the whole input buffer
+	wait func(int) int // nil, or how much of src has arrived (InflateArriving)
+	in   []byte        // the input that has arrived: src[:wait(…)]
+	pos  int           // next input byte not yet in bits
 	bits uint64 // input bits, least significant first; bits above nb are zero or the next input bits
 	nb   uint   // number of valid bits in bits
 
@@ -136,9 +150,21 @@ type decoder struct {
 	lengths         [286 + 30]uint8
 }
 
+// need waits, for an arriving stream, until n bytes of input are there
+// or no more will come, and reports whether more input arrived.
+func (d *decoder) need(n int) bool {
+	if n <= len(d.in) || d.wait == nil || len(d.in) == len(d.src) {
+		return false
+	}
+	had := len(d.in)
+	d.in = d.src[:min(d.wait(n), len(d.src))]
+	return len(d.in) > had
+}
+
 // refill tops the bit buffer up to at least 56 bits, or to all the input
-// that is left.
+// that is left, waiting for an arriving stream's next bytes.
 func (d *decoder) refill() {
+	d.need(d.pos + 8)
 	if d.pos+8 <= len(d.in) {
 		d.bits |= binary.LittleEndian.Uint64(d.in[d.pos:]) << d.nb
 		d.pos += int(63-d.nb) >> 3
@@ -211,7 +237,7 @@ func (d *decoder) run() error {
 // stored copies a block of uncompressed data (section 3.2.4).
 func (d *decoder) stored() error {
 	d.align()
-	if d.pos+4 > len(d.in) {
+	if d.need(d.pos + 4); d.pos+4 > len(d.in) {
 		return ErrTruncated
 	}
 	n := int(binary.LittleEndian.Uint16(d.in[d.pos:]))
@@ -222,7 +248,7 @@ func (d *decoder) stored() error {
 	if d.n+n > len(d.out) {
 		return ErrTooLong
 	}
-	if d.pos+n > len(d.in) {
+	if d.need(d.pos + n); d.pos+n > len(d.in) {
 		return ErrTruncated
 	}
 	copy(d.out[d.n:], d.in[d.pos:d.pos+n])
