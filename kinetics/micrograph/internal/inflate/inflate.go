@@ -137,8 +137,8 @@ type decoder struct {
 	wait func(int) int // nil, or how much of src has arrived (InflateArriving)
 	in   []byte        // the input that has arrived: src[:wait(…)]
 	pos  int           // next input byte not yet in bits
-	bits uint64 // input bits, least significant first; bits above nb are zero or the next input bits
-	nb   uint   // number of valid bits in bits
+	bits uint64        // input bits, least significant first; bits above nb are zero or the next input bits
+	nb   uint          // number of valid bits in bits
 
 	out []byte
 	n   int // output bytes written
