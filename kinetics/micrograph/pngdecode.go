@@ -10,6 +10,8 @@ import (
 	"image/color"
 	"image/png"
 	"io"
+	"slices"
+	"sync"
 )
 
 // The PNG decoder of this package reads a PNG (ISO/IEC 15948:2004, "PNG
@@ -326,33 +328,84 @@ func (d *pngReader) idatRoom() int {
 
 // readIDAT reads the data of consecutive IDAT chunks, the first of
 // which has d.idatLeft bytes to come, checking each chunk's CRC, and
-// leaves the header of the chunk after them pending.
-func (d *pngReader) readIDAT() ([]byte, error) {
-	data := make([]byte, 0, d.idatRoom())
+// leaves the header of the chunk after them pending. It reads into buf,
+// telling feed after each chunk how much has arrived, and finishes feed on
+// return. Data longer than buf is read on into a larger copy (outgrown),
+// of which feed is not told.
+func (d *pngReader) readIDAT(buf []byte, feed *idatFeed) (data []byte, outgrown bool, err error) {
+	defer feed.finish()
+	data = buf[:0]
 	for {
 		if int32(d.idatLeft) < 0 {
-			return nil, pngUnsupportedError("IDAT chunk length overflow")
+			return nil, outgrown, pngUnsupportedError("IDAT chunk length overflow")
 		}
-		start := len(data)
-		data = append(data, make([]byte, d.idatLeft)...)
+		start, n := len(data), int(d.idatLeft)
+		if !outgrown && start+n > len(buf) {
+			feed.finish()
+			outgrown = true
+		}
+		data = slices.Grow(data, n)[:start+n]
 		if err := d.readFull(data[start:]); err != nil {
-			return nil, err
+			return nil, outgrown, err
 		}
 		d.crc.Write(data[start:])
 		if err := d.verifyChecksum(); err != nil {
-			return nil, err
+			return nil, outgrown, err
+		}
+		if !outgrown {
+			feed.arrived(len(data))
 		}
 		if err := d.readFull(d.tmp[:8]); err != nil {
-			return nil, err
+			return nil, outgrown, err
 		}
 		if string(d.tmp[4:8]) != "IDAT" {
 			d.pending = true
-			return data, nil
+			return data, outgrown, nil
 		}
 		d.idatLeft = binary.BigEndian.Uint32(d.tmp[:4])
 		d.crc.Reset()
 		d.crc.Write(d.tmp[4:8])
 	}
+}
+
+// idatFeed hands the image data from the goroutine that reads it to the
+// one that inflates it: n bytes have arrived, and done says no more will.
+type idatFeed struct {
+	mu   sync.Mutex
+	more sync.Cond
+	n    int
+	done bool
+}
+
+func newIDATFeed() *idatFeed {
+	f := &idatFeed{}
+	f.more.L = &f.mu
+	return f
+}
+
+func (f *idatFeed) arrived(n int) {
+	f.mu.Lock()
+	f.n = n
+	f.mu.Unlock()
+	f.more.Broadcast()
+}
+
+func (f *idatFeed) finish() {
+	f.mu.Lock()
+	f.done = true
+	f.mu.Unlock()
+	f.more.Broadcast()
+}
+
+// wait blocks until n bytes have arrived or no more will, and returns how
+// many have.
+func (f *idatFeed) wait(n int) int {
+	f.mu.Lock()
+	defer f.mu.Unlock()
+	for f.n < n && !f.done {
+		f.more.Wait()
+	}
+	return f.n
 }
 
 // decodePixels reads, after readHeader, the chunks up to the image data,
@@ -369,14 +422,34 @@ func (d *pngReader) decodePixels() (image.Image, error) {
 	if err := d.chunksUntil(stIDAT); err != nil {
 		return nil, err
 	}
-	data, err := d.readIDAT()
+	// The image data is inflated on a second goroutine while this one
+	// reads it.
+	buf := make([]byte, d.idatRoom())
+	feed := newIDATFeed()
+	inflated := make(chan rowsResult, 1)
+	go func() {
+		defer func() {
+			if p := recover(); p != nil {
+				inflated <- rowsResult{err: fmt.Errorf("decoder failed: %v", p)}
+			}
+		}()
+		inflated <- d.readRows(buf, feed.wait)
+	}()
+	data, outgrown, err := d.readIDAT(buf, feed)
+	rows := <-inflated
 	if err != nil {
 		return nil, err
 	}
-	img, err := d.readRows(data)
-	if err != nil {
-		return nil, err
+	if outgrown { // more data than room was made for: inflate it again, whole
+		rows = d.readRows(data, nil)
 	}
+	if rows.err != nil {
+		return nil, rows.err
+	}
+	if rows.used < len(data) {
+		return nil, pngFormatError("too much pixel data")
+	}
+	img := rows.img
 	if err := d.chunksUntil(stIEND); err != nil {
 		return nil, err
 	}

@@ -22,14 +22,15 @@ const (
 // produces between hand-overs to the one that unfilters.
 const progressStep = 64 << 10
 
-// readRows inflates the image data on this goroutine into one buffer of
-// the exact size the header gives, while a second goroutine sums the
+// readRows inflates the image data (data[:wait(…)] while it arrives, when
+// wait is not nil; see inflate.InflateArriving) on this goroutine into one
+// buffer of the exact size the header gives, while a second goroutine sums the
 // inflated bytes (Adler-32, the zlib checksum) and unfilters the rows as
 // they complete. An 8-bit gray image is unfiltered in place, a DEFLATE
 // window behind the inflater, and is returned as an *image.Gray over that
 // buffer (its rows one filter byte apart): no second image is made. Other
 // formats are copied out row by row and converted into a lumaImage.
-func (d *pngReader) readRows(data []byte) (image.Image, error) {
+func (d *pngReader) readRows(data []byte, wait func(n int) int) rowsResult {
 	h := &d.hdr
 	bpp := h.bitsPerPixel()
 	rowSize := 1 + (bpp*h.width+7)/8
@@ -59,26 +60,35 @@ func (d *pngReader) readRows(data []byte) (image.Image, error) {
 		}()
 		done <- sink.consume(ready)
 	}()
-	res, sum, err := inflate.Inflate(raw, data, progressStep, func(n int) { ready <- n })
+	res, sum, err := inflate.InflateArriving(raw, data, wait, progressStep, func(n int) { ready <- n })
 	close(ready)
 	if uerr := <-done; uerr != nil {
-		return nil, uerr
+		return rowsResult{err: uerr}
 	}
 	switch {
 	case errors.Is(err, inflate.ErrTooLong):
-		return nil, pngFormatError("too much pixel data")
+		err = pngFormatError("too much pixel data")
 	case errors.Is(err, inflate.ErrTruncated):
-		return nil, pngFormatError("not enough pixel data")
+		err = pngFormatError("not enough pixel data")
 	case err != nil:
-		return nil, pngFormatError(err.Error())
+		err = pngFormatError(err.Error())
 	case inflate.Adler32Update(sink.sum, raw[sink.y*rowSize:res.N]) != sum:
-		return nil, pngFormatError(inflate.ErrChecksum.Error())
+		err = pngFormatError(inflate.ErrChecksum.Error())
 	case res.N < len(raw):
-		return nil, pngFormatError("not enough pixel data")
-	case res.Used < len(data):
-		return nil, pngFormatError("too much pixel data")
+		err = pngFormatError("not enough pixel data")
+	default:
+		return rowsResult{img: img, used: res.Used}
 	}
-	return img, nil
+	return rowsResult{err: err}
+}
+
+// rowsResult is what readRows made: the image, or an error, and how much
+// of the image data the zlib stream took (the caller refuses data left
+// over).
+type rowsResult struct {
+	img  image.Image
+	used int
+	err  error
 }
 
 // rowSink is the consumer side of readRows.
