@@ -15,13 +15,16 @@ import (
 )
 
 // The PNG decoder of this package reads a PNG (ISO/IEC 15948:2004, "PNG
-// (Portable Network Graphics) Specification, Second Edition") straight
-// into a lumaImage: each row is inflated (compress/zlib), unfiltered
-// (section 9.2: None, Sub, Up, Average, Paeth) and turned into 16-bit luma
-// as it arrives, with inflating on one goroutine and unfiltering and
-// flattening on another (the rows pass between them in batches). Its luma
-// is exactly what image/png's image gives through convertRow (tested).
-// Interlaced images (Adam7) are handed to image/png.
+// (Portable Network Graphics) Specification, Second Edition") in three
+// stages that overlap: the calling goroutine reads the image data, a
+// second inflates it as it arrives (internal/inflate, byte for byte what
+// compress/zlib gives) into one buffer of the size the header gives, and
+// a third sums the inflated rows (Adler-32) and unfilters them (section
+// 9.2: None, Sub, Up, Average, Paeth) as they complete. An 8-bit gray
+// image is unfiltered in place and returned as an *image.Gray over that
+// buffer; other formats are converted row by row into a lumaImage of
+// 16-bit luma. The luma is exactly what image/png's image gives through
+// convertRow (tested). Interlaced images (Adam7) are handed to image/png.
 
 // pngSignature is the 8-byte PNG file signature (section 5.2).
 const pngSignature = "\x89PNG\r\n\x1a\n"
