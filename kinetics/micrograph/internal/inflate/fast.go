@@ -91,22 +91,7 @@ func (d *decoder) fast(lit, dist *table) bool {
 		}
 		bits = b >> (dt & 63)
 		nb -= lt + dt
-		src := n - distance
-		switch {
-		case distance >= 8:
-			for i := 0; i < length; i += 8 {
-				binary.LittleEndian.PutUint64(out[n+i:], binary.LittleEndian.Uint64(out[src+i:]))
-			}
-		case distance == 1:
-			b := out[src]
-			for i := range out[n : n+length] {
-				out[n+i] = b
-			}
-		default:
-			for i := 0; i < length; {
-				i += copy(out[n+i:n+length], out[src+i:n+i])
-			}
-		}
+		copyMatch(out, n, distance, length)
 		n += length
 		if n >= d.nextReport {
 			d.n = n
