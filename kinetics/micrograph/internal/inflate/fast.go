@@ -93,10 +93,7 @@ func (d *decoder) fast(lit, dist *table) bool {
 		nb -= lt + dt
 		copyMatch(out, n, distance, length)
 		n += length
-		if n >= d.nextReport {
-			d.n = n
-			d.report()
-		}
+		d.reportAt(n)
 	}
 	d.n, d.pos, d.bits, d.nb = n, pos, bits, nb
 	return end

@@ -82,10 +82,7 @@ loop:
 				out[n] = byte(entryValue(e))
 				n++
 			}
-			if n >= d.nextReport {
-				d.n = n
-				d.report()
-			}
+			d.reportAt(n)
 			continue
 		}
 		switch {
@@ -134,10 +131,7 @@ loop:
 		}
 		copyMatch(out, n, distance, length)
 		n += length
-		if n >= d.nextReport {
-			d.n = n
-			d.report()
-		}
+		d.reportAt(n)
 	}
 	d.n, d.pos, d.bits, d.nb = n, pos, bits, nb
 	switch {

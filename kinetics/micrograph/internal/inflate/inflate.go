@@ -258,6 +258,15 @@ func (d *decoder) stored() error {
 	return nil
 }
 
+// reportAt is report for a loop that keeps the output count n in a local
+// variable.
+func (d *decoder) reportAt(n int) {
+	if n >= d.nextReport {
+		d.n = n
+		d.report()
+	}
+}
+
 // report calls progress when step more bytes are final.
 func (d *decoder) report() {
 	if d.n >= d.nextReport {
