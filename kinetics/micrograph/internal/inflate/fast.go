@@ -10,7 +10,7 @@ import "encoding/binary"
 // careful loop (huffman) decodes the rest of the block.
 const (
 	fastInMargin  = 8
-	fastOutMargin = 4 + 258 + 8
+	fastOutMargin = 6 + 258 + 8
 	kindMask      = 0xf << 12
 )
 
@@ -27,7 +27,7 @@ func (d *decoder) fast(lit, dist *table) bool {
 	in, out := d.in, d.out
 	inEnd, outEnd := len(in)-fastInMargin, len(out)-fastOutMargin
 	pos, n, bits, nb := d.pos, d.n, d.bits, d.nb
-	lroot := &lit.root
+	lroot, pairs := &lit.root, lit.pairs
 	droot := (*[1 << distRootBits]uint32)(dist.root[:1<<distRootBits])
 	lsub, dsub := lit.sub, dist.sub
 	end := false
@@ -36,26 +36,29 @@ func (d *decoder) fast(lit, dist *table) bool {
 		pos += int(63-nb) >> 3
 		nb |= 56
 
-		e := lroot[bits&(1<<litRootBits-1)]
-		if e&kindMask == kindLiteral<<12 {
-			bits >>= e & 63
-			nb -= uint(e & 63)
-			out[n] = byte(e >> 16)
-			n++
-			if e = lroot[bits&(1<<litRootBits-1)]; e&kindMask == kindLiteral<<12 {
-				bits >>= e & 63
-				nb -= uint(e & 63)
-				out[n] = byte(e >> 16)
-				n++
-				if e = lroot[bits&(1<<litRootBits-1)]; e&kindMask == kindLiteral<<12 {
-					bits >>= e & 63
-					nb -= uint(e & 63)
-					out[n] = byte(e >> 16)
-					n++
+		// Literals, two a look-up where their codes fit in the root's
+		// bits: both bytes are written, and the second is written over
+		// when there is one literal (the margin leaves room).
+		if p := pairs[bits&(1<<litRootBits-1)]; p&pairCount != 0 {
+			bits >>= p & 63
+			nb -= uint(p & 63)
+			out[n], out[n+1] = byte(p>>16), byte(p>>24)
+			n += int(p >> 8 & 3)
+			if p = pairs[bits&(1<<litRootBits-1)]; p&pairCount != 0 {
+				bits >>= p & 63
+				nb -= uint(p & 63)
+				out[n], out[n+1] = byte(p>>16), byte(p>>24)
+				n += int(p >> 8 & 3)
+				if p = pairs[bits&(1<<litRootBits-1)]; p&pairCount != 0 {
+					bits >>= p & 63
+					nb -= uint(p & 63)
+					out[n], out[n+1] = byte(p>>16), byte(p>>24)
+					n += int(p >> 8 & 3)
 				}
 			}
 			continue
 		}
+		e := lroot[bits&(1<<litRootBits-1)]
 		if e&kindMask == kindLink<<12 {
 			e = lsub[entryValue(e)+uint32(bits>>litRootBits)&(1<<entryExtra(e)-1)]
 			if e&kindMask == kindLiteral<<12 {

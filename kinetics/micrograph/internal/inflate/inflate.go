@@ -313,6 +313,7 @@ func (d *decoder) readCodes() error {
 	if !d.lit.build(lengths[:nlit], litMeaning[:]) {
 		return d.corrupt("invalid literal/length code lengths")
 	}
+	d.lit.buildPairs()
 	if !d.dist.build(lengths[nlit:], distMeaning[:]) {
 		return d.corrupt("invalid distance code lengths")
 	}
