@@ -4,7 +4,8 @@ import "encoding/binary"
 
 // The fast loop decodes while the input has at least fastInMargin bytes
 // left and the output at least fastOutMargin bytes of room: enough for one
-// 8-byte refill, three literals and a match of 258 bytes copied in 8-byte
+// 8-byte refill, six literals (and a seventh byte written over) and a
+// match of 258 bytes copied in 8-byte
 // words (up to 7 bytes past its end), so nothing inside it checks for the
 // end of either. Near the ends, and at any damage, it stops and the
 // careful loop (huffman) decodes the rest of the block.
@@ -17,8 +18,9 @@ const (
 // fast decodes symbols of a compressed block (tables lit and dist) from
 // d's state for as long as it is far from both ends and the data is
 // sound, and reports whether it reached the end of the block. After each
-// refill the bit buffer holds at least 56 bits: room for three root-table
-// literals (at most 10 bits each), or for a literal of a sub-table (15), or
+// refill the bit buffer holds at least 56 bits: room for three look-ups of
+// the pair table (at most 10 bits each, one or two literals each), or for
+// a literal of a sub-table (15), or
 // for a length code with its extra bits (20) followed by a distance code
 // with its extra bits (28). A symbol it cannot take (an invalid code, a
 // distance before the start of the output) is left unread, for the
