@@ -5,9 +5,8 @@ import "encoding/binary"
 // The fast loop decodes while the input has at least fastInMargin bytes
 // left and the output at least fastOutMargin bytes of room: enough for one
 // 8-byte refill, six literals (and a seventh byte written over) and a
-// match of 258 bytes copied in 8-byte
-// words (up to 7 bytes past its end), so nothing inside it checks for the
-// end of either. Near the ends, and at any damage, it stops and the
+// match of 258 bytes copied in 8-byte words (up to 7 bytes past its end),
+// so nothing inside it checks for the end of either. Near the ends, and at any damage, it stops and the
 // careful loop (huffman) decodes the rest of the block.
 const (
 	fastInMargin  = 8

@@ -13,8 +13,8 @@
 // whose distance is at least 8 are copied 8 bytes at a time. Away from the
 // ends of the input and the output a fast loop (fast.go) decodes without
 // any end checks, up to six literals per refill (two a look-up in a table
-// of literal pairs); the careful loop
-// (huffman.go) takes over near the ends and reports damage.
+// of literal pairs); the careful loop (huffman.go) takes over near the
+// ends and reports damage.
 //
 // Corrupt input gives an error, never a panic or a read outside the
 // input: bad code lengths, unknown symbols, a distance before the start
