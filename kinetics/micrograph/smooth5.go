@@ -25,14 +25,13 @@ type pairSmoother struct {
 	lo, hi int
 	nw     int      // words a row: ⌈w/2⌉
 	ring   []uint64 // 5 rows smoothed along x, slot (y−lo+2) mod 5
-	row    []uint16 // one source row
-	padded []uint64 // the row with 2 edge pixels repeated at each end, nw+2 words
+	padded []uint16 // a source row after 2 repeats of its first pixel, and repeats of its last to 2·nw+4 pixels
 }
 
 func newPairSmoother(p *plane, lo, hi int, src rowSource) *pairSmoother {
 	nw := (p.w + 1) / 2
 	return &pairSmoother{p: p, src: src, lo: lo, hi: hi, nw: nw,
-		ring: make([]uint64, 5*nw), row: make([]uint16, p.w), padded: make([]uint64, nw+2)}
+		ring: make([]uint64, 5*nw), padded: make([]uint16, 2*nw+4)}
 }
 
 // run is bandSmoother.run.
@@ -57,41 +56,34 @@ func (b *pairSmoother) slot(y int) []uint64 {
 // horizInto is bandSmoother.horizInto.
 func (b *pairSmoother) horizInto(y int) {
 	src := min(max(y, 0), b.p.h-1)
-	b.src(src, b.row)
-	packPadded(b.padded, b.row)
-	pairsRow(b.slot(src), b.padded)
+	w, pad := b.p.w, b.padded
+	b.src(src, pad[2:2+w])
+	pad[0], pad[1] = pad[2], pad[2]
+	for x := 2 + w; x < len(pad); x++ {
+		pad[x] = pad[w+1]
+	}
+	pairsRow(b.slot(src), pad)
 	if y != src {
 		copy(b.slot(y), b.slot(src))
 	}
 }
 
-// packPadded packs row, with its first pixel repeated twice before it and
-// its last repeated after it to the end, into lane pairs: word j holds the
-// padded pixels 2j and 2j+1.
-func packPadded(dst []uint64, row []uint16) {
-	w := len(row)
-	first, last := uint64(row[0]), uint64(row[w-1])
-	dst[0] = first | first<<32
-	j := 1
-	for ; 2*j-1 < w; j++ { // padded pixels 2j, 2j+1 are row[2j−2], row[2j−1]
-		dst[j] = uint64(row[2*j-2]) | uint64(row[2*j-1])<<32
-	}
-	for ; j < len(dst); j++ { // past the end (and the last pixel of an odd width): the last pixel
-		dst[j] = last | last<<32
-	}
-}
-
-// pairsRow smooths a padded packed row along x: output pair k is taps
-// 1 4 6 4 1 over padded pixels 2k … 2k+4 (low lane) and 2k+1 … 2k+5 (high
-// lane), which are words k, k+1, k+2 and the two words straddling them.
-func pairsRow(dst, padded []uint64) {
-	padded = padded[:len(dst)+2]
+// pairsRow smooths a padded row along x into lane pairs: output pair k
+// is taps 1 4 6 4 1 over padded pixels 2k … 2k+4 (low lane) and 2k+1 …
+// 2k+5 (high lane). With word j holding padded pixels 2j and 2j+1, those
+// are words k, k+1, k+2 and the two words straddling them; each step packs
+// one new word and keeps the two before it.
+func pairsRow(dst []uint64, padded []uint16) {
+	padded = padded[:2*len(dst)+4]
+	a := uint64(padded[0]) | uint64(padded[1])<<32
+	c := uint64(padded[2]) | uint64(padded[3])<<32
 	for k := range dst {
-		a, c, e := padded[k], padded[k+1], padded[k+2]
+		e := uint64(padded[2*k+4]) | uint64(padded[2*k+5])<<32
 		b := a>>32 | c<<32
 		d := c>>32 | e<<32
 		s := a + e + (b+d)<<2 + c<<2 + c<<1
 		dst[k] = (s + laneRound) >> 4 & laneMask
+		a, c = c, e
 	}
 }
 
