@@ -116,6 +116,8 @@ func sampleLogLuma(img image.Image) (xs, ys, zs []float64) {
 	w, h := b.Dx(), b.Dy()
 	stepX := max(1, w/fitGrid)
 	stepY := max(1, h/fitGrid)
+	n := ((h - stepY/2 + stepY - 1) / stepY) * ((w - stepX/2 + stepX - 1) / stepX)
+	xs, ys, zs = make([]float64, 0, n), make([]float64, 0, n), make([]float64, 0, n)
 	row := make([]uint16, w)
 	for y := stepY / 2; y < h; y += stepY {
 		convertRow(img, b.Min.X, b.Min.Y+y, row)
