@@ -345,9 +345,11 @@ func compare(t *testing.T, src []byte) {
 	case refErr == nil && !bytes.Equal(got[:res.N], want):
 		t.Fatalf("stream % x: got %d bytes, want compress/zlib's %d", src, res.N, len(want))
 	}
-	// The same stream arriving in pieces gives the same answer.
+	// The same stream arriving in pieces gives the same answer: one way
+	// of arriving for each stream, in turn by its length.
 	whole := slices.Clone(got[:res.N])
-	for _, a := range arrivals(len(src))[:3] {
+	ways := arrivals(len(src))
+	for _, a := range ways[len(src)%len(ways):][:1] {
 		res2, err2 := zlibArriving(got, src, a.wait)
 		if res2 != res || fmt.Sprint(err2) != fmt.Sprint(err) || (err == nil && !bytes.Equal(got[:res.N], whole)) {
 			t.Fatalf("stream % x arriving %s: got %+v, %v; want %+v, %v", src, a.name, res2, err2, res, err)
