@@ -9,6 +9,7 @@ import (
 	_ "image/png"  // register the PNG decoder
 	"io"
 	"io/fs"
+	"math"
 
 	_ "golang.org/x/image/tiff" // register the TIFF decoder
 
@@ -122,6 +123,7 @@ func decodePNG(br io.Reader, lr *limitedReader, lim Limits) (img image.Image, in
 		}
 	}()
 	d := newPNGReader(br)
+	d.sizeHint = int(min(lim.MaxBytes, math.MaxInt32)) // the image data cannot be longer than the bytes read
 	if st, ok := lr.r.(interface{ Stat() (fs.FileInfo, error) }); ok {
 		if fi, err := st.Stat(); err == nil && fi.Mode().IsRegular() && fi.Size() <= lim.MaxBytes {
 			d.sizeHint = int(fi.Size())

@@ -99,7 +99,7 @@ type pngReader struct {
 	hdr      pngInfo
 	idatLeft uint32
 	pending  bool         // the next chunk's header is in tmp[:8] already
-	sizeHint int          // the file's size when known: room for all the image data
+	sizeHint int          // the most the file can hold: its size when known, else the byte limit
 	consumed bytes.Buffer // the bytes read before the first IDAT, kept for the interlaced fallback
 	keep     bool
 }

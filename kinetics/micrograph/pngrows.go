@@ -60,8 +60,10 @@ func (d *pngReader) readRows(data []byte, wait func(n int) int) rowsResult {
 		}()
 		done <- sink.consume(ready)
 	}()
-	res, sum, err := inflate.InflateArriving(raw, data, wait, progressStep, func(n int) { ready <- n })
-	close(ready)
+	res, sum, err := func() (inflate.Result, uint32, error) {
+		defer close(ready) // also if the inflater panics, so that the consumer ends
+		return inflate.InflateArriving(raw, data, wait, progressStep, func(n int) { ready <- n })
+	}()
 	if uerr := <-done; uerr != nil {
 		return rowsResult{err: uerr}
 	}
