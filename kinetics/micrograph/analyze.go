@@ -100,11 +100,10 @@ func Analyze(img image.Image, s Settings) (*Result, error) {
 	if res.BitDepth == 8 {
 		unit = 257
 	}
-	p, err := flattenSmoothed(img, s, res, unit)
+	p, hist, err := flattenSmoothed(img, s, res, unit)
 	if err != nil {
 		return nil, fmt.Errorf("analyze micrograph: %w", err)
 	}
-	hist := histogram(p)
 	t, ok := Otsu(hist)
 	if !ok {
 		return nil, fmt.Errorf("analyze micrograph: %w: one gray level left after flattening and smoothing", ErrUniform)
@@ -146,24 +145,22 @@ func Analyze(img image.Image, s Settings) (*Result, error) {
 
 // flattenSmoothed returns the 16-bit plane of img divided by its fitted
 // illumination (when s.BackgroundDegree > 0; a note on res when the fit
-// fails) and smoothed with radius s.SmoothRadius. unit is 16-bit levels per
-// native level. A uniform image returns an error wrapping ErrUniform.
-func flattenSmoothed(img image.Image, s Settings, res *Result, unit float64) (*plane, error) {
+// fails) and smoothed with radius s.SmoothRadius, and its histogram, made
+// in one pass (prepare) on all cores. unit is 16-bit levels per native
+// level. A uniform image returns an error wrapping ErrUniform.
+func flattenSmoothed(img image.Image, s Settings, res *Result, unit float64) (*plane, []uint64, error) {
 	var bg *background
 	if s.BackgroundDegree > 0 {
 		if bg = fitBackground(img, s.BackgroundDegree); bg == nil {
 			res.Notes = append(res.Notes, "illumination surface could not be fitted; image left unflattened")
 		}
 	}
-	p, lo, hi := toPlane(img, bg)
-	if lo == hi {
-		return nil, fmt.Errorf("%w: every pixel is gray %g of %g; a blank, black or saturated frame has nothing to measure",
-			ErrUniform, float64(lo)/unit, 65535/unit)
+	if level, ok := uniform(img); ok {
+		return nil, nil, fmt.Errorf("%w: every pixel is gray %g of %g; a blank, black or saturated frame has nothing to measure",
+			ErrUniform, float64(level)/unit, 65535/unit)
 	}
-	if s.SmoothRadius > 0 {
-		smooth(p, s.SmoothRadius)
-	}
-	return p, nil
+	p, hist := prepare(img, bg, s.SmoothRadius, numWorkers(img.Bounds().Dy()))
+	return p, hist, nil
 }
 
 // bareLevel returns the bare-copper level in 16-bit units from the bare

@@ -71,6 +71,7 @@ func TestSyntheticMicrographs(t *testing.T) {
 	}
 	for i, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
+			t.Parallel()
 			s, edge := baseSynth(c.contrast, uint64(11+i))
 			var img image.Image
 			var truth float64

@@ -2,6 +2,7 @@ package micrograph
 
 import (
 	"image"
+	"os"
 	"runtime"
 	"sync"
 	"testing"
@@ -46,9 +47,9 @@ func BenchmarkAnalyze4096(b *testing.B) {
 }
 
 func BenchmarkSmooth4096(b *testing.B) {
-	p, _, _ := toPlane(benchImage(), nil)
+	p := toPlane(benchImage(), nil)
 	for b.Loop() {
-		smooth(p, DefaultSmoothRadius)
+		smooth(p, DefaultSmoothRadius, numWorkers(p.h))
 	}
 }
 
@@ -62,10 +63,46 @@ func BenchmarkFlatten4096(b *testing.B) {
 }
 
 func BenchmarkLabel4096(b *testing.B) {
-	p, _, _ := toPlane(benchImage(), nil)
+	p := toPlane(benchImage(), nil)
 	t, _ := Otsu(histogram(p))
 	for b.Loop() {
 		runs, rowStart := runsOf(p, uint16(t), false)
 		labelRuns(runs, rowStart, p.h)
+	}
+}
+
+// benchFile is the PNG named by $FOILRUN_BENCH_PNG (the 4096² benchmark
+// micrograph: go run ./cmd/foilrun/internal/benchdata micrograph FILE);
+// without it the file benchmarks are skipped.
+func benchFile(b *testing.B) string {
+	f := os.Getenv("FOILRUN_BENCH_PNG")
+	if f == "" {
+		b.Skip("set FOILRUN_BENCH_PNG to a PNG file")
+	}
+	return f
+}
+
+// BenchmarkLoadFile times Load (read, inflate, unfilter) of the file.
+func BenchmarkLoadFile(b *testing.B) {
+	f := benchFile(b)
+	for b.Loop() {
+		if _, _, err := Load(f, Limits{}); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+// BenchmarkLoadAnalyzeFile times Load then Analyze of the file, as
+// `foilrun measure image FILE --pixel 0.5um` does.
+func BenchmarkLoadAnalyzeFile(b *testing.B) {
+	f := benchFile(b)
+	for b.Loop() {
+		img, _, err := Load(f, Limits{})
+		if err != nil {
+			b.Fatal(err)
+		}
+		if _, err := Analyze(img, Settings{PixelSize: 0.5e-6}); err != nil {
+			b.Fatal(err)
+		}
 	}
 }

@@ -9,6 +9,7 @@ import (
 	_ "image/png"  // register the PNG decoder
 	"io"
 	"io/fs"
+	"math"
 
 	_ "golang.org/x/image/tiff" // register the TIFF decoder
 
@@ -67,9 +68,10 @@ func Load(path string, lim Limits) (image.Image, Info, error) {
 
 // Decode reads a PNG, JPEG or TIFF image (8- or 16-bit, gray or colour).
 // A PNG that is not interlaced is decoded by this package's own decoder
-// straight into a 16-bit gray image of the luma Analyze works on (see
-// pngdecode.go), inflating on one goroutine and unfiltering on another;
-// other images go through the standard decoders. It reads the header first
+// (see pngdecode.go: reading, inflating and unfiltering overlap on three
+// goroutines) into an *image.Gray for 8-bit gray, else a 16-bit gray image
+// of the luma Analyze works on; other images go through the standard
+// decoders. It reads the header first
 // and refuses an image larger than lim.MaxPixels with a *TooLargeError
 // before allocating pixel memory. A truncated or non-image input returns an
 // error wrapping ErrUnreadable. Decode never panics: a panic inside a
@@ -121,6 +123,7 @@ func decodePNG(br io.Reader, lr *limitedReader, lim Limits) (img image.Image, in
 		}
 	}()
 	d := newPNGReader(br)
+	d.sizeHint = int(min(lim.MaxBytes, math.MaxInt32)) // the image data cannot be longer than the bytes read
 	if st, ok := lr.r.(interface{ Stat() (fs.FileInfo, error) }); ok {
 		if fi, err := st.Stat(); err == nil && fi.Mode().IsRegular() && fi.Size() <= lim.MaxBytes {
 			d.sizeHint = int(fi.Size())

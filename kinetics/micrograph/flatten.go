@@ -116,6 +116,8 @@ func sampleLogLuma(img image.Image) (xs, ys, zs []float64) {
 	w, h := b.Dx(), b.Dy()
 	stepX := max(1, w/fitGrid)
 	stepY := max(1, h/fitGrid)
+	n := ((h - stepY/2 + stepY - 1) / stepY) * ((w - stepX/2 + stepX - 1) / stepX)
+	xs, ys, zs = make([]float64, 0, n), make([]float64, 0, n), make([]float64, 0, n)
 	row := make([]uint16, w)
 	for y := stepY / 2; y < h; y += stepY {
 		convertRow(img, b.Min.X, b.Min.Y+y, row)
@@ -152,9 +154,10 @@ func alternateFit(rows [][]float64, zs []float64) (coef, resid []float64) {
 	n, nt := len(zs), len(rows[0])
 	m := make([]bool, n)
 	resid = make([]float64, n)
+	surf := surfaceSums(rows, zs)
 	for round := range fitRounds {
 		withStep := round > 0 && bothClassesFit(m, nt)
-		c := solveLeastSquares(rows, zs, m, withStep)
+		c := solveLeastSquares(surf, rows, zs, m, withStep)
 		if c == nil {
 			return nil, nil
 		}
@@ -201,41 +204,71 @@ func (bg *background) gainGrid() {
 	}
 }
 
-// solveLeastSquares solves the normal equations for z ≈ Σ c_k·row_k
-// (+ c_step·m when withStep). It returns nil if they are singular.
-func solveLeastSquares(rows [][]float64, z []float64, m []bool, withStep bool) []float64 {
+// normalSums are the sums of the normal equations of the surface alone,
+// Σ row_j·row_k (j ≤ k, row-major nt×nt) and Σ row_j·z, summed over the
+// samples in order. They do not change between the rounds of the fit.
+type normalSums struct {
+	nt  int
+	ata []float64
+	atb []float64
+}
+
+// surfaceSums sums the normal equations of the surface over the samples.
+func surfaceSums(rows [][]float64, z []float64) normalSums {
 	nt := len(rows[0])
+	s := normalSums{nt: nt, ata: make([]float64, nt*nt), atb: make([]float64, nt)}
+	for i, a := range rows {
+		a = a[:nt]
+		for j, aj := range a {
+			s.atb[j] += aj * z[i]
+			row := s.ata[j*nt : (j+1)*nt]
+			for k := j; k < nt; k++ {
+				row[k] += aj * a[k]
+			}
+		}
+	}
+	return s
+}
+
+// solveLeastSquares solves the normal equations for z ≈ Σ c_k·row_k
+// (+ c_step·m when withStep), from the surface's sums surf and, for the
+// step, the sums over the samples with m set: Σ row_j, their count and
+// Σ z. These are the sums the full design matrix (the surface's columns
+// and a 0/1 column) gives, in the same order, so the result does not
+// depend on how they are split. It returns nil if the equations are
+// singular.
+func solveLeastSquares(surf normalSums, rows [][]float64, z []float64, m []bool, withStep bool) []float64 {
+	nt := surf.nt
 	np := nt
 	if withStep {
 		np++
 	}
 	ata := mat.NewSymDense(np, nil)
 	atb := mat.NewVecDense(np, nil)
-	a := make([]float64, np)
-	acc := make([]float64, np*np)
-	bacc := make([]float64, np)
-	for i, r := range rows {
-		copy(a, r)
-		if withStep {
-			a[nt] = 0
-			if m[i] {
-				a[nt] = 1
-			}
-		}
-		for j := range np {
-			aj := a[j]
-			bacc[j] += aj * z[i]
-			row := acc[j*np:]
-			for k := j; k < np; k++ {
-				row[k] += aj * a[k]
-			}
+	for j := range nt {
+		atb.SetVec(j, surf.atb[j])
+		for k := j; k < nt; k++ {
+			ata.SetSym(j, k, surf.ata[j*nt+k])
 		}
 	}
-	for j := range np {
-		atb.SetVec(j, bacc[j])
-		for k := j; k < np; k++ {
-			ata.SetSym(j, k, acc[j*np+k])
+	if withStep {
+		step := make([]float64, nt) // Σ row_j over the samples with m set
+		var count, sz float64
+		for i, r := range rows {
+			if !m[i] {
+				continue
+			}
+			for j, v := range r[:nt] {
+				step[j] += v
+			}
+			count++
+			sz += z[i]
 		}
+		for j := range nt {
+			ata.SetSym(j, nt, step[j])
+		}
+		ata.SetSym(nt, nt, count)
+		atb.SetVec(nt, sz)
 	}
 	var ch mat.Cholesky
 	if !ch.Factorize(ata) {
@@ -275,9 +308,11 @@ func splitResiduals(resid []float64, m []bool) {
 	}
 }
 
-// applyRow divides row y (converted luma) by the fitted illumination, in
-// place; knots is scratch of bg.nkx values.
-func (bg *background) applyRow(y int, row []uint16, knots []float32) {
+// applyRow writes into dst row y of the image divided by the fitted
+// illumination: src holds the row's levels, in 16-bit units once
+// multiplied by unit (257 for 8-bit levels, 1 for 16-bit; src and dst may
+// be the same row); knots is scratch of bg.nkx values.
+func applyRow[T uint8 | uint16](bg *background, y int, src []T, unit uint16, dst []uint16, knots []float32) {
 	j := y / knotStride
 	y0 := j * knotStride
 	fy := float32(y-y0) / float32(max(min(y0+knotStride, bg.h-1)-y0, 1))
@@ -285,21 +320,47 @@ func (bg *background) applyRow(y int, row []uint16, knots []float32) {
 	for k := range knots {
 		knots[k] = g0[k] + fy*(g1[k]-g0[k])
 	}
-	w := len(row)
-	for x0 := 0; x0 < w; x0 += knotStride {
-		k := x0 / knotStride
-		x1 := min(x0+knotStride, w)
+	w := len(dst)
+	src = src[:w]
+	// The gain is interpolated along each segment of knotStride pixels by
+	// repeated addition; two segments are run side by side so that their
+	// chains of additions overlap (each is the same chain as alone).
+	seg := func(k int) (g, dg float32) {
+		x0 := k * knotStride
 		span := float32(max(min(x0+knotStride, w-1)-x0, 1))
-		g, dg := knots[k], (knots[k+1]-knots[k])/span
-		seg := row[x0:x1]
-		for x, v := range seg {
-			f := float32(v)*g + 0.5
-			g += dg
-			if f >= 65535 {
-				seg[x] = 65535
-			} else {
-				seg[x] = uint16(f)
-			}
+		return knots[k], (knots[k+1] - knots[k]) / span
+	}
+	k := 0
+	for ; (k+2)*knotStride <= w; k += 2 {
+		ga, dga := seg(k)
+		gb, dgb := seg(k + 1)
+		x0 := k * knotStride
+		ina, outa := (*[knotStride]T)(src[x0:]), (*[knotStride]uint16)(dst[x0:])
+		inb, outb := (*[knotStride]T)(src[x0+knotStride:]), (*[knotStride]uint16)(dst[x0+knotStride:])
+		for x := range knotStride {
+			fa := float32(uint16(ina[x])*unit)*ga + 0.5
+			fb := float32(uint16(inb[x])*unit)*gb + 0.5
+			ga += dga
+			gb += dgb
+			outa[x], outb[x] = gainLevel(fa), gainLevel(fb)
 		}
 	}
+	for ; k*knotStride < w; k++ {
+		g, dg := seg(k)
+		x0 := k * knotStride
+		out := dst[x0:min(x0+knotStride, w)]
+		for x, v := range src[x0 : x0+len(out)] {
+			out[x] = gainLevel(float32(uint16(v)*unit)*g + 0.5)
+			g += dg
+		}
+	}
+}
+
+// gainLevel is a flattened level f + 0.5 (f ≥ 0) rounded down to a 16-bit
+// level, saturating at 65535.
+func gainLevel(f float32) uint16 {
+	if f >= 65535 {
+		return 65535
+	}
+	return uint16(f)
 }

@@ -25,12 +25,13 @@ func bandOf(n, i, workers int) (lo, hi int) { return n * i / workers, n * (i + 1
 // parallel splits [0, n) into numWorkers(n) contiguous bands (bandOf) and
 // runs fn on each band in its own goroutine.
 func parallel(n int, fn func(lo, hi int)) {
-	parallelBands(n, func(_, lo, hi int) { fn(lo, hi) })
+	parallelBands(n, numWorkers(n), func(_, lo, hi int) { fn(lo, hi) })
 }
 
-// parallelBands is parallel with the band index passed to fn.
-func parallelBands(n int, fn func(i, lo, hi int)) {
-	workers := numWorkers(n)
+// parallelBands splits [0, n) into max(1, min(workers, n)) bands and runs
+// fn on each, with the band's index, in its own goroutine.
+func parallelBands(n, workers int, fn func(i, lo, hi int)) {
+	workers = max(1, min(workers, n))
 	if workers == 1 {
 		fn(0, 0, n)
 		return
@@ -50,35 +51,12 @@ func luma16(r, g, b uint32) uint16 {
 }
 
 // toPlane converts any image to 16-bit luma, divided by the illumination
-// bg when bg is not nil, and returns the extremes of the raw luma. Common
-// decoder outputs take fast paths; others go through color.Gray16Model.
-func toPlane(img image.Image, bg *background) (p *plane, lo, hi uint16) {
-	b := img.Bounds()
-	p = &plane{w: b.Dx(), h: b.Dy()}
-	p.pix = make([]uint16, p.w*p.h)
-	var mu sync.Mutex
-	lo, hi = 65535, 0
-	parallel(p.h, func(y0, y1 int) {
-		blo, bhi := uint16(65535), uint16(0)
-		var knots []float32
-		if bg != nil {
-			knots = make([]float32, bg.nkx)
-		}
-		for y := y0; y < y1; y++ {
-			row := p.row(y)
-			convertRow(img, b.Min.X, b.Min.Y+y, row)
-			for _, v := range row {
-				blo, bhi = min(blo, v), max(bhi, v)
-			}
-			if bg != nil {
-				bg.applyRow(y, row, knots)
-			}
-		}
-		mu.Lock()
-		lo, hi = min(lo, blo), max(hi, bhi)
-		mu.Unlock()
-	})
-	return p, lo, hi
+// bg when bg is not nil (prepare without smoothing). Common decoder
+// outputs take fast paths in convertRow; others go through
+// color.Gray16Model.
+func toPlane(img image.Image, bg *background) *plane {
+	p, _ := pass(img, bg, 0, numWorkers(img.Bounds().Dy()), false)
+	return p
 }
 
 func convertRow(img image.Image, x0, y int, dst []uint16) {

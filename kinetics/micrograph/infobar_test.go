@@ -44,49 +44,62 @@ func coverageScene(target float64, brighter bool, seed uint64) (*image.Gray, flo
 // marks along the top; the bar is found and cut exactly.
 func TestCoverageWithInfoBar(t *testing.T) {
 	t.Parallel()
-	bars := []struct {
-		name string
-		bar  *synth.InfoBar
-	}{
+	bars := []barCase{
 		{"no bar", nil},
 		{"black bar at the bottom", &synth.InfoBar{Height: 48, Background: 0, Ink: 255}},
 		{"white bar at the top", &synth.InfoBar{Height: 30, Top: true, Background: 255, Ink: 0}},
 	}
 	for _, target := range []float64{0.05, 0.50, 0.80, 0.95} {
 		for _, brighter := range []bool{false, true} {
-			img, truth := coverageScene(target, brighter, uint64(1000*target))
-			if math.Abs(truth-target) > 0.03 {
-				t.Fatalf("drawn coverage %.4f is not near the target %.2f", truth, target)
-			}
 			pol := DomainsDarker
 			if brighter {
 				pol = DomainsBrighter
 			}
-			for _, b := range bars {
-				t.Run(fmt.Sprintf("%.0f%% %v %s", 100*target, pol, b.name), func(t *testing.T) {
-					in, want := image.Image(img), image.Rect(0, 0, 512, 512)
-					if b.bar != nil {
-						in = synth.WithInfoBar(img, *b.bar)
-						if b.bar.Top {
-							want = want.Add(image.Pt(0, b.bar.Height))
-						}
-					}
-					res, err := Analyze(in, Settings{PixelSize: testPixel, Polarity: pol})
-					if err != nil {
-						t.Fatal(err)
-					}
-					if math.Abs(res.Coverage-truth) > 0.015 {
-						t.Errorf("coverage: got %.4f, want %.4f ± 0.015 (drawn geometry)", res.Coverage, truth)
-					}
-					if res.Region != want {
-						t.Errorf("measured field: got %v, want %v; cuts %q", res.Region, want, res.Cuts)
-					}
-					if (b.bar != nil) != (len(res.Cuts) == 1) {
-						t.Errorf("cuts: got %q, want one line for a bar and none without", res.Cuts)
-					}
-				})
-			}
+			// Each scene is drawn in its own parallel subtest, and its bar
+			// variants are measured inside it.
+			t.Run(fmt.Sprintf("%.0f%% %v", 100*target, pol), func(t *testing.T) {
+				t.Parallel()
+				img, truth := coverageScene(target, brighter, uint64(1000*target))
+				if math.Abs(truth-target) > 0.03 {
+					t.Fatalf("drawn coverage %.4f is not near the target %.2f", truth, target)
+				}
+				for _, b := range bars {
+					t.Run(b.name, func(t *testing.T) { b.check(t, img, truth, pol) })
+				}
+			})
 		}
+	}
+}
+
+// barCase is an info bar added to a scene of TestCoverageWithInfoBar, or
+// none.
+type barCase struct {
+	name string
+	bar  *synth.InfoBar
+}
+
+// check measures img with the bar added and polarity pol: the coverage
+// must lie within 0.015 of truth and the bar must be cut exactly.
+func (b barCase) check(t *testing.T, img *image.Gray, truth float64, pol Polarity) {
+	in, want := image.Image(img), image.Rect(0, 0, 512, 512)
+	if b.bar != nil {
+		in = synth.WithInfoBar(img, *b.bar)
+		if b.bar.Top {
+			want = want.Add(image.Pt(0, b.bar.Height))
+		}
+	}
+	res, err := Analyze(in, Settings{PixelSize: testPixel, Polarity: pol})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(res.Coverage-truth) > 0.015 {
+		t.Errorf("coverage: got %.4f, want %.4f ± 0.015 (drawn geometry)", res.Coverage, truth)
+	}
+	if res.Region != want {
+		t.Errorf("measured field: got %v, want %v; cuts %q", res.Region, want, res.Cuts)
+	}
+	if (b.bar != nil) != (len(res.Cuts) == 1) {
+		t.Errorf("cuts: got %q, want one line for a bar and none without", res.Cuts)
 	}
 }
 

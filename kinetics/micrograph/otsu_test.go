@@ -47,10 +47,13 @@ func loadReference(t *testing.T) reference {
 // its own units.
 func nativeHistogram(t *testing.T, img image.Image) []uint64 {
 	switch m := img.(type) {
-	case *image.Gray:
+	case *image.Gray: // this package's decoder leaves a filter byte between rows
 		h := make([]uint64, 256)
-		for _, v := range m.Pix {
-			h[v]++
+		b := m.Bounds()
+		for y := b.Min.Y; y < b.Max.Y; y++ {
+			for _, v := range m.Pix[m.PixOffset(b.Min.X, y):][:b.Dx()] {
+				h[v]++
+			}
 		}
 		return h
 	case *image.Gray16:
@@ -91,7 +94,7 @@ func TestOtsuAgainstSkimage(t *testing.T) {
 			}
 			// Through the 16-bit plane Analyze uses: an 8-bit level v is
 			// 257·v there, and the threshold must land on the same level.
-			p, _, _ := toPlane(img, nil)
+			p := toPlane(img, nil)
 			t16, _ := Otsu(histogram(p))
 			if b := bitDepth(img); b == 8 && t16 != 257*c.Threshold || b == 16 && t16 != c.Threshold {
 				t.Errorf("16-bit plane: got %d for skimage's %d at %d bits", t16, c.Threshold, b)

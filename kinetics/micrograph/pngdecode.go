@@ -10,16 +10,21 @@ import (
 	"image/color"
 	"image/png"
 	"io"
+	"slices"
+	"sync"
 )
 
 // The PNG decoder of this package reads a PNG (ISO/IEC 15948:2004, "PNG
-// (Portable Network Graphics) Specification, Second Edition") straight
-// into a lumaImage: each row is inflated (compress/zlib), unfiltered
-// (section 9.2: None, Sub, Up, Average, Paeth) and turned into 16-bit luma
-// as it arrives, with inflating on one goroutine and unfiltering and
-// flattening on another (the rows pass between them in batches). Its luma
-// is exactly what image/png's image gives through convertRow (tested).
-// Interlaced images (Adam7) are handed to image/png.
+// (Portable Network Graphics) Specification, Second Edition") in three
+// stages that overlap: the calling goroutine reads the image data, a
+// second inflates it as it arrives (internal/inflate, byte for byte what
+// compress/zlib gives) into one buffer of the size the header gives, and
+// a third sums the inflated rows (Adler-32) and unfilters them (section
+// 9.2: None, Sub, Up, Average, Paeth) as they complete. An 8-bit gray
+// image is unfiltered in place and returned as an *image.Gray over that
+// buffer; other formats are converted row by row into a lumaImage of
+// 16-bit luma. The luma is exactly what image/png's image gives through
+// convertRow (tested). Interlaced images (Adam7) are handed to image/png.
 
 // pngSignature is the 8-byte PNG file signature (section 5.2).
 const pngSignature = "\x89PNG\r\n\x1a\n"
@@ -94,7 +99,7 @@ type pngReader struct {
 	hdr      pngInfo
 	idatLeft uint32
 	pending  bool         // the next chunk's header is in tmp[:8] already
-	sizeHint int          // the file's size when known: room for all the image data
+	sizeHint int          // the most the file can hold: its size when known, else the byte limit
 	consumed bytes.Buffer // the bytes read before the first IDAT, kept for the interlaced fallback
 	keep     bool
 }
@@ -308,35 +313,102 @@ func (d *pngReader) parseTRNS(length uint32) error {
 	return d.verifyChecksum()
 }
 
+// idatRoom is the room made for the image data before it is read, so
+// that it is read into one buffer without growing it: the size of a zlib
+// stream of stored blocks holding the rows the header gives (5 bytes a
+// block of 65 535, 6 for the zlib header and checksum), which a deflating
+// encoder does not exceed, or the file's size when that is smaller.
+// Longer data still fits, by growing the buffer.
+func (d *pngReader) idatRoom() int {
+	h := &d.hdr
+	raw := h.height * (1 + (h.bitsPerPixel()*h.width+7)/8)
+	room := raw + 5*(raw/65535+1) + 6
+	if d.sizeHint > 0 {
+		room = min(room, d.sizeHint)
+	}
+	return max(room, int(d.idatLeft))
+}
+
 // readIDAT reads the data of consecutive IDAT chunks, the first of
 // which has d.idatLeft bytes to come, checking each chunk's CRC, and
-// leaves the header of the chunk after them pending.
-func (d *pngReader) readIDAT() ([]byte, error) {
-	data := make([]byte, 0, max(d.sizeHint, int(d.idatLeft)))
+// leaves the header of the chunk after them pending. It reads into buf,
+// telling feed after each chunk how much has arrived, and finishes feed on
+// return. Data longer than buf is read on into a larger copy (outgrown),
+// of which feed is not told.
+func (d *pngReader) readIDAT(buf []byte, feed *idatFeed) (data []byte, outgrown bool, err error) {
+	defer feed.finish()
+	data = buf[:0]
 	for {
 		if int32(d.idatLeft) < 0 {
-			return nil, pngUnsupportedError("IDAT chunk length overflow")
+			return nil, outgrown, pngUnsupportedError("IDAT chunk length overflow")
 		}
-		start := len(data)
-		data = append(data, make([]byte, d.idatLeft)...)
+		start, n := len(data), int(d.idatLeft)
+		if !outgrown && start+n > len(buf) {
+			feed.finish()
+			outgrown = true
+		}
+		data = slices.Grow(data, n)[:start+n]
 		if err := d.readFull(data[start:]); err != nil {
-			return nil, err
+			return nil, outgrown, err
 		}
 		d.crc.Write(data[start:])
 		if err := d.verifyChecksum(); err != nil {
-			return nil, err
+			return nil, outgrown, err
+		}
+		if !outgrown {
+			feed.arrived(len(data))
 		}
 		if err := d.readFull(d.tmp[:8]); err != nil {
-			return nil, err
+			return nil, outgrown, err
 		}
 		if string(d.tmp[4:8]) != "IDAT" {
 			d.pending = true
-			return data, nil
+			return data, outgrown, nil
 		}
 		d.idatLeft = binary.BigEndian.Uint32(d.tmp[:4])
 		d.crc.Reset()
 		d.crc.Write(d.tmp[4:8])
 	}
+}
+
+// idatFeed hands the image data from the goroutine that reads it to the
+// one that inflates it: n bytes have arrived, and done says no more will.
+type idatFeed struct {
+	mu   sync.Mutex
+	more sync.Cond
+	n    int
+	done bool
+}
+
+func newIDATFeed() *idatFeed {
+	f := &idatFeed{}
+	f.more.L = &f.mu
+	return f
+}
+
+func (f *idatFeed) arrived(n int) {
+	f.mu.Lock()
+	f.n = n
+	f.mu.Unlock()
+	f.more.Broadcast()
+}
+
+func (f *idatFeed) finish() {
+	f.mu.Lock()
+	f.done = true
+	f.mu.Unlock()
+	f.more.Broadcast()
+}
+
+// wait blocks until n bytes have arrived or no more will, and returns how
+// many have.
+func (f *idatFeed) wait(n int) int {
+	f.mu.Lock()
+	defer f.mu.Unlock()
+	for f.n < n && !f.done {
+		f.more.Wait()
+	}
+	return f.n
 }
 
 // decodePixels reads, after readHeader, the chunks up to the image data,
@@ -353,18 +425,34 @@ func (d *pngReader) decodePixels() (image.Image, error) {
 	if err := d.chunksUntil(stIDAT); err != nil {
 		return nil, err
 	}
-	data, err := d.readIDAT()
+	// The image data is inflated on a second goroutine while this one
+	// reads it.
+	buf := make([]byte, d.idatRoom())
+	feed := newIDATFeed()
+	inflated := make(chan rowsResult, 1)
+	go func() {
+		defer func() {
+			if p := recover(); p != nil {
+				inflated <- rowsResult{err: fmt.Errorf("decoder failed: %v", p)}
+			}
+		}()
+		inflated <- d.readRows(buf, feed.wait)
+	}()
+	data, outgrown, err := d.readIDAT(buf, feed)
+	rows := <-inflated
 	if err != nil {
 		return nil, err
 	}
-	depth := 8
-	if d.hdr.depth == 16 {
-		depth = 16
+	if outgrown { // more data than room was made for: inflate it again, whole
+		rows = d.readRows(data, nil)
 	}
-	img := newLumaImage(d.hdr.width, d.hdr.height, depth)
-	if err := d.readRows(data, img); err != nil {
-		return nil, err
+	if rows.err != nil {
+		return nil, rows.err
 	}
+	if rows.used < len(data) {
+		return nil, pngFormatError("too much pixel data")
+	}
+	img := rows.img
 	if err := d.chunksUntil(stIEND); err != nil {
 		return nil, err
 	}

@@ -6,6 +6,7 @@ import (
 	"encoding/binary"
 	"errors"
 	"fmt"
+	"hash/adler32"
 	"hash/crc32"
 	"image/png"
 	"math/rand/v2"
@@ -27,7 +28,7 @@ func referencePlane(data []byte) (levels []uint16, depth int, err error) {
 	if err != nil {
 		return nil, 0, err
 	}
-	p, _, _ := toPlane(img, nil)
+	p := toPlane(img, nil)
 	return p.pix, bitDepth(img), nil
 }
 
@@ -37,7 +38,7 @@ func decodedPlane(data []byte, lim Limits) ([]uint16, int, error) {
 	if err != nil {
 		return nil, 0, err
 	}
-	p, _, _ := toPlane(img, nil)
+	p := toPlane(img, nil)
 	return p.pix, info.BitDepth, nil
 }
 
@@ -264,8 +265,9 @@ func TestDecodePNGMatchesReference(t *testing.T) {
 	t.Parallel()
 	rng := rand.New(rand.NewPCG(19, 1))
 	for _, s := range generatedSpecs() {
+		data := s.encode(rng) // in turn: the files come from one stream
 		t.Run(s.String(), func(t *testing.T) {
-			data := s.encode(rng)
+			t.Parallel()
 			comparePlanes(t, data)
 		})
 	}
@@ -410,4 +412,41 @@ func (s pngSpec) withRows(n int) []byte {
 	writeChunk(&b, "IDAT", raw.Bytes())
 	writeChunk(&b, "IEND", nil)
 	return b.Bytes()
+}
+
+// TestDecodePNGOutgrown: image data longer than the room the decoder
+// makes for it from the header (a stored-block stream's size) is read on
+// and inflated again whole: here thousands of empty stored blocks (RFC
+// 1951, section 3.2.4) come before the one holding the rows.
+func TestDecodePNGOutgrown(t *testing.T) {
+	t.Parallel()
+	const w, h = 40, 30
+	rng := rand.New(rand.NewPCG(23, 1))
+	rows := make([]byte, h*(w+1)) // filter type 0 on every row
+	for y := range h {
+		for x := range w {
+			rows[y*(w+1)+1+x] = byte(rng.Uint32())
+		}
+	}
+	z := []byte{0x78, 0x01}
+	for range 2 * len(rows) / 5 {
+		z = append(z, 0x00, 0x00, 0x00, 0xff, 0xff) // an empty, not final, stored block
+	}
+	z = append(z, 0x01, byte(len(rows)), byte(len(rows)>>8), ^byte(len(rows)), ^byte(len(rows)>>8))
+	z = append(z, rows...)
+	z = binary.BigEndian.AppendUint32(z, adler32.Checksum(rows))
+	var b bytes.Buffer
+	b.WriteString(pngSignature)
+	ihdr := make([]byte, 13)
+	binary.BigEndian.PutUint32(ihdr[0:], w)
+	binary.BigEndian.PutUint32(ihdr[4:], h)
+	ihdr[8] = 8
+	writeChunk(&b, "IHDR", ihdr)
+	for len(z) > 0 {
+		n := min(len(z), 1000)
+		writeChunk(&b, "IDAT", z[:n])
+		z = z[n:]
+	}
+	writeChunk(&b, "IEND", nil)
+	comparePlanes(t, b.Bytes())
 }

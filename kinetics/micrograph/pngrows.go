@@ -3,6 +3,7 @@ package micrograph
 import (
 	"errors"
 	"fmt"
+	"image"
 	"image/color"
 
 	"github.com/foilrun/foilrun/kinetics/micrograph/internal/inflate"
@@ -21,14 +22,31 @@ const (
 // produces between hand-overs to the one that unfilters.
 const progressStep = 64 << 10
 
-// readRows inflates the image data on this goroutine into one buffer of
-// the exact size the header gives, while a second goroutine unfilters
-// the rows as they complete and writes their luma into img, row by row.
-func (d *pngReader) readRows(data []byte, img *lumaImage) error {
-	bpp := d.hdr.bitsPerPixel()
-	rowSize := 1 + (bpp*d.hdr.width+7)/8
-	raw := make([]byte, d.hdr.height*rowSize)
-	conv := rowConverter(&d.hdr)
+// readRows inflates the image data (data[:wait(…)] while it arrives, when
+// wait is not nil; see inflate.InflateArriving) on this goroutine into one
+// buffer of the exact size the header gives, while a second goroutine sums the
+// inflated bytes (Adler-32, the zlib checksum) and unfilters the rows as
+// they complete. An 8-bit gray image is unfiltered in place, a DEFLATE
+// window behind the inflater, and is returned as an *image.Gray over that
+// buffer (its rows one filter byte apart): no second image is made. Other
+// formats are copied out row by row and converted into a lumaImage.
+func (d *pngReader) readRows(data []byte, wait func(n int) int) rowsResult {
+	h := &d.hdr
+	bpp := h.bitsPerPixel()
+	rowSize := 1 + (bpp*h.width+7)/8
+	raw := make([]byte, h.height*rowSize)
+	sink := &rowSink{raw: raw, rowSize: rowSize, bpp: (bpp + 7) / 8}
+	var img image.Image
+	if h.ctype == pngGray && h.depth == 8 {
+		img = &image.Gray{Pix: raw[1:], Stride: rowSize, Rect: image.Rect(0, 0, h.width, h.height)}
+	} else {
+		depth := 8
+		if h.depth == 16 {
+			depth = 16
+		}
+		sink.img, sink.conv = newLumaImage(h.width, h.height, depth), rowConverter(h)
+		img = sink.img
+	}
 
 	ready := make(chan int, len(raw)/progressStep+2)
 	done := make(chan error, 1)
@@ -40,48 +58,99 @@ func (d *pngReader) readRows(data []byte, img *lumaImage) error {
 				done <- fmt.Errorf("decoder failed: %v", p)
 			}
 		}()
-		done <- unfilterRows(ready, raw, img, rowSize, (bpp+7)/8, conv)
+		done <- sink.consume(ready)
 	}()
-	res, err := inflate.Zlib(raw, data, progressStep, func(n int) { ready <- n })
-	close(ready)
+	res, sum, err := func() (inflate.Result, uint32, error) {
+		defer close(ready) // also if the inflater panics, so that the consumer ends
+		return inflate.InflateArriving(raw, data, wait, progressStep, func(n int) { ready <- n })
+	}()
 	if uerr := <-done; uerr != nil {
-		return uerr
+		return rowsResult{err: uerr}
 	}
 	switch {
 	case errors.Is(err, inflate.ErrTooLong):
-		return pngFormatError("too much pixel data")
+		err = pngFormatError("too much pixel data")
 	case errors.Is(err, inflate.ErrTruncated):
-		return pngFormatError("not enough pixel data")
+		err = pngFormatError("not enough pixel data")
 	case err != nil:
-		return pngFormatError(err.Error())
+		err = pngFormatError(err.Error())
+	case inflate.Adler32Update(sink.sum, raw[sink.y*rowSize:res.N]) != sum:
+		err = pngFormatError(inflate.ErrChecksum.Error())
 	case res.N < len(raw):
-		return pngFormatError("not enough pixel data")
-	case res.Used < len(data):
-		return pngFormatError("too much pixel data")
+		err = pngFormatError("not enough pixel data")
+	default:
+		return rowsResult{img: img, used: res.Used}
 	}
-	return nil
+	return rowsResult{err: err}
 }
 
-// unfilterRows is the consumer side of readRows: each n received means
-// raw[:n] is final. It copies each complete row out of raw (later data
-// refers back to the filtered bytes), reverses its filter against the
-// row above and converts it with conv. After an error it goes on
-// receiving, so that the producer never blocks.
-func unfilterRows(ready <-chan int, raw []byte, img *lumaImage, rowSize, bpp int,
-	conv func(dst []uint16, src []byte)) error {
+// rowsResult is what readRows made: the image, or an error, and how much
+// of the image data the zlib stream took (the caller refuses data left
+// over).
+type rowsResult struct {
+	img  image.Image
+	used int
+	err  error
+}
+
+// rowSink is the consumer side of readRows.
+type rowSink struct {
+	raw          []byte // the inflated image data: rows of a filter byte and rowSize−1 bytes
+	rowSize, bpp int    // bpp: bytes per complete pixel, at least 1
+
+	// img and conv, when set, receive each unfiltered row, copied out of
+	// raw; without them rows are unfiltered in place.
+	img  *lumaImage
+	conv func(dst []uint16, src []byte)
+
+	sum uint32 // Adler-32 of raw[:y·rowSize], summed before unfiltering
+	y   int    // rows done
+}
+
+// consume takes, for each n received, the rows that raw[:n] completes:
+// it adds each to the checksum and reverses its filter against the row
+// above (section 9.2). Rows unfiltered in place are taken only once they
+// lie a DEFLATE window behind n, where no back-reference can reach them;
+// after the last n (the channel closed) the rest is taken. After an error
+// it goes on receiving, so that the producer never blocks.
+func (s *rowSink) consume(ready <-chan int) error {
+	lag := 0
+	if s.img == nil {
+		lag = inflate.Window
+	}
+	w := s.rowSize - 1
+	prev := make([]byte, w) // the row above the first is all zeros (section 9.2)
+	var cur []byte
+	if s.img != nil {
+		cur = make([]byte, w)
+	}
+	s.sum = 1
 	var err error
-	cur, prev := make([]byte, rowSize-1), make([]byte, rowSize-1) // the row above the first is all zeros (section 9.2)
-	y := 0
-	for n := range ready {
-		for ; err == nil && (y+1)*rowSize <= n; y++ {
-			row := raw[y*rowSize : (y+1)*rowSize]
-			copy(cur, row[1:])
-			if err = unfilter(row[0], cur, prev, bpp); err == nil {
-				conv(img.rowFrom(0, y), cur)
-				cur, prev = prev, cur
+	take := func(limit int) {
+		for ; err == nil && (s.y+1)*s.rowSize <= limit; s.y++ {
+			row := s.raw[s.y*s.rowSize : (s.y+1)*s.rowSize]
+			s.sum = inflate.Adler32Update(s.sum, row)
+			if s.img == nil {
+				if err = unfilter(row[0], row[1:], prev, s.bpp); err != nil {
+					return
+				}
+				prev = row[1:]
+				continue
 			}
+			copy(cur, row[1:])
+			if err = unfilter(row[0], cur, prev, s.bpp); err != nil {
+				return
+			}
+			s.conv(s.img.rowFrom(0, s.y), cur)
+			cur, prev = prev, cur
 		}
 	}
+	last := 0
+	for n := range ready {
+		last = n
+		take(n - lag)
+	}
+	take(last)
 	return err
 }
 

@@ -7,9 +7,16 @@ package micrograph
 // applied along rows and then along columns, with edge pixels repeated.
 // It is the discrete counterpart of a Gaussian with σ = √(r/2) pixels
 // (r = 2, the default: taps 1 4 6 4 1, σ = 1 px). Both directions run in
-// one sweep down the image in integer arithmetic: each row is smoothed
-// along x into a ring of 2r+1 rows, and the output row is the column
-// combination of the ring, written back in place.
+// one sweep down the image in integer arithmetic: each source row is
+// smoothed along x into a ring of 2r+1 rows, and the output row is the
+// column combination of the ring.
+//
+// The sweep is the one pass of the analysis over the pixels before the
+// threshold (prepare, pass.go): the source rows are made on the fly (luma,
+// divided by the illumination), and each output row is counted into the
+// histogram as it is written. The rows are split into bands, one per
+// worker; a band makes the r source rows beyond each of its ends itself,
+// so bands share nothing and the result does not depend on their number.
 
 const maxSmoothRadius = 8 // 17 taps; 65535·2^16 still fits in uint32
 
@@ -23,86 +30,73 @@ func binomial(r int) []uint32 {
 	return k
 }
 
-// smooth blurs p in place with the binomial kernel of radius r (1..8).
-func smooth(p *plane, r int) {
+// smooth blurs p in place with the binomial kernel of radius r (1..8),
+// on workers bands.
+func smooth(p *plane, r, workers int) {
 	if r <= 0 {
 		return
 	}
-	k := binomial(r)
-	halo := haloRows(p, r)
-	parallelBands(p.h, func(i, lo, hi int) {
-		newBandSmoother(p, k, r, lo, hi, halo[i]).run()
+	src := &plane{w: p.w, h: p.h, pix: append([]uint16(nil), p.pix...)}
+	parallelBands(p.h, workers, func(_, lo, hi int) {
+		newSmoother(p, r, lo, hi, func(y int, dst []uint16) { copy(dst, src.row(y)) }).run(nil)
 	})
 }
 
-// haloRows copies out, for each band of parallelBands, the r original rows
-// beyond each of its ends (clamped to the image), which the neighbouring
-// band overwrites: band i's rows lo−r … lo−1 and then hi … hi+r−1, each p.w
-// wide. They must be taken before any band starts.
-func haloRows(p *plane, r int) [][]uint16 {
-	workers := numWorkers(p.h)
-	halo := make([][]uint16, workers)
-	for i := range workers {
-		lo, hi := bandOf(p.h, i, workers)
-		var h []uint16
-		for y := lo - r; y < hi+r; y++ {
-			if y < lo || y >= hi {
-				h = append(h, p.row(min(max(y, 0), p.h-1))...)
-			}
-		}
-		halo[i] = h
-	}
-	return halo
-}
+// rowSource writes source row y (0 ≤ y < h) into dst.
+type rowSource func(y int, dst []uint16)
 
-// bandSmoother smooths rows lo … hi−1 of a plane: each original row is
-// smoothed along x into a ring of 2r+1 rows, and each output row is the
-// column combination of the ring, written back in place.
+// bandSmoother smooths rows lo … hi−1 of the source into a plane: each
+// source row is smoothed along x into a ring of 2r+1 rows, and each
+// output row is the column combination of the ring.
 type bandSmoother struct {
-	p      *plane
+	p      *plane // the output
+	src    rowSource
 	k      []uint32 // binomial taps, 2r+1 of them
 	r      int
 	shift  uint   // 2r: the taps sum to 2^shift
 	half   uint32 // 2^(shift−1), for rounding half up
 	lo, hi int
-	halo   []uint16 // original rows beyond the band (haloRows)
 	ring   []uint16 // 2r+1 rows smoothed along x, slot (y−lo+r) mod (2r+1)
-	buf    []uint16 // one original row with r edge pixels repeated at each end
+	buf    []uint16 // one source row with r edge pixels repeated at each end
 	acc    []uint32 // column sums of one output row
 }
 
-// newBandSmoother returns the smoother of band lo … hi−1 of p with taps k
-// of radius r and the band's halo rows, its ring and scratch rows allocated.
-func newBandSmoother(p *plane, k []uint32, r, lo, hi int, halo []uint16) *bandSmoother {
+// smoother smooths a band of rows into a plane, counting the output
+// levels in hist when it is not nil.
+type smoother interface {
+	run(hist *[1 << 16]uint32)
+}
+
+// newSmoother returns the smoother of band lo … hi−1 of p, of radius r,
+// reading the source rows from src: for r = 2 the one on lane pairs
+// (smooth5.go).
+func newSmoother(p *plane, r, lo, hi int, src rowSource) smoother {
+	if r == 2 {
+		return newPairSmoother(p, lo, hi, src)
+	}
+	return newBandSmoother(p, r, lo, hi, src)
+}
+
+// newBandSmoother returns the smoother of band lo … hi−1 of p, of radius
+// r, reading the source rows from src, its ring and scratch rows
+// allocated.
+func newBandSmoother(p *plane, r, lo, hi int, src rowSource) *bandSmoother {
 	shift := uint(2 * r)
-	return &bandSmoother{p: p, k: k, r: r, shift: shift, half: uint32(1) << (shift - 1), lo: lo, hi: hi, halo: halo,
+	return &bandSmoother{p: p, src: src, k: binomial(r), r: r, shift: shift, half: uint32(1) << (shift - 1), lo: lo, hi: hi,
 		ring: make([]uint16, (2*r+1)*p.w), buf: make([]uint16, p.w+2*r), acc: make([]uint32, p.w)}
 }
 
 // run fills the ring with rows lo−r … lo+r−1 (clamped at the image edges),
 // then moves down the band, adding one row below and writing one out.
-func (b *bandSmoother) run() {
+// When hist is not nil every output level is counted in it.
+func (b *bandSmoother) run(hist *[1 << 16]uint32) {
 	for y := b.lo - b.r; y < b.lo+b.r; y++ {
 		b.horizInto(y)
 	}
 	for y := b.lo; y < b.hi; y++ {
 		b.horizInto(y + b.r)
-		b.vert(y)
+		b.vert(y, hist)
 	}
-}
-
-// orig returns original row y, from the halo when it lies outside the band.
-func (b *bandSmoother) orig(y int) []uint16 {
-	w := b.p.w
-	switch {
-	case y < b.lo:
-		j := y - (b.lo - b.r)
-		return b.halo[j*w : (j+1)*w]
-	case y >= b.hi:
-		j := b.r + (y - b.hi)
-		return b.halo[j*w : (j+1)*w]
-	}
-	return b.p.row(y)
 }
 
 // slot returns the ring row that holds row y smoothed along x.
@@ -122,20 +116,17 @@ func (b *bandSmoother) horizInto(y int) {
 	}
 }
 
-// horiz smooths original row y along x into its ring slot, repeating the
+// horiz smooths source row y along x into its ring slot, repeating the
 // edge pixels.
 func (b *bandSmoother) horiz(y int) {
-	row, buf, r, w := b.orig(y), b.buf, b.r, b.p.w
-	copy(buf[r:], row)
+	buf, r, w := b.buf, b.r, b.p.w
+	row := buf[r : r+w]
+	b.src(y, row)
 	for j := range r {
 		buf[j] = row[0]
 		buf[r+w+j] = row[w-1]
 	}
 	dst := b.slot(y)
-	if r == 2 {
-		taps5Row(dst, buf)
-		return
-	}
 	for x := range dst {
 		var s uint32
 		win := buf[x : x+2*r+1]
@@ -146,23 +137,10 @@ func (b *bandSmoother) horiz(y int) {
 	}
 }
 
-// taps5Row is horiz for r = 2, the default, unrolled: taps 1 4 6 4 1 over
-// buf, which holds len(dst)+4 pixels.
-func taps5Row(dst, buf []uint16) {
-	for x := range dst {
-		b := buf[x : x+5 : x+5]
-		s := uint32(b[0]) + uint32(b[4]) + 4*(uint32(b[1])+uint32(b[3])) + 6*uint32(b[2])
-		dst[x] = uint16((s + 8) >> 4)
-	}
-}
-
-// vert writes output row y: the ring rows y−r … y+r combined with the taps.
-func (b *bandSmoother) vert(y int) {
+// vert writes output row y: the ring rows y−r … y+r combined with the
+// taps, counted into hist when it is not nil.
+func (b *bandSmoother) vert(y int, hist *[1 << 16]uint32) {
 	dst := b.p.row(y)
-	if b.r == 2 {
-		taps5Col(dst, b.slot(y-2), b.slot(y-1), b.slot(y), b.slot(y+1), b.slot(y+2))
-		return
-	}
 	acc := b.acc
 	clear(acc)
 	for j, c := range b.k {
@@ -174,13 +152,9 @@ func (b *bandSmoother) vert(y int) {
 	for x, s := range acc {
 		dst[x] = uint16((s + b.half) >> b.shift)
 	}
-}
-
-// taps5Col is vert for r = 2, unrolled: taps 1 4 6 4 1 over rows a … e.
-func taps5Col(dst, a, b, c, d, e []uint16) {
-	a, b, c, d, e = a[:len(dst)], b[:len(dst)], c[:len(dst)], d[:len(dst)], e[:len(dst)]
-	for x := range dst {
-		s := uint32(a[x]) + uint32(e[x]) + 4*(uint32(b[x])+uint32(d[x])) + 6*uint32(c[x])
-		dst[x] = uint16((s + 8) >> 4)
+	if hist != nil {
+		for _, v := range dst {
+			hist[v]++
+		}
 	}
 }

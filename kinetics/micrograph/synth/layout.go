@@ -77,6 +77,10 @@ func Grain(w, h int, amplitude float64, rng *rand.Rand) Texture {
 	for i := range grid {
 		grid[i] = rng.Float64()*2 - 1
 	}
+	lines := make([]float64, h) // the rolling lines, one value a row
+	for y := range lines {
+		lines[y] = 0.4 * math.Sin(2*math.Pi*float64(y)/23)
+	}
 	return func(x, y int) float64 {
 		gy := float64(y) / cell
 		iy := int(gy)
@@ -86,7 +90,11 @@ func Grain(w, h int, amplitude float64, rng *rand.Rand) Texture {
 		fx := gx - float64(ix)
 		t := (1-fy)*((1-fx)*grid[iy*gw+ix]+fx*grid[iy*gw+ix+1]) +
 			fy*((1-fx)*grid[(iy+1)*gw+ix]+fx*grid[(iy+1)*gw+ix+1])
-		return 1 + amplitude*(t+0.4*math.Sin(2*math.Pi*float64(y)/23))
+		line := 0.4 * math.Sin(2*math.Pi*float64(y)/23)
+		if y >= 0 && y < len(lines) {
+			line = lines[y]
+		}
+		return 1 + amplitude*(t+line)
 	}
 }
 

@@ -1,16 +1,38 @@
 package inflate
 
-import "encoding/binary"
+import (
+	"encoding/binary"
+	"errors"
+)
 
 // huffman decodes one compressed block with the literal/length table lit
 // and the distance table dist (RFC 1951, section 3.2.5) until its end of
-// block code. This is the hot loop, with the bit buffer in local
-// variables: after a refill the buffer holds at least 56 bits unless the
+// block code. The fast loop (fast) takes the block while it is far from
+// the ends of input and output; this careful loop, with the bit buffer in
+// local variables, decodes the rest and reports damage: after a refill the buffer holds at least 56 bits unless the
 // input is ending, enough for a literal/length code with its extra bits
 // (at most 15 + 5) and a distance code with its extra bits (at most
 // 15 + 13), so one refill serves a whole match; the length checks against
 // nb only fail near the end of the input.
 func (d *decoder) huffman(lit, dist *table) error {
+	for {
+		if d.fast(lit, dist) {
+			return nil
+		}
+		if err := d.careful(lit, dist); err != errMoreInput {
+			return err
+		}
+	}
+}
+
+// errMoreInput tells huffman that more of an arriving stream came in
+// while the careful loop ran: back to the fast loop.
+var errMoreInput = errors.New("inflate: more input")
+
+// careful is the careful loop of huffman, to the end of the block; it
+// returns errMoreInput, with the state saved, as soon as more input of an
+// arriving stream has come in.
+func (d *decoder) careful(lit, dist *table) error {
 	out, n := d.out, d.n
 	in, pos, bits, nb := d.in, d.pos, d.bits, d.nb
 	var err error
@@ -24,9 +46,14 @@ loop:
 				pos += int(63-nb) >> 3
 				nb |= 56
 			} else {
+				had := len(in)
 				d.pos, d.bits, d.nb = pos, bits, nb
 				d.refill()
 				pos, bits, nb = d.pos, d.bits, d.nb
+				if in = d.in; len(in) > had+fastInMargin {
+					err = errMoreInput
+					break
+				}
 			}
 		}
 		e := lit.root[bits&(1<<litRootBits-1)]
@@ -55,10 +82,7 @@ loop:
 				out[n] = byte(entryValue(e))
 				n++
 			}
-			if n >= d.nextReport {
-				d.n = n
-				d.report()
-			}
+			d.reportAt(n)
 			continue
 		}
 		switch {
@@ -107,10 +131,7 @@ loop:
 		}
 		copyMatch(out, n, distance, length)
 		n += length
-		if n >= d.nextReport {
-			d.n = n
-			d.report()
-		}
+		d.reportAt(n)
 	}
 	d.n, d.pos, d.bits, d.nb = n, pos, bits, nb
 	switch {

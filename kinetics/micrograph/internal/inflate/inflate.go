@@ -10,7 +10,11 @@
 // second look-up only for longer codes, and a table entry gives both the
 // symbol's meaning and the number of extra bits that follow it, so a
 // length or distance with its extra bits is read in one step. Matches
-// whose distance is at least 8 are copied 8 bytes at a time.
+// whose distance is at least 8 are copied 8 bytes at a time. Away from the
+// ends of the input and the output a fast loop (fast.go) decodes without
+// any end checks, up to six literals per refill (two a look-up in a table
+// of literal pairs); the careful loop (huffman.go) takes over near the
+// ends and reports damage.
 //
 // Corrupt input gives an error, never a panic or a read outside the
 // input: bad code lengths, unknown symbols, a distance before the start
@@ -63,50 +67,79 @@ type Result struct {
 // (dst[:n] will not change again), and once with the total after the last
 // block, before the checksum is checked.
 func Zlib(dst, src []byte, step int, progress func(n int)) (Result, error) {
-	if len(src) < 2 {
-		return Result{}, ErrTruncated
+	res, sum, err := Inflate(dst, src, step, progress)
+	if err == nil && sum != Adler32(dst[:res.N]) {
+		return Result{N: res.N}, ErrChecksum
 	}
-	cmf, flg := src[0], src[1]
+	return res, err
+}
+
+// Inflate is Zlib without the checksum test: it returns the Adler-32 the
+// stream ends with, for a caller that sums the output itself while it
+// consumes it (Adler32Update over dst[:Result.N], in order), say on another
+// goroutine, and compares. Back-references reach at most Window bytes
+// back, so once progress has reported n, dst[:n−Window] is never read
+// again and the caller may overwrite it (after summing it).
+func Inflate(dst, src []byte, step int, progress func(n int)) (Result, uint32, error) {
+	return InflateArriving(dst, src, nil, step, progress)
+}
+
+// InflateArriving is Inflate of a stream that is still arriving in src:
+// when wait is not nil only src[:wait(n)] holds data, wait(n) blocking
+// until at least n bytes are there, or returning fewer when no more will
+// come. The decoder asks for more only when it has used what it has.
+func InflateArriving(dst, src []byte, wait func(n int) int, step int, progress func(n int)) (Result, uint32, error) {
+	d := decoder{src: src, in: src, wait: wait, out: dst, step: max(step, 1), progress: progress}
+	if wait != nil {
+		d.in = src[:0]
+	}
+	d.need(2)
+	if len(d.in) < 2 {
+		return Result{}, 0, ErrTruncated
+	}
+	cmf, flg := d.in[0], d.in[1]
 	if cmf&0x0f != 8 || cmf>>4 > 7 || (uint(cmf)<<8|uint(flg))%31 != 0 {
-		return Result{}, &CorruptError{0, "invalid zlib header"}
+		return Result{}, 0, &CorruptError{0, "invalid zlib header"}
 	}
-	start := 2
+	d.pos = 2
 	if flg&0x20 != 0 {
 		// A preset dictionary: none is given, so only the identifier of the
 		// empty dictionary (its Adler-32, 1) can be satisfied, as in
 		// compress/zlib.
-		if len(src) < 6 {
-			return Result{}, ErrTruncated
+		if d.need(6); len(d.in) < 6 {
+			return Result{}, 0, ErrTruncated
 		}
-		if binary.BigEndian.Uint32(src[2:]) != 1 {
-			return Result{}, &CorruptError{2, "stream needs a preset dictionary"}
+		if binary.BigEndian.Uint32(d.in[2:]) != 1 {
+			return Result{}, 0, &CorruptError{2, "stream needs a preset dictionary"}
 		}
-		start = 6
+		d.pos = 6
 	}
-	d := decoder{in: src, pos: start, out: dst, step: max(step, 1), progress: progress}
 	d.nextReport = d.step
 	if err := d.run(); err != nil {
-		return Result{N: d.n}, err
+		return Result{N: d.n}, 0, err
 	}
 	if progress != nil {
 		progress(d.n)
 	}
 	end := d.pos
-	if end+4 > len(src) {
-		return Result{N: d.n}, ErrTruncated
+	if d.need(end + 4); end+4 > len(d.in) {
+		return Result{N: d.n}, 0, ErrTruncated
 	}
-	if binary.BigEndian.Uint32(src[end:]) != Adler32(dst[:d.n]) {
-		return Result{N: d.n}, ErrChecksum
-	}
-	return Result{N: d.n, Used: end + 4}, nil
+	return Result{N: d.n, Used: end + 4}, binary.BigEndian.Uint32(d.in[end:]), nil
 }
+
+// Window is the DEFLATE window: the farthest back a match may reach
+// (RFC 1951, section 3.2.5: distances 1 to 32768).
+const Window = 32768
 
 // decoder is the state of one DEFLATE stream.
 type decoder struct {
-	in   []byte
-	pos  int    // next input byte not yet in bits
-	bits uint64 // input bits, least significant first; bits above nb are zero or the next input bits
-	nb   uint   // number of valid bits in bits
+	src  []byte        // the whole input buffer
+	wait func(int) int // nil, or how much of src has arrived (InflateArriving)
+	in   []byte        // the input that has arrived: src[:wait(…)]
+	pos  int           // next input byte not yet in bits
+	bits uint64        // input bits, least significant first; bits above nb are zero or the next input bits
+	nb   uint          // number of valid bits in bits
 
 	out []byte
 	n   int // output bytes written
@@ -118,9 +151,21 @@ type decoder struct {
 	lengths         [286 + 30]uint8
 }
 
+// need waits, for an arriving stream, until n bytes of input are there
+// or no more will come, and reports whether more input arrived.
+func (d *decoder) need(n int) bool {
+	if n <= len(d.in) || d.wait == nil || len(d.in) == len(d.src) {
+		return false
+	}
+	had := len(d.in)
+	d.in = d.src[:min(d.wait(n), len(d.src))]
+	return len(d.in) > had
+}
+
 // refill tops the bit buffer up to at least 56 bits, or to all the input
-// that is left.
+// that is left, waiting for an arriving stream's next bytes.
 func (d *decoder) refill() {
+	d.need(d.pos + 8)
 	if d.pos+8 <= len(d.in) {
 		d.bits |= binary.LittleEndian.Uint64(d.in[d.pos:]) << d.nb
 		d.pos += int(63-d.nb) >> 3
@@ -182,6 +227,7 @@ func (d *decoder) run() error {
 		if err != nil {
 			return err
 		}
+		d.report()
 		if head&1 != 0 {
 			d.align()
 			return nil
@@ -192,7 +238,7 @@ func (d *decoder) run() error {
 // stored copies a block of uncompressed data (section 3.2.4).
 func (d *decoder) stored() error {
 	d.align()
-	if d.pos+4 > len(d.in) {
+	if d.need(d.pos + 4); d.pos+4 > len(d.in) {
 		return ErrTruncated
 	}
 	n := int(binary.LittleEndian.Uint16(d.in[d.pos:]))
@@ -203,7 +249,7 @@ func (d *decoder) stored() error {
 	if d.n+n > len(d.out) {
 		return ErrTooLong
 	}
-	if d.pos+n > len(d.in) {
+	if d.need(d.pos + n); d.pos+n > len(d.in) {
 		return ErrTruncated
 	}
 	copy(d.out[d.n:], d.in[d.pos:d.pos+n])
@@ -211,6 +257,15 @@ func (d *decoder) stored() error {
 	d.n += n
 	d.report()
 	return nil
+}
+
+// reportAt is report for a loop that keeps the output count n in a local
+// variable.
+func (d *decoder) reportAt(n int) {
+	if n >= d.nextReport {
+		d.n = n
+		d.report()
+	}
 }
 
 // report calls progress when step more bytes are final.
@@ -259,6 +314,7 @@ func (d *decoder) readCodes() error {
 	if !d.lit.build(lengths[:nlit], litMeaning[:]) {
 		return d.corrupt("invalid literal/length code lengths")
 	}
+	d.lit.buildPairs()
 	if !d.dist.build(lengths[nlit:], distMeaning[:]) {
 		return d.corrupt("invalid distance code lengths")
 	}

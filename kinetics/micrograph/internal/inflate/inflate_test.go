@@ -6,11 +6,14 @@ import (
 	"compress/zlib"
 	"encoding/binary"
 	"errors"
+	"fmt"
+	"hash/adler32"
 	"io"
 	"io/fs"
 	"math/rand/v2"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 )
@@ -54,6 +57,16 @@ func agree(t *testing.T, src []byte) {
 	}
 	if res.Used > len(src) {
 		t.Fatalf("got %d bytes used, input has %d", res.Used, len(src))
+	}
+	if res2, sum, err := Inflate(got, src, 1, nil); err != nil || res2 != res || sum != adler32.Checksum(want) {
+		t.Fatalf("Inflate: got %+v, checksum %08x, error %v; want %+v, hash/adler32's %08x", res2, sum, err, res, adler32.Checksum(want))
+	}
+	for _, a := range arrivals(len(src)) {
+		got2 := make([]byte, len(want))
+		res2, sum, err := InflateArriving(got2, src, a.wait, 1, nil)
+		if err != nil || res2 != res || sum != adler32.Checksum(want) || !bytes.Equal(got2, want) {
+			t.Fatalf("arriving %s: got %+v, checksum %08x, error %v; want %+v, hash/adler32's %08x", a.name, res2, sum, err, res, adler32.Checksum(want))
+		}
 	}
 	if len(want) > 0 {
 		if _, err := Zlib(make([]byte, len(want)-1), src, 1, nil); !errors.Is(err, ErrTooLong) {
@@ -290,6 +303,29 @@ func TestMutations(t *testing.T) {
 	}
 }
 
+// arrival is a way for the input of InflateArriving to come in.
+type arrival struct {
+	name string
+	wait func(n int) int
+}
+
+// arrivals are ways for n bytes of input to come in: exactly the bytes
+// asked for, in pieces of 1, 7 and 4096 bytes at least, and all at once.
+func arrivals(n int) []arrival {
+	var out []arrival
+	out = append(out, arrival{"as asked", func(k int) int { return min(k, n) }})
+	for _, step := range []int{1, 7, 4096} {
+		got := 0
+		out = append(out, arrival{fmt.Sprintf("in pieces of %d", step), func(k int) int {
+			for got < k && got < n {
+				got = min(got+step, n)
+			}
+			return got
+		}})
+	}
+	return append(out, arrival{"at once", func(int) int { return n }})
+}
+
 // scratch is compare's output buffer, shared: callers are not parallel.
 var scratch [1 << 18]byte
 
@@ -309,6 +345,25 @@ func compare(t *testing.T, src []byte) {
 	case refErr == nil && !bytes.Equal(got[:res.N], want):
 		t.Fatalf("stream % x: got %d bytes, want compress/zlib's %d", src, res.N, len(want))
 	}
+	// The same stream arriving in pieces gives the same answer: one way
+	// of arriving for each stream, in turn by its length.
+	whole := slices.Clone(got[:res.N])
+	ways := arrivals(len(src))
+	for _, a := range ways[len(src)%len(ways):][:1] {
+		res2, err2 := zlibArriving(got, src, a.wait)
+		if res2 != res || fmt.Sprint(err2) != fmt.Sprint(err) || (err == nil && !bytes.Equal(got[:res.N], whole)) {
+			t.Fatalf("stream % x arriving %s: got %+v, %v; want %+v, %v", src, a.name, res2, err2, res, err)
+		}
+	}
+}
+
+// zlibArriving is Zlib of an arriving stream.
+func zlibArriving(dst, src []byte, wait func(int) int) (Result, error) {
+	res, sum, err := InflateArriving(dst, src, wait, 1, nil)
+	if err == nil && sum != Adler32(dst[:res.N]) {
+		return Result{N: res.N}, ErrChecksum
+	}
+	return res, err
 }
 
 // FuzzZlib: never panics; the same answer as compress/zlib on any input.
@@ -370,6 +425,37 @@ func BenchmarkZlibStd(b *testing.B) {
 		}
 		if _, err := io.ReadFull(z, dst); err != nil {
 			b.Fatal(err)
+		}
+	}
+}
+
+// TestAdler32: against the standard library's hash/adler32 (an
+// independent implementation of RFC 1950, section 8.2) on random bytes and
+// on all-0xff bytes (the largest sums), at every length up to 100, around
+// the 5552-byte reduction interval and over a few MB.
+func TestAdler32(t *testing.T) {
+	t.Parallel()
+	r := rand.New(rand.NewPCG(7, 8))
+	random := make([]byte, 3<<20+5)
+	for i := range random {
+		random[i] = byte(r.Uint32())
+	}
+	ones := bytes.Repeat([]byte{0xff}, len(random))
+	lengths := []int{5551, 5552, 5553, 5552*3 + 7, 1 << 20, len(random)}
+	for n := range 101 {
+		lengths = append(lengths, n)
+	}
+	for name, data := range map[string][]byte{"random": random, "0xff": ones} {
+		for _, n := range lengths {
+			want := adler32.Checksum(data[:n])
+			if got := Adler32(data[:n]); got != want {
+				t.Errorf("%s, %d bytes: got %08x, want hash/adler32's %08x", name, n, got, want)
+			}
+			// In two pieces, split anywhere: the sums chain.
+			if cut := n / 3; Adler32Update(Adler32(data[:cut]), data[cut:n]) != want {
+				t.Errorf("%s, %d bytes cut at %d: got %08x, want hash/adler32's %08x", name, n, cut,
+					Adler32Update(Adler32(data[:cut]), data[cut:n]), want)
+			}
 		}
 	}
 }

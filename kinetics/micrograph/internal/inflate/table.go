@@ -77,6 +77,41 @@ type table struct {
 	rootBits uint
 	root     [1 << litRootBits]uint32 // the first 1<<rootBits entries are used
 	sub      []uint32
+	pairs    *[1 << litRootBits]uint32 // literal/length tables: see buildPairs
+}
+
+// A pair entry (buildPairs) is one uint32:
+//
+//	bits 0–7    bits taken by the literals
+//	bits 8–9    number of literals, 0 to 2
+//	bits 16–23  the first literal
+//	bits 24–31  the second literal
+const pairCount = 3 << 8
+
+// buildPairs fills t.pairs, for a literal/length table built by build: the
+// entry for the next litRootBits bits of input gives the literals they
+// begin with when the first is a literal of a root entry, and the second
+// too when it is one whose code ends within the same bits, so that the
+// fast loop takes two literals with one look-up.
+func (t *table) buildPairs() {
+	if t.pairs == nil {
+		t.pairs = new([1 << litRootBits]uint32)
+	}
+	for i := range t.pairs {
+		e := t.root[i]
+		if entryKind(e) != kindLiteral {
+			t.pairs[i] = 0
+			continue
+		}
+		l1 := entryLen(e)
+		p := uint32(l1) | 1<<8 | entryValue(e)<<16
+		// The bits after the first code; those beyond the root's are not
+		// known, so the second code must end within them.
+		if e2 := t.root[i>>l1]; entryKind(e2) == kindLiteral && l1+entryLen(e2) <= litRootBits {
+			p = uint32(l1+entryLen(e2)) | 2<<8 | entryValue(e)<<16 | entryValue(e2)<<24
+		}
+		t.pairs[i] = p
+	}
 }
 
 func newTable(rootBits uint) *table {
@@ -187,6 +222,7 @@ var fixedLit, fixedDist = func() (*table, *table) {
 	}
 	lit := newTable(litRootBits)
 	lit.build(lengths[:], litMeaning[:])
+	lit.buildPairs()
 	var dl [32]uint8
 	for i := range dl {
 		dl[i] = 5
