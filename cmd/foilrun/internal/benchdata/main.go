@@ -6,6 +6,7 @@
 //	benchdata runlog postgres://…    the same log in a PostgreSQL database
 //	benchdata fitlog DIR             a demo lab in DIR and its 5,000-run fit log DIR/fit.db (fitlog.Bundle)
 //	benchdata observations DB OUT    the observations fit fits on DB (its default settings) as CSV, for the scipy reference
+//	benchdata ontty N CMD ARGS…      runs CMD N times on a fresh pseudo-terminal and prints its min and median seconds
 //
 // It is a tool for the benchmark script, not part of foilrun.
 package main
@@ -15,6 +16,7 @@ import (
 	"fmt"
 	"image/png"
 	"os"
+	"strconv"
 	"strings"
 
 	"github.com/foilrun/foilrun/cmd/foilrun/internal/demolab"
@@ -26,7 +28,7 @@ import (
 
 func main() {
 	if len(os.Args) < 3 {
-		fmt.Fprintln(os.Stderr, "usage: benchdata micrograph OUT.png | runlog OUT.db|postgres://URL | fitlog DIR | observations DB OUT.csv")
+		fmt.Fprintln(os.Stderr, "usage: benchdata micrograph OUT.png | runlog OUT.db|postgres://URL | fitlog DIR | observations DB OUT.csv | ontty N CMD ARGS...")
 		os.Exit(2)
 	}
 	var err error
@@ -37,6 +39,13 @@ func main() {
 		err = writeRunLog(context.Background(), os.Args[2])
 	case "fitlog":
 		err = writeFitLog(context.Background(), os.Args[2])
+	case "ontty":
+		n, convErr := strconv.Atoi(os.Args[2])
+		if convErr != nil || n < 1 || len(os.Args) < 4 {
+			err = fmt.Errorf("ontty needs a count of at least 1 and a command")
+			break
+		}
+		err = onTTY(n, os.Args[3:])
 	case "observations":
 		if len(os.Args) != 4 {
 			err = fmt.Errorf("observations needs the run log and the CSV file to write")
@@ -44,7 +53,7 @@ func main() {
 		}
 		err = writeObservations(context.Background(), os.Args[2], os.Args[3])
 	default:
-		err = fmt.Errorf("unknown data %q: want micrograph, runlog, fitlog or observations", os.Args[1])
+		err = fmt.Errorf("unknown data %q: want micrograph, runlog, fitlog, observations or ontty", os.Args[1])
 	}
 	if err != nil {
 		fmt.Fprintln(os.Stderr, "benchdata:", err)
