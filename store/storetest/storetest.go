@@ -19,7 +19,6 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
-	"slices"
 	"sort"
 	"strings"
 	"sync"
@@ -335,39 +334,6 @@ func importRecords(t *testing.T, l store.RunLog, recs []store.RunRecord) {
 	n, err := l.Import(context.Background(), store.Bundle{Runs: recs}, nil)
 	if err != nil || n != len(recs) {
 		t.Fatalf("Import: got %d, %v; want %d", n, err, len(recs))
-	}
-}
-
-// testListLong: a list longer than the blocks List reads in (64, 256,
-// 1,024 runs: 1,400 runs, and 1,284 of them filtered) gives every run once, in run order (newest first with
-// Newest), filtered or not, as the export does.
-func testListLong(t *testing.T, open Opener) {
-	l := open(t)
-	ctx := context.Background()
-	importRecords(t, l, Records(1400, ""))
-	for _, f := range []store.Filter{{}, {Newest: true}, {Where: []string{"growth_temperature_c >= 960"}}} {
-		var want []string
-		err := l.Export(ctx, store.Filter{Where: f.Where}, func(rec store.RunRecord) error {
-			want = append(want, rec.Code)
-			return nil
-		})
-		if err != nil {
-			t.Fatal(err)
-		}
-		if f.Newest {
-			slices.Reverse(want)
-		}
-		runs, err := l.List(ctx, f)
-		if err != nil {
-			t.Fatal(err)
-		}
-		got := make([]string, len(runs))
-		for i, r := range runs {
-			got[i] = r.Code
-		}
-		if len(want) <= 64+256 || !slices.Equal(got, want) {
-			t.Errorf("%+v: got %d runs (%v …), want the export's %d (%v …), more than two blocks", f, len(got), got[:min(3, len(got))], len(want), want[:min(3, len(want))])
-		}
 	}
 }
 
