@@ -22,8 +22,9 @@ const maxColumnJoins = 56
 // the run has one, picked in SQL by COALESCE) and whether it gave any
 // twin, each into a column of its own sized once for an unfiltered read.
 // A parameter or twin the names registry does not know is not read (its
-// values are NaN, its twin never used); when twins are read, one
-// aggregate counts the runs that gave each.
+// values are NaN, its twin never used). Which twins a run gave comes as
+// the bits of one column of the same read (see readPart), at most
+// maskTwins to a part.
 func (s *DB) Columns(ctx context.Context, cq store.ColumnQuery) (store.Columns, error) {
 	np := len(cq.Params)
 	out := store.Columns{Params: make([][]float64, np), PerParam: make([]int, np)}
@@ -81,7 +82,7 @@ type columnPart struct {
 // columnPart picks the parameters from lo on that one read takes.
 func (s *DB) columnPart(cq store.ColumnQuery, logged map[string]bool, lo int) columnPart {
 	p := columnPart{r: newSummaryRead(cq.Metric), hi: lo}
-	for ; p.hi < len(cq.Params) && p.r.joins+2 <= maxColumnJoins; p.hi++ {
+	for ; p.hi < len(cq.Params) && p.r.joins+2 <= maxColumnJoins && len(p.twin) < maskTwins; p.hi++ {
 		j, name := p.hi, cq.Params[p.hi]
 		var twin string
 		if cq.Twins != nil && cq.Twins[j] != "" && logged[cq.Twins[j]] {
@@ -106,31 +107,27 @@ func (s *DB) columnPart(cq store.ColumnQuery, logged map[string]bool, lo int) co
 	return p
 }
 
-// maskTwins is how many twins one read marks in the bits of a row's
-// twin column; a part with more counts them in an aggregate of its own.
+// maskTwins is the most twins one part reads (columnPart stops there):
+// each is a bit of the row's twin column, a 64-bit integer.
 const maskTwins = 62
 
 // readPart reads one part's columns into out (the metric from the first
 // part, checked against the others' run count) and, with twins, which
 // runs gave one and how many gave each. Each row's twin column has bit k
-// set when the run gave twin k (up to maskTwins twins), so the counts come
-// from the same read of the summary as the values.
+// set when the run gave twin k, so the counts come from the same read of
+// the summary as the values.
 func (s *DB) readPart(ctx context.Context, q Querier, cq store.ColumnQuery, p columnPart, bound int, out *store.Columns, used *[]bool) error {
 	tail, args, err := p.r.tail(ctx, s, q, cq.Filter, "")
 	if err != nil {
 		return err
 	}
-	masked := len(p.twin) <= maskTwins
 	flag := "0"
-	switch {
-	case len(p.twin) > 0 && masked:
+	if len(p.twin) > 0 {
 		bits := make([]string, len(p.twin))
 		for k, c := range p.twin {
 			bits[k] = fmt.Sprintf("CASE WHEN %s THEN CAST(%d AS BIGINT) ELSE 0 END", c, uint64(1)<<k)
 		}
 		flag = strings.Join(bits, " + ")
-	case len(p.twin) > 0:
-		flag = "CASE WHEN " + strings.Join(p.twin, " OR ") + " THEN 1 ELSE 0 END"
 	}
 	ms, xs, masks, err := readColumns(ctx, q, s.d.Rebind("SELECT "+strings.Join(append([]string{p.r.metric, flag}, p.sel...), ", ")+tail+" ORDER BY su.run_id"), args, len(p.sel), bound)
 	if err != nil {
@@ -147,33 +144,12 @@ func (s *DB) readPart(ctx context.Context, q Querier, cq store.ColumnQuery, p co
 	for i, m := range masks {
 		(*used)[i] = (*used)[i] || m != 0
 	}
-	if len(p.twin) == 0 {
-		return nil
-	}
-	if masked {
-		for k, j := range p.twinIdx {
-			n := 0
-			for _, m := range masks {
-				n += int(m >> k & 1)
-			}
-			out.PerParam[j] = n
-		}
-		return nil
-	}
-	counts := make([]string, len(p.twin))
-	for k, c := range p.twin {
-		counts[k] = "COALESCE(SUM(CASE WHEN " + c + " THEN 1 ELSE 0 END), 0)"
-	}
-	n := make([]int64, len(counts))
-	dest := make([]any, len(n))
-	for k := range n {
-		dest[k] = &n[k]
-	}
-	if err := q.QueryRowContext(ctx, s.d.Rebind("SELECT "+strings.Join(counts, ", ")+tail), args...).Scan(dest...); err != nil {
-		return fmt.Errorf("twins given: %w", err)
-	}
 	for k, j := range p.twinIdx {
-		out.PerParam[j] = int(n[k])
+		n := 0
+		for _, m := range masks {
+			n += int(m >> k & 1)
+		}
+		out.PerParam[j] = n
 	}
 	return nil
 }
