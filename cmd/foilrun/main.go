@@ -8,7 +8,7 @@ import (
 )
 
 func main() {
-	shortLivedGC()
+	setGCPercent(shortGCPercent)
 	os.Exit(run(os.Args[1:], newStreams()))
 }
 
@@ -20,17 +20,10 @@ func main() {
 // goes back to the default (see serveRun).
 const shortGCPercent = 400
 
-// shortLivedGC sets shortGCPercent unless the user set GOGC or
-// GOMEMLIMIT, which then rule as usual.
-func shortLivedGC() {
+// setGCPercent sets the garbage collector's GOGC unless the user set
+// GOGC or GOMEMLIMIT, which then rule as usual.
+func setGCPercent(percent int) {
 	if os.Getenv("GOGC") == "" && os.Getenv("GOMEMLIMIT") == "" {
-		debug.SetGCPercent(shortGCPercent)
-	}
-}
-
-// longLivedGC undoes shortLivedGC for a long-running command.
-func longLivedGC() {
-	if os.Getenv("GOGC") == "" && os.Getenv("GOMEMLIMIT") == "" {
-		debug.SetGCPercent(100)
+		debug.SetGCPercent(percent)
 	}
 }

@@ -50,7 +50,7 @@ its own: put it behind the lab's reverse proxy. Stop it with Ctrl-C.`,
 }
 
 func serveRun(ctx context.Context, o *serveOptions) error {
-	longLivedGC()
+	setGCPercent(100) // Go's default, for a process that runs for weeks
 	loop, err := web.Loopback(o.listen)
 	if err != nil {
 		return usagef("--listen %q: %v; want host:port such as 127.0.0.1:8080", o.listen, err)
