@@ -294,36 +294,26 @@ func Normal(A *mat.SymDense, g *mat.VecDense, J *mat.Dense, r []float64) {
 
 // normalRows adds the products of rows rows of J (data, from its first
 // row, with stride) into out: the upper triangle of JᵀJ by rows, then
-// Jᵀr (r from index r0; nil: 0). Up to 8 columns are summed in arrays on
-// the stack (the usual case: a fit has at most 7 coordinates).
+// Jᵀr (r from index r0; nil: 0).
 func normalRows(data []float64, stride, n, rows int, r []float64, r0 int, out []float64) {
-	if n > 8 {
-		normalRowsWide(data, stride, n, rows, r, r0, out)
-		return
-	}
 	if n == 6 && r != nil {
 		normalRows6(data, stride, rows, r[r0:r0+rows], out)
 		return
 	}
-	var acc [64]float64
-	var gv [8]float64
+	acc, gv := out[:n*n], out[n*n:n*n+n]
 	for i := range rows {
 		row := data[i*stride : i*stride+n]
 		ri := 0.0
 		if r != nil {
 			ri = r[r0+i]
 		}
-		for a := range row {
-			ra := row[a]
-			gv[a&7] += ra * ri
-			for c := a; c < len(row); c++ {
-				acc[(a&7)<<3|c&7] += ra * row[c]
+		for a, ra := range row {
+			gv[a] += ra * ri
+			up := acc[a*n+a : a*n+n]
+			for c, rc := range row[a:] {
+				up[c] += ra * rc
 			}
 		}
-	}
-	for a := range n {
-		copy(out[a*n+a:a*n+n], acc[a*8+a:a*8+n])
-		out[n*n+a] = gv[a]
 	}
 }
 
@@ -374,25 +364,6 @@ func normalRows6(data []float64, stride, rows int, r []float64, out []float64) {
 	copy(out[28:30], []float64{a44, a45})
 	out[35] = a55
 	copy(out[36:42], []float64{g0, g1, g2, g3, g4, g5})
-}
-
-// normalRowsWide is normalRows for more than 8 columns.
-func normalRowsWide(data []float64, stride, n, rows int, r []float64, r0 int, out []float64) {
-	acc, gv := out[:n*n], out[n*n:n*n+n]
-	for i := range rows {
-		row := data[i*stride : i*stride+n]
-		ri := 0.0
-		if r != nil {
-			ri = r[r0+i]
-		}
-		for a, ra := range row {
-			gv[a] += ra * ri
-			up := acc[a*n+a : a*n+n]
-			for c, rc := range row[a:] {
-				up[c] += ra * rc
-			}
-		}
-	}
 }
 
 // normalBlock is the rows of J one block of Normal sums.
