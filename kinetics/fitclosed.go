@@ -78,22 +78,16 @@ func (t *closedRuns) model(k int, x []float64, density bool, xlo, xhi float64) r
 	}
 	lnc := t.lk3[k] + lnI + 2*lnG
 	lnX := lnc + t.lt3[k]
-	rv.X = math.Exp(lnX)
+	if density {
+		rv.X, rv.N, rv.dI, rv.dG = closedAt(lnI, lnc, lnX)
+	} else {
+		rv.X = math.Exp(lnX)
+	}
 	if rv.X > xlo && rv.X < xhi {
 		rv.c = lnX
 	} else {
 		rv.c = math.Log(math.Min(math.Max(rv.X, xlo), xhi))
 	}
-	if !density {
-		return rv
-	}
-	P, front := gammaIncThirdFront(rv.X, lnX)
-	rv.N = math.Exp(lnI-lnc/3) * gamma43 * P
-	D := 0.0
-	if P > 0 {
-		D = front / P
-	}
-	rv.dI, rv.dG = 2.0/3+D, -2.0/3+2*D
 	rv.lnN = math.Log(math.Max(rv.N, 1))
 	return rv
 }

@@ -176,23 +176,20 @@ func closedForm(kappa, lnI, lnG, t float64) (X, N, dI, dG float64) {
 		return 0, 0, 0, 0
 	}
 	lnc := math.Log(kappa/3) + lnI + 2*lnG
-	X = closedX(kappa, lnI, lnG, t)
-	P := gammaIncThird(X)
+	return closedAt(lnI, lnc, lnc+3*math.Log(t))
+}
+
+// closedAt is closedForm from ln I, ln c and ln X = ln c + 3·ln t (the
+// fit's table of closed-form runs keeps the logarithms of κ/3 and t).
+func closedAt(lnI, lnc, lnX float64) (X, N, dI, dG float64) {
+	X = math.Exp(lnX)
+	P, front := gammaIncThirdFront(X, lnX)
 	N = math.Exp(lnI-lnc/3) * gamma43 * P
 	D := 0.0
 	if P > 0 {
-		D = math.Exp(math.Log(X)/3-X-lgamma13) / P
+		D = front / P
 	}
 	return X, N, 2.0/3 + D, -2.0/3 + 2*D
-}
-
-// closedX returns closedForm's X = κ·I·G²·t³/3 alone (0 when t ≤ 0),
-// for fits without a density to compute.
-func closedX(kappa, lnI, lnG, t float64) float64 {
-	if !(t > 0) {
-		return 0
-	}
-	return math.Exp(math.Log(kappa/3) + lnI + 2*lnG + 3*math.Log(t))
 }
 
 var (
