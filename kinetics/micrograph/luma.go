@@ -18,7 +18,7 @@ type lumaImage struct {
 }
 
 func newLumaImage(w, h, depth int) *lumaImage {
-	return &lumaImage{pix: make([]uint16, w*h), stride: w, rect: image.Rect(0, 0, w, h), depth: depth}
+	return &lumaImage{pix: bigSlice[uint16](w * h), stride: w, rect: image.Rect(0, 0, w, h), depth: depth}
 }
 
 // ColorModel returns color.Gray16Model.

@@ -16,7 +16,7 @@ func prepare(img image.Image, bg *background, r, workers int) (*plane, []uint64)
 // pass is prepare, without the histogram (nil) unless count is set.
 func pass(img image.Image, bg *background, r, workers int, count bool) (*plane, []uint64) {
 	b := img.Bounds()
-	p := &plane{w: b.Dx(), h: b.Dy(), pix: make([]uint16, b.Dx()*b.Dy())}
+	p := &plane{w: b.Dx(), h: b.Dy(), pix: bigSlice[uint16](b.Dx() * b.Dy())}
 	workers = max(1, min(workers, p.h))
 	hists := make([]*[1 << 16]uint32, workers) // at most 2^28 pixels (DefaultMaxPixels) a band
 	gray, _ := img.(*image.Gray)

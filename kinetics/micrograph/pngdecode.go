@@ -427,7 +427,7 @@ func (d *pngReader) decodePixels() (image.Image, error) {
 	}
 	// The image data is inflated on a second goroutine while this one
 	// reads it.
-	buf := make([]byte, d.idatRoom())
+	buf := bigSlice[byte](d.idatRoom())
 	feed := newIDATFeed()
 	inflated := make(chan rowsResult, 1)
 	go func() {

@@ -34,7 +34,7 @@ func (d *pngReader) readRows(data []byte, wait func(n int) int) rowsResult {
 	h := &d.hdr
 	bpp := h.bitsPerPixel()
 	rowSize := 1 + (bpp*h.width+7)/8
-	raw := make([]byte, h.height*rowSize)
+	raw := bigSlice[byte](h.height * rowSize)
 	sink := &rowSink{raw: raw, rowSize: rowSize, bpp: (bpp + 7) / 8}
 	var img image.Image
 	if h.ctype == pngGray && h.depth == 8 {
