@@ -1,11 +1,13 @@
 package sqldb
 
 import (
+	"cmp"
 	"context"
 	"database/sql"
 	"database/sql/driver"
 	"fmt"
 	"math"
+	"slices"
 	"strings"
 
 	"github.com/foilrun/foilrun/store"
@@ -129,7 +131,7 @@ func (s *DB) readPart(ctx context.Context, q Querier, cq store.ColumnQuery, p co
 		}
 		flag = strings.Join(bits, " + ")
 	}
-	ms, xs, masks, err := readColumns(ctx, q, s.d.Rebind("SELECT "+strings.Join(append([]string{p.r.metric, flag}, p.sel...), ", ")+tail+" ORDER BY su.run_id"), args, len(p.sel), bound)
+	ms, xs, masks, err := readColumns(ctx, q, s.d.Rebind("SELECT "+strings.Join(append([]string{"su.run_id", p.r.metric, flag}, p.sel...), ", ")+tail), args, len(p.sel), bound)
 	if err != nil {
 		return err
 	}
@@ -154,23 +156,37 @@ func (s *DB) readPart(ctx context.Context, q Querier, cq store.ColumnQuery, p co
 	return nil
 }
 
-// readColumns runs the query, whose rows are (metric, twin mask, n
-// values), and reads them into a column each, NaN for NULL, sized for
-// bound rows; the masks are read as integers (a mask of 62 bits does not
-// fit a float64's mantissa).
+// readColumns runs the query, whose rows are (run id, metric, twin mask,
+// n values), and reads them into a column each, in run order, NaN for
+// NULL, sized for bound rows; the masks are read as integers (a mask of
+// 62 bits does not fit a float64's mantissa). The query has no ORDER BY:
+// the rows are put in run order here (they mostly arrive in it, and then
+// are only checked). PostgreSQL reads 100,000 summary rows in key order
+// through the primary-key index in about twice the time of a plain scan
+// of the table (EXPLAIN ANALYZE, 75 against 38 ms on the benchmark log);
+// SQLite's scan of the summary is in key order either way.
 func readColumns(ctx context.Context, q Querier, query string, args []any, n, bound int) (ms []float64, xs [][]float64, masks []uint64, err error) {
+	ids := make([]int64, 0, bound)
 	ms, masks = make([]float64, 0, bound), make([]uint64, 0, bound)
 	xs = make([][]float64, n)
 	for j := range xs {
 		xs[j] = make([]float64, 0, bound)
 	}
-	err = eachRow(ctx, q, query, args, 2+n, func(vals []driver.Value) error {
-		m, err := unbox(vals[0])
+	err = eachRow(ctx, q, query, args, 3+n, func(vals []driver.Value) error {
+		id, ok := vals[0].(int64)
+		if !ok {
+			var i sql.NullInt64
+			if err := i.Scan(vals[0]); err != nil || !i.Valid {
+				return fmt.Errorf("run id %v: %w", vals[0], err)
+			}
+			id = i.Int64
+		}
+		m, err := unbox(vals[1])
 		if err != nil {
 			return fmt.Errorf("metric: %w", err)
 		}
 		var mask uint64
-		switch f := vals[1].(type) {
+		switch f := vals[2].(type) {
 		case int64:
 			mask = uint64(f)
 		case nil:
@@ -181,9 +197,9 @@ func readColumns(ctx context.Context, q Querier, query string, args []any, n, bo
 			}
 			mask = uint64(i.Int64)
 		}
-		ms, masks = append(ms, m), append(masks, mask)
+		ids, ms, masks = append(ids, id), append(ms, m), append(masks, mask)
 		for j := range xs {
-			v, err := unbox(vals[2+j])
+			v, err := unbox(vals[3+j])
 			if err != nil {
 				return fmt.Errorf("parameter %d: %w", j+1, err)
 			}
@@ -191,7 +207,28 @@ func readColumns(ctx context.Context, q Querier, query string, args []any, n, bo
 		}
 		return nil
 	})
-	return ms, xs, masks, err
+	if err != nil || slices.IsSorted(ids) {
+		return ms, xs, masks, err
+	}
+	order := make([]int, len(ids))
+	for i := range order {
+		order[i] = i
+	}
+	slices.SortFunc(order, func(a, b int) int { return cmp.Compare(ids[a], ids[b]) })
+	ms, masks = permute(ms, order), permute(masks, order)
+	for j := range xs {
+		xs[j] = permute(xs[j], order)
+	}
+	return ms, xs, masks, nil
+}
+
+// permute returns s[order[0]], s[order[1]], ….
+func permute[T any](s []T, order []int) []T {
+	out := make([]T, len(s))
+	for i, k := range order {
+		out[i] = s[k]
+	}
+	return out
 }
 
 // nanColumn is a column of n NaNs.

@@ -1,0 +1,49 @@
+package sqldb
+
+import (
+	"context"
+	"database/sql"
+	"math"
+	"slices"
+	"testing"
+
+	_ "github.com/mattn/go-sqlite3"
+)
+
+// TestReadColumnsRunOrder: readColumns puts rows that arrive out of run
+// order into it, every column moved with its run (NULL read as NaN, the
+// twin mask as an integer), on a *sql.DB (database/sql's scan) and on a
+// *sql.Conn (the driver's rows read directly).
+func TestReadColumnsRunOrder(t *testing.T) {
+	ctx := context.Background()
+	db, err := sql.Open("sqlite3", ":memory:")
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer db.Close()
+	conn, err := db.Conn(ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer conn.Close()
+	const query = `SELECT column1, column2, column3, column4, column5 FROM (VALUES
+		(30, 0.3, 0, 300.0, 3.0),
+		(10, 0.1, 4611686018427387905, 100.0, NULL),
+		(20, NULL, 0, NULL, 2.0))`
+	nan := math.NaN()
+	wantM := []float64{0.1, nan, 0.3}
+	wantMask := []uint64{1<<62 + 1, 0, 0}
+	wantX := [][]float64{{100, nan, 300}, {nan, 2, 3}}
+	same := func(a, b []float64) bool {
+		return slices.EqualFunc(a, b, func(x, y float64) bool { return x == y || math.IsNaN(x) && math.IsNaN(y) })
+	}
+	for name, q := range map[string]Querier{"db": db, "conn": conn} {
+		ms, xs, masks, err := readColumns(ctx, q, query, nil, 2, 3)
+		if err != nil {
+			t.Fatalf("%s: %v", name, err)
+		}
+		if !same(ms, wantM) || !slices.Equal(masks, wantMask) || len(xs) != 2 || !same(xs[0], wantX[0]) || !same(xs[1], wantX[1]) {
+			t.Errorf("%s: got metric %v, masks %v, values %v; want %v, %v, %v", name, ms, masks, xs, wantM, wantMask, wantX)
+		}
+	}
+}
