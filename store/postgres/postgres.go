@@ -23,6 +23,7 @@ package postgres
 import (
 	"context"
 	"database/sql"
+	"database/sql/driver"
 	"embed"
 	"errors"
 	"fmt"
@@ -261,13 +262,28 @@ func (dialect) Rebind(q string) string {
 }
 
 // Read opens a repeatable-read, read-only transaction: every query in it
-// sees the snapshot taken at its first query, and it blocks no writer.
+// sees the snapshot taken at its first query, and it blocks no writer. It
+// is begun by hand on a connection of its own, not with BeginTx, so that
+// the reads of the run summary can reach the driver's connection
+// (sql.Conn.Raw; see EachNumberRow), which a *sql.Tx does not give. A
+// connection whose transaction cannot be ended is dropped, not pooled.
 func (dialect) Read(ctx context.Context, db *sql.DB) (sqldb.Querier, func() error, error) {
-	tx, err := db.BeginTx(ctx, &sql.TxOptions{Isolation: sql.LevelRepeatableRead, ReadOnly: true})
+	c, err := db.Conn(ctx)
 	if err != nil {
 		return nil, nil, err
 	}
-	return tx, tx.Rollback, nil
+	if _, err := c.ExecContext(ctx, "BEGIN ISOLATION LEVEL REPEATABLE READ READ ONLY"); err != nil {
+		_ = c.Raw(func(any) error { return driver.ErrBadConn })
+		return nil, nil, errors.Join(err, c.Close())
+	}
+	end := func() error {
+		_, err := c.ExecContext(context.WithoutCancel(ctx), "ROLLBACK")
+		if err != nil {
+			_ = c.Raw(func(any) error { return driver.ErrBadConn })
+		}
+		return errors.Join(err, c.Close())
+	}
+	return c, end, nil
 }
 
 // bulkRuns is the import size from which Bulk refreshes the planner's

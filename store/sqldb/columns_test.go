@@ -1,6 +1,7 @@
 package sqldb
 
 import (
+	"cmp"
 	"context"
 	"database/sql"
 	"math"
@@ -38,12 +39,41 @@ func TestReadColumnsRunOrder(t *testing.T) {
 		return slices.EqualFunc(a, b, func(x, y float64) bool { return x == y || math.IsNaN(x) && math.IsNaN(y) })
 	}
 	for name, q := range map[string]Querier{"db": db, "conn": conn} {
-		ms, xs, masks, err := readColumns(ctx, q, query, nil, 2, 3)
+		ms, xs, masks, err := readColumns(ctx, nil, q, query, nil, 2, 3)
 		if err != nil {
 			t.Fatalf("%s: %v", name, err)
 		}
 		if !same(ms, wantM) || !slices.Equal(masks, wantMask) || len(xs) != 2 || !same(xs[0], wantX[0]) || !same(xs[1], wantX[1]) {
 			t.Errorf("%s: got metric %v, masks %v, values %v; want %v, %v, %v", name, ms, masks, xs, wantM, wantMask, wantX)
 		}
+	}
+}
+
+// TestRunOrder: the indices of the ids in increasing order, by slots for
+// ids close together and by sorting for ids far apart, each checked
+// against slices.SortStableFunc on the same ids (the reference).
+func TestRunOrder(t *testing.T) {
+	tests := []struct {
+		name string
+		ids  []int64
+	}{
+		{"in order", []int64{1, 2, 3, 4}},
+		{"dense, shuffled", []int64{4, 1, 3, 2, 5}},
+		{"gaps within four times", []int64{11, 3, 7, 1}},
+		{"far apart", []int64{1 << 40, 5, 1 << 20, -3}},
+		{"one", []int64{42}},
+		{"repeated ids", []int64{3, 1, 3, 2}},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			want := make([]int, len(tc.ids))
+			for i := range want {
+				want[i] = i
+			}
+			slices.SortStableFunc(want, func(a, b int) int { return cmp.Compare(tc.ids[a], tc.ids[b]) })
+			if got := runOrder(tc.ids); !slices.Equal(got, want) {
+				t.Errorf("runOrder(%v) = %v, want %v", tc.ids, got, want)
+			}
+		})
 	}
 }

@@ -43,3 +43,34 @@ type Dialect interface {
 	// read-only transaction or server.
 	Refused(err error) bool
 }
+
+// NumberReader is what a Dialect may add to read rows of numbers straight
+// from its driver's connection, without the boxing of every value into a
+// driver.Value (one allocation each) that database/sql and most drivers
+// do. Reads of the run summary take it when the read's Querier is a
+// *sql.Conn.
+type NumberReader interface {
+	// EachNumberRow runs the query (already rebound) with args on dc,
+	// the driver connection sql.Conn.Raw gives, and calls each with every
+	// row's ncol values; the row is reused. It returns driver.ErrSkip,
+	// having called each for no row, when dc is not its driver's or a
+	// column is not a number.
+	EachNumberRow(ctx context.Context, dc any, query string, args []any, ncol int, each func(row []Number) error) error
+}
+
+// Number is one value of a row of numbers: NULL, a float or an integer.
+type Number struct {
+	Kind  NumberKind
+	Float float64 // when Kind is KindFloat
+	Int   int64   // when Kind is KindInt
+}
+
+// NumberKind says which of a Number's fields holds its value.
+type NumberKind uint8
+
+// The kinds of a Number.
+const (
+	KindNull NumberKind = iota
+	KindFloat
+	KindInt
+)

@@ -7,6 +7,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"math"
 )
 
 // eachRow runs the query (already rebound) on q and calls each with every
@@ -85,4 +86,77 @@ func driverRows(ctx context.Context, dc any, query string, args []any, ncol int,
 			return err
 		}
 	}
+}
+
+// eachNumberRow is eachRow for a query of numbers: through the dialect's
+// NumberReader when it has one and q is a *sql.Conn, else through eachRow
+// with every value turned into a Number (toNumber). The row is reused.
+func eachNumberRow(ctx context.Context, d Dialect, q Querier, query string, args []any, ncol int, each func(row []Number) error) error {
+	if nr, ok := d.(NumberReader); ok {
+		if c, ok := q.(*sql.Conn); ok {
+			err := c.Raw(func(dc any) error { return nr.EachNumberRow(ctx, dc, query, args, ncol, each) })
+			if !errors.Is(err, driver.ErrSkip) {
+				return err
+			}
+		}
+	}
+	row := make([]Number, ncol)
+	return eachRow(ctx, q, query, args, ncol, func(vals []driver.Value) error {
+		for i, v := range vals {
+			n, err := toNumber(v)
+			if err != nil {
+				return fmt.Errorf("column %d: %w", i+1, err)
+			}
+			row[i] = n
+		}
+		return each(row)
+	})
+}
+
+// toNumber turns a driver's value into a Number: nil, float64 and int64
+// as they are, anything else (a number as text) through database/sql's
+// conversions, as an integer when it reads as one.
+func toNumber(v driver.Value) (Number, error) {
+	switch x := v.(type) {
+	case nil:
+		return Number{}, nil
+	case float64:
+		return Number{Kind: KindFloat, Float: x}, nil
+	case int64:
+		return Number{Kind: KindInt, Int: x}, nil
+	}
+	var i sql.NullInt64
+	if err := i.Scan(v); err == nil {
+		return Number{Kind: KindInt, Int: i.Int64}, nil
+	}
+	var f sql.NullFloat64
+	if err := f.Scan(v); err != nil {
+		return Number{}, err
+	}
+	return Number{Kind: KindFloat, Float: f.Float64}, nil
+}
+
+// float returns n as a float64, NaN for NULL.
+func (n Number) float() float64 {
+	switch n.Kind {
+	case KindFloat:
+		return n.Float
+	case KindInt:
+		return float64(n.Int)
+	}
+	return math.NaN()
+}
+
+// integer returns n as an int64 and whether it is one (a float of an
+// integral value within int64's range counts; NULL does not).
+func (n Number) integer() (int64, bool) {
+	switch n.Kind {
+	case KindInt:
+		return n.Int, true
+	case KindFloat:
+		if n.Float == math.Trunc(n.Float) && math.Abs(n.Float) < 1<<63 {
+			return int64(n.Float), true
+		}
+	}
+	return 0, false
 }
