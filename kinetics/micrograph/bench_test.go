@@ -62,6 +62,28 @@ func BenchmarkFlatten4096(b *testing.B) {
 	}
 }
 
+// BenchmarkFitBackground4096: the fit of the illumination surface alone.
+func BenchmarkFitBackground4096(b *testing.B) {
+	img := benchImage()
+	for b.Loop() {
+		if fitBackground(img, DefaultDegree) == nil {
+			b.Fatal("the fit failed")
+		}
+	}
+}
+
+// BenchmarkRunsOf4096: the runs of the domains (darker than Otsu's
+// threshold) of the plane as Analyze makes it (flattened and smoothed),
+// without labelling them.
+func BenchmarkRunsOf4096(b *testing.B) {
+	img := benchImage()
+	p, hist := prepare(img, fitBackground(img, DefaultDegree), DefaultSmoothRadius, numWorkers(img.Bounds().Dy()))
+	t, _ := Otsu(hist)
+	for b.Loop() {
+		runsOf(p, uint16(t), false)
+	}
+}
+
 func BenchmarkLabel4096(b *testing.B) {
 	p := toPlane(benchImage(), nil)
 	t, _ := Otsu(histogram(p))

@@ -48,13 +48,17 @@ type background struct {
 
 func numTerms(deg int) int { return (deg + 1) * (deg + 2) / 2 }
 
-// basis writes the monomials u^i·v^j, i+j ≤ deg, into out.
-func basis(deg int, u, v float64, out []float64) {
-	var up, vp [9]float64
-	up[0], vp[0] = 1, 1
+// powers writes 1, u, u², …, u^deg into p.
+func powers(deg int, u float64, p []float64) {
+	p[0] = 1
 	for i := 1; i <= deg; i++ {
-		up[i], vp[i] = up[i-1]*u, vp[i-1]*v
+		p[i] = p[i-1] * u
 	}
+}
+
+// monomials writes the monomials u^i·v^j, i+j ≤ deg, into out from the
+// powers of u and v (powers).
+func monomials(deg int, up, vp, out []float64) {
 	k := 0
 	for t := 0; t <= deg; t++ {
 		for i := t; i >= 0; i-- {
@@ -64,16 +68,23 @@ func basis(deg int, u, v float64, out []float64) {
 	}
 }
 
+// basis writes the monomials u^i·v^j, i+j ≤ deg, into out.
+func basis(deg int, u, v float64, out []float64) {
+	var up, vp [MaxDegree + 1]float64
+	powers(deg, u, up[:])
+	powers(deg, v, vp[:])
+	monomials(deg, up[:], vp[:], out)
+}
+
 func (bg *background) uv(x, y float64) (float64, float64) {
 	return x*bg.scaleU - 1, y*bg.scaleV - 1
 }
 
-func (bg *background) eval(x, y float64, tmp []float64) float64 {
-	u, v := bg.uv(x, y)
-	basis(bg.deg, u, v, tmp)
+// dot is the surface's value from the monomials of a point.
+func (bg *background) dot(mono []float64) float64 {
 	s := 0.0
 	for i, c := range bg.coef {
-		s += c * tmp[i]
+		s += c * mono[i]
 	}
 	return s
 }
@@ -92,8 +103,7 @@ func fitBackground(img image.Image, deg int) *background {
 		bg.scaleV = 2 / float64(h-1)
 	}
 	xs, ys, zs := sampleLogLuma(img)
-	rows := bg.design(xs, ys)
-	coef, resid := alternateFit(rows, zs)
+	coef, resid := alternateFit(bg.gridDesign(xs, ys), zs)
 	if coef == nil {
 		return nil
 	}
@@ -108,40 +118,101 @@ func fitBackground(img image.Image, deg int) *background {
 	return bg
 }
 
+// logLuma8[v] is ln(1 + 257·v), the log level of the 8-bit level v in
+// 16-bit units: the same float64 as math.Log1p gives for it, looked up
+// because 8-bit images are the common case and a grid holds some 37,000
+// samples.
+var logLuma8 = func() (t [256]float64) {
+	for v := range t {
+		t[v] = math.Log1p(float64(uint16(v) * 257))
+	}
+	return t
+}()
+
+// logLevel is ln(1 + v) for a 16-bit level v, from logLuma8 when v is an
+// 8-bit level scaled by 257.
+func logLevel(v uint16) float64 {
+	if q := v / 257; q*257 == v {
+		return logLuma8[q]
+	}
+	return math.Log1p(float64(v))
+}
+
 // sampleLogLuma samples img on a grid of about fitGrid×fitGrid pixels
-// (cell centres) and returns their coordinates in pixels from the image's
-// corner and ln(1 + luma), luma in 16-bit levels.
+// (cell centres). It returns the grid's columns xs and rows ys, in pixels
+// from the image's corner, and ln(1 + luma) of the samples row by row,
+// luma in 16-bit levels. Only the sampled pixels are read: the two common
+// types directly, others one pixel at a time through convertRow, which
+// gives a pixel the level it has in a converted row.
 func sampleLogLuma(img image.Image) (xs, ys, zs []float64) {
 	b := img.Bounds()
 	w, h := b.Dx(), b.Dy()
 	stepX := max(1, w/fitGrid)
 	stepY := max(1, h/fitGrid)
-	n := ((h - stepY/2 + stepY - 1) / stepY) * ((w - stepX/2 + stepX - 1) / stepX)
-	xs, ys, zs = make([]float64, 0, n), make([]float64, 0, n), make([]float64, 0, n)
-	row := make([]uint16, w)
+	for x := stepX / 2; x < w; x += stepX {
+		xs = append(xs, float64(x))
+	}
 	for y := stepY / 2; y < h; y += stepY {
-		convertRow(img, b.Min.X, b.Min.Y+y, row)
-		for x := stepX / 2; x < w; x += stepX {
-			xs = append(xs, float64(x))
-			ys = append(ys, float64(y))
-			zs = append(zs, math.Log1p(float64(row[x])))
+		ys = append(ys, float64(y))
+	}
+	zs = make([]float64, 0, len(xs)*len(ys))
+	for y := stepY / 2; y < h; y += stepY {
+		switch m := img.(type) {
+		case *image.Gray:
+			row := m.Pix[m.PixOffset(b.Min.X, b.Min.Y+y):][:w]
+			for x := stepX / 2; x < w; x += stepX {
+				zs = append(zs, logLuma8[row[x]])
+			}
+		case *lumaImage:
+			row := m.rowFrom(b.Min.X, b.Min.Y+y)[:w]
+			for x := stepX / 2; x < w; x += stepX {
+				zs = append(zs, logLevel(row[x]))
+			}
+		default:
+			var v [1]uint16
+			for x := stepX / 2; x < w; x += stepX {
+				convertRow(img, b.Min.X+x, b.Min.Y+y, v[:])
+				zs = append(zs, logLevel(v[0]))
+			}
 		}
 	}
 	return xs, ys, zs
 }
 
-// design returns the least-squares design matrix of the samples: one row
-// of monomials u^i·v^j (basis) per sample, in one backing array.
-func (bg *background) design(xs, ys []float64) [][]float64 {
-	nt := numTerms(bg.deg)
-	rows := make([][]float64, len(xs))
-	flat := make([]float64, len(xs)*nt)
-	for i := range rows {
-		rows[i] = flat[i*nt : (i+1)*nt]
-		u, v := bg.uv(xs[i], ys[i])
-		basis(bg.deg, u, v, rows[i])
+// designMatrix is the least-squares design matrix of the samples, in one
+// array: row i, the monomials u^i·v^j of sample i (basis), is
+// a[i·nt : (i+1)·nt].
+type designMatrix struct {
+	nt int
+	a  []float64
+}
+
+// row returns row i of d.
+func (d designMatrix) row(i int) []float64 { return d.a[i*d.nt : (i+1)*d.nt : (i+1)*d.nt] }
+
+// gridDesign returns the design matrix of the samples on the grid of
+// columns xs and rows ys, row by row. Its rows are those basis gives for
+// each point; the powers of u and v are computed once per column and row.
+func (bg *background) gridDesign(xs, ys []float64) designMatrix {
+	deg, nt := bg.deg, numTerms(bg.deg)
+	d := designMatrix{nt: nt, a: make([]float64, len(xs)*len(ys)*nt)}
+	np := deg + 1
+	ups := make([]float64, len(xs)*np)
+	for c, x := range xs {
+		u, _ := bg.uv(x, 0)
+		powers(deg, u, ups[c*np:(c+1)*np])
 	}
-	return rows
+	var vp [MaxDegree + 1]float64
+	i := 0
+	for _, y := range ys {
+		_, v := bg.uv(0, y)
+		powers(deg, v, vp[:])
+		for c := range xs {
+			monomials(deg, ups[c*np:(c+1)*np], vp[:], d.row(i))
+			i++
+		}
+	}
+	return d
 }
 
 // alternateFit runs the fitRounds rounds of the fit: least squares for the
@@ -150,40 +221,31 @@ func (bg *background) design(xs, ys []float64) [][]float64 {
 // split anew by Otsu's threshold on the residuals. It returns the surface
 // coefficients and the last residuals z − Q, or nil coefficients when the
 // normal equations are singular.
-func alternateFit(rows [][]float64, zs []float64) (coef, resid []float64) {
-	n, nt := len(zs), len(rows[0])
+func alternateFit(d designMatrix, zs []float64) (coef, resid []float64) {
+	n, nt := len(zs), d.nt
 	m := make([]bool, n)
 	resid = make([]float64, n)
-	surf := surfaceSums(rows, zs)
+	bins := make([]uint8, n)
+	surf := surfaceSums(d, zs)
+	ones := 0 // samples with m set
 	for round := range fitRounds {
-		withStep := round > 0 && bothClassesFit(m, nt)
-		c := solveLeastSquares(surf, rows, zs, m, withStep)
+		withStep := round > 0 && ones > nt && n-ones > nt
+		c := solveLeastSquares(surf, d, zs, m, withStep)
 		if c == nil {
 			return nil, nil
 		}
 		coef = c[:nt]
-		for i := range zs {
+		for i, z := range zs {
+			a := d.a[i*nt : (i+1)*nt][:len(coef)]
 			s := 0.0
 			for k, ck := range coef {
-				s += ck * rows[i][k]
+				s += ck * a[k]
 			}
-			resid[i] = zs[i] - s
+			resid[i] = z - s
 		}
-		splitResiduals(resid, m)
+		ones = splitResiduals(resid, m, bins)
 	}
 	return coef, resid
-}
-
-// bothClassesFit reports whether both classes of m hold more than nt
-// samples, enough to fit the class step beside a surface of nt terms.
-func bothClassesFit(m []bool, nt int) bool {
-	ones := 0
-	for _, b := range m {
-		if b {
-			ones++
-		}
-	}
-	return ones > nt && len(m)-ones > nt
 }
 
 // gainGrid evaluates the gain exp(Q̄ − Q) on knots every knotStride
@@ -194,12 +256,20 @@ func (bg *background) gainGrid() {
 	bg.nkx = (bg.w-1)/knotStride + 2
 	bg.nky = (bg.h-1)/knotStride + 2
 	bg.gain = make([]float32, bg.nkx*bg.nky)
-	tmp := make([]float64, numTerms(bg.deg))
+	np := bg.deg + 1
+	ups := make([]float64, bg.nkx*np) // powers of u at each column of knots
+	for k := range bg.nkx {
+		u, _ := bg.uv(float64(min(k*knotStride, bg.w-1)), 0)
+		powers(bg.deg, u, ups[k*np:(k+1)*np])
+	}
+	var vp [MaxDegree + 1]float64
+	mono := make([]float64, numTerms(bg.deg))
 	for j := range bg.nky {
-		y := min(j*knotStride, bg.h-1)
+		_, v := bg.uv(0, float64(min(j*knotStride, bg.h-1)))
+		powers(bg.deg, v, vp[:])
 		for k := range bg.nkx {
-			x := min(k*knotStride, bg.w-1)
-			bg.gain[j*bg.nkx+k] = float32(math.Exp(bg.mean - bg.eval(float64(x), float64(y), tmp)))
+			monomials(bg.deg, ups[k*np:(k+1)*np], vp[:], mono)
+			bg.gain[j*bg.nkx+k] = float32(math.Exp(bg.mean - bg.dot(mono)))
 		}
 	}
 }
@@ -214,16 +284,18 @@ type normalSums struct {
 }
 
 // surfaceSums sums the normal equations of the surface over the samples.
-func surfaceSums(rows [][]float64, z []float64) normalSums {
-	nt := len(rows[0])
+func surfaceSums(d designMatrix, z []float64) normalSums {
+	nt := d.nt
 	s := normalSums{nt: nt, ata: make([]float64, nt*nt), atb: make([]float64, nt)}
-	for i, a := range rows {
-		a = a[:nt]
+	atb := s.atb[:nt]
+	for i, zi := range z {
+		a := d.a[i*nt : (i+1)*nt]
 		for j, aj := range a {
-			s.atb[j] += aj * z[i]
-			row := s.ata[j*nt : (j+1)*nt]
-			for k := j; k < nt; k++ {
-				row[k] += aj * a[k]
+			atb[j] += aj * zi
+			// The row's sums from the diagonal on, as long as a[j:].
+			row := s.ata[j*nt+j : (j+1)*nt][:len(a)-j]
+			for k, ak := range a[j:] {
+				row[k] += aj * ak
 			}
 		}
 	}
@@ -237,7 +309,7 @@ func surfaceSums(rows [][]float64, z []float64) normalSums {
 // and a 0/1 column) gives, in the same order, so the result does not
 // depend on how they are split. It returns nil if the equations are
 // singular.
-func solveLeastSquares(surf normalSums, rows [][]float64, z []float64, m []bool, withStep bool) []float64 {
+func solveLeastSquares(surf normalSums, d designMatrix, z []float64, m []bool, withStep bool) []float64 {
 	nt := surf.nt
 	np := nt
 	if withStep {
@@ -254,15 +326,16 @@ func solveLeastSquares(surf normalSums, rows [][]float64, z []float64, m []bool,
 	if withStep {
 		step := make([]float64, nt) // Σ row_j over the samples with m set
 		var count, sz float64
-		for i, r := range rows {
+		m = m[:len(z)]
+		for i, zi := range z {
 			if !m[i] {
 				continue
 			}
-			for j, v := range r[:nt] {
+			for j, v := range d.a[i*nt : (i+1)*nt][:len(step)] {
 				step[j] += v
 			}
 			count++
-			sz += z[i]
+			sz += zi
 		}
 		for j := range nt {
 			ata.SetSym(j, nt, step[j])
@@ -286,26 +359,59 @@ func solveLeastSquares(surf normalSums, rows [][]float64, z []float64, m []bool,
 }
 
 // splitResiduals sets m[i] to whether resid[i] lies above Otsu's threshold
-// of a 256-bin histogram of the residuals.
-func splitResiduals(resid []float64, m []bool) {
-	lo, hi := math.Inf(1), math.Inf(-1)
-	for _, r := range resid {
-		lo, hi = min(lo, r), max(hi, r)
+// of a 256-bin histogram of the residuals and returns how many do. bin is
+// scratch as long as resid: each residual's bin is computed once, for the
+// histogram, and kept for the split.
+func splitResiduals(resid []float64, m []bool, bin []uint8) (ones int) {
+	// Two running extremes each, over the even and the odd residuals, so
+	// that consecutive steps do not wait on each other. The builtin min
+	// and max are commutative and associative, NaN and ±0 included, so
+	// these are the extremes of a single pass.
+	lo0, hi0 := math.Inf(1), math.Inf(-1)
+	lo1, hi1 := lo0, hi0
+	i := 0
+	for ; i+1 < len(resid); i += 2 {
+		r0, r1 := resid[i], resid[i+1]
+		lo0, hi0 = min(lo0, r0), max(hi0, r0)
+		lo1, hi1 = min(lo1, r1), max(hi1, r1)
 	}
+	if i < len(resid) {
+		lo0, hi0 = min(lo0, resid[i]), max(hi0, resid[i])
+	}
+	lo, hi := min(lo0, lo1), max(hi0, hi1)
 	if !(hi > lo) {
 		clear(m)
-		return
+		return 0
 	}
 	const bins = 256
-	var hist [bins]uint64
+	// Four histograms, summed after, so that neighbouring residuals,
+	// often in one bin, do not queue on a single counter.
+	var part [4][bins]uint64
 	scale := (bins - 1) / (hi - lo)
-	for _, r := range resid {
-		hist[int((r-lo)*scale)]++
+	bin = bin[:len(resid)]
+	for i, r := range resid {
+		b := int((r - lo) * scale)
+		part[i&3][b]++
+		bin[i] = uint8(b)
+	}
+	var hist [bins]uint64
+	for b := range hist {
+		hist[b] = part[0][b] + part[1][b] + part[2][b] + part[3][b]
 	}
 	t, ok := Otsu(hist[:])
-	for i, r := range resid {
-		m[i] = ok && int((r-lo)*scale) > t
+	if !ok {
+		clear(m)
+		return 0
 	}
+	m = m[:len(bin)]
+	for i, b := range bin {
+		above := int(b) > t
+		m[i] = above
+		if above {
+			ones++
+		}
+	}
+	return ones
 }
 
 // applyRow writes into dst row y of the image divided by the fitted

@@ -85,7 +85,7 @@ func TestSolveLeastSquaresSplit(t *testing.T) {
 			zs = append(zs, 5+r.NormFloat64())
 			m = append(m, r.IntN(3) == 0)
 		}
-		rows := bg.design(xs, ys)
+		rows := scatteredDesign(bg, xs, ys)
 		surf := surfaceSums(rows, zs)
 		for _, withStep := range []bool{false, true} {
 			got := solveLeastSquares(surf, rows, zs, m, withStep)
@@ -97,18 +97,30 @@ func TestSolveLeastSquaresSplit(t *testing.T) {
 	}
 }
 
+// scatteredDesign is the design matrix of the samples at (xs[i], ys[i]),
+// which need not lie on a grid.
+func scatteredDesign(bg *background, xs, ys []float64) designMatrix {
+	nt := numTerms(bg.deg)
+	d := designMatrix{nt: nt, a: make([]float64, len(xs)*nt)}
+	for i := range xs {
+		u, v := bg.uv(xs[i], ys[i])
+		basis(bg.deg, u, v, d.row(i))
+	}
+	return d
+}
+
 // fullDesignSolve solves the normal equations summed sample by sample over
 // the full design matrix.
-func fullDesignSolve(rows [][]float64, z []float64, m []bool, withStep bool) []float64 {
-	nt := len(rows[0])
+func fullDesignSolve(d designMatrix, z []float64, m []bool, withStep bool) []float64 {
+	nt := d.nt
 	np := nt
 	if withStep {
 		np++
 	}
 	acc, bacc := make([]float64, np*np), make([]float64, np)
 	a := make([]float64, np)
-	for i, row := range rows {
-		copy(a, row)
+	for i := range z {
+		copy(a, d.row(i))
 		if withStep {
 			a[nt] = 0
 			if m[i] {
