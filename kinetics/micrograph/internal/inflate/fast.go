@@ -31,6 +31,7 @@ func (d *decoder) fast(lit, dist *table) bool {
 	lroot, pairs := &lit.root, lit.pairs
 	droot := (*[1 << distRootBits]uint32)(dist.root[:1<<distRootBits])
 	lsub, dsub := lit.sub, dist.sub
+	taintEnd := d.taintEnd
 	end := false
 	for pos <= inEnd && n <= outEnd {
 		bits |= binary.LittleEndian.Uint64(in[pos:]) << (nb & 63)
@@ -95,6 +96,10 @@ func (d *decoder) fast(lit, dist *table) bool {
 		}
 		bits = b >> (dt & 63)
 		nb -= lt + dt
+		if n-distance < taintEnd {
+			d.taintMatch(n, distance, length)
+			taintEnd = d.taintEnd
+		}
 		copyMatch(out, n, distance, length)
 		n += length
 		d.reportAt(n)

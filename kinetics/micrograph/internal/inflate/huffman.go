@@ -129,6 +129,9 @@ loop:
 			err = ErrTooLong
 			break
 		}
+		if n-distance < d.taintEnd {
+			d.taintMatch(n, distance, length)
+		}
 		copyMatch(out, n, distance, length)
 		n += length
 		d.reportAt(n)

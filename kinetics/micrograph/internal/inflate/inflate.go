@@ -88,18 +88,34 @@ func Inflate(dst, src []byte, step int, progress func(n int)) (Result, uint32, e
 // when wait is not nil only src[:wait(n)] holds data, wait(n) blocking
 // until at least n bytes are there, or returning fewer when no more will
 // come. The decoder asks for more only when it has used what it has.
+//
+// A stream of a megabyte or more is decoded on two goroutines when two
+// cores are there (split.go), with the same result; wait is then called
+// from both, so it must be safe for concurrent use.
 func InflateArriving(dst, src []byte, wait func(n int) int, step int, progress func(n int)) (Result, uint32, error) {
+	res, sum, _, err := inflateSplit(dst, src, wait, step, progress, planFor(len(src)))
+	return res, sum, err
+}
+
+// splitInfo says, for the tests, what became of a second part.
+type splitInfo struct {
+	joined bool // the second part was joined
+	fixes  int  // matches of the joined part copied again
+}
+
+// inflateSplit is InflateArriving with the given split plan.
+func inflateSplit(dst, src []byte, wait func(n int) int, step int, progress func(n int), plan splitPlan) (Result, uint32, splitInfo, error) {
 	d := decoder{src: src, in: src, wait: wait, out: dst, step: max(step, 1), progress: progress}
 	if wait != nil {
 		d.in = src[:0]
 	}
 	d.need(2)
 	if len(d.in) < 2 {
-		return Result{}, 0, ErrTruncated
+		return Result{}, 0, splitInfo{}, ErrTruncated
 	}
 	cmf, flg := d.in[0], d.in[1]
 	if cmf&0x0f != 8 || cmf>>4 > 7 || (uint(cmf)<<8|uint(flg))%31 != 0 {
-		return Result{}, 0, &CorruptError{0, "invalid zlib header"}
+		return Result{}, 0, splitInfo{}, &CorruptError{0, "invalid zlib header"}
 	}
 	d.pos = 2
 	if flg&0x20 != 0 {
@@ -107,25 +123,31 @@ func InflateArriving(dst, src []byte, wait func(n int) int, step int, progress f
 		// empty dictionary (its Adler-32, 1) can be satisfied, as in
 		// compress/zlib.
 		if d.need(6); len(d.in) < 6 {
-			return Result{}, 0, ErrTruncated
+			return Result{}, 0, splitInfo{}, ErrTruncated
 		}
 		if binary.BigEndian.Uint32(d.in[2:]) != 1 {
-			return Result{}, 0, &CorruptError{2, "stream needs a preset dictionary"}
+			return Result{}, 0, splitInfo{}, &CorruptError{2, "stream needs a preset dictionary"}
 		}
 		d.pos = 6
 	}
 	d.nextReport = d.step
+	var info splitInfo
+	if plan.at > d.pos {
+		p := startPart(plan, src, wait, len(dst))
+		defer p.end()
+		d.split, d.info = p, &info
+	}
 	if err := d.run(); err != nil {
-		return Result{N: d.n}, 0, err
+		return Result{N: d.n}, 0, info, err
 	}
 	if progress != nil {
 		progress(d.n)
 	}
 	end := d.pos
 	if d.need(end + 4); end+4 > len(d.in) {
-		return Result{N: d.n}, 0, ErrTruncated
+		return Result{N: d.n}, 0, info, ErrTruncated
 	}
-	return Result{N: d.n, Used: end + 4}, binary.BigEndian.Uint32(d.in[end:]), nil
+	return Result{N: d.n, Used: end + 4}, binary.BigEndian.Uint32(d.in[end:]), info, nil
 }
 
 // Window is the DEFLATE window: the farthest back a match may reach
@@ -149,6 +171,20 @@ type decoder struct {
 
 	lit, dist, clen *table
 	lengths         [286 + 30]uint8
+
+	// Splitting (split.go). split: the second part, being decoded on
+	// another goroutine, that this decoder joins when it reaches the
+	// block that part starts at. taint, taintEnd and fixes belong to the
+	// decoder of a second part: the bitmap of its output bytes that
+	// depend on the window it does not know, the end of the last of
+	// them (0 for a decoder that knows its whole window, so that the
+	// test in the loops never holds), and the matches to copy again once
+	// the window is known.
+	split    *part
+	info     *splitInfo // what became of split
+	taint    []uint64
+	taintEnd int
+	fixes    []fixup
 }
 
 // need waits, for an arriving stream, until n bytes of input are there
@@ -206,33 +242,47 @@ func (d *decoder) corrupt(what string) error {
 
 // run decodes blocks until the last one (RFC 1951, section 3.2.3) and
 // leaves pos at the byte after it.
+// When d.split is set, at each block it first looks whether the second
+// part decoded on another goroutine starts there (split.go), and if so ends
+// with that part joined on.
 func (d *decoder) run() error {
 	for {
+		if d.split != nil && d.join() {
+			return nil
+		}
 		head, err := d.take(3)
 		if err != nil {
 			return err
 		}
-		switch head >> 1 {
-		case 0:
-			err = d.stored()
-		case 1:
-			err = d.huffman(fixedLit, fixedDist)
-		case 2:
-			if err = d.readCodes(); err == nil {
-				err = d.huffman(d.lit, d.dist)
-			}
-		default:
-			err = d.corrupt("invalid block type")
-		}
-		if err != nil {
+		if err := d.block(head); err != nil {
 			return err
 		}
-		d.report()
 		if head&1 != 0 {
 			d.align()
 			return nil
 		}
 	}
+}
+
+// block decodes the block whose 3 header bits are head.
+func (d *decoder) block(head uint32) error {
+	var err error
+	switch head >> 1 {
+	case 0:
+		err = d.stored()
+	case 1:
+		err = d.huffman(fixedLit, fixedDist)
+	case 2:
+		if err = d.readCodes(); err == nil {
+			err = d.huffman(d.lit, d.dist)
+		}
+	default:
+		err = d.corrupt("invalid block type")
+	}
+	if err == nil {
+		d.report()
+	}
+	return err
 }
 
 // stored copies a block of uncompressed data (section 3.2.4).

@@ -15,6 +15,7 @@ import (
 	"path/filepath"
 	"slices"
 	"strings"
+	"sync"
 	"testing"
 )
 
@@ -311,12 +312,16 @@ type arrival struct {
 
 // arrivals are ways for n bytes of input to come in: exactly the bytes
 // asked for, in pieces of 1, 7 and 4096 bytes at least, and all at once.
+// Each is safe for concurrent use, as a split stream needs.
 func arrivals(n int) []arrival {
 	var out []arrival
 	out = append(out, arrival{"as asked", func(k int) int { return min(k, n) }})
 	for _, step := range []int{1, 7, 4096} {
+		var mu sync.Mutex
 		got := 0
 		out = append(out, arrival{fmt.Sprintf("in pieces of %d", step), func(k int) int {
+			mu.Lock()
+			defer mu.Unlock()
 			for got < k && got < n {
 				got = min(got+step, n)
 			}
@@ -348,6 +353,17 @@ func compare(t *testing.T, src []byte) {
 	// The same stream arriving in pieces gives the same answer: one way
 	// of arriving for each stream, in turn by its length.
 	whole := slices.Clone(got[:res.N])
+	// Split in the middle, the same answer: the second part either
+	// starts at a real block or is dropped, and never changes the result.
+	if len(src) > 8 {
+		res2, sum, _, err2 := inflateSplit(got, src, nil, 1, nil, splitPlan{len(src) / 2, true})
+		if err2 == nil && sum != Adler32(got[:res2.N]) {
+			res2, err2 = Result{N: res2.N}, ErrChecksum // as Zlib reports it
+		}
+		if res2 != res || fmt.Sprint(err2) != fmt.Sprint(err) || (err == nil && !bytes.Equal(got[:res.N], whole)) {
+			t.Fatalf("stream % x split at %d: got %+v, %v; want %+v, %v", src, len(src)/2, res2, err2, res, err)
+		}
+	}
 	ways := arrivals(len(src))
 	for _, a := range ways[len(src)%len(ways):][:1] {
 		res2, err2 := zlibArriving(got, src, a.wait)

@@ -1,0 +1,171 @@
+package inflate
+
+import (
+	"bytes"
+	"compress/zlib"
+	"errors"
+	"fmt"
+	"hash/adler32"
+	"math/rand/v2"
+	"strings"
+	"testing"
+)
+
+// The reference is again compress/zlib: a stream split anywhere must give
+// its output byte for byte, and fail where it fails.
+
+// longInputs are inputs of a few MB with many blocks at every level:
+// image-like rows (matches mostly within a row or to the row above), the
+// same with a repeat 32768 bytes back (so that the second part's first
+// matches reach into the window it does not know, and matches copy those
+// on), and words in random order.
+func longInputs() map[string][]byte {
+	r := rand.New(rand.NewPCG(3, 4))
+	var rows []byte
+	for y := range 1500 {
+		rows = append(rows, byte(y%5))
+		for x := range 2000 {
+			rows = append(rows, byte(100+60*((x/53+y/41)%2)+r.IntN(13)))
+		}
+	}
+	far := make([]byte, 0, 3<<20)
+	for len(far) < 3<<20 {
+		if len(far) >= 32768 && r.IntN(3) == 0 {
+			far = append(far, far[len(far)-32768:len(far)-32768+1+r.IntN(200)]...)
+			continue
+		}
+		far = append(far, byte(r.IntN(40)))
+	}
+	words := strings.Fields("anneal grow cool copper foil hydrogen methane argon sccm Torr furnace tube quartz domain coverage nucleation edge 1000 °C 30 min 20 min")
+	var text []byte
+	for len(text) < 3<<19 {
+		text = append(text, words[r.IntN(len(words))]...)
+		text = append(text, " ,."[r.IntN(3)])
+	}
+	return map[string][]byte{"image rows": rows, "repeats 32768 back": far, "text": text}
+}
+
+// TestSplitAgrees: long streams of every level, split at many points,
+// all at once and arriving in pieces; the second part must be joined for
+// streams with dynamic blocks, and must have needed its window fixed up
+// where matches reach back across the split.
+func TestSplitAgrees(t *testing.T) {
+	t.Parallel()
+	for name, data := range longInputs() {
+		for _, level := range []int{zlib.HuffmanOnly, 0, 1, 6, 9} {
+			t.Run(fmt.Sprintf("%s/%s", name, levelName(level)), func(t *testing.T) {
+				t.Parallel()
+				src := compress(t, data, level)
+				want, err := reference(src, len(data)+1)
+				if err != nil {
+					t.Fatal(err)
+				}
+				wantSum := adler32.Checksum(want)
+				joins, fixed := 0, false
+				for _, f := range []float64{0.01, 0.2, 0.42, 0.5, 0.77, 0.99} {
+					at := int(f * float64(len(src)))
+					for _, a := range append(arrivals(len(src))[3:4], arrival{"at once", nil}) {
+						got := make([]byte, len(want))
+						res, sum, info, err := inflateSplit(got, src, a.wait, 1, nil, splitPlan{at, true})
+						if err != nil || res.N != len(want) || res.Used != len(src) || sum != wantSum {
+							t.Fatalf("split at %d, arriving %s: got %+v, sum %08x, %v; want %d bytes of %d, sum %08x",
+								at, a.name, res, sum, err, len(want), len(src), wantSum)
+						}
+						if i := firstDiff(got, want); i < len(want) {
+							t.Fatalf("split at %d, arriving %s: first difference from compress/zlib at byte %d of %d", at, a.name, i, len(want))
+						}
+						if info.joined {
+							joins++
+						}
+						fixed = fixed || info.fixes > 0
+					}
+				}
+				// Level 0 has stored blocks only; every other level makes
+				// dynamic blocks the search finds.
+				if level != 0 && joins == 0 {
+					t.Errorf("the second part was never joined")
+				}
+				if name == "repeats 32768 back" && level > 0 && !fixed {
+					t.Errorf("no match reached into the unknown window: the case tests nothing")
+				}
+			})
+		}
+	}
+}
+
+// TestSplitDamage: damage past the split point (bit flips, cuts, an
+// output buffer too short or too long) gives compress/zlib's verdict and,
+// where it accepts, its output.
+func TestSplitDamage(t *testing.T) {
+	t.Parallel()
+	good := compress(t, longInputs()["image rows"][:1<<20], 6)
+	want, _ := reference(good, 1<<26)
+	r := rand.New(rand.NewPCG(9, 10))
+	at := len(good) / 2
+	for i := range 30 {
+		src := bytes.Clone(good)
+		switch i % 3 {
+		case 0: // a flipped bit past the split
+			p := at + r.IntN(len(src)-at)
+			src[p] ^= 1 << r.IntN(8)
+		case 1: // cut past the split
+			src = src[:at+r.IntN(len(src)-at)]
+		default: // a flipped bit just before or after the split
+			src[at-64+r.IntN(128)] ^= 1 << r.IntN(8)
+		}
+		ref, refErr := reference(src, len(want)+1)
+		got := make([]byte, len(want))
+		res, sum, _, err := inflateSplit(got, src, nil, 1, nil, splitPlan{at, true})
+		if err == nil && sum != Adler32(got[:res.N]) {
+			err = ErrChecksum
+		}
+		switch {
+		case (err == nil) != (refErr == nil):
+			t.Fatalf("case %d: got %v, compress/zlib %v", i, err, refErr)
+		case err == nil && !bytes.Equal(got[:res.N], ref):
+			t.Fatalf("case %d: output differs from compress/zlib's", i)
+		}
+	}
+	for _, room := range []int{len(want) - 1, len(want) - 5000, len(want) + 5000} {
+		got := make([]byte, room)
+		res, _, _, err := inflateSplit(got, good, nil, 1, nil, splitPlan{at, true})
+		switch {
+		case room < len(want) && !errors.Is(err, ErrTooLong):
+			t.Errorf("room %d of %d: got %v, want ErrTooLong", room, len(want), err)
+		case room > len(want) && (err != nil || res.N != len(want) || !bytes.Equal(got[:res.N], want)):
+			t.Errorf("room %d of %d: got %+v, %v; want compress/zlib's %d bytes", room, len(want), res, err, len(want))
+		}
+	}
+}
+
+// TestHeaderBits: every block start of a stream that begins a dynamic
+// block passes headerBits, so the search can only miss a start when the
+// stream has none of that kind.
+func TestHeaderBits(t *testing.T) {
+	t.Parallel()
+	src := compress(t, longInputs()["image rows"], 6)
+	d := decoder{src: src, in: src, out: make([]byte, 4<<20), pos: 2, nextReport: 1 << 62}
+	starts := 0
+	for {
+		at := d.pos*8 - int(d.nb)
+		head, err := d.take(3)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if head>>1 == 2 {
+			starts++
+			if !headerBits(src, at) {
+				t.Fatalf("block start at bit %d: headerBits refuses it", at)
+			}
+		}
+		if err := d.block(head); err != nil {
+			t.Fatal(err)
+		}
+		if head&1 != 0 {
+			break
+		}
+	}
+	if starts < 10 {
+		t.Fatalf("%d dynamic blocks: the case tests little", starts)
+	}
+}
