@@ -131,6 +131,16 @@ func (s *rowSink) consume(ready <-chan int) error {
 			row := s.raw[s.y*s.rowSize : (s.y+1)*s.rowSize]
 			s.sum = inflate.Adler32Update(s.sum, row)
 			if s.img == nil {
+				// Two Average rows of one-byte pixels in a row are
+				// unfiltered together (unAverage2).
+				if next := s.raw[(s.y+1)*s.rowSize : min((s.y+2)*s.rowSize, len(s.raw))]; s.bpp == 1 && row[0] == filterAverage &&
+					(s.y+2)*s.rowSize <= limit && next[0] == filterAverage {
+					s.sum = inflate.Adler32Update(s.sum, next)
+					unAverage2(row[1:], next[1:], prev)
+					prev = next[1:]
+					s.y++
+					continue
+				}
 				if err = unfilter(row[0], row[1:], prev, s.bpp); err != nil {
 					return
 				}
@@ -194,6 +204,22 @@ func unAverage(cur, prev []byte, bpp int) {
 			left = (int(cur[i]) + (left+int(prev[i]))>>1) & 0xff
 			cur[i] = uint8(left)
 		}
+	}
+}
+
+// unAverage2 is unAverage of two consecutive rows, a and the row b below
+// it, of one-byte pixels, in one pass: a byte of b needs the byte of a
+// above it and the byte of b to its left, so the two chains of
+// dependencies (each byte on the one before) run side by side, b one byte
+// behind a, and the processor works on both at once.
+func unAverage2(a, b, prev []byte) {
+	prev, b = prev[:len(a)], b[:len(a)]
+	la, lb := 0, 0
+	for i := range a {
+		la = (int(a[i]) + (la+int(prev[i]))>>1) & 0xff
+		a[i] = uint8(la)
+		lb = (int(b[i]) + (lb+la)>>1) & 0xff
+		b[i] = uint8(lb)
 	}
 }
 
