@@ -223,6 +223,10 @@ func (f *File) SHA256() (string, error) {
 	return hex.EncodeToString(f.sum.Sum(nil)), nil
 }
 
+// Stat returns the file's information, as os.File.Stat does: a reader
+// may size its buffers from the file's size (the micrograph decoder does).
+func (f *File) Stat() (fs.FileInfo, error) { return f.f.Stat() }
+
 // Close closes the file.
 func (f *File) Close() error { return f.f.Close() }
 

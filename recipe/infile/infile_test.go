@@ -96,6 +96,9 @@ func TestReadAndHash(t *testing.T) {
 		t.Fatal(err)
 	}
 	defer f.Close()
+	if fi, err := f.Stat(); err != nil || fi.Size() != 3 || !fi.Mode().IsRegular() {
+		t.Fatalf("Stat: got %v, %v; want a regular file of 3 bytes", fi, err)
+	}
 	one := make([]byte, 1)
 	if _, err := f.Read(one); err != nil {
 		t.Fatal(err)
