@@ -320,16 +320,35 @@ func (d *decoder) join() bool {
 	if p.err != nil || q.n-Window > len(d.out)-d.n {
 		return false
 	}
-	copy(d.out[d.n:], q.out[Window:q.n])
-	shift := d.n - Window
+	shift := d.n - Window // the part's buffer index of an output byte, less shift
 	for _, f := range q.fixes {
-		at, dist := f.at+shift, int(f.dist)
-		if at < dist { // before the start of the output: decoding on alone reports it
+		if f.at+shift < int(f.dist) { // before the start of the output: decoding on alone reports it
 			return false
 		}
-		copyExact(d.out, at, dist, int(f.n))
 	}
-	d.n += q.n - Window
+	// The part's output is copied in pieces of step bytes (longer where a
+	// listed match would be cut), its listed matches copied again, and
+	// each piece reported as final, so that the consumer starts on it
+	// while the rest is copied. A listed match reaches at most Window
+	// bytes back, where the consumer, a Window behind, has not been.
+	end, fixes := q.n+shift, q.fixes
+	for d.n < end {
+		to := min(d.n+d.step, end)
+		for _, f := range fixes {
+			if f.at+shift >= to {
+				break
+			}
+			to = max(to, f.at+shift+int(f.n))
+		}
+		copy(d.out[d.n:to], q.out[d.n-shift:to-shift])
+		for len(fixes) > 0 && fixes[0].at+shift < to {
+			f := fixes[0]
+			copyExact(d.out, f.at+shift, int(f.dist), int(f.n))
+			fixes = fixes[1:]
+		}
+		d.n = to
+		d.report()
+	}
 	d.in = q.in
 	d.pos, d.bits, d.nb = q.pos, 0, 0
 	d.info.joined, d.info.fixes = true, len(q.fixes)
