@@ -3,6 +3,8 @@ package micrograph
 import (
 	"image"
 	"image/color"
+
+	"github.com/foilrun/foilrun/kinetics/micrograph/internal/hugemem"
 )
 
 // lumaImage is a gray image held as native 16-bit levels: the working
@@ -18,7 +20,7 @@ type lumaImage struct {
 }
 
 func newLumaImage(w, h, depth int) *lumaImage {
-	return &lumaImage{pix: bigSlice[uint16](w * h), stride: w, rect: image.Rect(0, 0, w, h), depth: depth}
+	return &lumaImage{pix: hugemem.Slice[uint16](w * h), stride: w, rect: image.Rect(0, 0, w, h), depth: depth}
 }
 
 // ColorModel returns color.Gray16Model.

@@ -1,6 +1,10 @@
 package micrograph
 
-import "image"
+import (
+	"image"
+
+	"github.com/foilrun/foilrun/kinetics/micrograph/internal/hugemem"
+)
 
 // prepare makes the working plane of img in one pass, on workers bands of
 // rows at once: each row is converted to 16-bit luma (convertRow), divided
@@ -16,7 +20,7 @@ func prepare(img image.Image, bg *background, r, workers int) (*plane, []uint64)
 // pass is prepare, without the histogram (nil) unless count is set.
 func pass(img image.Image, bg *background, r, workers int, count bool) (*plane, []uint64) {
 	b := img.Bounds()
-	p := &plane{w: b.Dx(), h: b.Dy(), pix: bigSlice[uint16](b.Dx() * b.Dy())}
+	p := &plane{w: b.Dx(), h: b.Dy(), pix: hugemem.Slice[uint16](b.Dx() * b.Dy())}
 	workers = max(1, min(workers, p.h))
 	hists := make([]*[1 << 16]uint32, workers) // at most 2^28 pixels (DefaultMaxPixels) a band
 	gray, _ := img.(*image.Gray)

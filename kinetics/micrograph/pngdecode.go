@@ -12,6 +12,8 @@ import (
 	"io"
 	"slices"
 	"sync"
+
+	"github.com/foilrun/foilrun/kinetics/micrograph/internal/hugemem"
 )
 
 // The PNG decoder of this package reads a PNG (ISO/IEC 15948:2004, "PNG
@@ -427,7 +429,7 @@ func (d *pngReader) decodePixels() (image.Image, error) {
 	}
 	// The image data is inflated on a second goroutine while this one
 	// reads it.
-	buf := bigSlice[byte](d.idatRoom())
+	buf := hugemem.Slice[byte](d.idatRoom())
 	feed := newIDATFeed()
 	inflated := make(chan rowsResult, 1)
 	go func() {

@@ -6,6 +6,7 @@ import (
 	"image"
 	"image/color"
 
+	"github.com/foilrun/foilrun/kinetics/micrograph/internal/hugemem"
 	"github.com/foilrun/foilrun/kinetics/micrograph/internal/inflate"
 )
 
@@ -34,7 +35,7 @@ func (d *pngReader) readRows(data []byte, wait func(n int) int) rowsResult {
 	h := &d.hdr
 	bpp := h.bitsPerPixel()
 	rowSize := 1 + (bpp*h.width+7)/8
-	raw := bigSlice[byte](h.height * rowSize)
+	raw := hugemem.Slice[byte](h.height * rowSize)
 	sink := &rowSink{raw: raw, rowSize: rowSize, bpp: (bpp + 7) / 8}
 	var img image.Image
 	if h.ctype == pngGray && h.depth == 8 {

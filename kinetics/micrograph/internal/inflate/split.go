@@ -7,6 +7,8 @@ import (
 	"math"
 	"runtime"
 	"sync/atomic"
+
+	"github.com/foilrun/foilrun/kinetics/micrograph/internal/hugemem"
 )
 
 // A long stream is decoded on two goroutines. DEFLATE carries nothing
@@ -139,7 +141,7 @@ func (p *part) run(src []byte, wait func(int) int, room int) {
 		close(p.done)
 	}()
 	d := &p.d
-	*d = decoder{src: src, in: src, wait: wait, out: make([]byte, Window+room), n: Window, nextReport: math.MaxInt}
+	*d = decoder{src: src, in: src, wait: wait, out: hugemem.Slice[byte](Window + room), n: Window, nextReport: math.MaxInt}
 	if wait != nil {
 		d.in = src[:0]
 	}

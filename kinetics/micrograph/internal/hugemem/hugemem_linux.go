@@ -1,4 +1,4 @@
-package micrograph
+package hugemem
 
 import (
 	"syscall"

@@ -1,6 +1,6 @@
 //go:build !linux
 
-package micrograph
+package hugemem
 
 import "unsafe"
 

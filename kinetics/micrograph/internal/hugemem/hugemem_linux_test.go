@@ -1,4 +1,4 @@
-package micrograph
+package hugemem
 
 import (
 	"bufio"
@@ -9,15 +9,15 @@ import (
 	"unsafe"
 )
 
-// TestBigSliceHugePages: a bigSlice is n zeroed, writable elements, and
+// TestSliceHugePages: a Slice is n zeroed, writable elements, and
 // where transparent huge pages are on for memory that asks ("madvise" or
 // "always" in /sys/kernel/mm/transparent_hugepage/enabled; Linux's
 // Documentation/admin-guide/mm/transhuge.rst), the mapping that holds it
 // has huge pages once it is written (AnonHugePages in /proc/self/smaps,
 // proc(5)). With them "never" the slice must still be usable.
-func TestBigSliceHugePages(t *testing.T) {
+func TestSliceHugePages(t *testing.T) {
 	const n = 8 << 20 // 16 MiB of uint16: several whole huge pages
-	s := bigSlice[uint16](n)
+	s := Slice[uint16](n)
 	if len(s) != n {
 		t.Fatalf("len %d, want %d", len(s), n)
 	}
