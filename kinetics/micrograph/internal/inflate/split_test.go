@@ -201,3 +201,23 @@ func TestSplitConsumer(t *testing.T) {
 		}
 	}
 }
+
+// TestZlibLong: streams of a megabyte and more through the exported
+// functions, which split them as the decoder of a micrograph does (the
+// first goroutine never waiting for the search), all at once and
+// arriving in pieces from two goroutines: compress/zlib's output, whether
+// or not the second part was joined in time.
+func TestZlibLong(t *testing.T) {
+	t.Parallel()
+	long := 0
+	for name, data := range longInputs() {
+		src := compress(t, data, 1)
+		if len(src) >= minSplit {
+			long++
+		}
+		t.Run(name, func(t *testing.T) { agree(t, src) })
+	}
+	if long == 0 {
+		t.Fatalf("no stream of %d bytes or more: the split is not tested", minSplit)
+	}
+}
