@@ -93,6 +93,42 @@ func BenchmarkLabel4096(b *testing.B) {
 	}
 }
 
+// averageRows are 64 rows of 4096 one-byte pixels for the unfiltering
+// benchmarks (their values do not change the work).
+func averageRows() [][]byte {
+	rows := make([][]byte, 65)
+	for i := range rows {
+		rows[i] = make([]byte, 4096)
+		for j := range rows[i] {
+			rows[i][j] = byte(i*7 + j*13)
+		}
+	}
+	return rows
+}
+
+// BenchmarkUnAverage and BenchmarkUnAverage2 reverse the Average filter
+// on the same 64 rows below a first one, a row at a time and two at a
+// time (pngrows.go), reporting nanoseconds a byte.
+func BenchmarkUnAverage(b *testing.B) {
+	rows := averageRows()
+	for b.Loop() {
+		for i := 1; i < len(rows); i++ {
+			unAverage(rows[i], rows[i-1], 1)
+		}
+	}
+	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/(64*4096), "ns/byte")
+}
+
+func BenchmarkUnAverage2(b *testing.B) {
+	rows := averageRows()
+	for b.Loop() {
+		for i := 1; i+1 < len(rows); i += 2 {
+			unAverage2(rows[i], rows[i+1], rows[i-1])
+		}
+	}
+	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/(64*4096), "ns/byte")
+}
+
 // benchFile is the PNG named by $FOILRUN_BENCH_PNG (the 4096² benchmark
 // micrograph: go run ./cmd/foilrun/internal/benchdata micrograph FILE);
 // without it the file benchmarks are skipped.
