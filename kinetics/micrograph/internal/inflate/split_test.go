@@ -221,3 +221,45 @@ func TestZlibLong(t *testing.T) {
 		t.Fatalf("no stream of %d bytes or more: the split is not tested", minSplit)
 	}
 }
+
+// FuzzSplitDamage: a valid stream of many blocks, split at a point and
+// damaged after it by bit flips (and cut, when the edits say so), gives
+// compress/zlib's verdict and, where it accepts, its output; it never
+// panics. at chooses the split point, edits the damage: three bytes an
+// edit (where past the split, as a fraction, and the bits to flip).
+func FuzzSplitDamage(f *testing.F) {
+	good := compress(f, longInputs()["image rows"][:1<<19], 6)
+	want, err := reference(good, 1<<20)
+	if err != nil {
+		f.Fatal(err)
+	}
+	f.Add(uint16(32768), []byte{})
+	f.Add(uint16(20000), []byte{0x80, 0x00, 0x10})
+	f.Add(uint16(50000), []byte{0x00, 0x10, 0x01, 0xff, 0xf0, 0x80, 0x7f})
+	f.Fuzz(func(t *testing.T, at uint16, edits []byte) {
+		split := 2 + int(at)*(len(good)-2)/65536
+		src := bytes.Clone(good)
+		for len(edits) >= 3 {
+			off := int(edits[0])<<8 | int(edits[1]) // of 65536 past the split
+			if p := split + off*(len(src)-split)/65536; p < len(src) {
+				src[p] ^= edits[2]
+			}
+			edits = edits[3:]
+		}
+		if len(edits) > 0 { // a cut past the split
+			src = src[:split+int(edits[0])*(len(src)-split)/256]
+		}
+		ref, refErr := reference(src, len(want)+1)
+		got := make([]byte, len(want))
+		res, sum, _, err := inflateSplit(got, src, nil, 1<<16, nil, splitPlan{split, true})
+		if err == nil && sum != Adler32(got[:res.N]) {
+			err = ErrChecksum
+		}
+		switch {
+		case (err == nil) != (refErr == nil):
+			t.Fatalf("split at %d: got %v, compress/zlib %v", split, err, refErr)
+		case err == nil && !bytes.Equal(got[:res.N], ref):
+			t.Fatalf("split at %d: output differs from compress/zlib's", split)
+		}
+	})
+}
