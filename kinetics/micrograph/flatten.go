@@ -236,7 +236,7 @@ func alternateFit(d designMatrix, zs []float64) (coef, resid []float64) {
 		}
 		coef = c[:nt]
 		for i, z := range zs {
-			a := d.a[i*nt : (i+1)*nt][:len(coef)]
+			a := d.row(i)[:len(coef)]
 			s := 0.0
 			for k, ck := range coef {
 				s += ck * a[k]
@@ -289,7 +289,7 @@ func surfaceSums(d designMatrix, z []float64) normalSums {
 	s := normalSums{nt: nt, ata: make([]float64, nt*nt), atb: make([]float64, nt)}
 	atb := s.atb[:nt]
 	for i, zi := range z {
-		a := d.a[i*nt : (i+1)*nt]
+		a := d.row(i)
 		for j, aj := range a {
 			atb[j] += aj * zi
 			// The row's sums from the diagonal on, as long as a[j:].
@@ -331,7 +331,7 @@ func solveLeastSquares(surf normalSums, d designMatrix, z []float64, m []bool, w
 			if !m[i] {
 				continue
 			}
-			for j, v := range d.a[i*nt : (i+1)*nt][:len(step)] {
+			for j, v := range d.row(i)[:len(step)] {
 				step[j] += v
 			}
 			count++

@@ -134,8 +134,9 @@ func (s *rowSink) consume(ready <-chan int) error {
 			if s.img == nil {
 				// Two Average rows of one-byte pixels in a row are
 				// unfiltered together (unAverage2).
-				if next := s.raw[(s.y+1)*s.rowSize : min((s.y+2)*s.rowSize, len(s.raw))]; s.bpp == 1 && row[0] == filterAverage &&
-					(s.y+2)*s.rowSize <= limit && next[0] == filterAverage {
+				if s.bpp == 1 && row[0] == filterAverage && (s.y+2)*s.rowSize <= limit &&
+					s.raw[(s.y+1)*s.rowSize] == filterAverage {
+					next := s.raw[(s.y+1)*s.rowSize : (s.y+2)*s.rowSize]
 					s.sum = inflate.Adler32Update(s.sum, next)
 					unAverage2(row[1:], next[1:], prev)
 					prev = next[1:]

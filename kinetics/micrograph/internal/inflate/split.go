@@ -173,10 +173,7 @@ func (p *part) run(src []byte, wait func(int) int, room int) {
 // reset clears what a decoding from bits that were no block start left.
 func (p *part) reset() {
 	d := &p.d
-	for i := Window / 64; i < min(len(d.taint), d.taintEnd/64+1); i++ {
-		d.taint[i] = 0
-	}
-	setBits(d.taint, 0, Window)
+	clear(d.taint[Window/64 : min(len(d.taint), d.taintEnd/64+1)]) // the window's own bits stay set
 	d.n, d.taintEnd, d.fixes = Window, Window, d.fixes[:0]
 }
 
@@ -289,8 +286,9 @@ func setBits(bm []uint64, lo, hi int) {
 // decoded to the end of the stream, and its output, with the matches that
 // reached into the window copied again, fits after d's. d is then at the
 // end of the stream. Otherwise the part is dropped as soon as d has passed
-// its start, and d decodes on alone. It never waits for the search: a
-// part whose start is found only once d is past it is dropped.
+// its start, and d decodes on alone. Unless the plan is patient it never
+// waits for the search: a part whose start is found only once d is past
+// it is dropped.
 func (d *decoder) join() bool {
 	p := d.split
 	at := d.pos*8 - int(d.nb)

@@ -113,18 +113,7 @@ func TestSplitDamage(t *testing.T) {
 		default: // a flipped bit just before or after the split
 			src[at-64+r.IntN(128)] ^= 1 << r.IntN(8)
 		}
-		ref, refErr := reference(src, len(want)+1)
-		got := make([]byte, len(want))
-		res, sum, _, err := inflateSplit(got, src, nil, 1, nil, splitPlan{at, true})
-		if err == nil && sum != Adler32(got[:res.N]) {
-			err = ErrChecksum
-		}
-		switch {
-		case (err == nil) != (refErr == nil):
-			t.Fatalf("case %d: got %v, compress/zlib %v", i, err, refErr)
-		case err == nil && !bytes.Equal(got[:res.N], ref):
-			t.Fatalf("case %d: output differs from compress/zlib's", i)
-		}
+		agreeSplit(t, src, len(want), at, 1, fmt.Sprintf("case %d", i))
 	}
 	for _, room := range []int{len(want) - 1, len(want) - 5000, len(want) + 5000} {
 		got := make([]byte, room)
@@ -249,17 +238,25 @@ func FuzzSplitDamage(f *testing.F) {
 		if len(edits) > 0 { // a cut past the split
 			src = src[:split+int(edits[0])*(len(src)-split)/256]
 		}
-		ref, refErr := reference(src, len(want)+1)
-		got := make([]byte, len(want))
-		res, sum, _, err := inflateSplit(got, src, nil, 1<<16, nil, splitPlan{split, true})
-		if err == nil && sum != Adler32(got[:res.N]) {
-			err = ErrChecksum
-		}
-		switch {
-		case (err == nil) != (refErr == nil):
-			t.Fatalf("split at %d: got %v, compress/zlib %v", split, err, refErr)
-		case err == nil && !bytes.Equal(got[:res.N], ref):
-			t.Fatalf("split at %d: output differs from compress/zlib's", split)
-		}
+		agreeSplit(t, src, len(want), split, 1<<16, fmt.Sprintf("split at %d", split))
 	})
+}
+
+// agreeSplit checks that src, split (patiently) at byte at into room bytes
+// of output, fails exactly when compress/zlib fails and otherwise gives
+// its output; what names the case in a failure.
+func agreeSplit(t *testing.T, src []byte, room, at, step int, what string) {
+	t.Helper()
+	ref, refErr := reference(src, room+1)
+	got := make([]byte, room)
+	res, sum, _, err := inflateSplit(got, src, nil, step, nil, splitPlan{at, true})
+	if err == nil && sum != Adler32(got[:res.N]) {
+		err = ErrChecksum
+	}
+	switch {
+	case (err == nil) != (refErr == nil):
+		t.Fatalf("%s: got %v, compress/zlib %v", what, err, refErr)
+	case err == nil && !bytes.Equal(got[:res.N], ref):
+		t.Fatalf("%s: output differs from compress/zlib's", what)
+	}
 }
