@@ -38,13 +38,22 @@ func TestReadColumnsRunOrder(t *testing.T) {
 	same := func(a, b []float64) bool {
 		return slices.EqualFunc(a, b, func(x, y float64) bool { return x == y || math.IsNaN(x) && math.IsNaN(y) })
 	}
+	// Without twins the query has no mask column and the masks are nil.
+	unmasked := `SELECT column1, column2, column4, column5 FROM (` + query[len("SELECT column1, column2, column3, column4, column5 FROM ("):]
 	for name, q := range map[string]Querier{"db": db, "conn": conn} {
-		ms, xs, masks, err := readColumns(ctx, nil, q, query, nil, 2, 3)
+		ms, xs, masks, err := readColumns(ctx, nil, q, query, nil, 2, 3, true)
 		if err != nil {
 			t.Fatalf("%s: %v", name, err)
 		}
 		if !same(ms, wantM) || !slices.Equal(masks, wantMask) || len(xs) != 2 || !same(xs[0], wantX[0]) || !same(xs[1], wantX[1]) {
 			t.Errorf("%s: got metric %v, masks %v, values %v; want %v, %v, %v", name, ms, masks, xs, wantM, wantMask, wantX)
+		}
+		ms, xs, masks, err = readColumns(ctx, nil, q, unmasked, nil, 2, 3, false)
+		if err != nil {
+			t.Fatalf("%s, no mask: %v", name, err)
+		}
+		if !same(ms, wantM) || masks != nil || len(xs) != 2 || !same(xs[0], wantX[0]) || !same(xs[1], wantX[1]) {
+			t.Errorf("%s, no mask: got metric %v, masks %v, values %v; want %v, nil, %v", name, ms, masks, xs, wantM, wantX)
 		}
 	}
 }
