@@ -216,6 +216,57 @@ func TestRankSameAsBefore(t *testing.T) {
 	}
 }
 
+// TestRankDefaultGoal: without a goal, Rank takes the metric's upper
+// quartile (lower quartile when lower is better) as the goal, as
+// Quantile computes it, and gives the rows of that goal; with every run
+// having the metric the quartile comes from the sort that ranks it, else
+// from Quantile over the runs.
+func TestRankDefaultGoal(t *testing.T) {
+	withNaN, params := genSamples(20000)
+	var full []Sample // the runs that have the metric
+	for _, s := range withNaN {
+		if !math.IsNaN(s.Metric) {
+			full = append(full, s)
+		}
+	}
+	same := func(a, b float64) bool { return a == b || math.IsNaN(a) && math.IsNaN(b) }
+	for _, tc := range []struct {
+		name        string
+		samples     []Sample
+		lowerBetter bool
+	}{
+		{"every run has the metric", full, false},
+		{"every run has the metric, lower better", full, true},
+		{"some runs lack it", withNaN, false},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			ms := make([]float64, len(tc.samples))
+			for i, s := range tc.samples {
+				ms[i] = s.Metric
+			}
+			want := NoGoal()
+			if tc.lowerBetter {
+				want.Max = Optional(Quantile(ms, 0.25))
+			} else {
+				want.Min = Optional(Quantile(ms, 0.75))
+			}
+			res := Rank(tc.samples, "coverage", params, NoGoal(), tc.lowerBetter)
+			if !same(float64(res.Goal.Min), float64(want.Min)) || !same(float64(res.Goal.Max), float64(want.Max)) {
+				t.Fatalf("goal %v, want %v", res.Goal, want)
+			}
+			ref := rankSequential(tc.samples, params, want)
+			if len(res.Rows) != len(ref) {
+				t.Fatalf("got %d rows, want %d", len(res.Rows), len(ref))
+			}
+			for i, a := range res.Rows {
+				if b := ref[i]; a.Param != b.Param || a.Good != b.Good || !same(a.Rho, b.Rho) {
+					t.Errorf("row %d: got %+v, want %+v", i, a, b)
+				}
+			}
+		})
+	}
+}
+
 // sampleRankRow is rankRow as it was, over samples: the counts and ranges
 // of parameter j, and in xs and ys the pairs of the runs that have both.
 func sampleRankRow(samples []Sample, j int, p string, goal Goal, xs, ys *[]float64) RankRow {
@@ -242,4 +293,21 @@ func sampleRankRow(samples []Sample, j int, p string, goal Goal, xs, ys *[]float
 		row.RestMin, row.RestMax = math.NaN(), math.NaN()
 	}
 	return row
+}
+
+// TestLowerUpper: lower and upper are math.Min and math.Max (the
+// reference) on numbers, both zeros and infinities included.
+func TestLowerUpper(t *testing.T) {
+	negZero := math.Copysign(0, -1)
+	vals := []float64{negZero, 0, -1, 1, 2.5, math.Inf(1), math.Inf(-1), math.SmallestNonzeroFloat64, -math.MaxFloat64}
+	for _, m := range vals {
+		for _, v := range vals {
+			if got, want := lower(m, v), math.Min(m, v); math.Float64bits(got) != math.Float64bits(want) {
+				t.Errorf("lower(%v, %v) = %v, want %v", m, v, got, want)
+			}
+			if got, want := upper(m, v), math.Max(m, v); math.Float64bits(got) != math.Float64bits(want) {
+				t.Errorf("upper(%v, %v) = %v, want %v", m, v, got, want)
+			}
+		}
+	}
 }
