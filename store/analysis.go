@@ -144,19 +144,20 @@ func RankColumns(metric string, params []string, ms []float64, xs [][]float64, g
 	rows := make([]RankRow, len(params))
 	forEach(len(params), func(next func() (int, bool)) {
 		px, py := make([]float64, 0, len(all)), make([]float64, 0, len(all))
+		var rx, ry ranker // the parameter's and, where it differs from all, the metric's
 		for j, ok := next(); ok; j, ok = next() {
 			rows[j] = rankRow(ms, xs[j], params[j], goal, &px, &py)
 			if rows[j].N == 0 || constant(px) || constant(py) {
 				rows[j].Rho = math.NaN() // no pairs, or ranks without spread
 				continue
 			}
-			var ry []float64
+			var my []float64
 			if rows[j].N == len(all) {
-				ry = allRanks()
+				my = allRanks()
 			} else {
-				ry = ranks(py)
+				my = ry.ranks(py)
 			}
-			rows[j].Rho = rankCorrelation(ranks(px), ry)
+			rows[j].Rho = rankCorrelation(rx.ranks(px), my)
 		}
 	})
 	for _, row := range rows {
@@ -303,35 +304,53 @@ func rankCorrelation(rx, ry []float64) float64 {
 // (i+1 + j)/2. Equal values are found as equal neighbours among the
 // sorted keys (orderKey gives equal numbers, both zeros included, the
 // same key, and NaN the key 0, which no number has).
-func ranks(v []float64) []float64 {
-	if len(v) > math.MaxInt32 {
-		return ranksOf(ascending[int](v))
-	}
-	return ranksOf(ascending[int32](v))
-}
+func ranks(v []float64) []float64 { return new(ranker).ranks(v) }
 
 // sortedRanks returns v in ascending order and its ranks (as ranks).
-func sortedRanks(v []float64) (sorted, r []float64) {
+func sortedRanks(v []float64) (sorted, r []float64) { return new(ranker).sortedRanks(v) }
+
+// ranker ranks in memory kept from one call to the next (rankBuffers),
+// with 32-bit indices below 2³¹ values.
+type ranker struct {
+	narrow rankBuffers[int32]
+	wide   rankBuffers[int]
+}
+
+// ranks is ranks(v) in r's memory: the result is valid until r's next use.
+func (r *ranker) ranks(v []float64) []float64 {
 	if len(v) > math.MaxInt32 {
-		keys, order := ascending[int](v)
-		return gather(v, order), ranksOf(keys, order)
+		return r.wide.ranks(v)
 	}
-	keys, order := ascending[int32](v)
-	return gather(v, order), ranksOf(keys, order)
+	return r.narrow.ranks(v)
 }
 
-// gather returns v[order[0]], v[order[1]], ….
-func gather[I int32 | int](v []float64, order []I) []float64 {
-	out := make([]float64, len(order))
-	for i, k := range order {
-		out[i] = v[k]
+// sortedRanks is sortedRanks(v); the ranks are r's memory (valid until
+// its next use), the sorted values a new slice.
+func (r *ranker) sortedRanks(v []float64) (sorted, rk []float64) {
+	if len(v) > math.MaxInt32 {
+		return r.wide.sortedRanks(v)
 	}
-	return out
+	return r.narrow.sortedRanks(v)
 }
 
-// ranksOf is ranks from the sorted keys and the order of ascending.
-func ranksOf[I int32 | int](keys []uint64, order []I) []float64 {
-	r := make([]float64, len(order))
+// rankBuffers holds the slices of a ranking, kept from one call to the
+// next: a worker of RankColumns ranks one parameter after another in the
+// same memory. Fresh slices for each (3.2 MB for 100,000 runs) were fresh
+// pages for the kernel to clear: `runs rank` on 100,000 runs took 19,200
+// page faults with them and 12,800 without, and its median went from 182
+// to 168 ms (21 interleaved runs). I is the index type (int32 below 2³¹
+// values, which halves the indices' share of the moves).
+type rankBuffers[I int32 | int] struct {
+	keys, keys2   []uint64
+	order, order2 []I
+	r             []float64
+}
+
+// ranks is ranks(v) in b's memory: the result is valid until b's next use.
+func (b *rankBuffers[I]) ranks(v []float64) []float64 {
+	keys, order := b.ascending(v)
+	b.r = resize(b.r, len(v))
+	r := b.r[:len(order)]
 	for i := 0; i < len(order); {
 		j := i + 1
 		if keys[i] != 0 { // not a NaN
@@ -348,33 +367,61 @@ func ranksOf[I int32 | int](keys []uint64, order []I) []float64 {
 	return r
 }
 
-// radixBits is the width of a digit of ascending's radix sort: six
-// passes of 2,048 buckets cover a 64-bit key. With the six histograms
-// taken in one unrolled pass and 32-bit indices it ranks 100,000 normal
-// deviates in 2.6–3.0 ms (BenchmarkRanks100k), where one byte a pass
-// (eight passes of 256, a loop over the histograms, int indices) took
-// 4.2–5.2 ms.
+// sortedRanks is sortedRanks(v); the ranks are b's (valid until its next
+// use), the sorted values a new slice.
+func (b *rankBuffers[I]) sortedRanks(v []float64) (sorted, r []float64) {
+	r = b.ranks(v)
+	sorted = make([]float64, len(v))
+	for i, k := range b.order[:len(v)] {
+		sorted[i] = v[k]
+	}
+	return sorted, r
+}
+
+// resize returns s with length n, reusing its array when it is big enough
+// (its contents are then left as they were).
+func resize[T any](s []T, n int) []T {
+	if cap(s) < n {
+		return make([]T, n)
+	}
+	return s[:n]
+}
+
+// radixBits is the width of a digit of radixSort: six passes of 2,048
+// buckets cover a 64-bit key. With the six histograms taken in one
+// unrolled pass and 32-bit indices, ranks of 100,000 normal deviates in
+// fresh memory take 2.5–3.7 ms (BenchmarkRanks100k), where one byte a
+// pass (eight passes of 256, a loop over the histograms, int indices)
+// took 4.2–5.2 ms.
 const radixBits = 11
 
 // ascending returns the order-preserving keys of v (orderKey) in
-// ascending order and the indices of v in that order, NaNs first, by a
-// least-significant-digit radix sort, radixBits of the key a pass: O(n)
-// work per pass, and a pass whose digit is the same in every key (as the
-// low mantissa bits of whole numbers are) is skipped. Equal keys keep
-// their index order. ranks takes 32-bit indices (I int32), which halve
-// their share of the moves, for fewer than 2³¹ values.
+// ascending order and the indices of v in that order, NaNs first
+// (radixSort), both in b's memory, valid until b's next use.
+func (b *rankBuffers[I]) ascending(v []float64) (keys []uint64, order []I) {
+	n := len(v)
+	b.keys, b.keys2, b.order, b.order2 = radixSort(v, resize(b.keys, n), resize(b.keys2, n), resize(b.order, n), resize(b.order2, n))
+	return b.keys, b.order
+}
+
+// radixSort sorts the keys of v by a least-significant-digit radix sort,
+// radixBits of the key a pass: O(n) work per pass, and a pass whose digit
+// is the same in every key (as the low mantissa bits of whole numbers
+// are) is skipped. Equal keys keep their index order. The four slices
+// are its memory, at least len(v) long; it returns the sorted keys and
+// the indices of v in their order, then the other two slices.
 //
 // References:
 //
 //	D. E. Knuth, The Art of Computer Programming, Vol. 3: Sorting and
 //	Searching, 2nd ed. (Addison-Wesley, 1998), §5.2.5 (radix sorting).
-func ascending[I int32 | int](v []float64) (keys []uint64, order []I) {
+func radixSort[I int32 | int](v []float64, keys, keys2 []uint64, order, order2 []I) ([]uint64, []uint64, []I, []I) {
 	const passes = 6                          // the histograms below are unrolled for six digits
 	const _ = uint(passes*radixBits - 64)     // (a compile error if six digits no longer cover the key)
 	const _ = uint(64 - (passes-1)*radixBits) // (… or five already would)
 	const mask = 1<<radixBits - 1
 	n := len(v)
-	keys, order = make([]uint64, n), make([]I, n)
+	keys, order, keys2, order2 = keys[:n], order[:n], keys2[:n], order2[:n]
 	var counts [passes][1 << radixBits]I
 	c0, c1, c2, c3, c4, c5 := &counts[0], &counts[1], &counts[2], &counts[3], &counts[4], &counts[5]
 	for i, x := range v {
@@ -387,11 +434,10 @@ func ascending[I int32 | int](v []float64) (keys []uint64, order []I) {
 		c4[k>>(4*radixBits)&mask]++
 		c5[k>>(5*radixBits)]++
 	}
-	if n < 2 {
-		return keys, order
-	}
-	keys2, order2 := make([]uint64, n), make([]I, n)
 	for d := range counts {
+		if n < 2 {
+			break
+		}
 		c := &counts[d]
 		shift := radixBits * d
 		if int(c[keys[0]>>shift&mask]) == n {
@@ -410,7 +456,7 @@ func ascending[I int32 | int](v []float64) (keys []uint64, order []I) {
 		}
 		keys, keys2, order, order2 = keys2, keys, order2, order
 	}
-	return keys, order
+	return keys, keys2, order, order2
 }
 
 // orderKey maps x to an unsigned integer that sorts as x does: the IEEE

@@ -75,7 +75,7 @@ func TestRanksRadix(t *testing.T) {
 			}
 			// The int indices that ranks takes for 2³¹ values and more
 			// give the same ranks.
-			if wide := ranksOf(ascending[int](tt.v)); !slices.Equal(wide, want) {
+			if wide := new(rankBuffers[int]).ranks(tt.v); !slices.Equal(wide, want) {
 				t.Errorf("with int indices: ranks differ from the reference")
 			}
 			if !slices.Equal(got, want) {
@@ -309,5 +309,28 @@ func TestLowerUpper(t *testing.T) {
 				t.Errorf("upper(%v, %v) = %v, want %v", m, v, got, want)
 			}
 		}
+	}
+}
+
+// BenchmarkRankColumns100k ranks 21 parameters of 100,000 runs (the
+// size of `runs rank` on the benchmark log), the metric with no goal set.
+func BenchmarkRankColumns100k(b *testing.B) {
+	rng := rand.New(rand.NewPCG(3, 4))
+	const n, np = 100000, 21
+	ms := make([]float64, n)
+	for i := range ms {
+		ms[i] = rng.Float64()
+	}
+	params := make([]string, np)
+	xs := make([][]float64, np)
+	for j := range xs {
+		params[j] = "p" + strconv.Itoa(j)
+		xs[j] = make([]float64, n)
+		for i := range xs[j] {
+			xs[j][i] = 900 + 200*rng.Float64()
+		}
+	}
+	for b.Loop() {
+		RankColumns("coverage", params, ms, xs, NoGoal(), false)
 	}
 }
