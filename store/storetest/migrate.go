@@ -4,6 +4,7 @@ import (
 	"context"
 	"database/sql"
 	"fmt"
+	"slices"
 	"strconv"
 	"testing"
 	"time"
@@ -77,6 +78,15 @@ func Migrations(t *testing.T, d sqldb.Dialect, fresh Fresh) {
 			}
 			if rec.Params["growth_temperature_c"] != 1000 || len(rec.Outcomes) != 1 || rec.Outcomes[0].Value != 0.9 {
 				t.Errorf("after migration from %d: got %+v", v, rec)
+			}
+			if v < 3 {
+				// version 3 made the names registry and filled it from the
+				// rows already logged
+				names, err := l.Names(ctx)
+				want := []store.Name{{Name: "coverage", Kind: store.NameMetric, Unit: "1"}, {Name: "growth_temperature_c", Kind: store.NameParam, Unit: "°C"}}
+				if err != nil || !slices.Equal(names, want) {
+					t.Errorf("names after migration from %d: got %+v, %v; want %+v", v, names, err, want)
+				}
 			}
 			runs, err := l.List(ctx, store.Filter{Where: []string{"growth_temperature_c >= 1000 and coverage > 0.5"}})
 			if err != nil || len(runs) != 1 {
