@@ -6,6 +6,7 @@ import (
 	"database/sql"
 	"fmt"
 	"math"
+	"strings"
 	"testing"
 	"time"
 
@@ -128,4 +129,26 @@ func Count(t testing.TB, l store.RunLog, table string) int {
 		t.Fatalf("count %s: %v", table, err)
 	}
 	return n
+}
+
+// counterRows lists the log's code counters as "name=value; …".
+func counterRows(t *testing.T, l store.RunLog) string {
+	t.Helper()
+	rows, err := Backend(t, l).SQL().QueryContext(context.Background(), `SELECT name, CAST(value AS TEXT) FROM counters ORDER BY name`)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer rows.Close()
+	var out []string
+	for rows.Next() {
+		var name, v string
+		if err := rows.Scan(&name, &v); err != nil {
+			t.Fatal(err)
+		}
+		out = append(out, name+"="+v)
+	}
+	if err := rows.Err(); err != nil {
+		t.Fatal(err)
+	}
+	return strings.Join(out, "; ")
 }
