@@ -3,11 +3,10 @@ package history
 import (
 	"errors"
 	"fmt"
+	"math"
 	"strconv"
 	"strings"
 	"time"
-
-	"github.com/xuri/excelize/v2"
 
 	"github.com/foilrun/foilrun/recipe"
 )
@@ -49,21 +48,27 @@ func quantity(cell string, c Column, dim recipe.Dimension, decimal string) (floa
 
 // date reads a start date (and time): 2025-03-04, 2025-03-04 09:30,
 // 04/03/2025 and 04.03.2025 (09:30) in the map's date_order, or an XLSX
-// date serial. A day-month date that reads both ways is an error without
-// date_order, and so is a year outside 1900 to 2199 (a number that is no
-// date). Times are UTC.
+// date serial of the 1900 date system. A day-month date that reads both
+// ways is an error without date_order, and so is a year outside 1900 to
+// 2199 (a number that is no date). Times are UTC.
 func date(cell, order string, xlsx bool) (time.Time, error) {
-	t, err := readDate(cell, order, xlsx)
+	return sheetDate(cell, order, xlsx, false)
+}
+
+// sheetDate is date for a sheet whose XLSX serials are of the 1904 date
+// system when date1904 is set (Sheet.Date1904), of the 1900 one else.
+func sheetDate(cell, order string, xlsx, date1904 bool) (time.Time, error) {
+	t, err := readDate(cell, order, xlsx, date1904)
 	if err == nil && (t.Year() < 1900 || t.Year() > 2199) {
 		return time.Time{}, fmt.Errorf("'%s' is not a date a run started on (year %d)", cell, t.Year())
 	}
 	return t, err
 }
 
-func readDate(cell, order string, xlsx bool) (time.Time, error) {
+func readDate(cell, order string, xlsx, date1904 bool) (time.Time, error) {
 	if xlsx {
 		if v, err := strconv.ParseFloat(cell, 64); err == nil {
-			t, err := excelize.ExcelDateToTime(v, false)
+			t, err := serialTime(v, date1904)
 			if err != nil {
 				return time.Time{}, fmt.Errorf("'%s' is not a date: %v", cell, err)
 			}
@@ -129,3 +134,53 @@ func dateOrder(cell string, n [3]int, yearFirst bool, order string) (y, m, d int
 	}
 	return 0, 0, 0, fmt.Errorf("'%s' is ambiguous (day %d of month %d, or day %d of month %d); set date_order: dmy or mdy in the map", cell, n[0], n[1], n[1], n[0])
 }
+
+// The days XLSX date serials count from. In the 1900 system serial 1 is
+// 1900-01-01 and serial 60 the 29th of February 1900, a day that never
+// was, kept for compatibility by spreadsheets since the 1980s: serials
+// from 61 on count from 1899-12-30. In the 1904 system serial 0 is
+// 1904-01-01. (ECMA-376 Part 1, 18.17.4.)
+var (
+	epoch1900 = time.Date(1899, time.December, 30, 0, 0, 0, 0, time.UTC)
+	epoch1904 = time.Date(1904, time.January, 1, 0, 0, 0, 0, time.UTC)
+)
+
+// serialTime is the time of an XLSX date serial: whole days from the
+// epoch, the fraction the time of day. It gives what the reader foilrun
+// used before (excelize's ExcelDateToTime, tested to the nanosecond),
+// rounding included: serials of the first 62 days are taken as Modified
+// Julian Dates (the serial plus 15018, or 16480 for 1904: the MJDs of
+// the epochs) and their time of day rounded to the microsecond, serial 60
+// of 1900 reading as 1900-02-28; later serials have 1e-9 day added to
+// their fraction, then a time of day to the nanosecond (truncated) that
+// is rounded up to the second from 501 ms on and truncated below.
+func serialTime(v float64, date1904 bool) (time.Time, error) {
+	switch {
+	case v < 0:
+		return time.Time{}, fmt.Errorf("a date serial counts days from 1900 (or 1904) and is never negative")
+	case math.IsNaN(v) || v >= 1e10: // past the year 27 million: no date, and time.Duration sums would overflow
+		return time.Time{}, fmt.Errorf("no calendar date has serial %g", v)
+	}
+	epoch, mjd := epoch1900, 15018.0
+	if date1904 {
+		epoch, mjd = epoch1904, 16480.0
+	}
+	if v < 62 {
+		m := v + mjd
+		days := math.Floor(m)
+		ns := int64(nanosPerDay*(m-days) + 500) // to the microsecond, rounded
+		t := epoch.AddDate(0, 0, int(days-mjd)).Add(time.Duration(ns - ns%1000))
+		if !date1904 && v >= 1 && v < 60 {
+			t = t.AddDate(0, 0, 1) // before the day that never was
+		}
+		return t, nil
+	}
+	days := math.Floor(v)
+	t := epoch.AddDate(0, 0, int(days)).Add(time.Duration(nanosPerDay * (v - days + 1e-9)))
+	if t.Nanosecond() > 500_999_999 {
+		return t.Round(time.Second), nil
+	}
+	return t.Truncate(time.Second), nil
+}
+
+const nanosPerDay = 24 * 60 * 60 * 1e9

@@ -8,8 +8,6 @@ import (
 	"io"
 	"path/filepath"
 	"strings"
-
-	"github.com/xuri/excelize/v2"
 )
 
 // Sheet is a lab's table of runs: the headings of its first row and the
@@ -18,6 +16,7 @@ type Sheet struct {
 	File     string // the file's name, for messages and provenance
 	Name     string // the XLSX sheet read; "" for CSV
 	XLSX     bool   // cells are raw XLSX values (dates as serial numbers)
+	Date1904 bool   // XLSX date serials count days from 1904-01-01, not from 1900
 	Headings []string
 	Rows     []Row
 }
@@ -94,12 +93,14 @@ func allEmpty(cells []string) bool {
 }
 
 func readXLSX(s *Sheet, r io.Reader, sheet string) ([][]string, error) {
-	f, err := excelize.OpenReader(r, excelize.Options{RawCellValue: true})
+	b, err := openBook(r)
 	if err != nil {
-		return nil, invalid("save the sheet as .xlsx, or as CSV with a .csv name", "not an XLSX workbook (%v)", err)
+		return nil, invalid(xlsxHint(err, "save the sheet as .xlsx, or as CSV with a .csv name"), "not an XLSX workbook (%v)", err)
 	}
-	defer f.Close()
-	list := f.GetSheetList()
+	list := make([]string, len(b.sheets))
+	for i, bs := range b.sheets {
+		list[i] = bs.name
+	}
 	if sheet == "" {
 		if len(list) == 0 {
 			return nil, invalid("", "the workbook has no sheet")
@@ -107,15 +108,29 @@ func readXLSX(s *Sheet, r io.Reader, sheet string) ([][]string, error) {
 		sheet = list[0]
 	}
 	s.Name = sheet
-	rows, err := f.GetRows(sheet, excelize.Options{RawCellValue: true})
-	var missing excelize.ErrSheetNotExist
-	if errors.As(err, &missing) {
+	s.Date1904 = b.date1904
+	i, err := b.sheet(sheet)
+	if err != nil {
+		return nil, invalid("", "%v", err)
+	}
+	if i < 0 {
 		return nil, invalid("", "no sheet %q; the workbook has %s", sheet, quoteList(list))
 	}
+	rows, err := b.rows(i)
 	if err != nil {
-		return nil, invalid("", "read sheet %q: %v", sheet, err)
+		return nil, invalid(xlsxHint(err, "the file looks damaged: open it in its spreadsheet program and save it again as .xlsx, or save the sheet as CSV with a .csv name"), "read sheet %q: %v", sheet, err)
 	}
 	return rows, nil
+}
+
+// xlsxHint is what to do about an error of the XLSX reader: its own
+// hint when it has one, else hint.
+func xlsxHint(err error, hint string) string {
+	var he *hintError
+	if errors.As(err, &he) {
+		return he.hint
+	}
+	return hint
 }
 
 func readCSV(r io.Reader) ([][]string, error) {
