@@ -81,7 +81,7 @@ func (c *converter) text(row Row, rec *store.RunRecord, bad func(int, error)) {
 		rec.Code = v
 	}
 	if v := cell(row, c.started); v != "" {
-		t, err := date(v, c.in.Map.DateOrder, c.in.Sheet.XLSX)
+		t, err := sheetDate(v, c.in.Map.DateOrder, c.in.Sheet.XLSX, c.in.Sheet.Date1904)
 		if err != nil {
 			bad(c.started, err)
 		}

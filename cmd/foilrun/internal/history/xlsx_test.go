@@ -455,6 +455,25 @@ func TestReadXLSX1904(t *testing.T) {
 	if got, err := sheetDate(s.Rows[0].Cells[0], "", true, s.Date1904); !s.Date1904 || err != nil || !got.Equal(day) {
 		t.Errorf("excelize's 1904 workbook: Date1904 %v, %v, %v; want %v", s.Date1904, got, err, day)
 	}
+	// Through Convert, the run starts on that day (not four years and a
+	// day earlier, as the 1900 system reads the serial).
+	data = written(t, func(f *excelize.File) {
+		yes := true
+		must(t, f.SetWorkbookProps(&excelize.WorkbookPropsOptions{Date1904: &yes}))
+		put(t, f, "Sheet1", 1, "Date", "T (C)")
+		put(t, f, "Sheet1", 2, day, 1040)
+	})
+	in := convertInput(t, "Date,T (C)\n2025-01-01,1000\n", "started: Date\nsteps:\n  grow:\n    temperature: {column: \"T (C)\", unit: C}\n")
+	if in.Sheet, err = ReadSheet("c.xlsx", bytes.NewReader(data), ""); err != nil {
+		t.Fatal(err)
+	}
+	res, err := Convert(in)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got := res.Runs[0].Record.Started; !got.Equal(day) {
+		t.Errorf("1904 workbook through Convert: started %v, want %v", got, day)
+	}
 }
 
 // Workbooks that genSheet makes of random programs (as FuzzReadXLSX
