@@ -478,12 +478,14 @@ func TestReadXLSX1904(t *testing.T) {
 
 // Workbooks that genSheet makes of random programs (as FuzzReadXLSX
 // does) read as excelize reads them. reference: excelize v2 GetRows with
-// RawCellValue.
+// RawCellValue. 500 programs take about a third of a second (2,000 took
+// 1.5 s of the suite); `go test -fuzz FuzzReadXLSX` goes further.
 func TestReadXLSXGenerated(t *testing.T) {
 	t.Parallel()
+	const programs = 500
 	rng := rand.New(rand.NewPCG(7, 8))
 	compared := 0
-	for range 2000 {
+	for range programs {
 		prog := make([]byte, rng.IntN(80))
 		for i := range prog {
 			prog[i] = byte(rng.Uint32())
@@ -501,8 +503,8 @@ func TestReadXLSXGenerated(t *testing.T) {
 			compared++
 		}
 	}
-	if compared < 1900 {
-		t.Errorf("excelize read only %d of 2000 generated workbooks", compared)
+	if compared < programs*95/100 {
+		t.Errorf("excelize read only %d of %d generated workbooks", compared, programs)
 	}
 }
 
