@@ -120,24 +120,16 @@ func RankColumns(metric string, params []string, ms []float64, xs [][]float64, g
 		}
 	}
 	allRanks := sync.OnceValue(func() []float64 { return ranks(all) })
-	if !goal.Set() && len(ms) > 0 {
-		q := 0.75
-		if lowerBetter {
-			q = 0.25
-		}
-		var cut float64
-		if len(all) == len(ms) {
-			// The sort that ranks the metric gives the quantile too.
-			sorted, r := sortedRanks(all)
-			cut, allRanks = sortedQuantile(sorted, q), func() []float64 { return r }
-		} else {
-			cut = Quantile(ms, q)
-		}
+	if !goal.Set() && len(all) > 0 {
+		// The quartile of the runs that have the metric, from the sort
+		// that ranks it.
+		sorted, r := sortedRanks(all)
+		allRanks = func() []float64 { return r }
 		goal = NoGoal()
 		if lowerBetter {
-			goal.Max = Optional(cut)
+			goal.Max = Optional(sortedQuantile(sorted, 0.25))
 		} else {
-			goal.Min = Optional(cut)
+			goal.Min = Optional(sortedQuantile(sorted, 0.75))
 		}
 	}
 	res := RankResult{Metric: metric, Goal: goal}
