@@ -161,9 +161,9 @@ func (s *DB) readPart(ctx context.Context, q Querier, cq store.ColumnQuery, p co
 // float64's mantissa), and are nil without withMask. PostgreSQL's send of
 // a constant mask of 0 took about a sixth of the server's time of a
 // `runs best` read of three columns (COPY … TO STDOUT (FORMAT binary) of
-// 100,000 runs, 47 against 39 ms), so a part without twins reads none. The query has no ORDER BY:
-// the rows are put in run order here (they mostly arrive in it, and then
-// are only checked). PostgreSQL reads 100,000 summary rows in key order
+// 100,000 runs, 47 against 39 ms), so a part without twins reads none.
+// The query has no ORDER BY: the rows are put in run order here (they
+// mostly arrive in it, and then are only checked). PostgreSQL reads 100,000 summary rows in key order
 // through the primary-key index in about twice the time of a plain scan
 // of the table (EXPLAIN ANALYZE, 75 against 38 ms on the benchmark log);
 // SQLite's scan of the summary is in key order either way.

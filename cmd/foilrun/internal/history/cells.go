@@ -46,17 +46,12 @@ func quantity(cell string, c Column, dim recipe.Dimension, decimal string) (floa
 	return q.SI, nil
 }
 
-// date reads a start date (and time): 2025-03-04, 2025-03-04 09:30,
+// sheetDate reads a start date (and time): 2025-03-04, 2025-03-04 09:30,
 // 04/03/2025 and 04.03.2025 (09:30) in the map's date_order, or an XLSX
-// date serial of the 1900 date system. A day-month date that reads both
-// ways is an error without date_order, and so is a year outside 1900 to
-// 2199 (a number that is no date). Times are UTC.
-func date(cell, order string, xlsx bool) (time.Time, error) {
-	return sheetDate(cell, order, xlsx, false)
-}
-
-// sheetDate is date for a sheet whose XLSX serials are of the 1904 date
-// system when date1904 is set (Sheet.Date1904), of the 1900 one else.
+// date serial, of the 1904 date system when date1904 is set
+// (Sheet.Date1904), of the 1900 one else. A day-month date that reads
+// both ways is an error without date_order, and so is a year outside 1900
+// to 2199 (a number that is no date). Times are UTC.
 func sheetDate(cell, order string, xlsx, date1904 bool) (time.Time, error) {
 	t, err := readDate(cell, order, xlsx, date1904)
 	if err == nil && (t.Year() < 1900 || t.Year() > 2199) {

@@ -34,15 +34,15 @@ func TestDate(t *testing.T) {
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
-			got, err := date(tt.cell, tt.order, tt.xlsx)
+			got, err := sheetDate(tt.cell, tt.order, tt.xlsx, false)
 			if tt.err != "" {
 				if err == nil || !strings.Contains(err.Error(), tt.err) {
-					t.Errorf("date(%q): got %v, %v; want an error containing %q", tt.cell, got, err, tt.err)
+					t.Errorf("sheetDate(%q): got %v, %v; want an error containing %q", tt.cell, got, err, tt.err)
 				}
 				return
 			}
 			if err != nil || !got.Equal(tt.want) {
-				t.Errorf("date(%q): got %v, %v; want %v", tt.cell, got, err, tt.want)
+				t.Errorf("sheetDate(%q): got %v, %v; want %v", tt.cell, got, err, tt.want)
 			}
 		})
 	}
@@ -146,14 +146,14 @@ func FuzzDate(f *testing.F) {
 		f.Add(s, "dmy", true)
 	}
 	f.Fuzz(func(t *testing.T, cell, order string, xlsx bool) {
-		d, err := date(cell, order, xlsx)
+		d, err := sheetDate(cell, order, xlsx, false)
 		if err != nil {
 			return
 		}
 		iso := d.Format("2006-01-02 15:04:05")
-		back, err := date(iso, "", false)
+		back, err := sheetDate(iso, "", false, false)
 		if err != nil || !back.Equal(d) {
-			t.Errorf("date(%q) = %v; reading %q back gives %v, %v", cell, d, iso, back, err)
+			t.Errorf("sheetDate(%q) = %v; reading %q back gives %v, %v", cell, d, iso, back, err)
 		}
 	})
 }

@@ -733,9 +733,9 @@ func TestDateSerials(t *testing.T) {
 	}
 	for _, cell := range cells {
 		want, werr := before(cell)
-		got, err := date(cell, "", true)
+		got, err := sheetDate(cell, "", true, false)
 		if (err != nil) != (werr != nil) || !got.Equal(want) {
-			t.Errorf("date(%q): got %v, %v; want %v, %v", cell, got, err, want, werr)
+			t.Errorf("sheetDate(%q): got %v, %v; want %v, %v", cell, got, err, want, werr)
 		}
 	}
 	last := func(epoch time.Time) float64 { // the serial of 2199-12-31 12:00
