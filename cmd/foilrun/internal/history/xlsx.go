@@ -131,7 +131,7 @@ func (b *book) rows(i int) ([][]string, error) {
 	if err != nil {
 		return nil, err
 	}
-	defer x.close()
+	defer x.rc.Close()
 	sr := sheetReader{x: x, shared: shared}
 	for root := ""; ; {
 		t, err := x.next()
@@ -185,7 +185,7 @@ func (b *book) each(name, missing, root string, f func(*xmlIn, xml.StartElement)
 	if x == nil {
 		return err
 	}
-	defer x.close()
+	defer x.rc.Close()
 	return x.children(root, func(se xml.StartElement) error { return f(x, se) })
 }
 
@@ -422,12 +422,11 @@ type xmlIn struct {
 	open []xml.Name // the elements open, innermost last
 }
 
-func (x *xmlIn) close() { x.rc.Close() }
-
-// errorf is an error at the reader's line in the part.
+// errorf is an error at the reader's place in the part, part:line:column
+// just past what it read last.
 func (x *xmlIn) errorf(format string, args ...any) error {
-	line, _ := x.d.InputPos()
-	return fmt.Errorf("%s line %d: %s", x.part, line, fmt.Sprintf(format, args...))
+	line, col := x.d.InputPos()
+	return fmt.Errorf("%s:%d:%d: %s", x.part, line, col, fmt.Sprintf(format, args...))
 }
 
 // next returns the next element start or end or text (passing over
@@ -477,9 +476,10 @@ func (x *xmlIn) skip() error {
 }
 
 // text returns the text of the element just started, its own (not that
-// of elements in it), and reads past its end.
+// of elements in it), and reads past its end, in linear time however cut.
 func (x *xmlIn) text() (string, error) {
-	for depth, s := len(x.open), ""; ; {
+	var s strings.Builder
+	for depth := len(x.open); ; {
 		t, err := x.next()
 		if err != nil {
 			return "", err
@@ -487,11 +487,11 @@ func (x *xmlIn) text() (string, error) {
 		switch t := t.(type) {
 		case xml.CharData:
 			if len(x.open) == depth {
-				s += string(t)
+				s.Write(t)
 			}
 		case xml.EndElement:
 			if len(x.open) < depth {
-				return s, nil
+				return s.String(), nil
 			}
 		}
 	}
@@ -537,7 +537,8 @@ func (x *xmlIn) children(root string, f func(xml.StartElement) error) error {
 // each run <r>, its phonetic runs <rPh> left out; of several <t> in one
 // place the last counts. ST_Xstring escapes are decoded (see unescape).
 func (x *xmlIn) richText() (string, error) {
-	var t, runs string
+	var t string
+	var runs strings.Builder
 	err := x.children("", func(se xml.StartElement) (err error) {
 		switch se.Name.Local {
 		case "t":
@@ -551,13 +552,13 @@ func (x *xmlIn) richText() (string, error) {
 				rt, err = x.text()
 				return err
 			})
-			runs += rt
+			runs.WriteString(rt)
 		default:
 			err = x.skip()
 		}
 		return err
 	})
-	return unescape(t + runs), err
+	return unescape(t + runs.String()), err
 }
 
 // unescape decodes ST_Xstring's escapes (ECMA-376 Part 1): _xHHHH_ is

@@ -538,7 +538,7 @@ func TestReadXLSXBad(t *testing.T) {
 		{"OLE2", []byte("\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1 rest"), "an OLE2 file, not a zip: a workbook with a password, or an old .xls", "CSV"},
 		{"a zip of something else", zipOf(t, part{"word/document.xml", "<w/>"}), "no workbook part xl/workbook.xml in the zip", "CSV"},
 		{"no sheet", handBook(t, "", "", `<workbook xmlns="`+nsMain+`"><sheets/></workbook>`), "the workbook has no sheet", ""},
-		{"workbook root", handBook(t, "", "", `<document/>`), "xl/workbook.xml line 1: the root element is <document>, not <workbook>", "CSV"},
+		{"workbook root", handBook(t, "", "", `<document/>`), "xl/workbook.xml:1:12: the root element is <document>, not <workbook>", "CSV"},
 		{"date1904", handBook(t, "", "", `<workbook><workbookPr date1904="yes"/></workbook>`), `<workbookPr date1904="yes">: want 1, 0, true or false`, "CSV"},
 		{"two sheets of one name", handBook(t, "", "", `<workbook xmlns:r="r"><sheets><sheet name="Runs" r:id="rId1"/><sheet name="RUNS" r:id="rId2"/></sheets></workbook>`),
 			`the workbook has two sheets named "Runs" and "RUNS"; rename one`, ""},
@@ -548,12 +548,12 @@ func TestReadXLSXBad(t *testing.T) {
 		{"part over the limit", big.Bytes(), "xl/workbook.xml is 300 MiB uncompressed, over the 256 MiB this reader takes from a part", split},
 		{"checksum", bad.Bytes(), "zip: checksum error", "CSV"},
 		{"chart sheet", sheet(`<chartsheet xmlns="` + nsMain + `"><drawing/></chartsheet>`), "it is a chart sheet, with no cells", "give --sheet with the name of a sheet of cells"},
-		{"no sheetData", sheet(`<worksheet xmlns="` + nsMain + `"><cols/></worksheet>`), "line 1: no <sheetData>", damaged},
+		{"no sheetData", sheet(`<worksheet xmlns="` + nsMain + `"><cols/></worksheet>`), "xl/worksheets/sheet1.xml:1:97: no <sheetData>", damaged},
 		{"row outside sheetData", sheet(`<worksheet><sheetPr><row r="1"/></sheetPr><sheetData/></worksheet>`), "a <row> outside <sheetData>", damaged},
 		{"cut short", sheet(`<worksheet><sheetData><row r="1"><c r="A1"><v>1`), "the XML ends inside <v>: the file is cut short", damaged},
 		{"syntax", sheet(`<worksheet><sheetData><row r="1"><c r="A1"><v>1</v></c></row></sheetData attr></worksheet>`), "xl/worksheets/sheet1.xml: XML syntax error on line 1", damaged},
-		{"end tag", sheet(`<worksheet><sheetData><row r="1"><c r="A1"><v>1</c></row></sheetData></worksheet>`), "line 1: end tag </c> does not match <v>", damaged},
-		{"end tag at the root", sheet(`<worksheet/></worksheet>`), "line 1: end tag </worksheet> with no element open", damaged},
+		{"end tag", sheet(`<worksheet><sheetData><row r="1"><c r="A1"><v>1</c></row></sheetData></worksheet>`), "xl/worksheets/sheet1.xml:1:52: end tag </c> does not match <v>", damaged},
+		{"end tag at the root", sheet(`<worksheet/></worksheet>`), "xl/worksheets/sheet1.xml:1:25: end tag </worksheet> with no element open", damaged},
 		{"undeclared encoding", sheet(`<?xml version="1.0" encoding="UTF-16"?><worksheet/>`), `encoding "UTF-16" declared`, damaged},
 		{"nesting", sheet(strings.Repeat("<a>", 100_000)), "elements nested over 128 deep", damaged},
 		{"shared string out of range", row(`<c r="A1" t="s"><v>2</v></c>`), "cell A1: shared string 2 is not in the table (2 strings)", damaged},
@@ -584,7 +584,7 @@ func TestReadXLSXBad(t *testing.T) {
 		{"row 1.0", handBook(t, `<row r="1.0"/>`, "", ""), `row number "1.0" is not a number from 1 on`, damaged},
 		{"row past the last", handBook(t, `<row r="1048576"/><row/>`, "", ""), "row 1048577: XLSX sheets have 1048576 rows", damaged},
 		{"shared strings root", zipOf(t, append(handParts(`<row r="1"/>`, "", ""), part{"xl/sharedStrings.xml", "<strings/>"})...),
-			"xl/sharedStrings.xml line 1: the root element is <strings>, not <sst>", damaged},
+			"xl/sharedStrings.xml:1:11: the root element is <strings>, not <sst>", damaged},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
@@ -974,4 +974,25 @@ func genSheet(prog []byte) (sheet, shared string) {
 	sh.WriteString(`</sheetData><pageMargins left="0.7"/></worksheet>`)
 	ss.WriteString("<si><t>end 1</t></si><si><r><t>end</t></r><r><t> 2</t></r></si><si/></sst>")
 	return sh.String(), ss.String()
+}
+
+// A value cut into many pieces by comments (as a hostile file may be)
+// reads whole: 50,000 pieces, each a digit, join to its 50,000 digits.
+// The pieces are gathered in linear time (0.02 s; joined by += it took
+// 0.57 s, growing with the square of the pieces).
+func TestReadXLSXCutText(t *testing.T) {
+	const pieces = 50000
+	var v, want strings.Builder
+	for i := range pieces {
+		d := strconv.Itoa(i % 10)
+		v.WriteString(d + "<!---->")
+		want.WriteString(d)
+	}
+	rows, _, err := ourRows(handBook(t, `<row r="1"><c r="A1"><v>`+v.String()+`</v></c></row>`, "", ""), "")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(rows) != 1 || len(rows[0]) != 1 || rows[0][0] != want.String() {
+		t.Errorf("got %d rows, want the one cell of %d digits", len(rows), pieces)
+	}
 }
